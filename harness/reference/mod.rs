@@ -1,0 +1,1 @@
+//! Reference models (filled in by the reference work).
