@@ -1,0 +1,167 @@
+//! The evaluator's view of WGSL types: every value is flattened into scalar
+//! "leaves" (vector components, matrix entries column-major, array elements,
+//! struct members in declaration order), each leaf one slot column.
+
+use std::fmt;
+
+/// The scalar type of one leaf.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, serde::Serialize, serde::Deserialize)]
+#[serde(rename_all = "lowercase")]
+pub enum ScalarKind {
+    F32,
+    F16,
+    I32,
+    U32,
+    Bool,
+}
+
+impl ScalarKind {
+    pub fn is_float(self) -> bool {
+        matches!(self, ScalarKind::F32 | ScalarKind::F16)
+    }
+
+    /// WGSL spelling.
+    pub fn wgsl(self) -> &'static str {
+        match self {
+            ScalarKind::F32 => "f32",
+            ScalarKind::F16 => "f16",
+            ScalarKind::I32 => "i32",
+            ScalarKind::U32 => "u32",
+            ScalarKind::Bool => "bool",
+        }
+    }
+
+    pub fn parse(s: &str) -> Option<ScalarKind> {
+        Some(match s {
+            "f32" => ScalarKind::F32,
+            "f16" => ScalarKind::F16,
+            "i32" => ScalarKind::I32,
+            "u32" => ScalarKind::U32,
+            "bool" => ScalarKind::Bool,
+            _ => return None,
+        })
+    }
+}
+
+/// A WGSL value type the evaluator can hold.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub enum Ty {
+    Scalar(ScalarKind),
+    Vector(u8, ScalarKind),
+    Matrix { columns: u8, rows: u8, kind: ScalarKind },
+    Array(Box<Ty>, u32),
+    Struct { name: String, members: Vec<(String, Ty)> },
+}
+
+impl Ty {
+    /// Number of scalar leaves.
+    pub fn leaf_count(&self) -> usize {
+        match self {
+            Ty::Scalar(_) => 1,
+            Ty::Vector(n, _) => *n as usize,
+            Ty::Matrix { columns, rows, .. } => *columns as usize * *rows as usize,
+            Ty::Array(t, n) => t.leaf_count() * *n as usize,
+            Ty::Struct { members, .. } => members.iter().map(|(_, t)| t.leaf_count()).sum(),
+        }
+    }
+
+    /// Scalar kinds of all leaves, in storage order.
+    pub fn leaves(&self) -> Vec<ScalarKind> {
+        let mut out = Vec::with_capacity(self.leaf_count());
+        self.push_leaves(&mut out);
+        out
+    }
+
+    fn push_leaves(&self, out: &mut Vec<ScalarKind>) {
+        match self {
+            Ty::Scalar(k) => out.push(*k),
+            Ty::Vector(n, k) => out.extend(std::iter::repeat_n(*k, *n as usize)),
+            Ty::Matrix { columns, rows, kind } => {
+                out.extend(std::iter::repeat_n(*kind, *columns as usize * *rows as usize))
+            }
+            Ty::Array(t, n) => {
+                for _ in 0..*n {
+                    t.push_leaves(out)
+                }
+            }
+            Ty::Struct { members, .. } => members.iter().for_each(|(_, t)| t.push_leaves(out)),
+        }
+    }
+
+    /// Names of all leaves with `prefix`: `n.x`, `m[1].y`, `s.albedo.z`, `a[3]`.
+    pub fn leaf_names(&self, prefix: &str) -> Vec<String> {
+        let mut out = Vec::with_capacity(self.leaf_count());
+        self.push_names(prefix, &mut out);
+        out
+    }
+
+    fn push_names(&self, prefix: &str, out: &mut Vec<String>) {
+        const XYZW: [&str; 4] = ["x", "y", "z", "w"];
+        match self {
+            Ty::Scalar(_) => out.push(prefix.to_string()),
+            Ty::Vector(n, _) => {
+                out.extend(XYZW[..*n as usize].iter().map(|c| format!("{prefix}.{c}")))
+            }
+            Ty::Matrix { columns, rows, .. } => {
+                for c in 0..*columns {
+                    for r in &XYZW[..*rows as usize] {
+                        out.push(format!("{prefix}[{c}].{r}"));
+                    }
+                }
+            }
+            Ty::Array(t, n) => {
+                for i in 0..*n {
+                    t.push_names(&format!("{prefix}[{i}]"), out)
+                }
+            }
+            Ty::Struct { members, .. } => {
+                for (name, t) in members {
+                    t.push_names(&format!("{prefix}.{name}"), out)
+                }
+            }
+        }
+    }
+
+    /// The scalar kind when every leaf has the same one (scalars, vectors, matrices).
+    pub fn scalar_kind(&self) -> Option<ScalarKind> {
+        match self {
+            Ty::Scalar(k) | Ty::Vector(_, k) | Ty::Matrix { kind: k, .. } => Some(*k),
+            _ => None,
+        }
+    }
+}
+
+impl fmt::Display for Ty {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            Ty::Scalar(k) => f.write_str(k.wgsl()),
+            Ty::Vector(n, k) => write!(f, "vec{n}<{}>", k.wgsl()),
+            Ty::Matrix { columns, rows, kind } => write!(f, "mat{columns}x{rows}<{}>", kind.wgsl()),
+            Ty::Array(t, n) => write!(f, "array<{t}, {n}>"),
+            Ty::Struct { name, .. } => f.write_str(name),
+        }
+    }
+}
+
+/// Encode an f64 as the lane bit pattern of `kind`, rounding to nearest.
+/// Integers saturate; bool is `v != 0`.
+pub fn f64_to_bits(kind: ScalarKind, v: f64) -> u32 {
+    match kind {
+        ScalarKind::F32 => (v as f32).to_bits(),
+        ScalarKind::F16 => u32::from(half::f16::from_f64(v).to_bits()),
+        ScalarKind::I32 => (v as i32) as u32,
+        ScalarKind::U32 => v as u32,
+        ScalarKind::Bool => u32::from(v != 0.0),
+    }
+}
+
+/// Decode a lane bit pattern of `kind` as f64 (exactly).
+pub fn bits_to_f64(kind: ScalarKind, bits: u32) -> f64 {
+    match kind {
+        ScalarKind::F32 => f64::from(f32::from_bits(bits)),
+        ScalarKind::F16 => half::f16::from_bits(bits as u16).to_f64(),
+        ScalarKind::I32 => f64::from(bits as i32),
+        ScalarKind::U32 => f64::from(bits),
+        ScalarKind::Bool => f64::from(u8::from(bits != 0)),
+    }
+}

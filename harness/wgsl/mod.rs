@@ -1,0 +1,171 @@
+//! Loading WGSL: parse with naga, validate, and turn every problem into a
+//! [`Diagnostic`] that names the file, line and column and shows the source.
+
+use std::fmt;
+use std::path::{Path, PathBuf};
+
+use naga::valid::{Capabilities, ModuleInfo, ValidationFlags, Validator};
+
+/// A problem located in a source file, rendered the way a compiler shows it.
+#[derive(Debug, Clone)]
+pub struct Diagnostic {
+    pub file: PathBuf,
+    /// 1-based line; 0 when the problem has no position (e.g. an unreadable file).
+    pub line: u32,
+    /// 1-based column in bytes; 0 when unknown.
+    pub column: u32,
+    pub message: String,
+    /// Full text: `file:line:col: error: message`, then the source line and a caret.
+    pub rendered: String,
+}
+
+impl Diagnostic {
+    /// A diagnostic at a byte span of `source`.
+    pub fn at_span(file: &Path, source: &str, span: naga::Span, message: impl Into<String>) -> Self {
+        let message = message.into();
+        if !span.is_defined() || source.is_empty() {
+            return Self::without_position(file, message);
+        }
+        let loc = span.location(source);
+        Self::at_location(file, source, loc.line_number, loc.line_position, loc.length, message)
+    }
+
+    /// A diagnostic at a 1-based line and column, underlining `length` bytes.
+    pub fn at_location(
+        file: &Path,
+        source: &str,
+        line: u32,
+        column: u32,
+        length: u32,
+        message: impl Into<String>,
+    ) -> Self {
+        let message = message.into();
+        let text = source.lines().nth(line.saturating_sub(1) as usize).unwrap_or("");
+        let gutter = line.to_string();
+        let pad = " ".repeat(gutter.len());
+        let start = column.saturating_sub(1) as usize;
+        let visible = text.len().saturating_sub(start).max(1);
+        let carets = "^".repeat((length as usize).clamp(1, visible));
+        let rendered = format!(
+            "{}:{}:{}: error: {}\n{pad} |\n{gutter} | {}\n{pad} | {}{}\n",
+            file.display(),
+            line,
+            column,
+            message,
+            text,
+            " ".repeat(start),
+            carets
+        );
+        Diagnostic { file: file.to_path_buf(), line, column, message, rendered }
+    }
+
+    /// A diagnostic about a whole file (cannot be read, function not found, ...).
+    pub fn without_position(file: &Path, message: impl Into<String>) -> Self {
+        let message = message.into();
+        let rendered = format!("{}: error: {}\n", file.display(), message);
+        Diagnostic { file: file.to_path_buf(), line: 0, column: 0, message, rendered }
+    }
+}
+
+impl fmt::Display for Diagnostic {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(self.rendered.trim_end())
+    }
+}
+
+impl std::error::Error for Diagnostic {}
+
+/// A parsed and validated WGSL module together with its source text.
+pub struct Shader {
+    pub path: PathBuf,
+    pub source: String,
+    pub module: naga::Module,
+    pub info: ModuleInfo,
+}
+
+impl fmt::Debug for Shader {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.debug_struct("Shader").field("path", &self.path).finish_non_exhaustive()
+    }
+}
+
+impl Shader {
+    /// Read, parse and validate a WGSL file.
+    pub fn load(path: &Path) -> Result<Shader, Diagnostic> {
+        let source = std::fs::read_to_string(path)
+            .map_err(|e| Diagnostic::without_position(path, format!("cannot read WGSL file: {e}")))?;
+        Self::from_source(path, source)
+    }
+
+    /// Parse and validate WGSL source text; `path` is used in diagnostics only.
+    pub fn from_source(path: impl Into<PathBuf>, source: String) -> Result<Shader, Diagnostic> {
+        let path = path.into();
+        let module = naga::front::wgsl::parse_str(&source).map_err(|e| {
+            let (line, column, length) = e
+                .location(&source)
+                .map(|l| (l.line_number, l.line_position, l.length))
+                .unwrap_or((0, 0, 0));
+            let mut d = Diagnostic::at_location(&path, &source, line, column, length, e.message());
+            // naga's own rendering carries its labels and notes; keep it below ours.
+            d.rendered = e.emit_to_string_with_path(&source, &path.display().to_string());
+            d.rendered = format!("{}:{}:{}: {}", path.display(), line, column, d.rendered);
+            d
+        })?;
+        // f16 is only accepted when the source enables it; the capability itself
+        // is always granted so that `enable f16;` validates.
+        let caps = Capabilities::SHADER_FLOAT16 | Capabilities::SHADER_FLOAT16_IN_FLOAT32;
+        let info = Validator::new(ValidationFlags::all(), caps).validate(&module).map_err(|e| {
+            let span = e.spans().next().map(|(s, _)| *s).unwrap_or_default();
+            let mut message = e.as_inner().to_string();
+            let mut src: &dyn std::error::Error = e.as_inner();
+            while let Some(next) = src.source() {
+                message.push_str(": ");
+                message.push_str(&next.to_string());
+                src = next;
+            }
+            let mut d = Diagnostic::at_span(&path, &source, span, format!("validation failed: {message}"));
+            let naga_text = e.emit_to_string_with_path(&source, &path.display().to_string());
+            d.rendered = format!("{}\n{}", d.rendered, naga_text);
+            d
+        })?;
+        Ok(Shader { path, source, module, info })
+    }
+
+    /// Hex digest (FNV-1a, 64 bit) of the source text: a cheap identity for
+    /// golden-file headers, not a security measure.
+    pub fn content_hash(&self) -> String {
+        content_hash(&self.source)
+    }
+
+    /// Names of all functions in the module, in source order (entry points last).
+    pub fn function_names(&self) -> Vec<String> {
+        let mut names: Vec<String> =
+            self.module.functions.iter().filter_map(|(_, f)| f.name.clone()).collect();
+        names.extend(self.module.entry_points.iter().map(|e| e.name.clone()));
+        names
+    }
+
+    /// Line and column of a span, (0, 0) when undefined.
+    pub fn line_col(&self, span: naga::Span) -> (u32, u32) {
+        if !span.is_defined() {
+            return (0, 0);
+        }
+        let loc = span.location(&self.source);
+        (loc.line_number, loc.line_position)
+    }
+
+    /// A diagnostic at `span` of this shader.
+    pub fn diagnostic(&self, span: naga::Span, message: impl Into<String>) -> Diagnostic {
+        Diagnostic::at_span(&self.path, &self.source, span, message)
+    }
+}
+
+/// FNV-1a 64-bit digest of `text`, as 16 hex digits.
+pub fn content_hash(text: &str) -> String {
+    let mut h: u64 = 0xcbf2_9ce4_8422_2325;
+    for b in text.bytes() {
+        h ^= u64::from(b);
+        h = h.wrapping_mul(0x0000_0100_0000_01b3);
+    }
+    format!("{h:016x}")
+}
