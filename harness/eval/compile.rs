@@ -75,6 +75,8 @@ pub struct Compiled {
     pub result: Option<Ty>,
     pub output_slots: Vec<Slot>,
     pub root_mask: Slot,
+    /// Constant slots and their bit patterns, written once per machine.
+    pub consts: Vec<(Slot, u32)>,
 }
 
 type R<T> = Result<T, Diagnostic>;
@@ -84,6 +86,12 @@ pub struct Compiler<'m> {
     module: &'m naga::Module,
     next: Slot,
     prologue: Vec<Op>,
+    consts: Vec<(Slot, u32)>,
+    /// Exits (break/continue/return) emitted so far in the top-level function.
+    exits: usize,
+    /// Set when the top-level function ends in its only return: the returned
+    /// value's slots are the outputs, with no copy.
+    direct_result: Option<Vec<Slot>>,
     sites: Vec<Site>,
     globals: HashMap<Handle<naga::Expression>, Val>,
     privates: HashMap<Handle<naga::GlobalVariable>, Rc<[Slot]>>,
@@ -112,6 +120,9 @@ impl<'m> Compiler<'m> {
             module,
             next: 0,
             prologue: Vec::new(),
+            consts: Vec::new(),
+            exits: 0,
+            direct_result: None,
             sites: Vec::new(),
             globals: HashMap::new(),
             privates: HashMap::new(),
@@ -183,7 +194,9 @@ impl<'m> Compiler<'m> {
         c.masks.pop();
         let mut ops = std::mem::take(&mut c.prologue);
         ops.extend(body);
+        let output_slots = c.direct_result.take().unwrap_or(output_slots);
         Ok(Compiled {
+            consts: std::mem::take(&mut c.consts),
             ops,
             slot_count: c.next as usize,
             sites: c.sites,
@@ -227,9 +240,11 @@ impl<'m> Compiler<'m> {
         (self.sites.len() - 1) as u32
     }
 
-    fn fill(&mut self, out: &mut Vec<Op>, bits: u32) -> Slot {
+    /// A fresh slot holding a constant. Constants are written once when a
+    /// thread's machine is created, never per batch.
+    fn fill(&mut self, _out: &mut Vec<Op>, bits: u32) -> Slot {
         let dst = self.slot();
-        out.push(Op::Fill { dst, bits });
+        self.consts.push((dst, bits));
         dst
     }
 
@@ -430,7 +445,7 @@ impl<'m> Compiler<'m> {
                 let k = ty.scalar_kind().unwrap_or(K::F32);
                 let bits = lane_bits(k, x);
                 let dst = self.slot();
-                self.prologue.push(Op::Fill { dst, bits });
+                self.consts.push((dst, bits));
                 Val { ty, slots: vec![dst] }
             }
             (None, Some(init)) => self.global_expr(init)?,
@@ -491,6 +506,9 @@ impl<'m> Compiler<'m> {
     }
 
     fn exit_to(&mut self, out: &mut Vec<Op>, target: &[Role], what: &str) -> R<()> {
+        if self.depth == 0 {
+            self.exits += 1;
+        }
         let current = self.current();
         let mut masks = Vec::new();
         for &(role, slot) in self.masks.iter().rev() {
@@ -576,6 +594,17 @@ impl<'m> Compiler<'m> {
             S::Break => self.exit_to(out, &[Role::Loop, Role::Switch], "break")?,
             S::Continue => self.exit_to(out, &[Role::Iter], "continue")?,
             S::Return { value } => {
+                let last_at_top = self.depth == 0
+                    && self.masks.len() == 1
+                    && self.exits == 0
+                    && std::ptr::eq(frame.func.body.last().unwrap_or(stmt), stmt);
+                if let (Some(v), true) = (value, last_at_top) {
+                    // Every lane that is still live returns here, and none left
+                    // before: the value itself is the output.
+                    let v = self.value(frame, *v, out)?;
+                    self.direct_result = Some(v.slots);
+                    return Ok(());
+                }
                 if let Some(v) = value {
                     let v = self.value(frame, *v, out)?;
                     let mask = self.current();

@@ -82,7 +82,9 @@ pub struct RawIssue {
 
 /// Scratch state of one thread: the slot memory and the issue log.
 pub struct Machine {
-    pub slots: Vec<Lanes>,
+    slots: Vec<Lanes>,
+    /// Where each slot's lanes live: normally `slots[i]`, or a bound column.
+    ptrs: Vec<*mut Lanes>,
     pub issues: Vec<RawIssue>,
     pub step_budget: u32,
     /// When set, the first operation per lane that turned non-NaN operands
@@ -92,9 +94,15 @@ pub struct Machine {
 }
 
 impl Machine {
-    pub fn new(slot_count: usize, step_budget: u32) -> Machine {
+    pub fn new(slot_count: usize, step_budget: u32, consts: &[(Slot, u32)]) -> Machine {
+        let mut slots = vec![[0; LANES]; slot_count];
+        for &(s, bits) in consts {
+            slots[s as usize] = [bits; LANES];
+        }
+        let ptrs = slots.iter_mut().map(|s| s as *mut Lanes).collect();
         Machine {
-            slots: vec![[0; LANES]; slot_count],
+            slots,
+            ptrs,
             issues: Vec::new(),
             step_budget,
             trace: None,
@@ -103,13 +111,41 @@ impl Machine {
     }
 
     #[inline(always)]
-    fn ptr(&mut self) -> *mut Lanes {
-        self.slots.as_mut_ptr()
+    fn ptr(&mut self) -> *const *mut Lanes {
+        self.ptrs.as_ptr()
+    }
+
+    /// The lanes of slot `s` (which may live in a caller's column).
+    #[inline(always)]
+    pub fn lanes(&self, s: Slot) -> &Lanes {
+        // SAFETY: every pointer in `ptrs` is valid for the machine's current
+        // batch: either into `slots` or into a column bound by `bind`.
+        unsafe { &*self.ptrs[s as usize] }
+    }
+
+    #[inline(always)]
+    pub fn lanes_mut(&mut self, s: Slot) -> &mut Lanes {
+        // SAFETY: as in `lanes`; `&mut self` makes the borrow unique.
+        unsafe { &mut *self.ptrs[s as usize] }
+    }
+
+    /// Let slot `s` read and write `col` directly for this batch (saves the
+    /// copy of full batches of inputs and outputs).
+    ///
+    /// # Safety
+    /// `col` must stay valid and otherwise unused until [`Machine::unbind`].
+    pub unsafe fn bind(&mut self, s: Slot, col: *mut Lanes) {
+        self.ptrs[s as usize] = col;
+    }
+
+    /// Point slot `s` back at the machine's own memory.
+    pub fn unbind(&mut self, s: Slot) {
+        self.ptrs[s as usize] = &mut self.slots[s as usize] as *mut Lanes;
     }
 
     #[inline(always)]
     fn any(&self, m: Slot) -> bool {
-        self.slots[m as usize].iter().any(|&x| x != 0)
+        self.lanes(m).iter().fold(0, |a, &x| a | x) != 0
     }
 
     pub fn run(&mut self, ops: &[Op]) {
@@ -125,87 +161,89 @@ impl Machine {
         // are below `slots.len()` (checked when the program is built).
         unsafe {
             match *op {
-                Op::Fill { dst, bits } => *p.add(dst as usize) = [bits; LANES],
-                Op::Copy { dst, src } => *p.add(dst as usize) = *p.add(src as usize),
+                Op::Fill { dst, bits } => (**p.add(dst as usize)).fill(bits),
+                Op::Copy { dst, src } => **p.add(dst as usize) = **p.add(src as usize),
                 Op::U { k, dst, a, at } => {
-                    k(&mut *p.add(dst as usize), &*p.add(a as usize));
+                    k(&mut **p.add(dst as usize), &**p.add(a as usize));
                     if self.trace.is_some() {
                         self.trace_nan(dst, &[a], at);
                     }
                 }
                 Op::B { k, dst, a, b, at } => {
-                    k(&mut *p.add(dst as usize), &*p.add(a as usize), &*p.add(b as usize));
+                    k(&mut **p.add(dst as usize), &**p.add(a as usize), &**p.add(b as usize));
                     if self.trace.is_some() {
                         self.trace_nan(dst, &[a, b], at);
                     }
                 }
                 Op::T { k, dst, a, b, c, at } => {
                     k(
-                        &mut *p.add(dst as usize),
-                        &*p.add(a as usize),
-                        &*p.add(b as usize),
-                        &*p.add(c as usize),
+                        &mut **p.add(dst as usize),
+                        &**p.add(a as usize),
+                        &**p.add(b as usize),
+                        &**p.add(c as usize),
                     );
                     if self.trace.is_some() {
                         self.trace_nan(dst, &[a, b, c], at);
                     }
                 }
                 Op::Q { k, dst, a, b, c, d } => k(
-                    &mut *p.add(dst as usize),
-                    &*p.add(a as usize),
-                    &*p.add(b as usize),
-                    &*p.add(c as usize),
-                    &*p.add(d as usize),
+                    &mut **p.add(dst as usize),
+                    &**p.add(a as usize),
+                    &**p.add(b as usize),
+                    &**p.add(c as usize),
+                    &**p.add(d as usize),
                 ),
                 Op::PerLane { f, ref dst, ref args } => {
                     let mut a = [0u32; 8];
                     let mut o = [0u32; 8];
                     for lane in 0..LANES {
                         for (i, &s) in args.iter().enumerate() {
-                            a[i] = (*p.add(s as usize))[lane];
+                            a[i] = (**p.add(s as usize))[lane];
                         }
                         f(&a[..args.len()], &mut o[..dst.len()]);
                         for (i, &s) in dst.iter().enumerate() {
-                            (*p.add(s as usize))[lane] = o[i];
+                            (**p.add(s as usize))[lane] = o[i];
                         }
                     }
                 }
                 Op::MaskedCopy { dst, src, mask } => {
-                    let d = &mut *p.add(dst as usize);
-                    let s = &*p.add(src as usize);
-                    let m = &*p.add(mask as usize);
+                    let d = &mut **p.add(dst as usize);
+                    let s = &**p.add(src as usize);
+                    let m = &**p.add(mask as usize);
                     for i in 0..LANES {
-                        d[i] = if m[i] != 0 { s[i] } else { d[i] };
+                        // Branch-free blend; masks are 0 or 1.
+                        let all = 0u32.wrapping_sub(m[i]);
+                        d[i] = (s[i] & all) | (d[i] & !all);
                     }
                 }
                 #[allow(clippy::manual_memcpy)] // the source slot varies per lane
                 Op::Gather { ref dst, ref src, offset } => {
-                    let off = *p.add(offset as usize);
+                    let off = **p.add(offset as usize);
                     for (j, &d) in dst.iter().enumerate() {
-                        let d = &mut *p.add(d as usize);
+                        let d = &mut **p.add(d as usize);
                         for lane in 0..LANES {
                             let s = src[off[lane] as usize + j];
-                            d[lane] = (*p.add(s as usize))[lane];
+                            d[lane] = (**p.add(s as usize))[lane];
                         }
                     }
                 }
                 Op::Scatter { ref dst, ref src, offset, mask } => {
-                    let off = *p.add(offset as usize);
-                    let m = *p.add(mask as usize);
+                    let off = **p.add(offset as usize);
+                    let m = **p.add(mask as usize);
                     for (j, &s) in src.iter().enumerate() {
-                        let s = &*p.add(s as usize);
+                        let s = &**p.add(s as usize);
                         for lane in 0..LANES {
                             if m[lane] != 0 {
                                 let d = dst[off[lane] as usize + j];
-                                (*p.add(d as usize))[lane] = s[lane];
+                                (**p.add(d as usize))[lane] = s[lane];
                             }
                         }
                     }
                 }
                 Op::CheckIndex { dst, idx, len, mask, at } => {
-                    let ix = *p.add(idx as usize);
-                    let m = *p.add(mask as usize);
-                    let d = &mut *p.add(dst as usize);
+                    let ix = **p.add(idx as usize);
+                    let m = **p.add(mask as usize);
+                    let d = &mut **p.add(dst as usize);
                     for lane in 0..LANES {
                         if ix[lane] < len {
                             d[lane] = ix[lane];
@@ -226,13 +264,13 @@ impl Machine {
                 }
                 Op::If { cond, parent, then_mask, else_mask, ref accept, ref reject } => {
                     {
-                        let c = *p.add(cond as usize);
-                        let pm = *p.add(parent as usize);
-                        let t = &mut *p.add(then_mask as usize);
+                        let c = **p.add(cond as usize);
+                        let pm = **p.add(parent as usize);
+                        let t = &mut **p.add(then_mask as usize);
                         for i in 0..LANES {
                             t[i] = pm[i] & c[i];
                         }
-                        let e = &mut *p.add(else_mask as usize);
+                        let e = &mut **p.add(else_mask as usize);
                         for i in 0..LANES {
                             e[i] = pm[i] & (c[i] ^ 1);
                         }
@@ -245,11 +283,11 @@ impl Machine {
                     }
                 }
                 Op::Loop { parent, lmask, imask, ref body, ref continuing, break_if, ref kill, at } => {
-                    *p.add(lmask as usize) = *p.add(parent as usize);
+                    **p.add(lmask as usize) = **p.add(parent as usize);
                     let mut iterations: u32 = 0;
                     while self.any(lmask) {
                         if iterations >= self.step_budget {
-                            let live = *p.add(lmask as usize);
+                            let live = **p.add(lmask as usize);
                             for (lane, &l) in live.iter().enumerate() {
                                 if l != 0 {
                                     self.issues.push(RawIssue {
@@ -263,7 +301,7 @@ impl Machine {
                                 }
                             }
                             for &m in kill.iter() {
-                                let mm = &mut *p.add(m as usize);
+                                let mm = &mut **p.add(m as usize);
                                 for i in 0..LANES {
                                     mm[i] &= live[i] ^ 1;
                                 }
@@ -271,13 +309,13 @@ impl Machine {
                             break;
                         }
                         iterations += 1;
-                        *p.add(imask as usize) = *p.add(lmask as usize);
+                        **p.add(imask as usize) = **p.add(lmask as usize);
                         self.run(body);
                         if self.any(lmask) {
                             self.run(continuing);
                             if let Some(b) = break_if {
-                                let c = *p.add(b as usize);
-                                let l = &mut *p.add(lmask as usize);
+                                let c = **p.add(b as usize);
+                                let l = &mut **p.add(lmask as usize);
                                 for i in 0..LANES {
                                     l[i] &= c[i] ^ 1;
                                 }
@@ -286,12 +324,12 @@ impl Machine {
                     }
                 }
                 Op::Switch { sel, parent, smask, ref cases } => {
-                    *p.add(smask as usize) = *p.add(parent as usize);
-                    let s = *p.add(sel as usize);
+                    **p.add(smask as usize) = **p.add(parent as usize);
+                    let s = **p.add(sel as usize);
                     let mut carried = [0u32; LANES];
                     for case in cases {
-                        let sm = *p.add(smask as usize);
-                        let cm = &mut *p.add(case.mask as usize);
+                        let sm = **p.add(smask as usize);
+                        let cm = &mut **p.add(case.mask as usize);
                         for i in 0..LANES {
                             let hit = if case.default {
                                 !cases.iter().any(|c| !c.default && c.values.contains(&s[i]))
@@ -311,9 +349,9 @@ impl Machine {
                     }
                 }
                 Op::Exit { current, ref masks } => {
-                    let cur = *p.add(current as usize);
+                    let cur = **p.add(current as usize);
                     for &m in masks.iter() {
-                        let mm = &mut *p.add(m as usize);
+                        let mm = &mut **p.add(m as usize);
                         for i in 0..LANES {
                             mm[i] &= cur[i] ^ 1;
                         }
@@ -330,14 +368,18 @@ impl Machine {
         if site.what.is_empty() {
             return;
         }
-        let mask = self.slots[site.mask as usize];
-        let d = self.slots[dst as usize];
+        let mask = *self.lanes(site.mask);
+        let d = *self.lanes(dst);
         let trace = self.trace.as_mut().expect("tracing");
         for lane in 0..LANES {
             if mask[lane] == 0 || trace[lane].is_some() || f32::from_bits(d[lane]).is_finite() {
                 continue;
             }
-            let finite_in = args.iter().all(|&a| f32::from_bits(self.slots[a as usize][lane]).is_finite());
+            let finite_in = args.iter().all(|&a| {
+                // SAFETY: as in `lanes` (a field-disjoint borrow of `ptrs`).
+                let col = unsafe { &*self.ptrs[a as usize] };
+                f32::from_bits(col[lane]).is_finite()
+            });
             if finite_in {
                 trace[lane] = Some(at);
             }

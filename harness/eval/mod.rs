@@ -25,6 +25,7 @@ pub use ty::{bits_to_f64, f64_to_bits, ScalarKind, Ty};
 use crate::arith;
 use crate::wgsl::{Diagnostic, Shader};
 use exec::{Machine, Site};
+use lanes::Lanes;
 
 /// What went wrong for one point.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, serde::Serialize)]
@@ -51,6 +52,7 @@ pub struct LaneIssue {
 /// A compiled function, ready to evaluate.
 pub struct Program {
     code: compile::Compiled,
+    own_output: Vec<bool>,
     path: PathBuf,
     function: String,
     step_budget: u32,
@@ -69,7 +71,21 @@ impl Program {
     /// constants by name (or numeric id); the others take their defaults.
     pub fn compile(shader: &Shader, function: &str, overrides: &BTreeMap<String, f64>) -> Result<Program, Diagnostic> {
         let code = compile::Compiler::compile(shader, function, overrides)?;
-        Ok(Program { code, path: shader.path.clone(), function: function.to_string(), step_budget: 1 << 16 })
+        // An output slot may be written straight into the output column when
+        // it belongs to no input, constant or other output.
+        let out_kinds = code.result.as_ref().map(|t| t.leaves()).unwrap_or_default();
+        let own_output = code
+            .output_slots
+            .iter()
+            .zip(&out_kinds)
+            .map(|(s, &k)| {
+                in_place(k)
+                    && !code.input_slots.contains(s)
+                    && !code.consts.iter().any(|c| c.0 == *s)
+                    && code.output_slots.iter().filter(|o| *o == s).count() == 1
+            })
+            .collect();
+        Ok(Program { code, own_output, path: shader.path.clone(), function: function.to_string(), step_budget: 1 << 16 })
     }
 
     /// Maximum iterations of any one loop per point before the point is
@@ -124,7 +140,7 @@ impl Program {
         let mut issues: Vec<LaneIssue> = (0..chunks)
             .into_par_iter()
             .map_init(
-                || Machine::new(self.code.slot_count, self.step_budget),
+                || Machine::new(self.code.slot_count, self.step_budget, &self.code.consts),
                 |m, c| {
                     let start = c * CHUNK;
                     let len = CHUNK.min(n - start);
@@ -146,7 +162,7 @@ impl Program {
     /// Evaluate on the calling thread only (for benchmarks and tests).
     pub fn eval_serial(&self, inputs: &[&[u32]], outputs: &mut Vec<Vec<u32>>) -> Vec<LaneIssue> {
         let n = self.prepare(inputs, outputs);
-        let mut m = Machine::new(self.code.slot_count, self.step_budget);
+        let mut m = Machine::new(self.code.slot_count, self.step_budget, &self.code.consts);
         let mut outs: Vec<&mut [u32]> = outputs.iter_mut().map(|c| &mut c[..]).collect();
         let _ = n;
         self.run_range(&mut m, inputs, &mut outs, 0)
@@ -174,10 +190,31 @@ impl Program {
         let mut start = 0;
         while start < n {
             let len = LANES.min(n - start);
-            self.load_batch(m, ins, &in_kinds, start, len);
+            // Full batches of 32-bit leaves are read and written in place.
+            let bound = len == LANES;
+            for (i, (&slot, &k)) in self.code.input_slots.iter().zip(&in_kinds).enumerate() {
+                if bound && in_place(k) {
+                    // SAFETY: input slots are never written (arguments are
+                    // values), and `ins[i]` outlives this batch.
+                    unsafe { m.bind(slot, ins[i][start..].as_ptr() as *mut Lanes) };
+                } else {
+                    m.unbind(slot);
+                }
+            }
+            for (j, &slot) in self.code.output_slots.iter().enumerate() {
+                if bound && self.own_output[j] {
+                    // SAFETY: the slot is written only by this program's ops
+                    // during this batch, and the column range is this chunk's.
+                    unsafe { m.bind(slot, outs[j][start..].as_mut_ptr() as *mut Lanes) };
+                } else if self.own_output[j] {
+                    m.unbind(slot);
+                }
+            }
+            self.load_batch(m, ins, &in_kinds, start, len, bound);
             m.issues.clear();
             m.run(&self.code.ops);
             let mut flagged = [false; LANES];
+            let any_flagged = !m.issues.is_empty();
             for raw in m.issues.drain(..) {
                 if raw.lane < len {
                     flagged[raw.lane] = true;
@@ -193,66 +230,105 @@ impl Program {
                 }
             }
             // Results of abandoned points are NaN (floats) or 0.
+            let abandoned = |lane: usize| {
+                flagged[lane]
+                    && issues.iter().rev().any(|i: &LaneIssue| {
+                        i.kind == IssueKind::StepBudget && i.point == first_point + start + lane
+                    })
+            };
             for (j, (&slot, &k)) in self.code.output_slots.iter().zip(&out_kinds).enumerate() {
-                let col = &m.slots[slot as usize];
-                for lane in 0..len {
-                    outs[j][start + lane] = if flagged[lane] && issues.iter().any(|i| i.kind == IssueKind::StepBudget && i.point == first_point + start + lane) {
-                        if k.is_float() { to_external(k, f32::NAN.to_bits()) } else { 0 }
-                    } else {
-                        to_external(k, col[lane])
-                    };
+                let col = &m.lanes(slot)[..len];
+                let dst = &mut outs[j][start..start + len];
+                if bound && self.own_output[j] {
+                    // already in place
+                } else if k == ScalarKind::F16 {
+                    for (d, &b) in dst.iter_mut().zip(col) {
+                        *d = to_external(k, b);
+                    }
+                } else {
+                    dst.copy_from_slice(col);
+                }
+                if any_flagged {
+                    for (lane, d) in dst.iter_mut().enumerate() {
+                        if abandoned(lane) {
+                            *d = if k.is_float() { to_external(k, f32::NAN.to_bits()) } else { 0 };
+                        }
+                    }
                 }
             }
-            let suspicious = self.nonfinite_lanes(m, &in_kinds, &out_kinds, len, &flagged);
-            if suspicious.iter().any(|&s| s) {
+            if let Some(suspicious) = self.nonfinite_lanes(m, &in_kinds, &out_kinds, len, &flagged) {
                 issues.extend(self.trace_batch(m, ins, &in_kinds, start, len, &suspicious, first_point));
             }
             start += len;
+        }
+        for &slot in self.code.input_slots.iter().chain(&self.code.output_slots) {
+            m.unbind(slot);
         }
         m.sites = &[] as *const [Site];
         issues
     }
 
-    fn load_batch(&self, m: &mut Machine, ins: &[&[u32]], kinds: &[ScalarKind], start: usize, len: usize) {
+    fn load_batch(&self, m: &mut Machine, ins: &[&[u32]], kinds: &[ScalarKind], start: usize, len: usize, bound: bool) {
         for (i, (&slot, &k)) in self.code.input_slots.iter().zip(kinds).enumerate() {
-            let col = &ins[i][start..start + len];
-            let dst = &mut m.slots[slot as usize];
-            for lane in 0..LANES {
-                // Padding lanes repeat the first point so they compute nothing odd.
-                let b = if lane < len { col[lane] } else { col[0] };
-                dst[lane] = to_lane(k, b);
+            if bound && in_place(k) {
+                continue;
             }
+            let col = &ins[i][start..start + len];
+            let dst = m.lanes_mut(slot);
+            match k {
+                ScalarKind::F32 | ScalarKind::I32 | ScalarKind::U32 => dst[..len].copy_from_slice(col),
+                _ => {
+                    for (d, &b) in dst.iter_mut().zip(col) {
+                        *d = to_lane(k, b);
+                    }
+                }
+            }
+            // Padding lanes repeat the first point so they compute nothing odd.
+            let first = dst[0];
+            dst[len..].fill(first);
         }
-        let root = &mut m.slots[self.code.root_mask as usize];
-        for (lane, r) in root.iter_mut().enumerate() {
-            *r = u32::from(lane < len);
-        }
+        let root = m.lanes_mut(self.code.root_mask);
+        root[..len].fill(1);
+        root[len..].fill(0);
     }
 
-    fn nonfinite_lanes(&self, m: &Machine, in_kinds: &[ScalarKind], out_kinds: &[ScalarKind], len: usize, flagged: &[bool; LANES]) -> [bool; LANES] {
+    fn nonfinite_lanes(
+        &self,
+        m: &Machine,
+        in_kinds: &[ScalarKind],
+        out_kinds: &[ScalarKind],
+        len: usize,
+        flagged: &[bool; LANES],
+    ) -> Option<[bool; LANES]> {
+        // An exponent of all ones marks NaN and infinity (IEEE 754 binary32);
+        // f16 lives in lanes as f32, so the same test serves both.
+        const EXP: u32 = 0x7f80_0000;
+        let mut bad = [0u32; LANES];
+        for (&o, k) in self.code.output_slots.iter().zip(out_kinds) {
+            if k.is_float() {
+                let col = m.lanes(o);
+                for i in 0..LANES {
+                    bad[i] |= u32::from(col[i] & EXP == EXP);
+                }
+            }
+        }
+        // Branch-free OR over the batch: the common case is "all finite".
+        if bad[..len].iter().fold(0, |a, &b| a | b) == 0 {
+            return None;
+        }
         let mut s = [false; LANES];
         for lane in 0..len {
-            if flagged[lane] {
+            if bad[lane] == 0 || flagged[lane] {
                 continue;
             }
-            let bad_out = self
-                .code
-                .output_slots
-                .iter()
-                .zip(out_kinds)
-                .any(|(&o, k)| k.is_float() && !f32::from_bits(m.slots[o as usize][lane]).is_finite());
-            if !bad_out {
-                continue;
-            }
-            let finite_in = self
+            s[lane] = self
                 .code
                 .input_slots
                 .iter()
                 .zip(in_kinds)
-                .all(|(&i, k)| !k.is_float() || f32::from_bits(m.slots[i as usize][lane]).is_finite());
-            s[lane] = finite_in;
+                .all(|(&i, k)| !k.is_float() || m.lanes(i)[lane] & EXP != EXP);
         }
-        s
+        s.iter().any(|&x| x).then_some(s)
     }
 
     #[allow(clippy::too_many_arguments)]
@@ -266,7 +342,7 @@ impl Program {
         suspicious: &[bool; LANES],
         first_point: usize,
     ) -> Vec<LaneIssue> {
-        self.load_batch(m, ins, in_kinds, start, len);
+        self.load_batch(m, ins, in_kinds, start, len, len == LANES);
         m.trace = Some(vec![None; LANES]);
         m.run(&self.code.ops);
         m.issues.clear();
@@ -303,6 +379,11 @@ struct SendPtr(*mut u32);
 // SAFETY: used only to hand disjoint output ranges to worker threads.
 unsafe impl Send for SendPtr {}
 unsafe impl Sync for SendPtr {}
+
+/// Leaves whose column encoding equals their lane encoding.
+fn in_place(k: ScalarKind) -> bool {
+    matches!(k, ScalarKind::F32 | ScalarKind::I32 | ScalarKind::U32)
+}
 
 /// External column encoding → lane encoding.
 #[inline]
