@@ -77,26 +77,50 @@ pub trait Op4 {
     fn f(a: u32, b: u32, c: u32, d: u32) -> u32;
 }
 
-pub fn run1<T: Op1>(d: &mut Lanes, a: &Lanes) {
-    for i in 0..LANES {
-        d[i] = T::f(a[i]);
+/// Whether the wider vector instructions may be used (checked once, cached by std).
+#[inline(always)]
+fn wide() -> bool {
+    #[cfg(target_arch = "x86_64")]
+    {
+        std::arch::is_x86_feature_detected!("avx2")
+    }
+    #[cfg(not(target_arch = "x86_64"))]
+    {
+        false
     }
 }
-pub fn run2<T: Op2>(d: &mut Lanes, a: &Lanes, b: &Lanes) {
-    for i in 0..LANES {
-        d[i] = T::f(a[i], b[i]);
-    }
+
+// Each kernel exists twice: for the baseline target and, on x86-64, compiled
+// with AVX2 enabled and chosen at run time. IEEE operations give the same bits
+// at any vector width, so the choice never changes a result.
+macro_rules! kernel {
+    ($name:ident, $wide:ident, $tr:ident, ($($arg:ident),*)) => {
+        pub fn $name<T: $tr>(d: &mut Lanes, $($arg: &Lanes),*) {
+            #[cfg(target_arch = "x86_64")]
+            if wide() {
+                // SAFETY: AVX2 support was just checked.
+                unsafe { $wide::<T>(d, $($arg),*) };
+                return;
+            }
+            for i in 0..LANES {
+                d[i] = T::f($($arg[i]),*);
+            }
+        }
+
+        #[cfg(target_arch = "x86_64")]
+        #[target_feature(enable = "avx2")]
+        unsafe fn $wide<T: $tr>(d: &mut Lanes, $($arg: &Lanes),*) {
+            for i in 0..LANES {
+                d[i] = T::f($($arg[i]),*);
+            }
+        }
+    };
 }
-pub fn run3<T: Op3>(d: &mut Lanes, a: &Lanes, b: &Lanes, c: &Lanes) {
-    for i in 0..LANES {
-        d[i] = T::f(a[i], b[i], c[i]);
-    }
-}
-pub fn run4<T: Op4>(d: &mut Lanes, a: &Lanes, b: &Lanes, c: &Lanes, e: &Lanes) {
-    for i in 0..LANES {
-        d[i] = T::f(a[i], b[i], c[i], e[i]);
-    }
-}
+
+kernel!(run1, run1_avx2, Op1, (a));
+kernel!(run2, run2_avx2, Op2, (a, b));
+kernel!(run3, run3_avx2, Op3, (a, b, c));
+kernel!(run4, run4_avx2, Op4, (a, b, c, e));
 
 /// The f16 version of a float operation: computed in f32, rounded to half.
 pub struct H<T>(PhantomData<T>);

@@ -47,6 +47,9 @@ pub struct LaneIssue {
     pub message: String,
     pub line: u32,
     pub column: u32,
+    /// The offending point's arguments, `name=value, ...` (leaf names as in
+    /// [`Program::input_leaves`]).
+    pub inputs: String,
 }
 
 /// A compiled function, ready to evaluate.
@@ -133,6 +136,10 @@ impl Program {
     /// Evaluate every point on all cores. `inputs[i]` is the column of input
     /// leaf i; all columns have the same length. `outputs` is resized to one
     /// column per output leaf. Issues are sorted by point.
+    ///
+    /// # Panics
+    /// When the columns do not match [`Program::input_leaves`]; use
+    /// [`Program::try_eval`] for inputs that come from users.
     pub fn eval(&self, inputs: &[&[u32]], outputs: &mut Vec<Vec<u32>>) -> Vec<LaneIssue> {
         let n = self.prepare(inputs, outputs);
         let out_ptrs: Vec<SendPtr> = outputs.iter_mut().map(|c| SendPtr(c.as_mut_ptr())).collect();
@@ -226,6 +233,7 @@ impl Program {
                         message: raw.detail,
                         line: site.line,
                         column: site.column,
+                        inputs: self.describe_point(ins, start + raw.lane),
                     });
                 }
             }
@@ -363,9 +371,57 @@ impl Program {
                 }
                 None => ("result is not finite although every input is".to_string(), 0, 0),
             };
-            out.push(LaneIssue { point: first_point + start + lane, kind: IssueKind::NonFinite, message, line, column });
+            out.push(LaneIssue {
+                point: first_point + start + lane,
+                kind: IssueKind::NonFinite,
+                message,
+                line,
+                column,
+                inputs: self.describe_point(ins, start + lane),
+            });
         }
         out
+    }
+
+    /// `name=value, ...` for point `i` of `ins`.
+    fn describe_point(&self, ins: &[&[u32]], i: usize) -> String {
+        self.input_leaves()
+            .iter()
+            .zip(ins)
+            .map(|((name, k), col)| format!("{name}={}", bits_to_f64(*k, col[i])))
+            .collect::<Vec<_>>()
+            .join(", ")
+    }
+
+    /// Check that `inputs` has one column per input leaf, all of one length.
+    pub fn check_inputs(&self, inputs: &[&[u32]]) -> Result<usize, String> {
+        let leaves = self.input_leaves();
+        if inputs.len() != leaves.len() {
+            let names: Vec<_> = leaves.iter().map(|(n, k)| format!("{n}: {}", k.wgsl())).collect();
+            return Err(format!(
+                "`{}` takes {} scalar inputs ({}), got {} columns",
+                self.function,
+                leaves.len(),
+                names.join(", "),
+                inputs.len()
+            ));
+        }
+        let n = inputs.first().map_or(1, |c| c.len());
+        if let Some((i, c)) = inputs.iter().enumerate().find(|(_, c)| c.len() != n) {
+            return Err(format!(
+                "input column {} (`{}`) has {} points, the first has {n}",
+                i,
+                leaves[i].0,
+                c.len()
+            ));
+        }
+        Ok(n)
+    }
+
+    /// [`Program::eval`] with the inputs checked first instead of asserted.
+    pub fn try_eval(&self, inputs: &[&[u32]], outputs: &mut Vec<Vec<u32>>) -> Result<Vec<LaneIssue>, String> {
+        self.check_inputs(inputs)?;
+        Ok(self.eval(inputs, outputs))
     }
 
     /// Path of the shader this program came from.
