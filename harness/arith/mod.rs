@@ -31,22 +31,24 @@ pub fn f16_from_bits(b: u16) -> f32 {
 
 // ---------------------------------------------------------------- floats
 
-/// WGSL `min` (section 17.5, "min"): returns e2 if e2 < e1, else e1. With a
-/// NaN operand the spec allows either; this picks the IEEE minNum behaviour
-/// (the non-NaN operand), which is what GPUs implement.
+/// WGSL `min(e1, e2)`, literally as the spec defines it ("Numeric Built-in
+/// Functions", min): `e2` if `e2 < e1`, else `e1`. A NaN `e1` therefore
+/// propagates (and a NaN `e2` does not): NaN operands give an indeterminate
+/// value on a GPU, and keeping the spec's formula lets a NaN that reaches a
+/// `clamp` surface instead of being silently clamped away.
 #[inline(always)]
 pub fn fmin(a: f32, b: f32) -> f32 {
-    if b < a || a.is_nan() {
+    if b < a {
         b
     } else {
         a
     }
 }
 
-/// WGSL `max`, mirror of [`fmin`].
+/// WGSL `max(e1, e2)` = `e2` if `e1 < e2`, else `e1` (same section).
 #[inline(always)]
 pub fn fmax(a: f32, b: f32) -> f32 {
-    if b > a || a.is_nan() {
+    if a < b {
         b
     } else {
         a
@@ -319,7 +321,11 @@ pub fn insert_bits(e: u32, newbits: u32, offset: u32, count: u32) -> u32 {
     if c == 0 {
         return e;
     }
-    let mask = if c == 32 { u32::MAX } else { ((1u32 << c) - 1) << o };
+    let mask = if c == 32 {
+        u32::MAX
+    } else {
+        ((1u32 << c) - 1) << o
+    };
     (e & !mask) | ((newbits << o) & mask)
 }
 
@@ -394,11 +400,15 @@ pub fn unpack2x16float(e: u32) -> [f32; 2] {
 
 /// `pack4xI8`: the low 8 bits of each i32 component.
 pub fn pack4xi8(v: [i32; 4]) -> u32 {
-    v.iter().enumerate().fold(0, |r, (i, &e)| r | (((e as u32) & 0xff) << (8 * i)))
+    v.iter()
+        .enumerate()
+        .fold(0, |r, (i, &e)| r | (((e as u32) & 0xff) << (8 * i)))
 }
 
 pub fn pack4xu8(v: [u32; 4]) -> u32 {
-    v.iter().enumerate().fold(0, |r, (i, &e)| r | ((e & 0xff) << (8 * i)))
+    v.iter()
+        .enumerate()
+        .fold(0, |r, (i, &e)| r | ((e & 0xff) << (8 * i)))
 }
 
 /// `pack4xI8Clamp`: each component clamped to [-128, 127] first.
@@ -434,7 +444,11 @@ pub fn dot4u8packed(a: u32, b: u32) -> u32 {
 /// the ordered bit patterns (+0 and -0 are 0 apart). NaN vs anything: u64::MAX.
 pub fn ulp_distance_f32(a: f32, b: f32) -> u64 {
     if a.is_nan() || b.is_nan() {
-        return if a.is_nan() && b.is_nan() { 0 } else { u64::MAX };
+        return if a.is_nan() && b.is_nan() {
+            0
+        } else {
+            u64::MAX
+        };
     }
     fn key(x: f32) -> i64 {
         let b = x.to_bits() as i32;
@@ -446,11 +460,19 @@ pub fn ulp_distance_f32(a: f32, b: f32) -> u64 {
 /// ULP distance between two f16 values (carried as f32).
 pub fn ulp_distance_f16(a: f32, b: f32) -> u64 {
     if a.is_nan() || b.is_nan() {
-        return if a.is_nan() && b.is_nan() { 0 } else { u64::MAX };
+        return if a.is_nan() && b.is_nan() {
+            0
+        } else {
+            u64::MAX
+        };
     }
     fn key(x: f32) -> i64 {
         let b = f16_bits(x) as i16;
-        i64::from(if b < 0 { i16::MIN as i32 - b as i32 } else { b as i32 })
+        i64::from(if b < 0 {
+            i16::MIN as i32 - b as i32
+        } else {
+            b as i32
+        })
     }
     key(a).abs_diff(key(b))
 }
@@ -507,16 +529,25 @@ mod tests {
     #[test]
     fn packing_roundtrips() {
         assert_eq!(pack4x8unorm([0.0, 1.0, 0.5, 2.0]), 0xFF80_FF00);
-        assert_eq!(unpack4x8snorm(pack4x8snorm([-1.0, 1.0, 0.0, 0.5])), [-1.0, 1.0, 0.0, 64.0 / 127.0]);
+        assert_eq!(
+            unpack4x8snorm(pack4x8snorm([-1.0, 1.0, 0.0, 0.5])),
+            [-1.0, 1.0, 0.0, 64.0 / 127.0]
+        );
         assert_eq!(unpack2x16float(pack2x16float([1.5, -2.0])), [1.5, -2.0]);
         assert_eq!(unpack4xi8(pack4xi8([-1, 2, -128, 127])), [-1, 2, -128, 127]);
-        assert_eq!(dot4i8packed(pack4xi8([1, -2, 3, -4]), pack4xi8([5, 6, 7, 8])), 5 - 12 + 21 - 32);
+        assert_eq!(
+            dot4i8packed(pack4xi8([1, -2, 3, -4]), pack4xi8([5, 6, 7, 8])),
+            5 - 12 + 21 - 32
+        );
     }
 
     #[test]
     fn ulp_distance_counts_across_zero() {
         assert_eq!(ulp_distance_f32(0.0, -0.0), 0);
-        assert_eq!(ulp_distance_f32(1.0, f32::from_bits(1.0f32.to_bits() + 3)), 3);
+        assert_eq!(
+            ulp_distance_f32(1.0, f32::from_bits(1.0f32.to_bits() + 3)),
+            3
+        );
         assert_eq!(ulp_distance_f32(f32::from_bits(1), -f32::from_bits(1)), 2);
         assert_eq!(ulp_distance_f16(1.0, 1.0 + 1.0 / 1024.0), 1);
     }
