@@ -17,7 +17,6 @@ pub mod ty;
 use std::collections::BTreeMap;
 use std::path::PathBuf;
 
-use rayon::prelude::*;
 
 pub use lanes::LANES;
 pub use ty::{bits_to_f64, f64_to_bits, ScalarKind, Ty};
@@ -72,7 +71,11 @@ const CHUNK: usize = LANES * 32;
 impl Program {
     /// Compile `function` of `shader`. `overrides` sets pipeline-overridable
     /// constants by name (or numeric id); the others take their defaults.
-    pub fn compile(shader: &Shader, function: &str, overrides: &BTreeMap<String, f64>) -> Result<Program, Diagnostic> {
+    pub fn compile(
+        shader: &Shader,
+        function: &str,
+        overrides: &BTreeMap<String, f64>,
+    ) -> Result<Program, Diagnostic> {
         let code = compile::Compiler::compile(shader, function, overrides)?;
         // An output slot may be written straight into the output column when
         // it belongs to no input, constant or other output.
@@ -88,7 +91,13 @@ impl Program {
                     && code.output_slots.iter().filter(|o| *o == s).count() == 1
             })
             .collect();
-        Ok(Program { code, own_output, path: shader.path.clone(), function: function.to_string(), step_budget: 1 << 16 })
+        Ok(Program {
+            code,
+            own_output,
+            path: shader.path.clone(),
+            function: function.to_string(),
+            step_budget: 1 << 16,
+        })
     }
 
     /// Maximum iterations of any one loop per point before the point is
@@ -123,7 +132,11 @@ impl Program {
     /// Flattened result leaves, named `result`, `result.x`, `result.field`, ...
     pub fn output_leaves(&self) -> Vec<(String, ScalarKind)> {
         match &self.code.result {
-            Some(ty) => ty.leaf_names("result").into_iter().zip(ty.leaves()).collect(),
+            Some(ty) => ty
+                .leaf_names("result")
+                .into_iter()
+                .zip(ty.leaves())
+                .collect(),
             None => Vec::new(),
         }
     }
@@ -142,26 +155,42 @@ impl Program {
     /// [`Program::try_eval`] for inputs that come from users.
     pub fn eval(&self, inputs: &[&[u32]], outputs: &mut Vec<Vec<u32>>) -> Vec<LaneIssue> {
         let n = self.prepare(inputs, outputs);
-        let out_ptrs: Vec<SendPtr> = outputs.iter_mut().map(|c| SendPtr(c.as_mut_ptr())).collect();
-        let chunks = n.div_ceil(CHUNK);
-        let mut issues: Vec<LaneIssue> = (0..chunks)
-            .into_par_iter()
-            .map_init(
-                || Machine::new(self.code.slot_count, self.step_budget, &self.code.consts),
-                |m, c| {
-                    let start = c * CHUNK;
-                    let len = CHUNK.min(n - start);
-                    // SAFETY: chunks cover disjoint ranges of every output column.
-                    let mut outs: Vec<&mut [u32]> = out_ptrs
-                        .iter()
-                        .map(|p| unsafe { std::slice::from_raw_parts_mut(p.0.add(start), len) })
-                        .collect();
-                    let ins: Vec<&[u32]> = inputs.iter().map(|c| &c[start..start + len]).collect();
-                    self.run_range(m, &ins, &mut outs, start)
-                },
-            )
-            .flatten()
+        let out_ptrs: Vec<SendPtr> = outputs
+            .iter_mut()
+            .map(|c| SendPtr(c.as_mut_ptr()))
             .collect();
+        let chunks = n.div_ceil(CHUNK);
+        // One machine per worker thread; workers take chunks from a shared
+        // counter until none are left (balances points that loop longer).
+        let next = std::sync::atomic::AtomicUsize::new(0);
+        let workers = rayon::current_num_threads().min(chunks).max(1);
+        let found = std::sync::Mutex::new(Vec::new());
+        rayon::scope(|s| {
+            for _ in 0..workers {
+                s.spawn(|_| {
+                    let mut m = Machine::new(self.code.slot_count, self.step_budget, &self.code.consts);
+                    let mut mine = Vec::new();
+                    loop {
+                        let c = next.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
+                        if c >= chunks {
+                            break;
+                        }
+                        let start = c * CHUNK;
+                        let len = CHUNK.min(n - start);
+                        // SAFETY: each chunk index is taken once, so chunks
+                        // cover disjoint ranges of every output column.
+                        let mut outs: Vec<&mut [u32]> = out_ptrs
+                            .iter()
+                            .map(|p| unsafe { std::slice::from_raw_parts_mut(p.0.add(start), len) })
+                            .collect();
+                        let ins: Vec<&[u32]> = inputs.iter().map(|c| &c[start..start + len]).collect();
+                        mine.extend(self.run_range(&mut m, &ins, &mut outs, start));
+                    }
+                    found.lock().expect("issue list").extend(mine);
+                });
+            }
+        });
+        let mut issues = found.into_inner().expect("issue list");
         issues.sort_by_key(|i| i.point);
         issues
     }
@@ -176,9 +205,16 @@ impl Program {
     }
 
     fn prepare(&self, inputs: &[&[u32]], outputs: &mut Vec<Vec<u32>>) -> usize {
-        assert_eq!(inputs.len(), self.code.input_slots.len(), "one input column per input leaf");
+        assert_eq!(
+            inputs.len(),
+            self.code.input_slots.len(),
+            "one input column per input leaf"
+        );
         let n = inputs.first().map_or(1, |c| c.len());
-        assert!(inputs.iter().all(|c| c.len() == n), "input columns differ in length");
+        assert!(
+            inputs.iter().all(|c| c.len() == n),
+            "input columns differ in length"
+        );
         outputs.resize_with(self.code.output_slots.len(), Vec::new);
         for c in outputs.iter_mut() {
             c.clear();
@@ -188,10 +224,28 @@ impl Program {
     }
 
     /// Run consecutive batches over `ins` (all the same length), writing `outs`.
-    fn run_range(&self, m: &mut Machine, ins: &[&[u32]], outs: &mut [&mut [u32]], first_point: usize) -> Vec<LaneIssue> {
-        let n = ins.first().map_or(outs.first().map_or(0, |o| o.len()), |c| c.len());
-        let in_kinds: Vec<ScalarKind> = self.code.params.iter().flat_map(|(_, t)| t.leaves()).collect();
-        let out_kinds: Vec<ScalarKind> = self.code.result.as_ref().map(|t| t.leaves()).unwrap_or_default();
+    fn run_range(
+        &self,
+        m: &mut Machine,
+        ins: &[&[u32]],
+        outs: &mut [&mut [u32]],
+        first_point: usize,
+    ) -> Vec<LaneIssue> {
+        let n = ins
+            .first()
+            .map_or(outs.first().map_or(0, |o| o.len()), |c| c.len());
+        let in_kinds: Vec<ScalarKind> = self
+            .code
+            .params
+            .iter()
+            .flat_map(|(_, t)| t.leaves())
+            .collect();
+        let out_kinds: Vec<ScalarKind> = self
+            .code
+            .result
+            .as_ref()
+            .map(|t| t.leaves())
+            .unwrap_or_default();
         let mut issues = Vec::new();
         m.sites = &self.code.sites[..] as *const [Site];
         let mut start = 0;
@@ -226,7 +280,11 @@ impl Program {
                 if raw.lane < len {
                     flagged[raw.lane] = true;
                     let site = &self.code.sites[raw.at as usize];
-                    let kind = if raw.detail.contains("step budget") { IssueKind::StepBudget } else { IssueKind::OutOfBounds };
+                    let kind = if raw.detail.contains("step budget") {
+                        IssueKind::StepBudget
+                    } else {
+                        IssueKind::OutOfBounds
+                    };
                     issues.push(LaneIssue {
                         point: first_point + start + raw.lane,
                         kind,
@@ -259,13 +317,26 @@ impl Program {
                 if any_flagged {
                     for (lane, d) in dst.iter_mut().enumerate() {
                         if abandoned(lane) {
-                            *d = if k.is_float() { to_external(k, f32::NAN.to_bits()) } else { 0 };
+                            *d = if k.is_float() {
+                                to_external(k, f32::NAN.to_bits())
+                            } else {
+                                0
+                            };
                         }
                     }
                 }
             }
-            if let Some(suspicious) = self.nonfinite_lanes(m, &in_kinds, &out_kinds, len, &flagged) {
-                issues.extend(self.trace_batch(m, ins, &in_kinds, start, len, &suspicious, first_point));
+            if let Some(suspicious) = self.nonfinite_lanes(m, &in_kinds, &out_kinds, len, &flagged)
+            {
+                issues.extend(self.trace_batch(
+                    m,
+                    ins,
+                    &in_kinds,
+                    start,
+                    len,
+                    &suspicious,
+                    first_point,
+                ));
             }
             start += len;
         }
@@ -276,7 +347,15 @@ impl Program {
         issues
     }
 
-    fn load_batch(&self, m: &mut Machine, ins: &[&[u32]], kinds: &[ScalarKind], start: usize, len: usize, bound: bool) {
+    fn load_batch(
+        &self,
+        m: &mut Machine,
+        ins: &[&[u32]],
+        kinds: &[ScalarKind],
+        start: usize,
+        len: usize,
+        bound: bool,
+    ) {
         for (i, (&slot, &k)) in self.code.input_slots.iter().zip(kinds).enumerate() {
             if bound && in_place(k) {
                 continue;
@@ -284,7 +363,9 @@ impl Program {
             let col = &ins[i][start..start + len];
             let dst = m.lanes_mut(slot);
             match k {
-                ScalarKind::F32 | ScalarKind::I32 | ScalarKind::U32 => dst[..len].copy_from_slice(col),
+                ScalarKind::F32 | ScalarKind::I32 | ScalarKind::U32 => {
+                    dst[..len].copy_from_slice(col)
+                }
                 _ => {
                     for (d, &b) in dst.iter_mut().zip(col) {
                         *d = to_lane(k, b);
@@ -369,7 +450,11 @@ impl Program {
                         site.column,
                     )
                 }
-                None => ("result is not finite although every input is".to_string(), 0, 0),
+                None => (
+                    "result is not finite although every input is".to_string(),
+                    0,
+                    0,
+                ),
             };
             out.push(LaneIssue {
                 point: first_point + start + lane,
@@ -397,7 +482,10 @@ impl Program {
     pub fn check_inputs(&self, inputs: &[&[u32]]) -> Result<usize, String> {
         let leaves = self.input_leaves();
         if inputs.len() != leaves.len() {
-            let names: Vec<_> = leaves.iter().map(|(n, k)| format!("{n}: {}", k.wgsl())).collect();
+            let names: Vec<_> = leaves
+                .iter()
+                .map(|(n, k)| format!("{n}: {}", k.wgsl()))
+                .collect();
             return Err(format!(
                 "`{}` takes {} scalar inputs ({}), got {} columns",
                 self.function,
@@ -419,7 +507,11 @@ impl Program {
     }
 
     /// [`Program::eval`] with the inputs checked first instead of asserted.
-    pub fn try_eval(&self, inputs: &[&[u32]], outputs: &mut Vec<Vec<u32>>) -> Result<Vec<LaneIssue>, String> {
+    pub fn try_eval(
+        &self,
+        inputs: &[&[u32]],
+        outputs: &mut Vec<Vec<u32>>,
+    ) -> Result<Vec<LaneIssue>, String> {
         self.check_inputs(inputs)?;
         Ok(self.eval(inputs, outputs))
     }
