@@ -134,7 +134,7 @@ pub fn pow(a: f32, b: f32) -> f32 {
         return libm::powf(a, b);
     }
     let x = f64::from(a);
-    if b == libm::truncf(b) && b.abs() <= 32.0 {
+    if b.abs() <= 32.0 && b == (b as i32) as f32 {
         let mut n = b.abs() as u32;
         let (mut base, mut acc) = (x, 1.0f64);
         while n > 0 {

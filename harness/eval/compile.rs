@@ -87,11 +87,12 @@ pub struct Compiler<'m> {
     next: Slot,
     prologue: Vec<Op>,
     consts: Vec<(Slot, u32)>,
-    /// Exits (break/continue/return) emitted so far in the top-level function.
-    exits: usize,
-    /// Set when the top-level function ends in its only return: the returned
-    /// value's slots are the outputs, with no copy.
-    direct_result: Option<Vec<Slot>>,
+    /// Per function being compiled (innermost last): exits (break, continue,
+    /// return) emitted so far in it.
+    exits: Vec<usize>,
+    /// Per function being compiled: set when it ends in its only return; the
+    /// returned value's slots are then its result, with no copy or mask work.
+    direct_result: Vec<Option<Vec<Slot>>>,
     sites: Vec<Site>,
     globals: HashMap<Handle<naga::Expression>, Val>,
     privates: HashMap<Handle<naga::GlobalVariable>, Rc<[Slot]>>,
@@ -106,9 +107,17 @@ pub struct Compiler<'m> {
 }
 
 impl<'m> Compiler<'m> {
-    pub fn compile(shader: &'m Shader, name: &str, overrides: &'m BTreeMap<String, f64>) -> R<Compiled> {
+    pub fn compile(
+        shader: &'m Shader,
+        name: &str,
+        overrides: &'m BTreeMap<String, f64>,
+    ) -> R<Compiled> {
         let module = &shader.module;
-        let Some((fh, func)) = module.functions.iter().find(|(_, f)| f.name.as_deref() == Some(name)) else {
+        let Some((fh, func)) = module
+            .functions
+            .iter()
+            .find(|(_, f)| f.name.as_deref() == Some(name))
+        else {
             let known = shader.function_names().join(", ");
             return Err(Diagnostic::without_position(
                 &shader.path,
@@ -121,8 +130,8 @@ impl<'m> Compiler<'m> {
             next: 0,
             prologue: Vec::new(),
             consts: Vec::new(),
-            exits: 0,
-            direct_result: None,
+            exits: vec![0],
+            direct_result: vec![None],
             sites: Vec::new(),
             globals: HashMap::new(),
             privates: HashMap::new(),
@@ -134,11 +143,22 @@ impl<'m> Compiler<'m> {
             depth: 0,
         };
         for key in overrides.keys() {
-            if !module.overrides.iter().any(|(_, o)| o.name.as_deref() == Some(key.as_str())) {
-                let known: Vec<_> = module.overrides.iter().filter_map(|(_, o)| o.name.clone()).collect();
+            if !module
+                .overrides
+                .iter()
+                .any(|(_, o)| o.name.as_deref() == Some(key.as_str()))
+            {
+                let known: Vec<_> = module
+                    .overrides
+                    .iter()
+                    .filter_map(|(_, o)| o.name.clone())
+                    .collect();
                 return Err(Diagnostic::without_position(
                     &shader.path,
-                    format!("override `{key}` is not declared in this file (declared: {})", known.join(", ")),
+                    format!(
+                        "override `{key}` is not declared in this file (declared: {})",
+                        known.join(", ")
+                    ),
                 ));
             }
         }
@@ -151,14 +171,20 @@ impl<'m> Compiler<'m> {
             let ty = c.ty_of_handle(a.ty, span)?;
             let slots = c.slots(ty.leaf_count());
             input_slots.extend(&slots);
-            params.push((a.name.clone().unwrap_or_else(|| format!("arg{i}")), ty.clone()));
+            params.push((
+                a.name.clone().unwrap_or_else(|| format!("arg{i}")),
+                ty.clone(),
+            ));
             args.push(Item::Value(Val { ty, slots }));
         }
         let result = match &func.result {
             Some(r) => Some(c.ty_of_handle(r.ty, module.functions.get_span(fh))?),
             None => None,
         };
-        let output_slots = result.as_ref().map(|t| c.slots(t.leaf_count())).unwrap_or_default();
+        let output_slots = result
+            .as_ref()
+            .map(|t| c.slots(t.leaf_count()))
+            .unwrap_or_default();
         let mut body = Vec::new();
         // Private variables are per invocation: initialise them for every batch.
         for (gh, g) in module.global_variables.iter() {
@@ -171,7 +197,10 @@ impl<'m> Compiler<'m> {
                 };
                 for (i, &s) in slots.iter().enumerate() {
                     match &init {
-                        Some(v) => c.prologue.push(Op::Copy { dst: s, src: v.slots[i] }),
+                        Some(v) => c.prologue.push(Op::Copy {
+                            dst: s,
+                            src: v.slots[i],
+                        }),
                         None => c.prologue.push(Op::Fill { dst: s, bits: 0 }),
                     }
                 }
@@ -194,7 +223,7 @@ impl<'m> Compiler<'m> {
         c.masks.pop();
         let mut ops = std::mem::take(&mut c.prologue);
         ops.extend(body);
-        let output_slots = c.direct_result.take().unwrap_or(output_slots);
+        let output_slots = c.direct_result[0].take().unwrap_or(output_slots);
         Ok(Compiled {
             consts: std::mem::take(&mut c.consts),
             ops,
@@ -236,7 +265,12 @@ impl<'m> Compiler<'m> {
     fn site(&mut self, what: &str) -> u32 {
         let (line, column) = self.shader.line_col(self.span);
         let mask = self.masks.last().map(|m| m.1).unwrap_or(0);
-        self.sites.push(Site { line, column, what: what.to_string(), mask });
+        self.sites.push(Site {
+            line,
+            column,
+            what: what.to_string(),
+            mask,
+        });
         (self.sites.len() - 1) as u32
     }
 
@@ -265,7 +299,14 @@ impl<'m> Compiler<'m> {
     fn k3(&mut self, out: &mut Vec<Op>, k: K3, a: Slot, b: Slot, c: Slot, what: &str) -> Slot {
         let dst = self.slot();
         let at = self.site(what);
-        out.push(Op::T { k, dst, a, b, c, at });
+        out.push(Op::T {
+            k,
+            dst,
+            a,
+            b,
+            c,
+            at,
+        });
         dst
     }
 
@@ -275,9 +316,15 @@ impl<'m> Compiler<'m> {
             TypeInner::Struct { members, .. } => {
                 let mut ms = Vec::new();
                 for (i, m) in members.iter().enumerate() {
-                    ms.push((m.name.clone().unwrap_or_else(|| format!("m{i}")), self.ty_of_handle(m.ty, span)?));
+                    ms.push((
+                        m.name.clone().unwrap_or_else(|| format!("m{i}")),
+                        self.ty_of_handle(m.ty, span)?,
+                    ));
                 }
-                Ok(Ty::Struct { name: t.name.clone().unwrap_or_else(|| "struct".into()), members: ms })
+                Ok(Ty::Struct {
+                    name: t.name.clone().unwrap_or_else(|| "struct".into()),
+                    members: ms,
+                })
             }
             inner => self.ty_of_inner(inner, span),
         }
@@ -292,12 +339,17 @@ impl<'m> Compiler<'m> {
                 (NK::Uint, 4) => K::U32,
                 (NK::Bool, _) => K::Bool,
                 (NK::AbstractInt, _) | (NK::AbstractFloat, _) => {
-                    return Err(self.shader.diagnostic(span, "abstract numeric type survived naga's concretisation"))
+                    return Err(self
+                        .shader
+                        .diagnostic(span, "abstract numeric type survived naga's concretisation"))
                 }
                 (k, w) => {
                     return Err(self.shader.diagnostic(
                         span,
-                        format!("scalar type {k:?} of {} bytes is not supported in CPU evaluation", w),
+                        format!(
+                            "scalar type {k:?} of {} bytes is not supported in CPU evaluation",
+                            w
+                        ),
                     ))
                 }
             })
@@ -305,12 +357,23 @@ impl<'m> Compiler<'m> {
         Ok(match inner {
             TypeInner::Scalar(s) => Ty::Scalar(kind(*s)?),
             TypeInner::Vector { size, scalar } => Ty::Vector(*size as u8, kind(*scalar)?),
-            TypeInner::Matrix { columns, rows, scalar } => {
-                Ty::Matrix { columns: *columns as u8, rows: *rows as u8, kind: kind(*scalar)? }
-            }
+            TypeInner::Matrix {
+                columns,
+                rows,
+                scalar,
+            } => Ty::Matrix {
+                columns: *columns as u8,
+                rows: *rows as u8,
+                kind: kind(*scalar)?,
+            },
             TypeInner::Array { base, size, .. } => match size {
-                naga::ArraySize::Constant(n) => Ty::Array(Box::new(self.ty_of_handle(*base, span)?), n.get()),
-                _ => return Err(self.shader.diagnostic(span, "runtime-sized or override-sized arrays are not supported in CPU evaluation")),
+                naga::ArraySize::Constant(n) => {
+                    Ty::Array(Box::new(self.ty_of_handle(*base, span)?), n.get())
+                }
+                _ => return Err(self.shader.diagnostic(
+                    span,
+                    "runtime-sized or override-sized arrays are not supported in CPU evaluation",
+                )),
             },
             TypeInner::Struct { .. } => {
                 // Reached only through a resolution without a handle; find it.
@@ -323,11 +386,26 @@ impl<'m> Compiler<'m> {
                     .ok_or_else(|| self.shader.diagnostic(span, "unknown struct type"))?;
                 self.ty_of_handle(h, span)?
             }
-            TypeInner::Image { .. } => return Err(self.shader.diagnostic(span, "texture types are not supported in CPU evaluation")),
-            TypeInner::Sampler { .. } => return Err(self.shader.diagnostic(span, "sampler types are not supported in CPU evaluation")),
-            TypeInner::Atomic(_) => return Err(self.shader.diagnostic(span, "atomic types are not supported in CPU evaluation")),
+            TypeInner::Image { .. } => {
+                return Err(self
+                    .shader
+                    .diagnostic(span, "texture types are not supported in CPU evaluation"))
+            }
+            TypeInner::Sampler { .. } => {
+                return Err(self
+                    .shader
+                    .diagnostic(span, "sampler types are not supported in CPU evaluation"))
+            }
+            TypeInner::Atomic(_) => {
+                return Err(self
+                    .shader
+                    .diagnostic(span, "atomic types are not supported in CPU evaluation"))
+            }
             other => {
-                return Err(self.shader.diagnostic(span, format!("type {other:?} is not supported in CPU evaluation")))
+                return Err(self.shader.diagnostic(
+                    span,
+                    format!("type {other:?} is not supported in CPU evaluation"),
+                ))
             }
         })
     }
@@ -359,7 +437,12 @@ impl<'m> Compiler<'m> {
             E::Literal(l) => self.literal(&mut pro, l)?,
             E::Constant(c) => self.global_expr(self.module.constants[*c].init)?,
             E::Override(o) => self.override_val(*o)?,
-            E::ZeroValue(_) => Val { slots: (0..ty.leaf_count()).map(|_| self.fill(&mut pro, 0)).collect(), ty },
+            E::ZeroValue(_) => Val {
+                slots: (0..ty.leaf_count())
+                    .map(|_| self.fill(&mut pro, 0))
+                    .collect(),
+                ty,
+            },
             E::Compose { components, .. } => {
                 let mut slots = Vec::new();
                 for &c in components {
@@ -369,7 +452,10 @@ impl<'m> Compiler<'m> {
             }
             E::Splat { size, value } => {
                 let v = self.global_expr(*value)?;
-                Val { ty, slots: vec![v.slots[0]; *size as usize] }
+                Val {
+                    ty,
+                    slots: vec![v.slots[0]; *size as usize],
+                }
             }
             _ => {
                 // Operations on overrides: evaluate through a throwaway frame-less path.
@@ -403,15 +489,33 @@ impl<'m> Compiler<'m> {
                 let v = self.global_expr(expr)?;
                 self.unary(&mut pro, op, &v)?
             }
-            E::As { expr, kind, convert } => {
+            E::As {
+                expr,
+                kind,
+                convert,
+            } => {
                 let v = self.global_expr(expr)?;
                 self.convert(&mut pro, &v, kind, convert, &ty)?
             }
-            E::Select { condition, accept, reject } => {
-                let (c, a, r) = (self.global_expr(condition)?, self.global_expr(accept)?, self.global_expr(reject)?);
+            E::Select {
+                condition,
+                accept,
+                reject,
+            } => {
+                let (c, a, r) = (
+                    self.global_expr(condition)?,
+                    self.global_expr(accept)?,
+                    self.global_expr(reject)?,
+                );
                 self.select(&mut pro, &c, &a, &r)
             }
-            E::Math { fun, arg, arg1, arg2, arg3 } => {
+            E::Math {
+                fun,
+                arg,
+                arg1,
+                arg2,
+                arg3,
+            } => {
                 let mut args = vec![self.global_expr(arg)?];
                 for a in [arg1, arg2, arg3].into_iter().flatten() {
                     args.push(self.global_expr(a)?);
@@ -446,7 +550,10 @@ impl<'m> Compiler<'m> {
                 let bits = lane_bits(k, x);
                 let dst = self.slot();
                 self.consts.push((dst, bits));
-                Val { ty, slots: vec![dst] }
+                Val {
+                    ty,
+                    slots: vec![dst],
+                }
             }
             (None, Some(init)) => self.global_expr(init)?,
             (None, None) => {
@@ -472,7 +579,10 @@ impl<'m> Compiler<'m> {
             Literal::AbstractInt(x) => (K::I32, x as i32 as u32),
             other => return Err(self.unsupported(&format!("literal {other:?}"))),
         };
-        Ok(Val { ty: Ty::Scalar(k), slots: vec![self.fill(out, bits)] })
+        Ok(Val {
+            ty: Ty::Scalar(k),
+            slots: vec![self.fill(out, bits)],
+        })
     }
 
     // ------------------------------------------------------------ functions
@@ -488,7 +598,10 @@ impl<'m> Compiler<'m> {
             };
             for (i, &s) in slots.iter().enumerate() {
                 match &init {
-                    Some(v) => out.push(Op::Copy { dst: s, src: v.slots[i] }),
+                    Some(v) => out.push(Op::Copy {
+                        dst: s,
+                        src: v.slots[i],
+                    }),
                     None => out.push(Op::Fill { dst: s, bits: 0 }),
                 }
             }
@@ -506,9 +619,7 @@ impl<'m> Compiler<'m> {
     }
 
     fn exit_to(&mut self, out: &mut Vec<Op>, target: &[Role], what: &str) -> R<()> {
-        if self.depth == 0 {
-            self.exits += 1;
-        }
+        *self.exits.last_mut().expect("function frame") += 1;
         let current = self.current();
         let mut masks = Vec::new();
         for &(role, slot) in self.masks.iter().rev() {
@@ -516,8 +627,14 @@ impl<'m> Compiler<'m> {
             if target.contains(&role) {
                 // Snapshot the exiting lanes: `current` is cleared too.
                 let snap = self.slot();
-                out.push(Op::Copy { dst: snap, src: current });
-                out.push(Op::Exit { current: snap, masks: masks.into() });
+                out.push(Op::Copy {
+                    dst: snap,
+                    src: current,
+                });
+                out.push(Op::Exit {
+                    current: snap,
+                    masks: masks.into(),
+                });
                 return Ok(());
             }
         }
@@ -536,7 +653,11 @@ impl<'m> Compiler<'m> {
                 }
             }
             S::Block(b) => self.block(frame, b, out)?,
-            S::If { condition, accept, reject } => {
+            S::If {
+                condition,
+                accept,
+                reject,
+            } => {
                 let cond = self.value(frame, *condition, out)?.slots[0];
                 let parent = self.current();
                 let (then_mask, else_mask) = (self.slot(), self.slot());
@@ -548,7 +669,14 @@ impl<'m> Compiler<'m> {
                 self.masks.push((Role::Branch, else_mask));
                 self.block(frame, reject, &mut r)?;
                 self.masks.pop();
-                out.push(Op::If { cond, parent, then_mask, else_mask, accept: a, reject: r });
+                out.push(Op::If {
+                    cond,
+                    parent,
+                    then_mask,
+                    else_mask,
+                    accept: a,
+                    reject: r,
+                });
             }
             S::Switch { selector, cases } => {
                 let sel = self.value(frame, *selector, out)?.slots[0];
@@ -567,16 +695,36 @@ impl<'m> Compiler<'m> {
                         naga::SwitchValue::U32(v) => (vec![v], false),
                         naga::SwitchValue::Default => (vec![], true),
                     };
-                    cs.push(Case { values, default, fall_through: case.fall_through, mask, body });
+                    cs.push(Case {
+                        values,
+                        default,
+                        fall_through: case.fall_through,
+                        mask,
+                        body,
+                    });
                 }
                 self.masks.pop();
-                out.push(Op::Switch { sel, parent, smask, cases: cs });
+                out.push(Op::Switch {
+                    sel,
+                    parent,
+                    smask,
+                    cases: cs,
+                });
             }
-            S::Loop { body, continuing, break_if } => {
+            S::Loop {
+                body,
+                continuing,
+                break_if,
+            } => {
                 let parent = self.current();
                 let (lmask, imask) = (self.slot(), self.slot());
                 let at = self.site("");
-                let kill: Box<[Slot]> = self.masks.iter().map(|m| m.1).chain([lmask, imask]).collect();
+                let kill: Box<[Slot]> = self
+                    .masks
+                    .iter()
+                    .map(|m| m.1)
+                    .chain([lmask, imask])
+                    .collect();
                 let mut b = Vec::new();
                 let mut c = Vec::new();
                 self.masks.push((Role::Loop, lmask));
@@ -589,26 +737,40 @@ impl<'m> Compiler<'m> {
                     None => None,
                 };
                 self.masks.pop();
-                out.push(Op::Loop { parent, lmask, imask, body: b, continuing: c, break_if, kill, at });
+                out.push(Op::Loop {
+                    parent,
+                    lmask,
+                    imask,
+                    body: b,
+                    continuing: c,
+                    break_if,
+                    kill,
+                    at,
+                });
             }
             S::Break => self.exit_to(out, &[Role::Loop, Role::Switch], "break")?,
             S::Continue => self.exit_to(out, &[Role::Iter], "continue")?,
             S::Return { value } => {
-                let last_at_top = self.depth == 0
-                    && self.masks.len() == 1
-                    && self.exits == 0
+                let last_at_top = self.masks.len() == 1
+                    && self.exits.last() == Some(&0)
                     && std::ptr::eq(frame.func.body.last().unwrap_or(stmt), stmt);
                 if let (Some(v), true) = (value, last_at_top) {
                     // Every lane that is still live returns here, and none left
-                    // before: the value itself is the output.
+                    // before: the value itself is the result.
                     let v = self.value(frame, *v, out)?;
-                    self.direct_result = Some(v.slots);
+                    *self.direct_result.last_mut().expect("function frame") = Some(v.slots);
                     return Ok(());
                 }
                 if let Some(v) = value {
                     let v = self.value(frame, *v, out)?;
                     let mask = self.current();
-                    for (&dst, &src) in frame.result.as_ref().expect("result slots").iter().zip(&v.slots) {
+                    for (&dst, &src) in frame
+                        .result
+                        .as_ref()
+                        .expect("result slots")
+                        .iter()
+                        .zip(&v.slots)
+                    {
                         out.push(Op::MaskedCopy { dst, src, mask });
                     }
                 }
@@ -619,12 +781,19 @@ impl<'m> Compiler<'m> {
                 let v = self.value(frame, *value, out)?;
                 self.store(out, &place, &v, frame.root);
             }
-            S::Call { function, arguments, result } => {
+            S::Call {
+                function,
+                arguments,
+                result,
+            } => {
                 let mut args = Vec::new();
                 for &a in arguments {
                     args.push(match self.expr_cached(frame, a, out)? {
                         Item::Value(v) => Item::Value(v),
-                        Item::Place(p) => Item::Place(Place { own_local: false, ..p }),
+                        Item::Place(p) => Item::Place(Place {
+                            own_local: false,
+                            ..p
+                        }),
                     });
                 }
                 let slots = self.call(*function, args, out)?;
@@ -636,9 +805,15 @@ impl<'m> Compiler<'m> {
             S::Kill => return Err(self.unsupported("`discard`")),
             S::ControlBarrier(_) | S::MemoryBarrier(_) => return Err(self.unsupported("a barrier")),
             S::ImageStore { .. } => return Err(self.unsupported("`textureStore`")),
-            S::Atomic { .. } | S::ImageAtomic { .. } => return Err(self.unsupported("an atomic operation")),
-            S::WorkGroupUniformLoad { .. } => return Err(self.unsupported("`workgroupUniformLoad`")),
-            S::SubgroupBallot { .. } | S::SubgroupGather { .. } | S::SubgroupCollectiveOperation { .. } => {
+            S::Atomic { .. } | S::ImageAtomic { .. } => {
+                return Err(self.unsupported("an atomic operation"))
+            }
+            S::WorkGroupUniformLoad { .. } => {
+                return Err(self.unsupported("`workgroupUniformLoad`"))
+            }
+            S::SubgroupBallot { .. }
+            | S::SubgroupGather { .. }
+            | S::SubgroupCollectiveOperation { .. } => {
                 return Err(self.unsupported("a subgroup operation"))
             }
             other => return Err(self.unsupported(&format!("statement {other:?}"))),
@@ -656,7 +831,11 @@ impl<'m> Compiler<'m> {
                 let plain = place.own_local && mask == root;
                 for (i, &src) in v.slots.iter().enumerate() {
                     let dst = region[i];
-                    out.push(if plain { Op::Copy { dst, src } } else { Op::MaskedCopy { dst, src, mask } });
+                    out.push(if plain {
+                        Op::Copy { dst, src }
+                    } else {
+                        Op::MaskedCopy { dst, src, mask }
+                    });
                 }
             }
             Some(offset) => out.push(Op::Scatter {
@@ -668,7 +847,12 @@ impl<'m> Compiler<'m> {
         }
     }
 
-    fn call(&mut self, fh: Handle<naga::Function>, args: Vec<Item>, out: &mut Vec<Op>) -> R<Option<Vec<Slot>>> {
+    fn call(
+        &mut self,
+        fh: Handle<naga::Function>,
+        args: Vec<Item>,
+        out: &mut Vec<Op>,
+    ) -> R<Option<Vec<Slot>>> {
         self.depth += 1;
         if self.depth > 64 {
             return Err(self.err("calls nested more than 64 deep"));
@@ -683,21 +867,41 @@ impl<'m> Compiler<'m> {
             None => None,
         };
         let root = self.slot();
-        out.push(Op::Copy { dst: root, src: self.current() });
-        let mut frame = Frame { func, info, args, locals: HashMap::new(), cache: HashMap::new(), result: result.clone(), root };
+        out.push(Op::Copy {
+            dst: root,
+            src: self.current(),
+        });
+        let mut frame = Frame {
+            func,
+            info,
+            args,
+            locals: HashMap::new(),
+            cache: HashMap::new(),
+            result: result.clone(),
+            root,
+        };
         let saved_masks = std::mem::replace(&mut self.masks, vec![(Role::Root, root)]);
         let saved_span = self.span;
+        self.exits.push(0);
+        self.direct_result.push(None);
         self.init_locals(&mut frame, out)?;
         self.block(&mut frame, &func.body, out)?;
+        self.exits.pop();
+        let direct = self.direct_result.pop().flatten();
         self.masks = saved_masks;
         self.span = saved_span;
         self.depth -= 1;
-        Ok(result)
+        Ok(direct.or(result))
     }
 
     // ------------------------------------------------------------ expressions
 
-    fn expr_cached(&mut self, frame: &mut Frame<'m>, h: Handle<naga::Expression>, out: &mut Vec<Op>) -> R<Item> {
+    fn expr_cached(
+        &mut self,
+        frame: &mut Frame<'m>,
+        h: Handle<naga::Expression>,
+        out: &mut Vec<Op>,
+    ) -> R<Item> {
         if let Some(i) = frame.cache.get(&h) {
             return Ok(i.clone());
         }
@@ -707,7 +911,10 @@ impl<'m> Compiler<'m> {
         // Expressions outside any Emit are constant-like (naga folds the rest):
         // literals and constants go to the prologue and are cached; anything
         // else is recomputed where it is used, never shared across blocks.
-        let constant = matches!(expr, E::Literal(_) | E::Constant(_) | E::Override(_) | E::ZeroValue(_));
+        let constant = matches!(
+            expr,
+            E::Literal(_) | E::Constant(_) | E::Override(_) | E::ZeroValue(_)
+        );
         let item = if constant {
             let mut pro = Vec::new();
             let item = self.expr(frame, h, &mut pro)?;
@@ -716,7 +923,10 @@ impl<'m> Compiler<'m> {
             item
         } else {
             let item = self.expr(frame, h, out)?;
-            if matches!(expr, E::FunctionArgument(_) | E::LocalVariable(_) | E::GlobalVariable(_)) {
+            if matches!(
+                expr,
+                E::FunctionArgument(_) | E::LocalVariable(_) | E::GlobalVariable(_)
+            ) {
                 frame.cache.insert(h, item.clone());
             }
             item
@@ -725,21 +935,36 @@ impl<'m> Compiler<'m> {
         Ok(item)
     }
 
-    fn value(&mut self, frame: &mut Frame<'m>, h: Handle<naga::Expression>, out: &mut Vec<Op>) -> R<Val> {
+    fn value(
+        &mut self,
+        frame: &mut Frame<'m>,
+        h: Handle<naga::Expression>,
+        out: &mut Vec<Op>,
+    ) -> R<Val> {
         match self.expr_cached(frame, h, out)? {
             Item::Value(v) => Ok(v),
             Item::Place(_) => Err(self.err("expected a value, found a pointer")),
         }
     }
 
-    fn place(&mut self, frame: &mut Frame<'m>, h: Handle<naga::Expression>, out: &mut Vec<Op>) -> R<Place> {
+    fn place(
+        &mut self,
+        frame: &mut Frame<'m>,
+        h: Handle<naga::Expression>,
+        out: &mut Vec<Op>,
+    ) -> R<Place> {
         match self.expr_cached(frame, h, out)? {
             Item::Place(p) => Ok(p),
             Item::Value(_) => Err(self.err("expected a pointer, found a value")),
         }
     }
 
-    fn expr(&mut self, frame: &mut Frame<'m>, h: Handle<naga::Expression>, out: &mut Vec<Op>) -> R<Item> {
+    fn expr(
+        &mut self,
+        frame: &mut Frame<'m>,
+        h: Handle<naga::Expression>,
+        out: &mut Vec<Op>,
+    ) -> R<Item> {
         let expr = &frame.func.expressions[h];
         let v = match expr {
             E::Literal(l) => self.literal(out, l)?,
@@ -747,7 +972,10 @@ impl<'m> Compiler<'m> {
             E::Override(o) => self.override_val(*o)?,
             E::ZeroValue(_) => {
                 let ty = self.expr_ty(frame, h)?;
-                Val { slots: (0..ty.leaf_count()).map(|_| self.fill(out, 0)).collect(), ty }
+                Val {
+                    slots: (0..ty.leaf_count()).map(|_| self.fill(out, 0)).collect(),
+                    ty,
+                }
             }
             E::Compose { components, .. } => {
                 let ty = self.expr_ty(frame, h)?;
@@ -759,27 +987,52 @@ impl<'m> Compiler<'m> {
             }
             E::Splat { size, value } => {
                 let v = self.value(frame, *value, out)?;
-                Val { ty: Ty::Vector(*size as u8, v.ty.scalar_kind().unwrap()), slots: vec![v.slots[0]; *size as usize] }
+                Val {
+                    ty: Ty::Vector(*size as u8, v.ty.scalar_kind().unwrap()),
+                    slots: vec![v.slots[0]; *size as usize],
+                }
             }
-            E::Swizzle { size, vector, pattern } => {
+            E::Swizzle {
+                size,
+                vector,
+                pattern,
+            } => {
                 let v = self.value(frame, *vector, out)?;
                 let k = v.ty.scalar_kind().unwrap();
-                let slots = pattern[..*size as usize].iter().map(|c| v.slots[*c as usize]).collect();
-                Val { ty: Ty::Vector(*size as u8, k), slots }
+                let slots = pattern[..*size as usize]
+                    .iter()
+                    .map(|c| v.slots[*c as usize])
+                    .collect();
+                Val {
+                    ty: Ty::Vector(*size as u8, k),
+                    slots,
+                }
             }
             E::FunctionArgument(i) => return Ok(frame.args[*i as usize].clone()),
             E::LocalVariable(l) => {
                 let region = frame.locals[l].clone();
                 let lv = &frame.func.local_variables[*l];
                 let ty = self.ty_of_handle(lv.ty, self.span)?;
-                return Ok(Item::Place(Place { region, offset: 0, dynamic: None, ty, own_local: true }));
+                return Ok(Item::Place(Place {
+                    region,
+                    offset: 0,
+                    dynamic: None,
+                    ty,
+                    own_local: true,
+                }));
             }
             E::GlobalVariable(g) => {
                 let gv = &self.module.global_variables[*g];
                 match self.privates.get(g) {
                     Some(region) => {
                         let ty = self.ty_of_handle(gv.ty, self.span)?;
-                        return Ok(Item::Place(Place { region: region.clone(), offset: 0, dynamic: None, ty, own_local: false }));
+                        return Ok(Item::Place(Place {
+                            region: region.clone(),
+                            offset: 0,
+                            dynamic: None,
+                            ty,
+                            own_local: false,
+                        }));
                     }
                     None => {
                         let name = gv.name.clone().unwrap_or_default();
@@ -798,7 +1051,11 @@ impl<'m> Compiler<'m> {
                 Item::Value(b) => self.access_index_val(&b, *index)?,
                 Item::Place(p) => {
                     let (ty, off) = self.member(&p.ty, *index)?;
-                    return Ok(Item::Place(Place { offset: p.offset + off, ty, ..p }));
+                    return Ok(Item::Place(Place {
+                        offset: p.offset + off,
+                        ty,
+                        ..p
+                    }));
                 }
             },
             E::Access { base, index } => {
@@ -809,14 +1066,25 @@ impl<'m> Compiler<'m> {
                         let n = ety.leaf_count();
                         let off = self.dynamic_offset(out, idx, len, n, None);
                         let dst = self.slots(n);
-                        out.push(Op::Gather { dst: dst.clone().into(), src: b.slots.clone().into(), offset: off });
-                        Val { ty: ety, slots: dst }
+                        out.push(Op::Gather {
+                            dst: dst.clone().into(),
+                            src: b.slots.clone().into(),
+                            offset: off,
+                        });
+                        Val {
+                            ty: ety,
+                            slots: dst,
+                        }
                     }
                     Item::Place(p) => {
                         let (ety, len) = self.element(&p.ty)?;
                         let n = ety.leaf_count();
                         let off = self.dynamic_offset(out, idx, len, n, p.dynamic);
-                        return Ok(Item::Place(Place { dynamic: Some(off), ty: ety, ..p }));
+                        return Ok(Item::Place(Place {
+                            dynamic: Some(off),
+                            ty: ety,
+                            ..p
+                        }));
                     }
                 }
             }
@@ -826,10 +1094,17 @@ impl<'m> Compiler<'m> {
             }
             E::Binary { op, left, right } => {
                 let ty = self.expr_ty(frame, h)?;
-                let (l, r) = (self.value(frame, *left, out)?, self.value(frame, *right, out)?);
+                let (l, r) = (
+                    self.value(frame, *left, out)?,
+                    self.value(frame, *right, out)?,
+                );
                 self.binary(out, *op, &l, &r, &ty)?
             }
-            E::Select { condition, accept, reject } => {
+            E::Select {
+                condition,
+                accept,
+                reject,
+            } => {
                 let c = self.value(frame, *condition, out)?;
                 let a = self.value(frame, *accept, out)?;
                 let r = self.value(frame, *reject, out)?;
@@ -839,7 +1114,13 @@ impl<'m> Compiler<'m> {
                 let v = self.value(frame, *argument, out)?;
                 self.relational(out, *fun, &v)?
             }
-            E::Math { fun, arg, arg1, arg2, arg3 } => {
+            E::Math {
+                fun,
+                arg,
+                arg1,
+                arg2,
+                arg3,
+            } => {
                 let ty = self.expr_ty(frame, h)?;
                 let mut args = vec![self.value(frame, *arg, out)?];
                 for a in [arg1, arg2, arg3].into_iter().flatten() {
@@ -847,7 +1128,11 @@ impl<'m> Compiler<'m> {
                 }
                 self.math(out, *fun, &args, &ty)?
             }
-            E::As { expr, kind, convert } => {
+            E::As {
+                expr,
+                kind,
+                convert,
+            } => {
                 let ty = self.expr_ty(frame, h)?;
                 let v = self.value(frame, *expr, out)?;
                 self.convert(out, &v, *kind, *convert, &ty)?
@@ -856,9 +1141,13 @@ impl<'m> Compiler<'m> {
             E::ImageSample { .. } => return Err(self.unsupported("`textureSample`")),
             E::ImageLoad { .. } => return Err(self.unsupported("`textureLoad`")),
             E::ImageQuery { .. } => return Err(self.unsupported("a texture query")),
-            E::Derivative { .. } => return Err(self.unsupported("a derivative (`dpdx`/`dpdy`/`fwidth`)")),
+            E::Derivative { .. } => {
+                return Err(self.unsupported("a derivative (`dpdx`/`dpdy`/`fwidth`)"))
+            }
             E::AtomicResult { .. } => return Err(self.unsupported("an atomic operation")),
-            E::WorkGroupUniformLoadResult { .. } => return Err(self.unsupported("`workgroupUniformLoad`")),
+            E::WorkGroupUniformLoadResult { .. } => {
+                return Err(self.unsupported("`workgroupUniformLoad`"))
+            }
             E::ArrayLength(_) => return Err(self.unsupported("`arrayLength`")),
             other => return Err(self.unsupported(&format!("expression {other:?}"))),
         };
@@ -872,20 +1161,43 @@ impl<'m> Compiler<'m> {
         match p.dynamic {
             None => {
                 for (i, &d) in dst.iter().enumerate() {
-                    out.push(Op::Copy { dst: d, src: region[i] });
+                    out.push(Op::Copy {
+                        dst: d,
+                        src: region[i],
+                    });
                 }
             }
-            Some(offset) => out.push(Op::Gather { dst: dst.clone().into(), src: region.into(), offset }),
+            Some(offset) => out.push(Op::Gather {
+                dst: dst.clone().into(),
+                src: region.into(),
+                offset,
+            }),
         }
-        Val { ty: p.ty.clone(), slots: dst }
+        Val {
+            ty: p.ty.clone(),
+            slots: dst,
+        }
     }
 
     /// Checked per-lane leaf offset `prev + idx * stride`.
-    fn dynamic_offset(&mut self, out: &mut Vec<Op>, idx: Slot, len: u32, stride: usize, prev: Option<Slot>) -> Slot {
+    fn dynamic_offset(
+        &mut self,
+        out: &mut Vec<Op>,
+        idx: Slot,
+        len: u32,
+        stride: usize,
+        prev: Option<Slot>,
+    ) -> Slot {
         let at = self.site("");
         let mask = self.current();
         let checked = self.slot();
-        out.push(Op::CheckIndex { dst: checked, idx, len, mask, at });
+        out.push(Op::CheckIndex {
+            dst: checked,
+            idx,
+            len,
+            mask,
+            at,
+        });
         let scaled = if stride == 1 {
             checked
         } else {
@@ -902,7 +1214,11 @@ impl<'m> Compiler<'m> {
     fn element(&self, ty: &Ty) -> R<(Ty, u32)> {
         Ok(match ty {
             Ty::Vector(n, k) => (Ty::Scalar(*k), *n as u32),
-            Ty::Matrix { columns, rows, kind } => (Ty::Vector(*rows, *kind), *columns as u32),
+            Ty::Matrix {
+                columns,
+                rows,
+                kind,
+            } => (Ty::Vector(*rows, *kind), *columns as u32),
             Ty::Array(t, n) => ((**t).clone(), *n),
             _ => return Err(self.err(format!("cannot index into {ty}"))),
         })
@@ -926,13 +1242,18 @@ impl<'m> Compiler<'m> {
     fn access_index_val(&self, b: &Val, index: u32) -> R<Val> {
         let (ty, off) = self.member(&b.ty, index)?;
         let n = ty.leaf_count();
-        Ok(Val { ty, slots: b.slots[off..off + n].to_vec() })
+        Ok(Val {
+            ty,
+            slots: b.slots[off..off + n].to_vec(),
+        })
     }
 
     // ------------------------------------------------------------ operators
 
     fn unary(&mut self, out: &mut Vec<Op>, op: naga::UnaryOperator, v: &Val) -> R<Val> {
-        let k = v.ty.scalar_kind().ok_or_else(|| self.err("unary operator on a composite"))?;
+        let k =
+            v.ty.scalar_kind()
+                .ok_or_else(|| self.err("unary operator on a composite"))?;
         let (kern, what): (K1, &str) = match (op, k) {
             (naga::UnaryOperator::Negate, K::F32) => (run1::<FNeg>, "negation"),
             (naga::UnaryOperator::Negate, K::F16) => (run1::<FNeg>, "negation"),
@@ -941,8 +1262,15 @@ impl<'m> Compiler<'m> {
             (naga::UnaryOperator::BitwiseNot, K::I32 | K::U32) => (run1::<UNot>, ""),
             (op, k) => return Err(self.err(format!("unary {op:?} on {}", k.wgsl()))),
         };
-        let slots = v.slots.iter().map(|&a| self.k1(out, kern, a, what)).collect();
-        Ok(Val { ty: v.ty.clone(), slots })
+        let slots = v
+            .slots
+            .iter()
+            .map(|&a| self.k1(out, kern, a, what))
+            .collect();
+        Ok(Val {
+            ty: v.ty.clone(),
+            slots,
+        })
     }
 
     fn bin_kernel(&self, op: BO, k: K) -> R<(K2, &'static str)> {
@@ -992,57 +1320,121 @@ impl<'m> Compiler<'m> {
     }
 
     fn binary(&mut self, out: &mut Vec<Op>, op: BO, l: &Val, r: &Val, ty: &Ty) -> R<Val> {
-        let lk = l.ty.scalar_kind().ok_or_else(|| self.err("binary operator on a composite"))?;
+        let lk =
+            l.ty.scalar_kind()
+                .ok_or_else(|| self.err("binary operator on a composite"))?;
         if op == BO::Multiply {
             match (&l.ty, &r.ty) {
-                (Ty::Matrix { columns, rows, kind }, Ty::Vector(..)) => {
+                (
+                    Ty::Matrix {
+                        columns,
+                        rows,
+                        kind,
+                    },
+                    Ty::Vector(..),
+                ) => {
                     // (M·v)[r] = Σ_c M[c][r]·v[c], summed in column order.
                     let (c, rr) = (*columns as usize, *rows as usize);
-                    let (mul, add) = (self.bin_kernel(BO::Multiply, *kind)?.0, self.bin_kernel(BO::Add, *kind)?.0);
+                    let (mul, add) = (
+                        self.bin_kernel(BO::Multiply, *kind)?.0,
+                        self.bin_kernel(BO::Add, *kind)?.0,
+                    );
                     let slots = (0..rr)
                         .map(|row| {
-                            let terms: Vec<_> = (0..c).map(|col| (l.slots[col * rr + row], r.slots[col])).collect();
+                            let terms: Vec<_> = (0..c)
+                                .map(|col| (l.slots[col * rr + row], r.slots[col]))
+                                .collect();
                             self.sum_products(out, mul, add, &terms)
                         })
                         .collect();
-                    return Ok(Val { ty: ty.clone(), slots });
+                    return Ok(Val {
+                        ty: ty.clone(),
+                        slots,
+                    });
                 }
-                (Ty::Vector(..), Ty::Matrix { columns, rows, kind }) => {
+                (
+                    Ty::Vector(..),
+                    Ty::Matrix {
+                        columns,
+                        rows,
+                        kind,
+                    },
+                ) => {
                     // (v·M)[c] = Σ_r v[r]·M[c][r] = dot(v, column c).
                     let (c, rr) = (*columns as usize, *rows as usize);
-                    let (mul, add) = (self.bin_kernel(BO::Multiply, *kind)?.0, self.bin_kernel(BO::Add, *kind)?.0);
+                    let (mul, add) = (
+                        self.bin_kernel(BO::Multiply, *kind)?.0,
+                        self.bin_kernel(BO::Add, *kind)?.0,
+                    );
                     let slots = (0..c)
                         .map(|col| {
-                            let terms: Vec<_> = (0..rr).map(|row| (l.slots[row], r.slots[col * rr + row])).collect();
+                            let terms: Vec<_> = (0..rr)
+                                .map(|row| (l.slots[row], r.slots[col * rr + row]))
+                                .collect();
                             self.sum_products(out, mul, add, &terms)
                         })
                         .collect();
-                    return Ok(Val { ty: ty.clone(), slots });
+                    return Ok(Val {
+                        ty: ty.clone(),
+                        slots,
+                    });
                 }
-                (Ty::Matrix { columns: lc, rows: lr, kind }, Ty::Matrix { columns: rc, .. }) => {
+                (
+                    Ty::Matrix {
+                        columns: lc,
+                        rows: lr,
+                        kind,
+                    },
+                    Ty::Matrix { columns: rc, .. },
+                ) => {
                     let (lc, lr, rc) = (*lc as usize, *lr as usize, *rc as usize);
-                    let (mul, add) = (self.bin_kernel(BO::Multiply, *kind)?.0, self.bin_kernel(BO::Add, *kind)?.0);
+                    let (mul, add) = (
+                        self.bin_kernel(BO::Multiply, *kind)?.0,
+                        self.bin_kernel(BO::Add, *kind)?.0,
+                    );
                     let mut slots = Vec::new();
                     for col in 0..rc {
                         for row in 0..lr {
-                            let terms: Vec<_> = (0..lc).map(|k| (l.slots[k * lr + row], r.slots[col * lc + k])).collect();
+                            let terms: Vec<_> = (0..lc)
+                                .map(|k| (l.slots[k * lr + row], r.slots[col * lc + k]))
+                                .collect();
                             slots.push(self.sum_products(out, mul, add, &terms));
                         }
                     }
-                    return Ok(Val { ty: ty.clone(), slots });
+                    return Ok(Val {
+                        ty: ty.clone(),
+                        slots,
+                    });
                 }
                 _ => {}
             }
         }
         let (kern, what) = self.bin_kernel(op, lk)?;
         let n = l.slots.len().max(r.slots.len());
-        let pick = |v: &Val, i: usize| if v.slots.len() == 1 { v.slots[0] } else { v.slots[i] };
-        let slots = (0..n).map(|i| self.k2(out, kern, pick(l, i), pick(r, i), what)).collect();
-        Ok(Val { ty: ty.clone(), slots })
+        let pick = |v: &Val, i: usize| {
+            if v.slots.len() == 1 {
+                v.slots[0]
+            } else {
+                v.slots[i]
+            }
+        };
+        let slots = (0..n)
+            .map(|i| self.k2(out, kern, pick(l, i), pick(r, i), what))
+            .collect();
+        Ok(Val {
+            ty: ty.clone(),
+            slots,
+        })
     }
 
     /// Σ aᵢ·bᵢ, left to right: ((a0·b0 + a1·b1) + a2·b2) ...
-    fn sum_products(&mut self, out: &mut Vec<Op>, mul: K2, add: K2, terms: &[(Slot, Slot)]) -> Slot {
+    fn sum_products(
+        &mut self,
+        out: &mut Vec<Op>,
+        mul: K2,
+        add: K2,
+        terms: &[(Slot, Slot)],
+    ) -> Slot {
         let mut acc = self.k2(out, mul, terms[0].0, terms[0].1, "multiplication");
         for &(a, b) in &terms[1..] {
             let p = self.k2(out, mul, a, b, "multiplication");
@@ -1054,40 +1446,81 @@ impl<'m> Compiler<'m> {
     fn select(&mut self, out: &mut Vec<Op>, c: &Val, a: &Val, r: &Val) -> Val {
         let slots = (0..a.slots.len())
             .map(|i| {
-                let cs = if c.slots.len() == 1 { c.slots[0] } else { c.slots[i] };
+                let cs = if c.slots.len() == 1 {
+                    c.slots[0]
+                } else {
+                    c.slots[i]
+                };
                 self.k3(out, run3::<Select>, r.slots[i], a.slots[i], cs, "")
             })
             .collect();
-        Val { ty: a.ty.clone(), slots }
+        Val {
+            ty: a.ty.clone(),
+            slots,
+        }
     }
 
     fn relational(&mut self, out: &mut Vec<Op>, fun: naga::RelationalFunction, v: &Val) -> R<Val> {
         use naga::RelationalFunction as RF;
         let slots = match fun {
             RF::All | RF::Any => {
-                let kern: K2 = if fun == RF::All { run2::<UAnd> } else { run2::<UOr> };
+                let kern: K2 = if fun == RF::All {
+                    run2::<UAnd>
+                } else {
+                    run2::<UOr>
+                };
                 let mut acc = v.slots[0];
                 for &s in &v.slots[1..] {
                     acc = self.k2(out, kern, acc, s, "");
                 }
-                return Ok(Val { ty: Ty::Scalar(K::Bool), slots: vec![acc] });
+                return Ok(Val {
+                    ty: Ty::Scalar(K::Bool),
+                    slots: vec![acc],
+                });
             }
-            RF::IsNan => v.slots.iter().map(|&s| self.k1(out, run1::<FIsNan>, s, "")).collect(),
-            RF::IsInf => v.slots.iter().map(|&s| self.k1(out, run1::<FIsInf>, s, "")).collect(),
+            RF::IsNan => v
+                .slots
+                .iter()
+                .map(|&s| self.k1(out, run1::<FIsNan>, s, ""))
+                .collect(),
+            RF::IsInf => v
+                .slots
+                .iter()
+                .map(|&s| self.k1(out, run1::<FIsInf>, s, ""))
+                .collect(),
         };
         let n = v.slots.len() as u8;
-        Ok(Val { ty: if n == 1 { Ty::Scalar(K::Bool) } else { Ty::Vector(n, K::Bool) }, slots })
+        Ok(Val {
+            ty: if n == 1 {
+                Ty::Scalar(K::Bool)
+            } else {
+                Ty::Vector(n, K::Bool)
+            },
+            slots,
+        })
     }
 
-    fn convert(&mut self, out: &mut Vec<Op>, v: &Val, kind: NK, convert: Option<u8>, ty: &Ty) -> R<Val> {
-        let from = v.ty.scalar_kind().ok_or_else(|| self.err("conversion of a composite"))?;
+    fn convert(
+        &mut self,
+        out: &mut Vec<Op>,
+        v: &Val,
+        kind: NK,
+        convert: Option<u8>,
+        ty: &Ty,
+    ) -> R<Val> {
+        let from =
+            v.ty.scalar_kind()
+                .ok_or_else(|| self.err("conversion of a composite"))?;
         let Some(width) = convert else {
             // bitcast: 32-bit patterns are shared by f32/i32/u32, so it is free.
             let to = ty.scalar_kind().unwrap();
             if from == K::F16 || to == K::F16 {
                 return self.bitcast_f16(out, v, ty);
             }
-            return Ok(Val { ty: ty.clone(), slots: v.slots.clone() });
+            return Ok(Val {
+                ty: ty.clone(),
+                slots: v.slots.clone(),
+            });
         };
         let to = match (kind, width) {
             (NK::Float, 4) => K::F32,
@@ -1113,13 +1546,26 @@ impl<'m> Compiler<'m> {
             (Bool, F32 | F16) => Some(run1::<BToF>),
             (I32 | U32, Bool) => Some(run1::<IToB>),
             (Bool, I32 | U32) => Some(run1::<BToI>),
-            _ => return Err(self.unsupported(&format!("conversion {} -> {}", from.wgsl(), to.wgsl()))),
+            _ => {
+                return Err(self.unsupported(&format!(
+                    "conversion {} -> {}",
+                    from.wgsl(),
+                    to.wgsl()
+                )))
+            }
         };
         let slots = match kern {
             None => v.slots.clone(),
-            Some(k) => v.slots.iter().map(|&s| self.k1(out, k, s, "conversion")).collect(),
+            Some(k) => v
+                .slots
+                .iter()
+                .map(|&s| self.k1(out, k, s, "conversion"))
+                .collect(),
         };
-        Ok(Val { ty: ty.clone(), slots })
+        Ok(Val {
+            ty: ty.clone(),
+            slots,
+        })
     }
 
     /// bitcast between 32-bit scalars and vec2<f16> (and vec4<f16> ↔ vec2 of
@@ -1129,7 +1575,10 @@ impl<'m> Compiler<'m> {
         let to = ty.scalar_kind().unwrap();
         let n_out = ty.leaf_count();
         if from == K::F16 && to == K::F16 {
-            return Ok(Val { ty: ty.clone(), slots: v.slots.clone() });
+            return Ok(Val {
+                ty: ty.clone(),
+                slots: v.slots.clone(),
+            });
         }
         let mut slots = Vec::new();
         if from == K::F16 {
@@ -1139,7 +1588,11 @@ impl<'m> Compiler<'m> {
                     o[0] = u32::from(arith::f16_bits(f32::from_bits(a[0])))
                         | (u32::from(arith::f16_bits(f32::from_bits(a[1]))) << 16);
                 }
-                out.push(Op::PerLane { f: pack, dst: vec![dst].into(), args: pair.into() });
+                out.push(Op::PerLane {
+                    f: pack,
+                    dst: vec![dst].into(),
+                    args: pair.into(),
+                });
                 slots.push(dst);
             }
         } else {
@@ -1149,51 +1602,95 @@ impl<'m> Compiler<'m> {
                     o[0] = arith::f16_from_bits(a[0] as u16).to_bits();
                     o[1] = arith::f16_from_bits((a[0] >> 16) as u16).to_bits();
                 }
-                out.push(Op::PerLane { f: unpack, dst: dst.clone().into(), args: vec![s].into() });
+                out.push(Op::PerLane {
+                    f: unpack,
+                    dst: dst.clone().into(),
+                    args: vec![s].into(),
+                });
                 slots.extend(dst);
             }
         }
         if slots.len() != n_out {
             return Err(self.err(format!("bitcast from {} to {ty}: sizes differ", v.ty)));
         }
-        Ok(Val { ty: ty.clone(), slots })
+        Ok(Val {
+            ty: ty.clone(),
+            slots,
+        })
     }
 
     // ------------------------------------------------------------ built-ins
 
     fn math(&mut self, out: &mut Vec<Op>, fun: MF, args: &[Val], ty: &Ty) -> R<Val> {
-        let k = args[0].ty.scalar_kind().ok_or_else(|| self.err(format!("{fun:?} on a composite")))?;
+        let k = args[0]
+            .ty
+            .scalar_kind()
+            .ok_or_else(|| self.err(format!("{fun:?} on a composite")))?;
         let f16 = k == K::F16;
         let n = args[0].slots.len();
-        let pick = |v: &Val, i: usize| if v.slots.len() == 1 { v.slots[0] } else { v.slots[i] };
+        let pick = |v: &Val, i: usize| {
+            if v.slots.len() == 1 {
+                v.slots[0]
+            } else {
+                v.slots[i]
+            }
+        };
         macro_rules! fk1 {
             ($t:ty) => {
-                if f16 { run1::<H<$t>> as K1 } else { run1::<$t> as K1 }
+                if f16 {
+                    run1::<H<$t>> as K1
+                } else {
+                    run1::<$t> as K1
+                }
             };
         }
         macro_rules! fk2 {
             ($t:ty) => {
-                if f16 { run2::<H<$t>> as K2 } else { run2::<$t> as K2 }
+                if f16 {
+                    run2::<H<$t>> as K2
+                } else {
+                    run2::<$t> as K2
+                }
             };
         }
         macro_rules! fk3 {
             ($t:ty) => {
-                if f16 { run3::<H<$t>> as K3 } else { run3::<$t> as K3 }
+                if f16 {
+                    run3::<H<$t>> as K3
+                } else {
+                    run3::<$t> as K3
+                }
             };
         }
         let name = wgsl_builtin_name(fun);
         let name = name.as_str();
         let unary = |c: &mut Self, out: &mut Vec<Op>, kern: K1| -> Val {
             let what = if k.is_float() { name } else { "" };
-            Val { ty: ty.clone(), slots: args[0].slots.iter().map(|&s| c.k1(out, kern, s, what)).collect() }
+            Val {
+                ty: ty.clone(),
+                slots: args[0]
+                    .slots
+                    .iter()
+                    .map(|&s| c.k1(out, kern, s, what))
+                    .collect(),
+            }
         };
-        let float1 = if k.is_float() { float_unary(fun, f16) } else { None };
+        let float1 = if k.is_float() {
+            float_unary(fun, f16)
+        } else {
+            None
+        };
         if let Some(kern) = float1 {
             return Ok(unary(self, out, kern));
         }
         let int1: Option<K1> = match (fun, k) {
             (MF::Abs, K::I32) => Some(run1::<IAbs>),
-            (MF::Abs, K::U32) => return Ok(Val { ty: ty.clone(), slots: args[0].slots.clone() }),
+            (MF::Abs, K::U32) => {
+                return Ok(Val {
+                    ty: ty.clone(),
+                    slots: args[0].slots.clone(),
+                })
+            }
             (MF::Sign, K::I32) => Some(run1::<ISign>),
             (MF::CountOneBits, K::I32 | K::U32) => Some(run1::<UCountOnes>),
             (MF::CountLeadingZeros, K::I32 | K::U32) => Some(run1::<UClz>),
@@ -1225,8 +1722,13 @@ impl<'m> Compiler<'m> {
         };
         if let Some((kern, what)) = bin {
             let m = n.max(args[1].slots.len());
-            let slots = (0..m).map(|i| self.k2(out, kern, pick(&args[0], i), pick(&args[1], i), what)).collect();
-            return Ok(Val { ty: ty.clone(), slots });
+            let slots = (0..m)
+                .map(|i| self.k2(out, kern, pick(&args[0], i), pick(&args[1], i), what))
+                .collect();
+            return Ok(Val {
+                ty: ty.clone(),
+                slots,
+            });
         }
         let tern: Option<(K3, &str)> = match (fun, k) {
             (MF::Clamp, K::F32 | K::F16) => Some((fk3!(FClamp), "clamp")),
@@ -1243,9 +1745,21 @@ impl<'m> Compiler<'m> {
         if let Some((kern, what)) = tern {
             let m = args.iter().map(|a| a.slots.len()).max().unwrap();
             let slots = (0..m)
-                .map(|i| self.k3(out, kern, pick(&args[0], i), pick(&args[1], i), pick(&args[2], i), what))
+                .map(|i| {
+                    self.k3(
+                        out,
+                        kern,
+                        pick(&args[0], i),
+                        pick(&args[1], i),
+                        pick(&args[2], i),
+                        what,
+                    )
+                })
                 .collect();
-            return Ok(Val { ty: ty.clone(), slots });
+            return Ok(Val {
+                ty: ty.clone(),
+                slots,
+            });
         }
         let (mul, add, sub) = if k.is_float() {
             (fk2!(FMul), fk2!(FAdd), fk2!(FSub))
@@ -1253,7 +1767,10 @@ impl<'m> Compiler<'m> {
             (run2::<IMul> as K2, run2::<IAdd> as K2, run2::<ISub> as K2)
         };
         let (div, sqrt): (K2, K1) = (fk2!(FDiv), fk1!(FSqrt));
-        let scalar = |s: Slot| Val { ty: ty.clone(), slots: vec![s] };
+        let scalar = |s: Slot| Val {
+            ty: ty.clone(),
+            slots: vec![s],
+        };
         Ok(match fun {
             MF::InsertBits => {
                 let dst = self.slot();
@@ -1271,22 +1788,31 @@ impl<'m> Compiler<'m> {
                     });
                     slots.push(d);
                 }
-                Val { ty: ty.clone(), slots }
+                Val {
+                    ty: ty.clone(),
+                    slots,
+                }
             }
             MF::Dot => {
-                let terms: Vec<_> = (0..n).map(|i| (args[0].slots[i], args[1].slots[i])).collect();
+                let terms: Vec<_> = (0..n)
+                    .map(|i| (args[0].slots[i], args[1].slots[i]))
+                    .collect();
                 scalar(self.sum_products(out, mul, add, &terms))
             }
             MF::Length => {
                 if n == 1 {
                     return Ok(unary(self, out, fk1!(FAbs)));
                 }
-                let terms: Vec<_> = (0..n).map(|i| (args[0].slots[i], args[0].slots[i])).collect();
+                let terms: Vec<_> = (0..n)
+                    .map(|i| (args[0].slots[i], args[0].slots[i]))
+                    .collect();
                 let d = self.sum_products(out, mul, add, &terms);
                 scalar(self.k1(out, sqrt, d, "sqrt in length"))
             }
             MF::Distance => {
-                let diff: Vec<_> = (0..n).map(|i| self.k2(out, sub, args[0].slots[i], args[1].slots[i], "subtraction")).collect();
+                let diff: Vec<_> = (0..n)
+                    .map(|i| self.k2(out, sub, args[0].slots[i], args[1].slots[i], "subtraction"))
+                    .collect();
                 if n == 1 {
                     return Ok(scalar(self.k1(out, fk1!(FAbs), diff[0], "")));
                 }
@@ -1296,11 +1822,20 @@ impl<'m> Compiler<'m> {
             }
             MF::Normalize => {
                 // normalize(e) = e / length(e) (17.5 "normalize").
-                let terms: Vec<_> = (0..n).map(|i| (args[0].slots[i], args[0].slots[i])).collect();
+                let terms: Vec<_> = (0..n)
+                    .map(|i| (args[0].slots[i], args[0].slots[i]))
+                    .collect();
                 let d = self.sum_products(out, mul, add, &terms);
                 let len = self.k1(out, sqrt, d, "sqrt in normalize");
-                let slots = args[0].slots.iter().map(|&s| self.k2(out, div, s, len, "division in normalize")).collect();
-                Val { ty: ty.clone(), slots }
+                let slots = args[0]
+                    .slots
+                    .iter()
+                    .map(|&s| self.k2(out, div, s, len, "division in normalize"))
+                    .collect();
+                Val {
+                    ty: ty.clone(),
+                    slots,
+                }
             }
             MF::Cross => {
                 let (a, b) = (&args[0].slots, &args[1].slots);
@@ -1310,11 +1845,16 @@ impl<'m> Compiler<'m> {
                     self.k2(out, sub, p, q, "subtraction")
                 };
                 let slots = vec![c(1, 2), c(2, 0), c(0, 1)];
-                Val { ty: ty.clone(), slots }
+                Val {
+                    ty: ty.clone(),
+                    slots,
+                }
             }
             MF::FaceForward => {
                 // faceForward(e1, e2, e3) = e1 if dot(e2, e3) < 0 else -e1.
-                let terms: Vec<_> = (0..n).map(|i| (args[1].slots[i], args[2].slots[i])).collect();
+                let terms: Vec<_> = (0..n)
+                    .map(|i| (args[1].slots[i], args[2].slots[i]))
+                    .collect();
                 let d = self.sum_products(out, mul, add, &terms);
                 let zero = self.fill(out, 0);
                 let neg = self.k2(out, run2::<FLt>, d, zero, "");
@@ -1326,11 +1866,16 @@ impl<'m> Compiler<'m> {
                         self.k3(out, run3::<Select>, m, e, neg, "")
                     })
                     .collect();
-                Val { ty: ty.clone(), slots }
+                Val {
+                    ty: ty.clone(),
+                    slots,
+                }
             }
             MF::Reflect => {
                 // reflect(e1, e2) = e1 - 2 * dot(e2, e1) * e2.
-                let terms: Vec<_> = (0..n).map(|i| (args[1].slots[i], args[0].slots[i])).collect();
+                let terms: Vec<_> = (0..n)
+                    .map(|i| (args[1].slots[i], args[0].slots[i]))
+                    .collect();
                 let d = self.sum_products(out, mul, add, &terms);
                 let two = self.fill(out, float_bits(k, 2.0));
                 let t = self.k2(out, mul, two, d, "multiplication");
@@ -1340,13 +1885,18 @@ impl<'m> Compiler<'m> {
                         self.k2(out, sub, args[0].slots[i], p, "subtraction")
                     })
                     .collect();
-                Val { ty: ty.clone(), slots }
+                Val {
+                    ty: ty.clone(),
+                    slots,
+                }
             }
             MF::Refract => {
                 // k = 1 - e3² (1 - dot(e2,e1)²); k < 0 → 0, else
                 // e3·e1 - (e3·dot(e2,e1) + sqrt(k))·e2 (17.5 "refract").
                 let eta = args[2].slots[0];
-                let terms: Vec<_> = (0..n).map(|i| (args[1].slots[i], args[0].slots[i])).collect();
+                let terms: Vec<_> = (0..n)
+                    .map(|i| (args[1].slots[i], args[0].slots[i]))
+                    .collect();
                 let d = self.sum_products(out, mul, add, &terms);
                 let one = self.fill(out, float_bits(k, 1.0));
                 let zero = self.fill(out, 0);
@@ -1368,7 +1918,10 @@ impl<'m> Compiler<'m> {
                         self.k3(out, run3::<Select>, r, zero, neg, "")
                     })
                     .collect();
-                Val { ty: ty.clone(), slots }
+                Val {
+                    ty: ty.clone(),
+                    slots,
+                }
             }
             MF::Outer => {
                 let (a, b) = (&args[0].slots, &args[1].slots);
@@ -1378,10 +1931,15 @@ impl<'m> Compiler<'m> {
                         slots.push(self.k2(out, mul, ai, bj, "multiplication"));
                     }
                 }
-                Val { ty: ty.clone(), slots }
+                Val {
+                    ty: ty.clone(),
+                    slots,
+                }
             }
             MF::Transpose => {
-                let Ty::Matrix { columns, rows, .. } = args[0].ty else { return Err(self.err("transpose of a non-matrix")) };
+                let Ty::Matrix { columns, rows, .. } = args[0].ty else {
+                    return Err(self.err("transpose of a non-matrix"));
+                };
                 let (c, r) = (columns as usize, rows as usize);
                 let mut slots = Vec::new();
                 for row in 0..r {
@@ -1389,10 +1947,15 @@ impl<'m> Compiler<'m> {
                         slots.push(args[0].slots[col * r + row]);
                     }
                 }
-                Val { ty: ty.clone(), slots }
+                Val {
+                    ty: ty.clone(),
+                    slots,
+                }
             }
             MF::Determinant => {
-                let Ty::Matrix { columns, .. } = args[0].ty else { return Err(self.err("determinant of a non-matrix")) };
+                let Ty::Matrix { columns, .. } = args[0].ty else {
+                    return Err(self.err("determinant of a non-matrix"));
+                };
                 let m = args[0].slots.clone();
                 let dim = columns as usize;
                 scalar(self.det(out, &m, dim, (0..dim).collect(), mul, add, sub))
@@ -1413,32 +1976,69 @@ impl<'m> Compiler<'m> {
                         o[1] = e as u32;
                     }
                     let f: super::exec::LaneFn = if fun == MF::Modf { modf32 } else { frexp32 };
-                    out.push(Op::PerLane { f, dst: dst.clone().into(), args: vec![s].into() });
+                    out.push(Op::PerLane {
+                        f,
+                        dst: dst.clone().into(),
+                        args: vec![s].into(),
+                    });
                     a.push(dst[0]);
                     b.push(dst[1]);
                 }
                 a.extend(b);
-                Val { ty: ty.clone(), slots: a }
+                Val {
+                    ty: ty.clone(),
+                    slots: a,
+                }
             }
-            MF::Pack4x8snorm | MF::Pack4x8unorm | MF::Pack2x16snorm | MF::Pack2x16unorm | MF::Pack2x16float
-            | MF::Pack4xI8 | MF::Pack4xU8 | MF::Pack4xI8Clamp | MF::Pack4xU8Clamp => {
+            MF::Pack4x8snorm
+            | MF::Pack4x8unorm
+            | MF::Pack2x16snorm
+            | MF::Pack2x16unorm
+            | MF::Pack2x16float
+            | MF::Pack4xI8
+            | MF::Pack4xU8
+            | MF::Pack4xI8Clamp
+            | MF::Pack4xU8Clamp => {
                 let f: super::exec::LaneFn = match fun {
-                    MF::Pack4x8snorm => |i, o| o[0] = arith::pack4x8snorm(std::array::from_fn(|j| f32::from_bits(i[j]))),
-                    MF::Pack4x8unorm => |i, o| o[0] = arith::pack4x8unorm(std::array::from_fn(|j| f32::from_bits(i[j]))),
-                    MF::Pack2x16snorm => |i, o| o[0] = arith::pack2x16snorm(std::array::from_fn(|j| f32::from_bits(i[j]))),
-                    MF::Pack2x16unorm => |i, o| o[0] = arith::pack2x16unorm(std::array::from_fn(|j| f32::from_bits(i[j]))),
-                    MF::Pack2x16float => |i, o| o[0] = arith::pack2x16float(std::array::from_fn(|j| f32::from_bits(i[j]))),
-                    MF::Pack4xI8 => |i, o| o[0] = arith::pack4xi8(std::array::from_fn(|j| i[j] as i32)),
+                    MF::Pack4x8snorm => |i, o| {
+                        o[0] = arith::pack4x8snorm(std::array::from_fn(|j| f32::from_bits(i[j])))
+                    },
+                    MF::Pack4x8unorm => |i, o| {
+                        o[0] = arith::pack4x8unorm(std::array::from_fn(|j| f32::from_bits(i[j])))
+                    },
+                    MF::Pack2x16snorm => |i, o| {
+                        o[0] = arith::pack2x16snorm(std::array::from_fn(|j| f32::from_bits(i[j])))
+                    },
+                    MF::Pack2x16unorm => |i, o| {
+                        o[0] = arith::pack2x16unorm(std::array::from_fn(|j| f32::from_bits(i[j])))
+                    },
+                    MF::Pack2x16float => |i, o| {
+                        o[0] = arith::pack2x16float(std::array::from_fn(|j| f32::from_bits(i[j])))
+                    },
+                    MF::Pack4xI8 => {
+                        |i, o| o[0] = arith::pack4xi8(std::array::from_fn(|j| i[j] as i32))
+                    }
                     MF::Pack4xU8 => |i, o| o[0] = arith::pack4xu8(std::array::from_fn(|j| i[j])),
-                    MF::Pack4xI8Clamp => |i, o| o[0] = arith::pack4xi8_clamp(std::array::from_fn(|j| i[j] as i32)),
+                    MF::Pack4xI8Clamp => {
+                        |i, o| o[0] = arith::pack4xi8_clamp(std::array::from_fn(|j| i[j] as i32))
+                    }
                     _ => |i, o| o[0] = arith::pack4xu8_clamp(std::array::from_fn(|j| i[j])),
                 };
                 let dst = self.slot();
-                out.push(Op::PerLane { f, dst: vec![dst].into(), args: args[0].slots.clone().into() });
+                out.push(Op::PerLane {
+                    f,
+                    dst: vec![dst].into(),
+                    args: args[0].slots.clone().into(),
+                });
                 scalar(dst)
             }
-            MF::Unpack4x8snorm | MF::Unpack4x8unorm | MF::Unpack2x16snorm | MF::Unpack2x16unorm
-            | MF::Unpack2x16float | MF::Unpack4xI8 | MF::Unpack4xU8 => {
+            MF::Unpack4x8snorm
+            | MF::Unpack4x8unorm
+            | MF::Unpack2x16snorm
+            | MF::Unpack2x16unorm
+            | MF::Unpack2x16float
+            | MF::Unpack4xI8
+            | MF::Unpack4xU8 => {
                 let f: super::exec::LaneFn = match fun {
                     MF::Unpack4x8snorm => |i, o| put_f32(o, &arith::unpack4x8snorm(i[0])),
                     MF::Unpack4x8unorm => |i, o| put_f32(o, &arith::unpack4x8unorm(i[0])),
@@ -1453,8 +2053,15 @@ impl<'m> Compiler<'m> {
                     _ => |i, o| o.copy_from_slice(&arith::unpack4xu8(i[0])),
                 };
                 let dst = self.slots(ty.leaf_count());
-                out.push(Op::PerLane { f, dst: dst.clone().into(), args: vec![args[0].slots[0]].into() });
-                Val { ty: ty.clone(), slots: dst }
+                out.push(Op::PerLane {
+                    f,
+                    dst: dst.clone().into(),
+                    args: vec![args[0].slots[0]].into(),
+                });
+                Val {
+                    ty: ty.clone(),
+                    slots: dst,
+                }
             }
             MF::Inverse => return Err(self.unsupported("`inverse` (not a WGSL built-in)")),
             other => return Err(self.unsupported(&format!("built-in {other:?} on {}", k.wgsl()))),
@@ -1463,12 +2070,33 @@ impl<'m> Compiler<'m> {
 
     /// Determinant by cofactor expansion along the first used column.
     #[allow(clippy::too_many_arguments)]
-    fn det(&mut self, out: &mut Vec<Op>, m: &[Slot], dim: usize, rows: Vec<usize>, mul: K2, add: K2, sub: K2) -> Slot {
+    fn det(
+        &mut self,
+        out: &mut Vec<Op>,
+        m: &[Slot],
+        dim: usize,
+        rows: Vec<usize>,
+        mul: K2,
+        add: K2,
+        sub: K2,
+    ) -> Slot {
         let col = dim - rows.len();
         let at = |r: usize, c: usize| m[c * dim + r];
         if rows.len() == 2 {
-            let a = self.k2(out, mul, at(rows[0], col), at(rows[1], col + 1), "multiplication");
-            let b = self.k2(out, mul, at(rows[1], col), at(rows[0], col + 1), "multiplication");
+            let a = self.k2(
+                out,
+                mul,
+                at(rows[0], col),
+                at(rows[1], col + 1),
+                "multiplication",
+            );
+            let b = self.k2(
+                out,
+                mul,
+                at(rows[1], col),
+                at(rows[0], col + 1),
+                "multiplication",
+            );
             return self.k2(out, sub, a, b, "subtraction");
         }
         let mut acc: Option<Slot> = None;
@@ -1500,7 +2128,11 @@ fn wgsl_builtin_name(fun: MF) -> String {
 fn float_unary(fun: MF, f16: bool) -> Option<K1> {
     macro_rules! fk {
         ($t:ty) => {
-            if f16 { run1::<H<$t>> as K1 } else { run1::<$t> as K1 }
+            if f16 {
+                run1::<H<$t>> as K1
+            } else {
+                run1::<$t> as K1
+            }
         };
     }
     Some(match fun {
