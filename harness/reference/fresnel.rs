@@ -111,6 +111,10 @@ pub fn dielectric(v_dot_h: f64, ior: f64) -> f64 {
         return 0.0;
     }
     let c = v_dot_h.abs();
+    if c == 0.0 {
+        // The exact limit; the formula below would round to 1 ± 4e-16 here.
+        return 1.0;
+    }
     let e2m1 = (ior - 1.0) * (ior + 1.0);
     let g2 = e2m1 + c * c;
     if g2 < 0.0 {
