@@ -89,13 +89,13 @@ struct Brdf {
 
 /// 1024 view directions × 1024 (light, material) combinations.
 fn brdf_inputs(n: usize) -> Brdf {
-    let mut cols = vec![Vec::with_capacity(n); 14];
+    let mut cols: Vec<Vec<f32>> = (0..14).map(|_| Vec::with_capacity(n)).collect();
     for i in 0..n {
         let (a, b) = (i % 1024, (i / 1024) % 1024);
         let tv = a as f32 / 1024.0 * 1.55;
-        let pv = (a % 32) as f32 / 32.0 * 6.283;
+        let pv = (a % 32) as f32 / 32.0 * std::f32::consts::TAU;
         let tl = (b % 32) as f32 / 32.0 * 1.55;
-        let pl = (b / 32) as f32 / 32.0 * 6.283;
+        let pl = (b / 32) as f32 / 32.0 * std::f32::consts::TAU;
         let v = [tv.sin() * pv.cos(), tv.sin() * pv.sin(), tv.cos()];
         let l = [tl.sin() * pl.cos(), tl.sin() * pl.sin(), tl.cos()];
         let m = [(b % 5) as f32 / 4.0, 0.02 + (b % 11) as f32 / 10.5];
