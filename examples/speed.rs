@@ -55,7 +55,15 @@ fn brdf_native_mul(n: V3, v: V3, l: V3, base: V3, metallic: f32, roughness: f32)
 }
 
 #[inline(always)]
-fn brdf_native_with(n: V3, v: V3, l: V3, base: V3, metallic: f32, roughness: f32, pow5: impl Fn(f32) -> f32) -> V3 {
+fn brdf_native_with(
+    n: V3,
+    v: V3,
+    l: V3,
+    base: V3,
+    metallic: f32,
+    roughness: f32,
+    pow5: impl Fn(f32) -> f32,
+) -> V3 {
     let hv = [v[0] + l[0], v[1] + l[1], v[2] + l[2]];
     let len = dot(hv, hv).sqrt();
     let h = [hv[0] / len, hv[1] / len, hv[2] / len];
@@ -99,7 +107,9 @@ fn brdf_inputs(n: usize) -> Brdf {
         let v = [tv.sin() * pv.cos(), tv.sin() * pv.sin(), tv.cos()];
         let l = [tl.sin() * pl.cos(), tl.sin() * pl.sin(), tl.cos()];
         let m = [(b % 5) as f32 / 4.0, 0.02 + (b % 11) as f32 / 10.5];
-        let vals = [0.0, 0.0, 1.0, v[0], v[1], v[2], l[0], l[1], l[2], 0.9, 0.6, 0.3, m[0], m[1]];
+        let vals = [
+            0.0, 0.0, 1.0, v[0], v[1], v[2], l[0], l[1], l[2], 0.9, 0.6, 0.3, m[0], m[1],
+        ];
         for (c, x) in cols.iter_mut().zip(vals) {
             c.push(x);
         }
@@ -121,7 +131,11 @@ fn best<F: FnMut()>(mut f: F) -> f64 {
 }
 
 fn one_core<T: Send>(f: impl FnOnce() -> T + Send) -> T {
-    rayon::ThreadPoolBuilder::new().num_threads(1).build().expect("pool").install(f)
+    rayon::ThreadPoolBuilder::new()
+        .num_threads(1)
+        .build()
+        .expect("pool")
+        .install(f)
 }
 
 fn peak_rss_mib() -> f64 {
@@ -152,14 +166,17 @@ fn main() {
     let big = std::env::args().any(|a| a == "--big");
     let threads = rayon::current_num_threads();
     println!("shadegate speed benchmark: {threads} threads available");
-    let shader = Shader::from_source("examples/speed_brdf.wgsl", BRDF_SOURCE.to_string()).expect("benchmark WGSL");
+    let shader = Shader::from_source("examples/speed_brdf.wgsl", BRDF_SOURCE.to_string())
+        .expect("benchmark WGSL");
     let none = BTreeMap::new();
 
     // ---- GGX NDF
     let ggx = Program::compile(&shader, "d_ggx", &none).expect("d_ggx");
     let side = 1024;
     let ndh: Vec<f32> = (0..N).map(|i| (i % side) as f32 / side as f32).collect();
-    let alpha: Vec<f32> = (0..N).map(|i| 0.01 + (i / side) as f32 / side as f32).collect();
+    let alpha: Vec<f32> = (0..N)
+        .map(|i| 0.01 + (i / side) as f32 / side as f32)
+        .collect();
     let ib: Vec<u32> = ndh.iter().map(|x| x.to_bits()).collect();
     let ab: Vec<u32> = alpha.iter().map(|x| x.to_bits()).collect();
     let mut out = Vec::new();
@@ -172,7 +189,11 @@ fn main() {
     });
     let t_eval1 = one_core(|| best(|| drop(black_box(ggx.eval(&[&ib, &ab], &mut out)))));
     let t_evaln = best(|| drop(black_box(ggx.eval(&[&ib, &ab], &mut out))));
-    let same = out[0].iter().zip(&nat).filter(|(a, b)| **a == b.to_bits()).count();
+    let same = out[0]
+        .iter()
+        .zip(&nat)
+        .filter(|(a, b)| **a == b.to_bits())
+        .count();
     let mut r64 = vec![0f64; N];
     let t_ref = best(|| {
         for i in 0..N {
@@ -183,20 +204,43 @@ fn main() {
     print_table(
         "GGX NDF, 2 scalars -> 1",
         &[
-            Row { what: "native Rust f32, 1 core", secs: t_native },
-            Row { what: "native Rust f32, all cores", secs: t_native_all },
-            Row { what: "shadegate evaluator, 1 core", secs: t_eval1 },
-            Row { what: "shadegate evaluator, all cores", secs: t_evaln },
-            Row { what: "f64 reference model, 1 core", secs: t_ref },
+            Row {
+                what: "native Rust f32, 1 core",
+                secs: t_native,
+            },
+            Row {
+                what: "native Rust f32, all cores",
+                secs: t_native_all,
+            },
+            Row {
+                what: "shadegate evaluator, 1 core",
+                secs: t_eval1,
+            },
+            Row {
+                what: "shadegate evaluator, all cores",
+                secs: t_evaln,
+            },
+            Row {
+                what: "f64 reference model, 1 core",
+                secs: t_ref,
+            },
         ],
         t_native,
     );
-    println!("evaluator scaling 1 -> {threads} cores: {:.2}x; bit-identical to native: {:.1} %", t_eval1 / t_evaln, 100.0 * same as f64 / N as f64);
+    println!(
+        "evaluator scaling 1 -> {threads} cores: {:.2}x; bit-identical to native: {:.1} %",
+        t_eval1 / t_evaln,
+        100.0 * same as f64 / N as f64
+    );
 
     // ---- full Cook-Torrance BRDF
     let bp = Program::compile(&shader, "brdf", &none).expect("brdf");
     let inp = brdf_inputs(N);
-    let bits: Vec<Vec<u32>> = inp.cols.iter().map(|c| c.iter().map(|x| x.to_bits()).collect()).collect();
+    let bits: Vec<Vec<u32>> = inp
+        .cols
+        .iter()
+        .map(|c| c.iter().map(|x| x.to_bits()).collect())
+        .collect();
     let refs: Vec<&[u32]> = bits.iter().map(|c| &c[..]).collect();
     let c = &inp.cols;
     let pt = |i: usize| -> (V3, V3, V3, V3, f32, f32) {
@@ -234,7 +278,9 @@ fn main() {
     }
     let run_native = |o: &mut Vec<Vec<f32>>, mul: bool, parallel: bool| {
         let cols: Vec<&[f32]> = c.iter().map(|x| &x[..]).collect();
-        let [o0, o1, o2] = &mut o[..] else { unreachable!() };
+        let [o0, o1, o2] = &mut o[..] else {
+            unreachable!()
+        };
         let work = |k: usize, (a, (b, d)): (&mut [f32], (&mut [f32], &mut [f32]))| {
             let s = k * 4096;
             let sub: Vec<&[f32]> = cols.iter().map(|x| &x[s..]).collect();
@@ -250,7 +296,10 @@ fn main() {
                 .enumerate()
                 .for_each(|(k, x)| work(k, x));
         } else {
-            o0.chunks_mut(4096).zip(o1.chunks_mut(4096).zip(o2.chunks_mut(4096))).enumerate().for_each(|(k, x)| work(k, x));
+            o0.chunks_mut(4096)
+                .zip(o1.chunks_mut(4096).zip(o2.chunks_mut(4096)))
+                .enumerate()
+                .for_each(|(k, x)| work(k, x));
         }
     };
     let t_bn = best(|| run_native(&mut nat3, false, false));
@@ -259,7 +308,9 @@ fn main() {
     let t_bm = best(|| run_native(&mut mul3, true, false));
     let t_be1 = one_core(|| best(|| drop(black_box(bp.eval(&refs, &mut out)))));
     let t_ben = best(|| drop(black_box(bp.eval(&refs, &mut out))));
-    let bsame = (0..N).filter(|&i| (0..3).all(|k| out[k][i] == nat3[k][i].to_bits())).count();
+    let bsame = (0..N)
+        .filter(|&i| (0..3).all(|k| out[k][i] == nat3[k][i].to_bits()))
+        .count();
     let mut ref3 = vec![[0f64; 3]; N];
     let d = |x: V3| x.map(f64::from);
     let t_br = best(|| {
@@ -272,12 +323,30 @@ fn main() {
     print_table(
         "Cook-Torrance BRDF (GGX, Smith height-correlated, Schlick, Lambert), 14 scalars -> RGB",
         &[
-            Row { what: "native Rust f32, 1 core", secs: t_bn },
-            Row { what: "native Rust f32, all cores", secs: t_bn_all },
-            Row { what: "native, pow as multiplications, 1 core", secs: t_bm },
-            Row { what: "shadegate evaluator, 1 core", secs: t_be1 },
-            Row { what: "shadegate evaluator, all cores", secs: t_ben },
-            Row { what: "f64 reference model, 1 core", secs: t_br },
+            Row {
+                what: "native Rust f32, 1 core",
+                secs: t_bn,
+            },
+            Row {
+                what: "native Rust f32, all cores",
+                secs: t_bn_all,
+            },
+            Row {
+                what: "native, pow as multiplications, 1 core",
+                secs: t_bm,
+            },
+            Row {
+                what: "shadegate evaluator, 1 core",
+                secs: t_be1,
+            },
+            Row {
+                what: "shadegate evaluator, all cores",
+                secs: t_ben,
+            },
+            Row {
+                what: "f64 reference model, 1 core",
+                secs: t_br,
+            },
         ],
         t_bn,
     );
@@ -286,7 +355,12 @@ fn main() {
         t_be1 / t_ben,
         100.0 * bsame as f64 / N as f64
     );
-    println!("slots per thread: GGX {}, BRDF {} (x {} lanes x 4 bytes)", ggx.slot_count(), bp.slot_count(), shadegate::eval::LANES);
+    println!(
+        "slots per thread: GGX {}, BRDF {} (x {} lanes x 4 bytes)",
+        ggx.slot_count(),
+        bp.slot_count(),
+        shadegate::eval::LANES
+    );
 
     if big {
         // ---- memory: 16M points streamed through fixed-size per-thread machines
@@ -295,8 +369,12 @@ fn main() {
         // Reset the peak-RSS mark to the current RSS (Linux: "5" > clear_refs).
         let _ = std::fs::write("/proc/self/clear_refs", "5");
         let before = peak_rss_mib();
-        let i1: Vec<u32> = (0..n).map(|i| ((i % 4096) as f32 / 4096.0).to_bits()).collect();
-        let i2: Vec<u32> = (0..n).map(|i| (0.01 + (i / 4096 % 4096) as f32 / 4096.0).to_bits()).collect();
+        let i1: Vec<u32> = (0..n)
+            .map(|i| ((i % 4096) as f32 / 4096.0).to_bits())
+            .collect();
+        let i2: Vec<u32> = (0..n)
+            .map(|i| (0.01 + (i / 4096 % 4096) as f32 / 4096.0).to_bits())
+            .collect();
         let mut o = Vec::new();
         let t = Instant::now();
         ggx.eval(&[&i1, &i2], &mut o);

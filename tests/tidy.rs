@@ -6,7 +6,9 @@
 use std::path::{Path, PathBuf};
 
 fn files(dir: &Path, out: &mut Vec<PathBuf>) {
-    let Ok(entries) = std::fs::read_dir(dir) else { return };
+    let Ok(entries) = std::fs::read_dir(dir) else {
+        return;
+    };
     for e in entries.flatten() {
         let p = e.path();
         let name = p.file_name().and_then(|n| n.to_str()).unwrap_or("");
@@ -37,7 +39,10 @@ fn every_library_module_has_a_module_doc() {
             !text.trim_start().starts_with("//!")
         })
         .collect();
-    assert!(missing.is_empty(), "modules without a `//!` doc comment: {missing:?}");
+    assert!(
+        missing.is_empty(),
+        "modules without a `//!` doc comment: {missing:?}"
+    );
 }
 
 #[test]
@@ -49,7 +54,11 @@ fn no_test_is_ignored() {
     let hits: Vec<_> = all
         .iter()
         .filter(|p| p.extension().is_some_and(|e| e == "rs"))
-        .filter(|p| std::fs::read_to_string(p).unwrap_or_default().contains(&needle))
+        .filter(|p| {
+            std::fs::read_to_string(p)
+                .unwrap_or_default()
+                .contains(&needle)
+        })
         .collect();
     assert!(hits.is_empty(), "ignored tests in {hits:?}");
 }
@@ -71,7 +80,9 @@ fn no_registry_host_names_in_the_repository() {
         if p.file_name().is_some_and(|n| n == "Cargo.lock") {
             continue; // cargo writes the source of every crate there itself
         }
-        let Ok(text) = std::fs::read_to_string(p) else { continue };
+        let Ok(text) = std::fs::read_to_string(p) else {
+            continue;
+        };
         for h in &hosts {
             if text.contains(h.as_str()) {
                 hits.push(format!("{} mentions {h}", p.display()));

@@ -17,6 +17,7 @@ use naga::{
 
 use super::exec::{Case, Op, Site, Slot};
 use super::lanes::*;
+use super::perturb::{Bound, Perturb};
 use super::ty::{ScalarKind as K, Ty};
 use crate::arith;
 use crate::wgsl::{Diagnostic, Shader};
@@ -104,6 +105,8 @@ pub struct Compiler<'m> {
     /// The span used for diagnostics of the expression being compiled.
     span: naga::Span,
     depth: usize,
+    /// Whether inexact operations get `Op::Perturb` after them.
+    spec_bounds: bool,
 }
 
 impl<'m> Compiler<'m> {
@@ -111,6 +114,7 @@ impl<'m> Compiler<'m> {
         shader: &'m Shader,
         name: &str,
         overrides: &'m BTreeMap<String, f64>,
+        spec_bounds: bool,
     ) -> R<Compiled> {
         let module = &shader.module;
         let Some((fh, func)) = module
@@ -138,6 +142,7 @@ impl<'m> Compiler<'m> {
             overrides: HashMap::new(),
             override_values: overrides,
             used_overrides: Vec::new(),
+            spec_bounds,
             masks: Vec::new(),
             span: module.functions.get_span(fh),
             depth: 0,
@@ -308,6 +313,39 @@ impl<'m> Compiler<'m> {
             at,
         });
         dst
+    }
+
+    /// Under the spec-bound number model, let each of `dst` move within `bound`
+    /// (see `perturb`); `args[i]` is the argument of `dst[i]`.
+    fn perturb(
+        &mut self,
+        out: &mut Vec<Op>,
+        dst: &[Slot],
+        args: &[Slot],
+        bound: Option<Bound>,
+        half: bool,
+    ) {
+        let Some(bound) = bound.filter(|_| self.spec_bounds) else {
+            return;
+        };
+        for (i, &d) in dst.iter().enumerate() {
+            let site = self.sites.len() as u32;
+            let arg = if args.len() == 1 { args[0] } else { args[i] };
+            out.push(Op::Perturb(Perturb {
+                dst: d,
+                arg,
+                bound,
+                half,
+                site,
+            }));
+            let (line, column) = self.shader.line_col(self.span);
+            self.sites.push(Site {
+                line,
+                column,
+                what: String::new(),
+                mask: 0,
+            });
+        }
     }
 
     fn ty_of_handle(&self, h: Handle<naga::Type>, span: naga::Span) -> R<Ty> {
@@ -1418,9 +1456,14 @@ impl<'m> Compiler<'m> {
                 v.slots[i]
             }
         };
-        let slots = (0..n)
+        let slots: Vec<Slot> = (0..n)
             .map(|i| self.k2(out, kern, pick(l, i), pick(r, i), what))
             .collect();
+        if op == BO::Divide && lk.is_float() {
+            // x / y: 2.5 ULP (WGSL "Floating Point Accuracy").
+            let rs = (0..n).map(|i| pick(r, i)).collect::<Vec<_>>();
+            self.perturb(out, &slots, &rs, Some(Bound::Ulp(2.5)), lk == K::F16);
+        }
         Ok(Val {
             ty: ty.clone(),
             slots,
@@ -1681,7 +1724,9 @@ impl<'m> Compiler<'m> {
             None
         };
         if let Some(kern) = float1 {
-            return Ok(unary(self, out, kern));
+            let v = unary(self, out, kern);
+            self.perturb(out, &v.slots, &args[0].slots, spec_bound(fun, f16), f16);
+            return Ok(v);
         }
         let int1: Option<K1> = match (fun, k) {
             (MF::Abs, K::I32) => Some(run1::<IAbs>),
@@ -1722,9 +1767,12 @@ impl<'m> Compiler<'m> {
         };
         if let Some((kern, what)) = bin {
             let m = n.max(args[1].slots.len());
-            let slots = (0..m)
+            let slots: Vec<Slot> = (0..m)
                 .map(|i| self.k2(out, kern, pick(&args[0], i), pick(&args[1], i), what))
                 .collect();
+            if k.is_float() {
+                self.perturb(out, &slots, &args[0].slots, spec_bound(fun, f16), f16);
+            }
             return Ok(Val {
                 ty: ty.clone(),
                 slots,
@@ -1807,7 +1855,9 @@ impl<'m> Compiler<'m> {
                     .map(|i| (args[0].slots[i], args[0].slots[i]))
                     .collect();
                 let d = self.sum_products(out, mul, add, &terms);
-                scalar(self.k1(out, sqrt, d, "sqrt in length"))
+                let r = self.k1(out, sqrt, d, "sqrt in length");
+                self.perturb(out, &[r], &[d], spec_bound(MF::Sqrt, f16), f16);
+                scalar(r)
             }
             MF::Distance => {
                 let diff: Vec<_> = (0..n)
@@ -1818,7 +1868,9 @@ impl<'m> Compiler<'m> {
                 }
                 let terms: Vec<_> = diff.iter().map(|&d| (d, d)).collect();
                 let d = self.sum_products(out, mul, add, &terms);
-                scalar(self.k1(out, sqrt, d, "sqrt in distance"))
+                let r = self.k1(out, sqrt, d, "sqrt in distance");
+                self.perturb(out, &[r], &[d], spec_bound(MF::Sqrt, f16), f16);
+                scalar(r)
             }
             MF::Normalize => {
                 // normalize(e) = e / length(e) (17.5 "normalize").
@@ -1827,11 +1879,13 @@ impl<'m> Compiler<'m> {
                     .collect();
                 let d = self.sum_products(out, mul, add, &terms);
                 let len = self.k1(out, sqrt, d, "sqrt in normalize");
-                let slots = args[0]
+                self.perturb(out, &[len], &[d], spec_bound(MF::Sqrt, f16), f16);
+                let slots: Vec<Slot> = args[0]
                     .slots
                     .iter()
                     .map(|&s| self.k2(out, div, s, len, "division in normalize"))
                     .collect();
+                self.perturb(out, &slots, &[len], Some(Bound::Ulp(2.5)), f16);
                 Val {
                     ty: ty.clone(),
                     slots,
@@ -2112,6 +2166,41 @@ impl<'m> Compiler<'m> {
         }
         acc.unwrap()
     }
+}
+
+/// The spec's accuracy bound of a float built-in, for the spec-bound number
+/// model (see `perturb` for the table and its sources); `None` when the
+/// built-in is correctly rounded or its bound is only inherited.
+fn spec_bound(fun: MF, f16: bool) -> Option<Bound> {
+    use std::f32::consts::PI;
+    Some(match fun {
+        MF::Exp => Bound::ExpLike {
+            base: if f16 { 1.0 } else { 3.0 },
+            log2: false,
+        },
+        MF::Exp2 | MF::Pow => Bound::ExpLike {
+            base: if f16 { 1.0 } else { 3.0 },
+            log2: true,
+        },
+        MF::Log | MF::Log2 => Bound::AbsInRange {
+            abs: if f16 { 2f32.powi(-7) } else { 2f32.powi(-21) },
+            lo: 0.5,
+            hi: 2.0,
+            outside: Some(3.0),
+        },
+        MF::Sin | MF::Cos => Bound::AbsInRange {
+            abs: if f16 { 2f32.powi(-7) } else { 2f32.powi(-11) },
+            lo: -PI,
+            hi: PI,
+            outside: None,
+        },
+        MF::InverseSqrt | MF::Sqrt => Bound::Ulp(2.0),
+        MF::Atan | MF::Atan2 => Bound::Ulp(if f16 { 5.0 } else { 4096.0 }),
+        MF::Acos => Bound::Abs(if f16 { 3.91e-3 } else { 6.77e-5 }),
+        MF::Asin => Bound::Abs(if f16 { 3.91e-3 } else { 6.81e-5 }),
+        MF::Tanh => Bound::Abs(1.0e-5),
+        _ => return None,
+    })
 }
 
 /// WGSL spelling of a built-in: naga's variant name with a lower-case initial.

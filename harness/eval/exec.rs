@@ -31,22 +31,83 @@ pub type LaneFn = fn(&[u32], &mut [u32]);
 
 #[derive(Clone)]
 pub enum Op {
-    Fill { dst: Slot, bits: u32 },
-    Copy { dst: Slot, src: Slot },
-    U { k: K1, dst: Slot, a: Slot, at: At },
-    B { k: K2, dst: Slot, a: Slot, b: Slot, at: At },
-    T { k: K3, dst: Slot, a: Slot, b: Slot, c: Slot, at: At },
-    Q { k: K4, dst: Slot, a: Slot, b: Slot, c: Slot, d: Slot },
-    PerLane { f: LaneFn, dst: Box<[Slot]>, args: Box<[Slot]> },
+    Fill {
+        dst: Slot,
+        bits: u32,
+    },
+    Copy {
+        dst: Slot,
+        src: Slot,
+    },
+    U {
+        k: K1,
+        dst: Slot,
+        a: Slot,
+        at: At,
+    },
+    B {
+        k: K2,
+        dst: Slot,
+        a: Slot,
+        b: Slot,
+        at: At,
+    },
+    T {
+        k: K3,
+        dst: Slot,
+        a: Slot,
+        b: Slot,
+        c: Slot,
+        at: At,
+    },
+    Q {
+        k: K4,
+        dst: Slot,
+        a: Slot,
+        b: Slot,
+        c: Slot,
+        d: Slot,
+    },
+    PerLane {
+        f: LaneFn,
+        dst: Box<[Slot]>,
+        args: Box<[Slot]>,
+    },
     /// `dst = mask ? src : dst` per lane.
-    MaskedCopy { dst: Slot, src: Slot, mask: Slot },
+    MaskedCopy {
+        dst: Slot,
+        src: Slot,
+        mask: Slot,
+    },
     /// `dst[j] = src[offset + j]` per lane; `offset` counts leaves and is in range.
-    Gather { dst: Box<[Slot]>, src: Box<[Slot]>, offset: Slot },
+    Gather {
+        dst: Box<[Slot]>,
+        src: Box<[Slot]>,
+        offset: Slot,
+    },
     /// `dst[offset + j] = src[j]` for lanes in `mask`.
-    Scatter { dst: Box<[Slot]>, src: Box<[Slot]>, offset: Slot, mask: Slot },
+    Scatter {
+        dst: Box<[Slot]>,
+        src: Box<[Slot]>,
+        offset: Slot,
+        mask: Slot,
+    },
     /// `dst = idx` where `idx < len` (as u32), else 0 with an issue for lanes in `mask`.
-    CheckIndex { dst: Slot, idx: Slot, len: u32, mask: Slot, at: At },
-    If { cond: Slot, parent: Slot, then_mask: Slot, else_mask: Slot, accept: Vec<Op>, reject: Vec<Op> },
+    CheckIndex {
+        dst: Slot,
+        idx: Slot,
+        len: u32,
+        mask: Slot,
+        at: At,
+    },
+    If {
+        cond: Slot,
+        parent: Slot,
+        then_mask: Slot,
+        else_mask: Slot,
+        accept: Vec<Op>,
+        reject: Vec<Op>,
+    },
     Loop {
         parent: Slot,
         lmask: Slot,
@@ -58,9 +119,19 @@ pub enum Op {
         kill: Box<[Slot]>,
         at: At,
     },
-    Switch { sel: Slot, parent: Slot, smask: Slot, cases: Vec<Case> },
+    Switch {
+        sel: Slot,
+        parent: Slot,
+        smask: Slot,
+        cases: Vec<Case>,
+    },
     /// Lanes in `current` leave every mask in `masks` (break, continue, return).
-    Exit { current: Slot, masks: Box<[Slot]> },
+    Exit {
+        current: Slot,
+        masks: Box<[Slot]>,
+    },
+    /// Spec-bound number model only: move a result within its accuracy bound.
+    Perturb(super::perturb::Perturb),
 }
 
 #[derive(Clone)]
@@ -87,6 +158,8 @@ pub struct Machine {
     ptrs: Vec<*mut Lanes>,
     pub issues: Vec<RawIssue>,
     pub step_budget: u32,
+    /// Seed of the spec-bound number model (unused by exact programs).
+    pub seed: u64,
     /// When set, the first operation per lane that turned non-NaN operands
     /// into a NaN or infinity is recorded (slower; used to explain failures).
     pub trace: Option<Vec<Option<At>>>,
@@ -105,6 +178,7 @@ impl Machine {
             ptrs,
             issues: Vec::new(),
             step_budget,
+            seed: 0,
             trace: None,
             sites: &[] as *const [Site],
         }
@@ -170,12 +244,23 @@ impl Machine {
                     }
                 }
                 Op::B { k, dst, a, b, at } => {
-                    k(&mut **p.add(dst as usize), &**p.add(a as usize), &**p.add(b as usize));
+                    k(
+                        &mut **p.add(dst as usize),
+                        &**p.add(a as usize),
+                        &**p.add(b as usize),
+                    );
                     if self.trace.is_some() {
                         self.trace_nan(dst, &[a, b], at);
                     }
                 }
-                Op::T { k, dst, a, b, c, at } => {
+                Op::T {
+                    k,
+                    dst,
+                    a,
+                    b,
+                    c,
+                    at,
+                } => {
                     k(
                         &mut **p.add(dst as usize),
                         &**p.add(a as usize),
@@ -193,7 +278,11 @@ impl Machine {
                     &**p.add(c as usize),
                     &**p.add(d as usize),
                 ),
-                Op::PerLane { f, ref dst, ref args } => {
+                Op::PerLane {
+                    f,
+                    ref dst,
+                    ref args,
+                } => {
                     let mut a = [0u32; 8];
                     let mut o = [0u32; 8];
                     for lane in 0..LANES {
@@ -217,7 +306,11 @@ impl Machine {
                     }
                 }
                 #[allow(clippy::manual_memcpy)] // the source slot varies per lane
-                Op::Gather { ref dst, ref src, offset } => {
+                Op::Gather {
+                    ref dst,
+                    ref src,
+                    offset,
+                } => {
                     let off = **p.add(offset as usize);
                     for (j, &d) in dst.iter().enumerate() {
                         let d = &mut **p.add(d as usize);
@@ -227,7 +320,12 @@ impl Machine {
                         }
                     }
                 }
-                Op::Scatter { ref dst, ref src, offset, mask } => {
+                Op::Scatter {
+                    ref dst,
+                    ref src,
+                    offset,
+                    mask,
+                } => {
                     let off = **p.add(offset as usize);
                     let m = **p.add(mask as usize);
                     for (j, &s) in src.iter().enumerate() {
@@ -240,7 +338,13 @@ impl Machine {
                         }
                     }
                 }
-                Op::CheckIndex { dst, idx, len, mask, at } => {
+                Op::CheckIndex {
+                    dst,
+                    idx,
+                    len,
+                    mask,
+                    at,
+                } => {
                     let ix = **p.add(idx as usize);
                     let m = **p.add(mask as usize);
                     let d = &mut **p.add(dst as usize);
@@ -262,7 +366,14 @@ impl Machine {
                         }
                     }
                 }
-                Op::If { cond, parent, then_mask, else_mask, ref accept, ref reject } => {
+                Op::If {
+                    cond,
+                    parent,
+                    then_mask,
+                    else_mask,
+                    ref accept,
+                    ref reject,
+                } => {
                     {
                         let c = **p.add(cond as usize);
                         let pm = **p.add(parent as usize);
@@ -282,7 +393,16 @@ impl Machine {
                         self.run(reject);
                     }
                 }
-                Op::Loop { parent, lmask, imask, ref body, ref continuing, break_if, ref kill, at } => {
+                Op::Loop {
+                    parent,
+                    lmask,
+                    imask,
+                    ref body,
+                    ref continuing,
+                    break_if,
+                    ref kill,
+                    at,
+                } => {
                     **p.add(lmask as usize) = **p.add(parent as usize);
                     let mut iterations: u32 = 0;
                     while self.any(lmask) {
@@ -323,7 +443,12 @@ impl Machine {
                         }
                     }
                 }
-                Op::Switch { sel, parent, smask, ref cases } => {
+                Op::Switch {
+                    sel,
+                    parent,
+                    smask,
+                    ref cases,
+                } => {
                     **p.add(smask as usize) = **p.add(parent as usize);
                     let s = **p.add(sel as usize);
                     let mut carried = [0u32; LANES];
@@ -347,6 +472,10 @@ impl Machine {
                             self.run(&case.body);
                         }
                     }
+                }
+                Op::Perturb(ref pt) => {
+                    let a = **p.add(pt.arg as usize);
+                    pt.apply(&mut **p.add(pt.dst as usize), &a, self.seed);
                 }
                 Op::Exit { current, ref masks } => {
                     let cur = **p.add(current as usize);

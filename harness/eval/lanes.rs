@@ -324,7 +324,8 @@ pub struct HFma;
 impl Op3 for HFma {
     #[inline(always)]
     fn f(a: u32, b: u32, c: u32) -> u32 {
-        let v = f64::from(f32::from_bits(a)) * f64::from(f32::from_bits(b)) + f64::from(f32::from_bits(c));
+        let v = f64::from(f32::from_bits(a)) * f64::from(f32::from_bits(b))
+            + f64::from(f32::from_bits(c));
         half::f16::from_f64(v).to_f32().to_bits()
     }
 }

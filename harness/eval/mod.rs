@@ -12,11 +12,11 @@
 pub mod compile;
 pub mod exec;
 pub mod lanes;
+pub mod perturb;
 pub mod ty;
 
 use std::collections::BTreeMap;
 use std::path::PathBuf;
-
 
 pub use lanes::LANES;
 pub use ty::{bits_to_f64, f64_to_bits, ScalarKind, Ty};
@@ -52,7 +52,21 @@ pub struct LaneIssue {
 }
 
 /// A compiled function, ready to evaluate.
+/// The number model a program evaluates with.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub enum Arithmetic {
+    /// IEEE 754 results, correctly rounded where the operation allows, libm's
+    /// transcendental functions otherwise: what a careful GPU computes.
+    #[default]
+    Exact,
+    /// Every inexact float operation moved, per point and pseudo-randomly from
+    /// `seed`, anywhere within the WGSL spec's accuracy bound (see
+    /// [`perturb`]): what the least accurate conforming GPU may compute.
+    SpecBounds { seed: u64 },
+}
+
 pub struct Program {
+    seed: u64,
     code: compile::Compiled,
     own_output: Vec<bool>,
     path: PathBuf,
@@ -76,7 +90,21 @@ impl Program {
         function: &str,
         overrides: &BTreeMap<String, f64>,
     ) -> Result<Program, Diagnostic> {
-        let code = compile::Compiler::compile(shader, function, overrides)?;
+        Self::compile_with(shader, function, overrides, Arithmetic::Exact)
+    }
+
+    /// [`Program::compile`] with a chosen number model.
+    pub fn compile_with(
+        shader: &Shader,
+        function: &str,
+        overrides: &BTreeMap<String, f64>,
+        arithmetic: Arithmetic,
+    ) -> Result<Program, Diagnostic> {
+        let (spec_bounds, seed) = match arithmetic {
+            Arithmetic::Exact => (false, 0),
+            Arithmetic::SpecBounds { seed } => (true, seed),
+        };
+        let code = compile::Compiler::compile(shader, function, overrides, spec_bounds)?;
         // An output slot may be written straight into the output column when
         // it belongs to no input, constant or other output.
         let out_kinds = code.result.as_ref().map(|t| t.leaves()).unwrap_or_default();
@@ -97,6 +125,7 @@ impl Program {
             path: shader.path.clone(),
             function: function.to_string(),
             step_budget: 1 << 16,
+            seed,
         })
     }
 
@@ -168,7 +197,7 @@ impl Program {
         rayon::scope(|s| {
             for _ in 0..workers {
                 s.spawn(|_| {
-                    let mut m = Machine::new(self.code.slot_count, self.step_budget, &self.code.consts);
+                    let mut m = self.machine();
                     let mut mine = Vec::new();
                     loop {
                         let c = next.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
@@ -183,7 +212,8 @@ impl Program {
                             .iter()
                             .map(|p| unsafe { std::slice::from_raw_parts_mut(p.0.add(start), len) })
                             .collect();
-                        let ins: Vec<&[u32]> = inputs.iter().map(|c| &c[start..start + len]).collect();
+                        let ins: Vec<&[u32]> =
+                            inputs.iter().map(|c| &c[start..start + len]).collect();
                         mine.extend(self.run_range(&mut m, &ins, &mut outs, start));
                     }
                     found.lock().expect("issue list").extend(mine);
@@ -198,10 +228,16 @@ impl Program {
     /// Evaluate on the calling thread only (for benchmarks and tests).
     pub fn eval_serial(&self, inputs: &[&[u32]], outputs: &mut Vec<Vec<u32>>) -> Vec<LaneIssue> {
         let n = self.prepare(inputs, outputs);
-        let mut m = Machine::new(self.code.slot_count, self.step_budget, &self.code.consts);
+        let mut m = self.machine();
         let mut outs: Vec<&mut [u32]> = outputs.iter_mut().map(|c| &mut c[..]).collect();
         let _ = n;
         self.run_range(&mut m, inputs, &mut outs, 0)
+    }
+
+    fn machine(&self) -> Machine {
+        let mut m = Machine::new(self.code.slot_count, self.step_budget, &self.code.consts);
+        m.seed = self.seed;
+        m
     }
 
     fn prepare(&self, inputs: &[&[u32]], outputs: &mut Vec<Vec<u32>>) -> usize {

@@ -48,9 +48,16 @@ impl ScalarKind {
 pub enum Ty {
     Scalar(ScalarKind),
     Vector(u8, ScalarKind),
-    Matrix { columns: u8, rows: u8, kind: ScalarKind },
+    Matrix {
+        columns: u8,
+        rows: u8,
+        kind: ScalarKind,
+    },
     Array(Box<Ty>, u32),
-    Struct { name: String, members: Vec<(String, Ty)> },
+    Struct {
+        name: String,
+        members: Vec<(String, Ty)>,
+    },
 }
 
 impl Ty {
@@ -76,9 +83,14 @@ impl Ty {
         match self {
             Ty::Scalar(k) => out.push(*k),
             Ty::Vector(n, k) => out.extend(std::iter::repeat_n(*k, *n as usize)),
-            Ty::Matrix { columns, rows, kind } => {
-                out.extend(std::iter::repeat_n(*kind, *columns as usize * *rows as usize))
-            }
+            Ty::Matrix {
+                columns,
+                rows,
+                kind,
+            } => out.extend(std::iter::repeat_n(
+                *kind,
+                *columns as usize * *rows as usize,
+            )),
             Ty::Array(t, n) => {
                 for _ in 0..*n {
                     t.push_leaves(out)
@@ -136,7 +148,11 @@ impl fmt::Display for Ty {
         match self {
             Ty::Scalar(k) => f.write_str(k.wgsl()),
             Ty::Vector(n, k) => write!(f, "vec{n}<{}>", k.wgsl()),
-            Ty::Matrix { columns, rows, kind } => write!(f, "mat{columns}x{rows}<{}>", kind.wgsl()),
+            Ty::Matrix {
+                columns,
+                rows,
+                kind,
+            } => write!(f, "mat{columns}x{rows}<{}>", kind.wgsl()),
             Ty::Array(t, n) => write!(f, "array<{t}, {n}>"),
             Ty::Struct { name, .. } => f.write_str(name),
         }

@@ -21,13 +21,25 @@ pub struct Diagnostic {
 
 impl Diagnostic {
     /// A diagnostic at a byte span of `source`.
-    pub fn at_span(file: &Path, source: &str, span: naga::Span, message: impl Into<String>) -> Self {
+    pub fn at_span(
+        file: &Path,
+        source: &str,
+        span: naga::Span,
+        message: impl Into<String>,
+    ) -> Self {
         let message = message.into();
         if !span.is_defined() || source.is_empty() {
             return Self::without_position(file, message);
         }
         let loc = span.location(source);
-        Self::at_location(file, source, loc.line_number, loc.line_position, loc.length, message)
+        Self::at_location(
+            file,
+            source,
+            loc.line_number,
+            loc.line_position,
+            loc.length,
+            message,
+        )
     }
 
     /// A diagnostic at a 1-based line and column, underlining `length` bytes.
@@ -40,7 +52,10 @@ impl Diagnostic {
         message: impl Into<String>,
     ) -> Self {
         let message = message.into();
-        let text = source.lines().nth(line.saturating_sub(1) as usize).unwrap_or("");
+        let text = source
+            .lines()
+            .nth(line.saturating_sub(1) as usize)
+            .unwrap_or("");
         let gutter = line.to_string();
         let pad = " ".repeat(gutter.len());
         let start = column.saturating_sub(1) as usize;
@@ -56,14 +71,26 @@ impl Diagnostic {
             " ".repeat(start),
             carets
         );
-        Diagnostic { file: file.to_path_buf(), line, column, message, rendered }
+        Diagnostic {
+            file: file.to_path_buf(),
+            line,
+            column,
+            message,
+            rendered,
+        }
     }
 
     /// A diagnostic about a whole file (cannot be read, function not found, ...).
     pub fn without_position(file: &Path, message: impl Into<String>) -> Self {
         let message = message.into();
         let rendered = format!("{}: error: {}\n", file.display(), message);
-        Diagnostic { file: file.to_path_buf(), line: 0, column: 0, message, rendered }
+        Diagnostic {
+            file: file.to_path_buf(),
+            line: 0,
+            column: 0,
+            message,
+            rendered,
+        }
     }
 }
 
@@ -85,15 +112,18 @@ pub struct Shader {
 
 impl fmt::Debug for Shader {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        f.debug_struct("Shader").field("path", &self.path).finish_non_exhaustive()
+        f.debug_struct("Shader")
+            .field("path", &self.path)
+            .finish_non_exhaustive()
     }
 }
 
 impl Shader {
     /// Read, parse and validate a WGSL file.
     pub fn load(path: &Path) -> Result<Shader, Diagnostic> {
-        let source = std::fs::read_to_string(path)
-            .map_err(|e| Diagnostic::without_position(path, format!("cannot read WGSL file: {e}")))?;
+        let source = std::fs::read_to_string(path).map_err(|e| {
+            Diagnostic::without_position(path, format!("cannot read WGSL file: {e}"))
+        })?;
         Self::from_source(path, source)
     }
 
@@ -114,21 +144,33 @@ impl Shader {
         // f16 is only accepted when the source enables it; the capability itself
         // is always granted so that `enable f16;` validates.
         let caps = Capabilities::SHADER_FLOAT16 | Capabilities::SHADER_FLOAT16_IN_FLOAT32;
-        let info = Validator::new(ValidationFlags::all(), caps).validate(&module).map_err(|e| {
-            let span = e.spans().next().map(|(s, _)| *s).unwrap_or_default();
-            let mut message = e.as_inner().to_string();
-            let mut src: &dyn std::error::Error = e.as_inner();
-            while let Some(next) = src.source() {
-                message.push_str(": ");
-                message.push_str(&next.to_string());
-                src = next;
-            }
-            let mut d = Diagnostic::at_span(&path, &source, span, format!("validation failed: {message}"));
-            let naga_text = e.emit_to_string_with_path(&source, &path.display().to_string());
-            d.rendered = format!("{}\n{}", d.rendered, naga_text);
-            d
-        })?;
-        Ok(Shader { path, source, module, info })
+        let info = Validator::new(ValidationFlags::all(), caps)
+            .validate(&module)
+            .map_err(|e| {
+                let span = e.spans().next().map(|(s, _)| *s).unwrap_or_default();
+                let mut message = e.as_inner().to_string();
+                let mut src: &dyn std::error::Error = e.as_inner();
+                while let Some(next) = src.source() {
+                    message.push_str(": ");
+                    message.push_str(&next.to_string());
+                    src = next;
+                }
+                let mut d = Diagnostic::at_span(
+                    &path,
+                    &source,
+                    span,
+                    format!("validation failed: {message}"),
+                );
+                let naga_text = e.emit_to_string_with_path(&source, &path.display().to_string());
+                d.rendered = format!("{}\n{}", d.rendered, naga_text);
+                d
+            })?;
+        Ok(Shader {
+            path,
+            source,
+            module,
+            info,
+        })
     }
 
     /// Hex digest (FNV-1a, 64 bit) of the source text: a cheap identity for
@@ -139,8 +181,12 @@ impl Shader {
 
     /// Names of all functions in the module, in source order (entry points last).
     pub fn function_names(&self) -> Vec<String> {
-        let mut names: Vec<String> =
-            self.module.functions.iter().filter_map(|(_, f)| f.name.clone()).collect();
+        let mut names: Vec<String> = self
+            .module
+            .functions
+            .iter()
+            .filter_map(|(_, f)| f.name.clone())
+            .collect();
         names.extend(self.module.entry_points.iter().map(|e| e.name.clone()));
         names
     }
