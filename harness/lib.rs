@@ -4,4 +4,6 @@
 pub mod arith;
 pub mod eval;
 pub mod reference;
+#[cfg(feature = "replay")]
+pub mod replay;
 pub mod wgsl;
