@@ -2,8 +2,11 @@
 //! independent f64 reference models and recorded golden data.
 
 pub mod arith;
+pub mod compare;
 pub mod eval;
+pub mod gate;
 pub mod reference;
+pub mod sweep;
 #[cfg(feature = "replay")]
 pub mod replay;
 pub mod wgsl;

@@ -1,0 +1,322 @@
+//! Comparing computed columns with expected ones: tolerances, error
+//! statistics and the findings that explain a failure.
+//!
+//! A point passes when, for every output component, the error is within *any*
+//! of the tolerance's bounds (absolute, relative, ULP). Its *badness* is the
+//! smallest ratio error / bound over the given bounds; it fails when badness
+//! > 1. The worst point is the one with the largest badness, and the headroom
+//! of a check is 1 / (worst badness): a headroom above 100 flags a stale
+//! tolerance that would hide a regression.
+
+use serde::Serialize;
+
+/// What to do with points where the expected value is NaN or infinite.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Default)]
+#[serde(rename_all = "snake_case")]
+pub enum NanPolicy {
+    /// The result must be non-finite of the same kind (NaN, +∞ or −∞).
+    #[default]
+    Match,
+    /// Such points are not compared (counted as skipped).
+    Skip,
+}
+
+/// Accepted error, per output component (a single value applies to all).
+#[derive(Clone, Debug, PartialEq, Serialize, Default)]
+pub struct Tolerance {
+    pub abs: Option<Vec<f64>>,
+    pub rel: Option<Vec<f64>>,
+    pub ulp: Option<Vec<f64>>,
+    pub nan: NanPolicy,
+    /// Why this much error is accepted. Mandatory in suite files.
+    pub reason: String,
+}
+
+impl Tolerance {
+    /// Bit-exact (0 ULP).
+    pub fn exact(reason: &str) -> Tolerance {
+        Tolerance { ulp: Some(vec![0.0]), reason: reason.to_string(), ..Tolerance::default() }
+    }
+
+    fn pick(v: &Option<Vec<f64>>, c: usize) -> Option<f64> {
+        v.as_ref().map(|v| if v.len() == 1 { v[0] } else { v[c] })
+    }
+
+    /// Human-readable bounds, e.g. `abs 1e-6 or rel 1e-5`.
+    pub fn describe(&self) -> String {
+        let f = |name: &str, v: &Option<Vec<f64>>| {
+            v.as_ref().map(|v| format!("{name} {}", v.iter().map(|x| format!("{x:e}")).collect::<Vec<_>>().join("/")))
+        };
+        let parts: Vec<String> =
+            [f("abs", &self.abs), f("rel", &self.rel), f("ulp", &self.ulp).map(|s| s.replace("e0", ""))].into_iter().flatten().collect();
+        if parts.is_empty() {
+            "exact".into()
+        } else {
+            parts.join(" or ")
+        }
+    }
+}
+
+/// One point, for reports.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct PointReport {
+    /// Index in sweep order.
+    pub index: usize,
+    /// The sweep parameters, `name=value, ...`.
+    pub params: String,
+    pub got: Vec<f64>,
+    pub want: Vec<f64>,
+    /// The component with the largest badness.
+    pub component: usize,
+    pub abs: f64,
+    pub rel: f64,
+    pub ulp: f64,
+}
+
+/// Statistics of one comparison (against the reference or a golden).
+#[derive(Clone, Debug, PartialEq, Serialize, Default)]
+pub struct Stats {
+    pub points: usize,
+    /// Points not compared (expected non-finite under `NanPolicy::Skip`).
+    pub skipped: usize,
+    pub failed: usize,
+    pub fail_share: f64,
+    pub max_abs: f64,
+    pub max_rel: f64,
+    pub max_ulp: f64,
+    pub rms_abs: f64,
+    /// Largest error / bound ratio (see the module doc); 0 when exact.
+    pub worst_badness: f64,
+    /// Tolerance ÷ measured: ∞ when nothing moved.
+    pub headroom: f64,
+    /// The tolerance is more than 100× looser than the worst error measured.
+    pub stale_tolerance: bool,
+    pub worst: Option<PointReport>,
+    pub first_failures: Vec<PointReport>,
+    /// Non-finite results where the expected value is finite (always failures).
+    pub nonfinite: usize,
+    pub first_nonfinite: Vec<PointReport>,
+    /// Points whose bits differ at all (goldens only).
+    pub changed: Option<usize>,
+}
+
+/// How many failing (and non-finite) points are listed.
+pub const LISTED: usize = 5;
+
+/// Spacing of f32 (or f16) values at |x|, in f64.
+pub fn ulp_at(x: f64, half: bool) -> f64 {
+    let a = x.abs();
+    if half {
+        let h = half::f16::from_f64(a);
+        let h = if h.is_infinite() { half::f16::MAX } else { h };
+        let e = half::f16::from_bits(h.to_bits() + 1).to_f64() - h.to_f64();
+        e.max(2f64.powi(-24))
+    } else {
+        let f = a as f32;
+        let f = if f.is_infinite() { f32::MAX } else { f };
+        (f64::from(f32::from_bits(f.to_bits() + 1)) - f64::from(f)).max(f64::from(f32::from_bits(1)))
+    }
+}
+
+fn same_nonfinite(a: f64, b: f64) -> bool {
+    (a.is_nan() && b.is_nan()) || (a.is_infinite() && a == b)
+}
+
+/// Compare `got` with `want` (one column per output component, same
+/// lengths). `half` selects f16 ULPs. `describe(i)` names point i's
+/// parameters for the listed points.
+pub fn compare(got: &[Vec<f64>], want: &[Vec<f64>], tol: &Tolerance, half: bool, describe: &dyn Fn(usize) -> String) -> Stats {
+    let n = got.first().map_or(0, |c| c.len());
+    let comps = got.len();
+    let mut s = Stats { points: n, ..Stats::default() };
+    let mut sum_sq = 0.0;
+    let mut compared = 0usize;
+    let report = |i: usize, component: usize, abs: f64, rel: f64, ulp: f64| PointReport {
+        index: i,
+        params: describe(i),
+        got: (0..comps).map(|c| got[c][i]).collect(),
+        want: (0..comps).map(|c| want[c][i]).collect(),
+        component,
+        abs,
+        rel,
+        ulp,
+    };
+    for i in 0..n {
+        let mut point_bad = 0.0f64;
+        let mut point_comp = 0;
+        let mut point_err = (0.0, 0.0, 0.0);
+        let mut nonfinite = false;
+        let mut skip = false;
+        for c in 0..comps {
+            let (g, w) = (got[c][i], want[c][i]);
+            if !w.is_finite() {
+                match tol.nan {
+                    NanPolicy::Skip => {
+                        skip = true;
+                        continue;
+                    }
+                    NanPolicy::Match => {
+                        if !same_nonfinite(g, w) {
+                            point_bad = f64::INFINITY;
+                            point_comp = c;
+                            point_err = (f64::INFINITY, f64::INFINITY, f64::INFINITY);
+                        }
+                        continue;
+                    }
+                }
+            }
+            if !g.is_finite() {
+                nonfinite = true;
+                point_bad = f64::INFINITY;
+                point_comp = c;
+                point_err = (f64::INFINITY, f64::INFINITY, f64::INFINITY);
+                continue;
+            }
+            let abs = (g - w).abs();
+            let rel = if w != 0.0 { abs / w.abs() } else if abs == 0.0 { 0.0 } else { f64::INFINITY };
+            let ulp = abs / ulp_at(w, half);
+            s.max_abs = s.max_abs.max(abs);
+            s.max_rel = s.max_rel.max(rel);
+            s.max_ulp = s.max_ulp.max(ulp);
+            sum_sq += abs * abs;
+            let ratios = [
+                Tolerance::pick(&tol.abs, c).map(|t| ratio(abs, t)),
+                Tolerance::pick(&tol.rel, c).map(|t| ratio(rel, t)),
+                Tolerance::pick(&tol.ulp, c).map(|t| ratio(ulp, t)),
+            ];
+            let bad = ratios.into_iter().flatten().fold(f64::INFINITY, f64::min);
+            let bad = if bad == f64::INFINITY && abs == 0.0 { 0.0 } else { bad };
+            if bad > point_bad {
+                point_bad = bad;
+                point_comp = c;
+                point_err = (abs, rel, ulp);
+            }
+        }
+        if skip && point_bad == 0.0 {
+            s.skipped += 1;
+            continue;
+        }
+        compared += 1;
+        if nonfinite {
+            s.nonfinite += 1;
+            if s.first_nonfinite.len() < LISTED {
+                s.first_nonfinite.push(report(i, point_comp, point_err.0, point_err.1, point_err.2));
+            }
+        }
+        if point_bad > 1.0 {
+            s.failed += 1;
+            if s.first_failures.len() < LISTED && !nonfinite {
+                s.first_failures.push(report(i, point_comp, point_err.0, point_err.1, point_err.2));
+            }
+        }
+        if point_bad > s.worst_badness || (s.worst.is_none() && point_bad > 0.0) {
+            s.worst_badness = point_bad;
+            s.worst = Some(report(i, point_comp, point_err.0, point_err.1, point_err.2));
+        }
+    }
+    s.fail_share = if compared > 0 { s.failed as f64 / compared as f64 } else { 0.0 };
+    s.rms_abs = if compared > 0 { (sum_sq / (compared * comps.max(1)) as f64).sqrt() } else { 0.0 };
+    s.headroom = if s.worst_badness > 0.0 { 1.0 / s.worst_badness } else { f64::INFINITY };
+    // A zero tolerance cannot be loose; otherwise flag > 100× headroom.
+    let zero_tol = [&tol.abs, &tol.rel, &tol.ulp].iter().all(|t| t.as_ref().is_none_or(|v| v.iter().all(|x| *x == 0.0)));
+    s.stale_tolerance = !zero_tol && s.failed == 0 && s.headroom > 100.0;
+    s
+}
+
+fn ratio(err: f64, bound: f64) -> f64 {
+    if err == 0.0 {
+        0.0
+    } else if bound == 0.0 {
+        f64::INFINITY
+    } else {
+        err / bound
+    }
+}
+
+/// Count points whose output bits differ at all.
+pub fn changed_bits(a: &[Vec<u32>], b: &[Vec<u32>]) -> usize {
+    let n = a.first().map_or(0, |c| c.len());
+    (0..n).filter(|&i| a.iter().zip(b).any(|(x, y)| x[i] != y[i])).count()
+}
+
+/// Known constant factors a wrong formula tends to introduce.
+const FACTORS: &[(f64, &str)] = &[
+    (std::f64::consts::PI, "π (a missing 1/π?)"),
+    (1.0 / std::f64::consts::PI, "1/π (an extra 1/π?)"),
+    (2.0, "2"),
+    (0.5, "1/2"),
+    (4.0, "4 (the 1/(4 n·l n·v) denominator?)"),
+    (0.25, "1/4 (the 1/(4 n·l n·v) denominator applied twice?)"),
+];
+
+/// If `got / want` is the same constant on every failing point, name it.
+pub fn constant_factor(got: &[Vec<f64>], want: &[Vec<f64>], failing: &[usize]) -> Option<String> {
+    let mut lo = f64::INFINITY;
+    let mut hi = f64::NEG_INFINITY;
+    let mut count = 0;
+    for &i in failing {
+        for c in 0..got.len() {
+            let (g, w) = (got[c][i], want[c][i]);
+            if w.abs() > 1e-12 && g.is_finite() {
+                let r = g / w;
+                lo = lo.min(r);
+                hi = hi.max(r);
+                count += 1;
+            }
+        }
+    }
+    if count < 3 || !(lo > 0.0) || (hi - lo) / lo.abs() > 1e-3 {
+        return None;
+    }
+    let r = (lo + hi) / 2.0;
+    let name = FACTORS.iter().find(|(f, _)| ((r - f) / f).abs() < 2e-3).map(|(_, n)| format!(" = {n}")).unwrap_or_default();
+    Some(format!("every failing result is the expected value times {r:.6}{name}"))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn d(_: usize) -> String {
+        String::new()
+    }
+
+    #[test]
+    fn a_point_passes_when_any_bound_holds() {
+        let tol = Tolerance { abs: Some(vec![1e-3]), rel: Some(vec![1e-6]), reason: "r".into(), ..Tolerance::default() };
+        let s = compare(&[vec![1.0005, 2.0]], &[vec![1.0, 2.01]], &tol, false, &d);
+        assert_eq!(s.failed, 1); // 2.0 vs 2.01: abs 0.01 and rel 5e-3 both exceed
+        assert_eq!(s.worst.as_ref().unwrap().index, 1);
+        assert!((s.max_abs - 0.01).abs() < 1e-12);
+    }
+
+    #[test]
+    fn nonfinite_results_are_failures_and_listed() {
+        let tol = Tolerance { abs: Some(vec![1.0]), reason: "r".into(), ..Tolerance::default() };
+        let s = compare(&[vec![f64::NAN, 1.0, f64::NAN]], &[vec![1.0, 1.0, f64::NAN]], &tol, false, &d);
+        assert_eq!((s.failed, s.nonfinite), (1, 1));
+        assert_eq!(s.first_nonfinite[0].index, 0);
+        let skip = Tolerance { nan: NanPolicy::Skip, ..tol };
+        let s = compare(&[vec![1.0, 5.0]], &[vec![f64::INFINITY, 5.0]], &skip, false, &d);
+        assert_eq!((s.failed, s.skipped), (0, 1));
+    }
+
+    #[test]
+    fn headroom_and_stale_tolerances() {
+        let tol = Tolerance { ulp: Some(vec![1000.0]), reason: "r".into(), ..Tolerance::default() };
+        let got = vec![f64::from(f32::from_bits(1.0f32.to_bits() + 2))];
+        let s = compare(&[got], &[vec![1.0]], &tol, false, &d);
+        assert!((s.max_ulp - 2.0).abs() < 1e-9);
+        assert!((s.headroom - 500.0).abs() < 1e-6);
+        assert!(s.stale_tolerance);
+    }
+
+    #[test]
+    fn constant_factors_are_named() {
+        let want = vec![vec![1.0, 2.0, 3.0, 4.0]];
+        let got = vec![want[0].iter().map(|x| x * std::f64::consts::PI).collect()];
+        let f = constant_factor(&got, &want, &[0, 1, 2, 3]).unwrap();
+        assert!(f.contains("π (a missing 1/π?)"), "{f}");
+        assert!(constant_factor(&[vec![1.0, 4.0, 9.0]], &[vec![1.0, 2.0, 3.0]], &[0, 1, 2]).is_none());
+    }
+}

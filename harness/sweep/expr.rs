@@ -1,0 +1,499 @@
+//! The argument expression language of suite files.
+//!
+//! A check feeds each function argument and each reference parameter from a
+//! small expression over the sweep parameters, e.g. `roughness * roughness`,
+//! `normalize(v + l)`, `dot(n, h)`, `vec3(0.04, 0.04, 0.04)`. Values are f64
+//! scalars or 3-vectors; evaluation is in f64.
+//!
+//! Grammar: `expr := term (('+'|'-') term)*`, `term := unary (('*'|'/') unary)*`,
+//! `unary := '-' unary | power`, `power := postfix ('^' unary)?`,
+//! `postfix := primary ('.' ('x'|'y'|'z'))*`,
+//! `primary := number | name | name '(' args ')' | '(' expr ')'`.
+//! Constants: `pi`. Functions: sqrt, abs, sin, cos, tan, asin, acos, atan,
+//! atan2, exp, log, pow, min, max, clamp, saturate, radians, degrees, dot,
+//! cross, length, normalize, vec3, mix.
+
+use std::collections::BTreeMap;
+use std::fmt;
+
+/// A value: scalar or 3-vector.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum Value {
+    S(f64),
+    V([f64; 3]),
+}
+
+impl Value {
+    /// Flattened components (1 or 3).
+    pub fn components(&self) -> Vec<f64> {
+        match *self {
+            Value::S(x) => vec![x],
+            Value::V(v) => v.to_vec(),
+        }
+    }
+
+    pub fn width(&self) -> usize {
+        match self {
+            Value::S(_) => 1,
+            Value::V(_) => 3,
+        }
+    }
+}
+
+/// A parse error at a byte offset of the expression text.
+#[derive(Clone, Debug, PartialEq)]
+pub struct ExprError {
+    pub offset: usize,
+    pub message: String,
+}
+
+impl fmt::Display for ExprError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "at column {}: {}", self.offset + 1, self.message)
+    }
+}
+
+#[derive(Clone, Debug, PartialEq)]
+enum Node {
+    Num(f64),
+    Var(String),
+    /// A variable resolved to a position by [`Expr::bind`].
+    Idx(usize),
+    Neg(Box<Node>),
+    Bin(char, Box<Node>, Box<Node>),
+    Call(String, Vec<Node>),
+    Member(Box<Node>, usize),
+}
+
+/// A parsed expression.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Expr {
+    pub text: String,
+    root: Node,
+}
+
+struct Parser<'a> {
+    s: &'a [u8],
+    i: usize,
+}
+
+const FUNCTIONS: &[(&str, usize)] = &[
+    ("sqrt", 1),
+    ("abs", 1),
+    ("sin", 1),
+    ("cos", 1),
+    ("tan", 1),
+    ("asin", 1),
+    ("acos", 1),
+    ("atan", 1),
+    ("atan2", 2),
+    ("exp", 1),
+    ("log", 1),
+    ("pow", 2),
+    ("min", 2),
+    ("max", 2),
+    ("clamp", 3),
+    ("saturate", 1),
+    ("radians", 1),
+    ("degrees", 1),
+    ("dot", 2),
+    ("cross", 2),
+    ("length", 1),
+    ("normalize", 1),
+    ("vec3", 3),
+    ("mix", 3),
+];
+
+impl<'a> Parser<'a> {
+    fn err<T>(&self, msg: impl Into<String>) -> Result<T, ExprError> {
+        Err(ExprError { offset: self.i, message: msg.into() })
+    }
+
+    fn ws(&mut self) {
+        while self.i < self.s.len() && self.s[self.i].is_ascii_whitespace() {
+            self.i += 1;
+        }
+    }
+
+    fn peek(&mut self) -> Option<u8> {
+        self.ws();
+        self.s.get(self.i).copied()
+    }
+
+    fn eat(&mut self, c: u8) -> bool {
+        if self.peek() == Some(c) {
+            self.i += 1;
+            true
+        } else {
+            false
+        }
+    }
+
+    fn expr(&mut self) -> Result<Node, ExprError> {
+        let mut l = self.term()?;
+        loop {
+            match self.peek() {
+                Some(c @ (b'+' | b'-')) => {
+                    self.i += 1;
+                    let r = self.term()?;
+                    l = Node::Bin(c as char, l.into(), r.into());
+                }
+                _ => return Ok(l),
+            }
+        }
+    }
+
+    fn term(&mut self) -> Result<Node, ExprError> {
+        let mut l = self.unary()?;
+        loop {
+            match self.peek() {
+                Some(c @ (b'*' | b'/')) => {
+                    self.i += 1;
+                    let r = self.unary()?;
+                    l = Node::Bin(c as char, l.into(), r.into());
+                }
+                _ => return Ok(l),
+            }
+        }
+    }
+
+    fn unary(&mut self) -> Result<Node, ExprError> {
+        if self.eat(b'-') {
+            return Ok(Node::Neg(self.unary()?.into()));
+        }
+        let base = self.postfix()?;
+        if self.eat(b'^') {
+            let e = self.unary()?;
+            return Ok(Node::Bin('^', base.into(), e.into()));
+        }
+        Ok(base)
+    }
+
+    fn postfix(&mut self) -> Result<Node, ExprError> {
+        let mut n = self.primary()?;
+        while self.eat(b'.') {
+            let at = self.i;
+            let name = self.ident();
+            let k = match name.as_str() {
+                "x" => 0,
+                "y" => 1,
+                "z" => 2,
+                _ => return Err(ExprError { offset: at, message: format!("expected a component x, y or z after `.`, found `{name}`") }),
+            };
+            n = Node::Member(n.into(), k);
+        }
+        Ok(n)
+    }
+
+    fn ident(&mut self) -> String {
+        self.ws();
+        let start = self.i;
+        while self.i < self.s.len() && (self.s[self.i].is_ascii_alphanumeric() || self.s[self.i] == b'_') {
+            self.i += 1;
+        }
+        String::from_utf8_lossy(&self.s[start..self.i]).into_owned()
+    }
+
+    fn primary(&mut self) -> Result<Node, ExprError> {
+        match self.peek() {
+            Some(b'(') => {
+                self.i += 1;
+                let e = self.expr()?;
+                if !self.eat(b')') {
+                    return self.err("expected `)`");
+                }
+                Ok(e)
+            }
+            Some(c) if c.is_ascii_digit() || c == b'.' => {
+                let start = self.i;
+                while self.i < self.s.len() && (self.s[self.i].is_ascii_digit() || self.s[self.i] == b'.') {
+                    self.i += 1;
+                }
+                if self.i < self.s.len() && (self.s[self.i] == b'e' || self.s[self.i] == b'E') {
+                    self.i += 1;
+                    if self.i < self.s.len() && (self.s[self.i] == b'-' || self.s[self.i] == b'+') {
+                        self.i += 1;
+                    }
+                    while self.i < self.s.len() && self.s[self.i].is_ascii_digit() {
+                        self.i += 1;
+                    }
+                }
+                let text = String::from_utf8_lossy(&self.s[start..self.i]);
+                text.parse::<f64>()
+                    .map(Node::Num)
+                    .map_err(|_| ExprError { offset: start, message: format!("`{text}` is not a number") })
+            }
+            Some(c) if c.is_ascii_alphabetic() || c == b'_' => {
+                let at = self.i;
+                let name = self.ident();
+                if self.eat(b'(') {
+                    let Some(&(_, arity)) = FUNCTIONS.iter().find(|(f, _)| *f == name) else {
+                        let known: Vec<_> = FUNCTIONS.iter().map(|f| f.0).collect();
+                        return Err(ExprError { offset: at, message: format!("unknown function `{name}` (known: {})", known.join(", ")) });
+                    };
+                    let mut args = Vec::new();
+                    if !self.eat(b')') {
+                        loop {
+                            args.push(self.expr()?);
+                            if self.eat(b')') {
+                                break;
+                            }
+                            if !self.eat(b',') {
+                                return self.err("expected `,` or `)`");
+                            }
+                        }
+                    }
+                    if args.len() != arity {
+                        return Err(ExprError { offset: at, message: format!("`{name}` takes {arity} argument(s), got {}", args.len()) });
+                    }
+                    Ok(Node::Call(name, args))
+                } else if name == "pi" {
+                    Ok(Node::Num(std::f64::consts::PI))
+                } else {
+                    Ok(Node::Var(name))
+                }
+            }
+            Some(c) => self.err(format!("unexpected `{}`", c as char)),
+            None => self.err("unexpected end of expression"),
+        }
+    }
+}
+
+impl Expr {
+    /// Parse `text`.
+    pub fn parse(text: &str) -> Result<Expr, ExprError> {
+        let mut p = Parser { s: text.as_bytes(), i: 0 };
+        let root = p.expr()?;
+        if p.peek().is_some() {
+            return p.err("unexpected text after the expression");
+        }
+        Ok(Expr { text: text.to_string(), root })
+    }
+
+    /// Names of the variables the expression reads.
+    pub fn variables(&self) -> Vec<String> {
+        fn walk(n: &Node, out: &mut Vec<String>) {
+            match n {
+                Node::Var(v) => {
+                    if !out.contains(v) {
+                        out.push(v.clone())
+                    }
+                }
+                Node::Num(_) | Node::Idx(_) => {}
+                Node::Neg(a) | Node::Member(a, _) => walk(a, out),
+                Node::Bin(_, a, b) => {
+                    walk(a, out);
+                    walk(b, out)
+                }
+                Node::Call(_, args) => args.iter().for_each(|a| walk(a, out)),
+            }
+        }
+        let mut out = Vec::new();
+        walk(&self.root, &mut out);
+        out
+    }
+
+    /// Evaluate with the given variables.
+    pub fn eval(&self, vars: &BTreeMap<&str, Value>) -> Result<Value, String> {
+        eval(&self.root, vars, &[])
+    }
+
+    /// Resolve variables to positions in `names` for fast repeated
+    /// evaluation; `example` (one value per name) is used for a trial run
+    /// that reports type errors (scalar vs vec3) once, here.
+    pub fn bind(&self, names: &[String], example: &[Value]) -> Result<BoundExpr, String> {
+        fn resolve(n: &Node, names: &[String]) -> Result<Node, String> {
+            Ok(match n {
+                Node::Var(v) => match names.iter().position(|x| x == v) {
+                    Some(i) => Node::Idx(i),
+                    None => return Err(format!("unknown name `{v}` (sweep parameters: {})", names.join(", "))),
+                },
+                Node::Num(_) | Node::Idx(_) => n.clone(),
+                Node::Neg(a) => Node::Neg(resolve(a, names)?.into()),
+                Node::Member(a, k) => Node::Member(resolve(a, names)?.into(), *k),
+                Node::Bin(op, a, b) => Node::Bin(*op, resolve(a, names)?.into(), resolve(b, names)?.into()),
+                Node::Call(f, args) => Node::Call(f.clone(), args.iter().map(|a| resolve(a, names)).collect::<Result<_, _>>()?),
+            })
+        }
+        let root = resolve(&self.root, names)?;
+        let width = eval(&root, &BTreeMap::new(), example)?.width();
+        let var = match root {
+            Node::Idx(i) => Some(i),
+            _ => None,
+        };
+        Ok(BoundExpr { root, width, var })
+    }
+
+    /// The expression with variable `name` replaced by expression `with`
+    /// (used to test "what if this parameter were remapped" hypotheses).
+    pub fn substitute(&self, name: &str, with: &Expr) -> Expr {
+        fn sub(n: &Node, name: &str, with: &Node) -> Node {
+            match n {
+                Node::Var(v) if v == name => with.clone(),
+                Node::Var(_) | Node::Num(_) | Node::Idx(_) => n.clone(),
+                Node::Neg(a) => Node::Neg(sub(a, name, with).into()),
+                Node::Member(a, k) => Node::Member(sub(a, name, with).into(), *k),
+                Node::Bin(op, a, b) => Node::Bin(*op, sub(a, name, with).into(), sub(b, name, with).into()),
+                Node::Call(f, args) => Node::Call(f.clone(), args.iter().map(|a| sub(a, name, with)).collect()),
+            }
+        }
+        Expr { text: format!("{} [{name} := {}]", self.text, with.text), root: sub(&self.root, name, &with.root) }
+    }
+}
+
+fn scalar(v: Value, what: &str) -> Result<f64, String> {
+    match v {
+        Value::S(x) => Ok(x),
+        Value::V(_) => Err(format!("{what} needs a scalar, got a vec3")),
+    }
+}
+
+fn vector(v: Value, what: &str) -> Result<[f64; 3], String> {
+    match v {
+        Value::V(x) => Ok(x),
+        Value::S(_) => Err(format!("{what} needs a vec3, got a scalar")),
+    }
+}
+
+/// Component-wise combination with scalar broadcast.
+fn zip(a: Value, b: Value, f: impl Fn(f64, f64) -> f64) -> Value {
+    match (a, b) {
+        (Value::S(x), Value::S(y)) => Value::S(f(x, y)),
+        (Value::V(x), Value::S(y)) => Value::V(x.map(|c| f(c, y))),
+        (Value::S(x), Value::V(y)) => Value::V(y.map(|c| f(x, c))),
+        (Value::V(x), Value::V(y)) => Value::V([f(x[0], y[0]), f(x[1], y[1]), f(x[2], y[2])]),
+    }
+}
+
+fn map(a: Value, f: impl Fn(f64) -> f64) -> Value {
+    match a {
+        Value::S(x) => Value::S(f(x)),
+        Value::V(v) => Value::V(v.map(f)),
+    }
+}
+
+fn dot(a: [f64; 3], b: [f64; 3]) -> f64 {
+    a[0] * b[0] + a[1] * b[1] + a[2] * b[2]
+}
+
+/// An expression with its variables resolved (see [`Expr::bind`]).
+#[derive(Clone, Debug)]
+pub struct BoundExpr {
+    root: Node,
+    /// 1 (scalar) or 3 (vec3), as the trial run found.
+    pub width: usize,
+    /// `Some(i)` when the expression is just the variable at position `i`.
+    pub var: Option<usize>,
+}
+
+impl BoundExpr {
+    /// Evaluate with one value per bound name.
+    pub fn eval(&self, vals: &[Value]) -> Result<Value, String> {
+        eval(&self.root, &BTreeMap::new(), vals)
+    }
+}
+
+fn eval(n: &Node, vars: &BTreeMap<&str, Value>, vals: &[Value]) -> Result<Value, String> {
+    let eval = |n: &Node| eval(n, vars, vals);
+    Ok(match n {
+        Node::Num(x) => Value::S(*x),
+        Node::Idx(i) => vals[*i],
+        Node::Var(v) => *vars.get(v.as_str()).ok_or_else(|| {
+            let known: Vec<_> = vars.keys().copied().collect();
+            format!("unknown name `{v}` (sweep parameters: {})", known.join(", "))
+        })?,
+        Node::Neg(a) => map(eval(a)?, |x| -x),
+        Node::Member(a, k) => Value::S(vector(eval(a)?, "`.x/.y/.z`")?[*k]),
+        Node::Bin(op, a, b) => {
+            let (a, b) = (eval(a)?, eval(b)?);
+            match op {
+                '+' => zip(a, b, |x, y| x + y),
+                '-' => zip(a, b, |x, y| x - y),
+                '*' => zip(a, b, |x, y| x * y),
+                '/' => zip(a, b, |x, y| x / y),
+                _ => zip(a, Value::S(scalar(b, "`^`")?), f64::powf),
+            }
+        }
+        Node::Call(f, args) => {
+            let a: Vec<Value> = args.iter().map(eval).collect::<Result<_, _>>()?;
+            match f.as_str() {
+                "sqrt" => map(a[0], f64::sqrt),
+                "abs" => map(a[0], f64::abs),
+                "sin" => map(a[0], f64::sin),
+                "cos" => map(a[0], f64::cos),
+                "tan" => map(a[0], f64::tan),
+                "asin" => map(a[0], f64::asin),
+                "acos" => map(a[0], f64::acos),
+                "atan" => map(a[0], f64::atan),
+                "atan2" => zip(a[0], a[1], f64::atan2),
+                "exp" => map(a[0], f64::exp),
+                "log" => map(a[0], f64::ln),
+                "pow" => zip(a[0], a[1], f64::powf),
+                "min" => zip(a[0], a[1], f64::min),
+                "max" => zip(a[0], a[1], f64::max),
+                "clamp" => zip(zip(a[0], a[1], f64::max), a[2], f64::min),
+                "saturate" => map(a[0], |x| x.clamp(0.0, 1.0)),
+                "radians" => map(a[0], f64::to_radians),
+                "degrees" => map(a[0], f64::to_degrees),
+                "mix" => {
+                    let t = a[2];
+                    zip(zip(a[0], zip(Value::S(1.0), t, |o, t| o - t), |x, w| x * w), zip(a[1], t, |y, t| y * t), |p, q| p + q)
+                }
+                "dot" => Value::S(dot(vector(a[0], "dot")?, vector(a[1], "dot")?)),
+                "cross" => {
+                    let (x, y) = (vector(a[0], "cross")?, vector(a[1], "cross")?);
+                    Value::V([x[1] * y[2] - x[2] * y[1], x[2] * y[0] - x[0] * y[2], x[0] * y[1] - x[1] * y[0]])
+                }
+                "length" => match a[0] {
+                    Value::S(x) => Value::S(x.abs()),
+                    Value::V(v) => Value::S(dot(v, v).sqrt()),
+                },
+                "normalize" => {
+                    let v = vector(a[0], "normalize")?;
+                    let l = dot(v, v).sqrt();
+                    Value::V(v.map(|c| c / l))
+                }
+                _ => Value::V([scalar(a[0], "vec3")?, scalar(a[1], "vec3")?, scalar(a[2], "vec3")?]),
+            }
+        }
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn ev(text: &str, vars: &[(&'static str, Value)]) -> Value {
+        let m: BTreeMap<&str, Value> = vars.iter().copied().collect();
+        Expr::parse(text).unwrap().eval(&m).unwrap()
+    }
+
+    #[test]
+    fn precedence_and_functions() {
+        assert_eq!(ev("1 + 2 * 3", &[]), Value::S(7.0));
+        assert_eq!(ev("-2 ^ 2", &[]), Value::S(-4.0));
+        assert_eq!(ev("r * r", &[("r", Value::S(0.5))]), Value::S(0.25));
+        assert_eq!(ev("dot(normalize(vec3(3, 0, 4)), vec3(0, 0, 1))", &[]), Value::S(0.8));
+        assert_eq!(ev("(a + b).y", &[("a", Value::V([1.0, 2.0, 3.0])), ("b", Value::V([1.0, 1.0, 1.0]))]), Value::S(3.0));
+        assert_eq!(ev("clamp(2, 0, 1)", &[]), Value::S(1.0));
+        assert_eq!(ev("1e-4 * 2", &[]), Value::S(2e-4));
+    }
+
+    #[test]
+    fn errors_name_the_position() {
+        let e = Expr::parse("1 + ").unwrap_err();
+        assert_eq!(e.offset, 4);
+        let e = Expr::parse("sqr(x)").unwrap_err();
+        assert!(e.message.contains("unknown function `sqr`"), "{e}");
+        let e = Expr::parse("pow(x)").unwrap_err();
+        assert!(e.message.contains("takes 2"), "{e}");
+        let err = Expr::parse("x + y").unwrap().eval(&BTreeMap::from([("x", Value::S(1.0))])).unwrap_err();
+        assert!(err.contains("unknown name `y`"), "{err}");
+    }
+
+    #[test]
+    fn substitution_rewrites_variables() {
+        let e = Expr::parse("r * r").unwrap().substitute("r", &Expr::parse("sqrt(r)").unwrap());
+        assert_eq!(e.eval(&BTreeMap::from([("r", Value::S(0.25))])).unwrap(), Value::S(0.25));
+    }
+}

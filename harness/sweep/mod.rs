@@ -1,0 +1,328 @@
+//! Parameter sweeps: named domains combined as a cartesian grid, plus seeded
+//! random points, plus unit directions built from angles.
+//!
+//! Domains: evenly spaced (`linear`), log-spaced (`log`), explicit `list`,
+//! `edges` (the values that break shading code: both ends, the next f32 inside
+//! each end, 1e-4 inside each end, the middle) and `direction` (θ, φ in
+//! degrees from the +z axis → the unit vector (sin θ cos φ, sin θ sin φ, cos θ)).
+//! Points are produced as f64 columns, one per scalar component.
+
+pub mod expr;
+
+use std::fmt;
+
+pub use expr::{Expr, ExprError, Value};
+
+/// The values one sweep parameter takes.
+#[derive(Clone, Debug, PartialEq)]
+pub enum Domain {
+    Linear { lo: f64, hi: f64, n: usize },
+    Log { lo: f64, hi: f64, n: usize },
+    List(Vec<f64>),
+    Edges { lo: f64, hi: f64 },
+    /// A unit vector from polar angle θ and azimuth φ, both in degrees.
+    Direction { theta: Box<Domain>, phi: Box<Domain> },
+}
+
+/// Seeded random points added after the grid.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct Random {
+    pub count: usize,
+    pub seed: u64,
+}
+
+/// A sweep: parameters in order (the grid varies the last fastest) and
+/// optional random points.
+#[derive(Clone, Debug, PartialEq, Default)]
+pub struct Sweep {
+    pub params: Vec<(String, Domain)>,
+    pub random: Option<Random>,
+}
+
+/// The generated points: per parameter, its width (1 or 3) and one f64 column
+/// per component.
+#[derive(Clone, Debug, Default)]
+pub struct Points {
+    pub names: Vec<String>,
+    pub widths: Vec<usize>,
+    pub columns: Vec<Vec<Vec<f64>>>,
+    pub len: usize,
+}
+
+impl Points {
+    /// Value of parameter `p` at point `i`.
+    pub fn value(&self, p: usize, i: usize) -> Value {
+        let c = &self.columns[p];
+        if self.widths[p] == 1 {
+            Value::S(c[0][i])
+        } else {
+            Value::V([c[0][i], c[1][i], c[2][i]])
+        }
+    }
+
+    /// `name=value, ...` for point `i`.
+    pub fn describe(&self, i: usize) -> String {
+        (0..self.names.len())
+            .map(|p| match self.value(p, i) {
+                Value::S(x) => format!("{}={}", self.names[p], fmt_num(x)),
+                Value::V(v) => format!("{}=({}, {}, {})", self.names[p], fmt_num(v[0]), fmt_num(v[1]), fmt_num(v[2])),
+            })
+            .collect::<Vec<_>>()
+            .join(", ")
+    }
+}
+
+/// Short decimal for reports (6 significant digits).
+pub fn fmt_num(x: f64) -> String {
+    if x == 0.0 || (1e-4..1e6).contains(&x.abs()) {
+        let s = format!("{x:.6}");
+        let s = s.trim_end_matches('0').trim_end_matches('.');
+        if s.is_empty() || s == "-" {
+            "0".into()
+        } else {
+            s.to_string()
+        }
+    } else {
+        format!("{x:.5e}")
+    }
+}
+
+impl Domain {
+    pub fn width(&self) -> usize {
+        match self {
+            Domain::Direction { .. } => 3,
+            _ => 1,
+        }
+    }
+
+    /// The grid values of a scalar domain (angles for directions' parts).
+    pub fn values(&self) -> Vec<f64> {
+        match self {
+            Domain::Linear { lo, hi, n } => match n {
+                0 => vec![],
+                1 => vec![*lo],
+                _ => (0..*n).map(|i| lo + (hi - lo) * i as f64 / (*n - 1) as f64).collect(),
+            },
+            Domain::Log { lo, hi, n } => match n {
+                0 => vec![],
+                1 => vec![*lo],
+                _ => (0..*n).map(|i| lo * (hi / lo).powf(i as f64 / (*n - 1) as f64)).collect(),
+            },
+            Domain::List(v) => v.clone(),
+            Domain::Edges { lo, hi } => {
+                let (l32, h32) = (*lo as f32, *hi as f32);
+                let next_up = f64::from(f32::from_bits(if l32 >= 0.0 { l32.to_bits() + 1 } else { l32.to_bits() - 1 }));
+                let next_down = f64::from(f32::from_bits(if h32 > 0.0 { h32.to_bits() - 1 } else { h32.to_bits() + 1 }));
+                let mut v = vec![*lo, next_up, lo + 1e-4, (lo + hi) / 2.0, hi - 1e-4, next_down, *hi];
+                v.retain(|x| *x >= *lo && *x <= *hi);
+                v.sort_by(f64::total_cmp);
+                v.dedup();
+                v
+            }
+            Domain::Direction { .. } => vec![],
+        }
+    }
+
+    /// Number of grid values.
+    pub fn count(&self) -> usize {
+        match self {
+            Domain::Direction { theta, phi } => theta.count() * phi.count(),
+            d => d.values().len(),
+        }
+    }
+
+    /// Components of grid value `k`.
+    fn grid_value(&self, k: usize, cache: &[Vec<f64>]) -> Value {
+        match self {
+            Domain::Direction { .. } => {
+                let (t, p) = (&cache[0], &cache[1]);
+                direction(t[k / p.len()], p[k % p.len()])
+            }
+            _ => Value::S(cache[0][k]),
+        }
+    }
+
+    fn cache(&self) -> Vec<Vec<f64>> {
+        match self {
+            Domain::Direction { theta, phi } => vec![theta.values(), phi.values()],
+            d => vec![d.values()],
+        }
+    }
+
+    /// A uniformly random value of the domain's range.
+    fn random(&self, rng: &mut Rng) -> Value {
+        match self {
+            Domain::Linear { lo, hi, .. } | Domain::Edges { lo, hi } => Value::S(lo + (hi - lo) * rng.unit()),
+            Domain::Log { lo, hi, .. } => Value::S(lo * (hi / lo).powf(rng.unit())),
+            Domain::List(v) => Value::S(v[(rng.next() % v.len().max(1) as u64) as usize]),
+            Domain::Direction { theta, phi } => {
+                let (Value::S(t), Value::S(p)) = (theta.random(rng), phi.random(rng)) else { unreachable!() };
+                direction(t, p)
+            }
+        }
+    }
+}
+
+/// The unit vector at polar angle `theta` and azimuth `phi`, in degrees.
+pub fn direction(theta: f64, phi: f64) -> Value {
+    let (t, p) = (theta.to_radians(), phi.to_radians());
+    Value::V([t.sin() * p.cos(), t.sin() * p.sin(), t.cos()])
+}
+
+/// SplitMix64: a small, well-known generator; the same seed gives the same
+/// points on every platform.
+struct Rng(u64);
+
+impl Rng {
+    fn next(&mut self) -> u64 {
+        self.0 = self.0.wrapping_add(0x9e37_79b9_7f4a_7c15);
+        let mut z = self.0;
+        z = (z ^ (z >> 30)).wrapping_mul(0xbf58_476d_1ce4_e5b9);
+        z = (z ^ (z >> 27)).wrapping_mul(0x94d0_49bb_1331_11eb);
+        z ^ (z >> 31)
+    }
+
+    fn unit(&mut self) -> f64 {
+        (self.next() >> 11) as f64 / (1u64 << 53) as f64
+    }
+}
+
+impl Sweep {
+    /// Number of points: grid size plus random points.
+    pub fn len(&self) -> usize {
+        let grid: usize = if self.params.is_empty() { 0 } else { self.params.iter().map(|(_, d)| d.count()).product() };
+        grid + self.random.map_or(0, |r| r.count)
+    }
+
+    pub fn is_empty(&self) -> bool {
+        self.len() == 0
+    }
+
+    /// Generate every point.
+    pub fn points(&self) -> Points {
+        let n = self.len();
+        let grid = n - self.random.map_or(0, |r| r.count);
+        let caches: Vec<Vec<Vec<f64>>> = self.params.iter().map(|(_, d)| d.cache()).collect();
+        let counts: Vec<usize> = self.params.iter().map(|(_, d)| d.count()).collect();
+        let mut columns: Vec<Vec<Vec<f64>>> =
+            self.params.iter().map(|(_, d)| (0..d.width()).map(|_| Vec::with_capacity(n)).collect()).collect();
+        for i in 0..grid {
+            // Mixed-radix decomposition, last parameter fastest.
+            let mut rest = i;
+            let mut idx = vec![0; counts.len()];
+            for p in (0..counts.len()).rev() {
+                idx[p] = rest % counts[p];
+                rest /= counts[p];
+            }
+            for (p, (_, d)) in self.params.iter().enumerate() {
+                push(&mut columns[p], d.grid_value(idx[p], &caches[p]));
+            }
+        }
+        if let Some(r) = self.random {
+            let mut rng = Rng(r.seed);
+            for _ in 0..r.count {
+                for (p, (_, d)) in self.params.iter().enumerate() {
+                    push(&mut columns[p], d.random(&mut rng));
+                }
+            }
+        }
+        Points {
+            names: self.params.iter().map(|(n, _)| n.clone()).collect(),
+            widths: self.params.iter().map(|(_, d)| d.width()).collect(),
+            columns,
+            len: n,
+        }
+    }
+}
+
+fn push(cols: &mut [Vec<f64>], v: Value) {
+    for (c, x) in cols.iter_mut().zip(v.components()) {
+        c.push(x);
+    }
+}
+
+impl fmt::Display for Domain {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            Domain::Linear { lo, hi, n } => write!(f, "linear({lo:?}, {hi:?}, {n})"),
+            Domain::Log { lo, hi, n } => write!(f, "log({lo:?}, {hi:?}, {n})"),
+            Domain::List(v) => write!(f, "list({})", v.iter().map(|x| format!("{x:?}")).collect::<Vec<_>>().join(", ")),
+            Domain::Edges { lo, hi } => write!(f, "edges({lo:?}, {hi:?})"),
+            Domain::Direction { theta, phi } => write!(f, "direction(theta {theta}, phi {phi})"),
+        }
+    }
+}
+
+/// Canonical text of a sweep, written into golden headers and compared when
+/// a golden is read back.
+impl fmt::Display for Sweep {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        let mut parts: Vec<String> = self.params.iter().map(|(n, d)| format!("{n} = {d}")).collect();
+        if let Some(r) = self.random {
+            parts.push(format!("random({} points, seed {})", r.count, r.seed));
+        }
+        f.write_str(&parts.join("; "))
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn grid_is_cartesian_with_the_last_parameter_fastest() {
+        let s = Sweep {
+            params: vec![
+                ("a".into(), Domain::List(vec![1.0, 2.0])),
+                ("b".into(), Domain::Linear { lo: 0.0, hi: 1.0, n: 3 }),
+            ],
+            random: None,
+        };
+        let p = s.points();
+        assert_eq!(p.len, 6);
+        assert_eq!(p.columns[0][0], vec![1.0, 1.0, 1.0, 2.0, 2.0, 2.0]);
+        assert_eq!(p.columns[1][0], vec![0.0, 0.5, 1.0, 0.0, 0.5, 1.0]);
+    }
+
+    #[test]
+    fn edges_hit_the_values_that_break_shading_code() {
+        let v = Domain::Edges { lo: 0.0, hi: 1.0 }.values();
+        assert_eq!(v[0], 0.0);
+        assert_eq!(v[1], f64::from(f32::from_bits(1))); // smallest positive f32
+        assert!(v.contains(&1e-4));
+        assert!(v.contains(&f64::from(1.0f32 - f32::EPSILON / 2.0))); // just below 1 in f32
+        assert_eq!(*v.last().unwrap(), 1.0);
+    }
+
+    #[test]
+    fn log_and_directions() {
+        let v = Domain::Log { lo: 0.01, hi: 1.0, n: 3 }.values();
+        assert!((v[1] - 0.1).abs() < 1e-12);
+        let Value::V(d) = direction(90.0, 90.0) else { panic!() };
+        assert!(d[0].abs() < 1e-15 && (d[1] - 1.0).abs() < 1e-15 && d[2].abs() < 1e-15);
+        let s = Sweep {
+            params: vec![(
+                "v".into(),
+                Domain::Direction {
+                    theta: Box::new(Domain::Linear { lo: 0.0, hi: 80.0, n: 5 }),
+                    phi: Box::new(Domain::List(vec![0.0, 45.0])),
+                },
+            )],
+            random: Some(Random { count: 10, seed: 3 }),
+        };
+        let p = s.points();
+        assert_eq!(p.len, 20);
+        for i in 0..p.len {
+            let Value::V(d) = p.value(0, i) else { panic!() };
+            assert!(((d[0] * d[0] + d[1] * d[1] + d[2] * d[2]) - 1.0).abs() < 1e-12);
+        }
+    }
+
+    #[test]
+    fn random_points_are_reproducible() {
+        let s = Sweep { params: vec![("x".into(), Domain::Linear { lo: 2.0, hi: 3.0, n: 0 })], random: Some(Random { count: 100, seed: 9 }) };
+        let (a, b) = (s.points(), s.points());
+        assert_eq!(a.columns, b.columns);
+        assert!(a.columns[0][0].iter().all(|x| (2.0..=3.0).contains(x)));
+    }
+}
