@@ -5,7 +5,9 @@ pub mod arith;
 pub mod compare;
 pub mod eval;
 pub mod gate;
+pub mod golden;
 pub mod reference;
+pub mod suite;
 pub mod sweep;
 #[cfg(feature = "replay")]
 pub mod replay;

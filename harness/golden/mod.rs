@@ -1,0 +1,271 @@
+//! Golden datasets: one CSV file per check holding the function's inputs and
+//! outputs, written so every value reads back bit-exact.
+//!
+//! ```text
+//! # shadegate golden dataset, format 1
+//! # check: ggx_ndf
+//! # shader: shaders/terrace_brdf.wgsl
+//! # function: d_ggx
+//! # shader-hash: 5f0c2d0e9a1b7c33
+//! # sweep: n_dot_h = linear(0.0, 1.0, 64); roughness = edges(0.0, 1.0)
+//! # points: 448
+//! n_dot_h:f32,alpha:f32,result:f32
+//! 0.0,0.0,NaN
+//! ...
+//! # end
+//! ```
+//!
+//! f32 and f16 values are written as the shortest decimal that reads back to
+//! the same value; NaNs other than the canonical quiet NaN as `nan:0x…` with
+//! their bits. The trailing `# end` line proves the file is complete. Only
+//! [`write`] creates these files; it refuses when the `CI` environment
+//! variable is set and writes a temporary file that is then renamed.
+
+use std::io::Write as _;
+use std::path::{Path, PathBuf};
+
+use crate::eval::ScalarKind;
+use crate::wgsl::Diagnostic;
+
+const MAGIC: &str = "# shadegate golden dataset, format 1";
+
+/// The identity of a golden: what it was recorded from.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Header {
+    pub check: String,
+    pub shader: String,
+    pub function: String,
+    pub shader_hash: String,
+    pub sweep: String,
+    pub points: usize,
+}
+
+/// A golden dataset in the evaluator's column encoding.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Golden {
+    pub header: Header,
+    /// (leaf name, kind) of inputs then outputs.
+    pub inputs: Vec<(String, ScalarKind)>,
+    pub outputs: Vec<(String, ScalarKind)>,
+    pub input_columns: Vec<Vec<u32>>,
+    pub output_columns: Vec<Vec<u32>>,
+}
+
+fn fmt_value(k: ScalarKind, bits: u32) -> String {
+    match k {
+        ScalarKind::F32 => {
+            let x = f32::from_bits(bits);
+            if x.is_nan() && bits != f32::NAN.to_bits() {
+                format!("nan:{bits:#010x}")
+            } else {
+                format!("{x:?}")
+            }
+        }
+        ScalarKind::F16 => {
+            let h = half::f16::from_bits(bits as u16);
+            if h.is_nan() && h.to_bits() != half::f16::NAN.to_bits() {
+                format!("nan:{:#06x}", bits as u16)
+            } else {
+                format!("{:?}", h.to_f32())
+            }
+        }
+        ScalarKind::I32 => (bits as i32).to_string(),
+        ScalarKind::U32 => bits.to_string(),
+        ScalarKind::Bool => (bits != 0).to_string(),
+    }
+}
+
+fn parse_value(k: ScalarKind, s: &str) -> Result<u32, String> {
+    let bad = || format!("`{s}` is not a valid {} value", k.wgsl());
+    if let Some(hex) = s.strip_prefix("nan:0x") {
+        let b = u32::from_str_radix(hex, 16).map_err(|_| bad())?;
+        return Ok(b);
+    }
+    Ok(match k {
+        ScalarKind::F32 => s.parse::<f32>().map_err(|_| bad())?.to_bits(),
+        ScalarKind::F16 => u32::from(half::f16::from_f32(s.parse::<f32>().map_err(|_| bad())?).to_bits()),
+        ScalarKind::I32 => s.parse::<i32>().map_err(|_| bad())? as u32,
+        ScalarKind::U32 => s.parse::<u32>().map_err(|_| bad())?,
+        ScalarKind::Bool => match s {
+            "true" => 1,
+            "false" => 0,
+            _ => return Err(bad()),
+        },
+    })
+}
+
+/// Whether recording is refused here (the `CI` variable is set).
+pub fn refused_in_ci() -> bool {
+    std::env::var_os("CI").is_some_and(|v| !v.is_empty())
+}
+
+/// Write a golden dataset atomically (temporary file, then rename).
+pub fn write(path: &Path, g: &Golden) -> Result<(), String> {
+    if refused_in_ci() {
+        return Err(format!(
+            "{}: refusing to record goldens because the CI environment variable is set; record them locally and commit them",
+            path.display()
+        ));
+    }
+    if let Some(dir) = path.parent() {
+        std::fs::create_dir_all(dir).map_err(|e| format!("{}: cannot create folder: {e}", dir.display()))?;
+    }
+    let mut text = String::new();
+    let h = &g.header;
+    text.push_str(MAGIC);
+    text.push('\n');
+    for (k, v) in [
+        ("check", h.check.as_str()),
+        ("shader", &h.shader),
+        ("function", &h.function),
+        ("shader-hash", &h.shader_hash),
+        ("sweep", &h.sweep),
+    ] {
+        text.push_str(&format!("# {k}: {v}\n"));
+    }
+    text.push_str(&format!("# points: {}\n", h.points));
+    let cols: Vec<String> = g.inputs.iter().chain(&g.outputs).map(|(n, k)| format!("{n}:{}", k.wgsl())).collect();
+    text.push_str(&cols.join(","));
+    text.push('\n');
+    let kinds: Vec<ScalarKind> = g.inputs.iter().chain(&g.outputs).map(|c| c.1).collect();
+    let all: Vec<&Vec<u32>> = g.input_columns.iter().chain(&g.output_columns).collect();
+    for i in 0..h.points {
+        let row: Vec<String> = all.iter().zip(&kinds).map(|(c, k)| fmt_value(*k, c[i])).collect();
+        text.push_str(&row.join(","));
+        text.push('\n');
+    }
+    text.push_str("# end\n");
+    let tmp = tmp_path(path);
+    let mut f = std::fs::File::create(&tmp).map_err(|e| format!("{}: cannot write: {e}", tmp.display()))?;
+    f.write_all(text.as_bytes()).and_then(|_| f.sync_all()).map_err(|e| format!("{}: cannot write: {e}", tmp.display()))?;
+    std::fs::rename(&tmp, path).map_err(|e| format!("{}: cannot rename into place: {e}", path.display()))
+}
+
+fn tmp_path(path: &Path) -> PathBuf {
+    let mut name = path.file_name().map(|n| n.to_os_string()).unwrap_or_default();
+    name.push(format!(".tmp{}", std::process::id()));
+    path.with_file_name(name)
+}
+
+/// Read a golden dataset; every problem names the file and line.
+pub fn read(path: &Path) -> Result<Golden, Diagnostic> {
+    let text = std::fs::read_to_string(path)
+        .map_err(|e| Diagnostic::without_position(path, format!("cannot read golden dataset: {e} (record it with `shadegate record`)")))?;
+    parse(path, &text)
+}
+
+/// Parse golden text (see [`read`]).
+pub fn parse(path: &Path, text: &str) -> Result<Golden, Diagnostic> {
+    let err = |line: usize, msg: String| Diagnostic::at_location(path, text, line as u32, 1, 1, msg);
+    let lines: Vec<&str> = text.lines().collect();
+    if lines.first() != Some(&MAGIC) {
+        return Err(err(1, format!("not a shadegate golden dataset (expected the first line `{MAGIC}`)")));
+    }
+    let mut fields = Vec::new();
+    for (i, key) in ["check", "shader", "function", "shader-hash", "sweep", "points"].iter().enumerate() {
+        let line = lines.get(i + 1).copied().unwrap_or("");
+        let prefix = format!("# {key}: ");
+        match line.strip_prefix(&prefix) {
+            Some(v) => fields.push(v.to_string()),
+            None => return Err(err(i + 2, format!("expected the header line `{prefix}…`, found `{line}`"))),
+        }
+    }
+    let points: usize = fields[5].parse().map_err(|_| err(7, format!("`{}` is not a point count", fields[5])))?;
+    let header = Header {
+        check: fields[0].clone(),
+        shader: fields[1].clone(),
+        function: fields[2].clone(),
+        shader_hash: fields[3].clone(),
+        sweep: fields[4].clone(),
+        points,
+    };
+    let names_line = lines.get(7).copied().unwrap_or("");
+    let mut cols = Vec::new();
+    for c in names_line.split(',') {
+        let (name, kind) = c.rsplit_once(':').ok_or_else(|| err(8, format!("column `{c}` lacks its type (`name:f32`)")))?;
+        let kind = ScalarKind::parse(kind).ok_or_else(|| err(8, format!("column `{c}`: unknown type `{kind}`")))?;
+        cols.push((name.to_string(), kind));
+    }
+    let split = cols.iter().position(|(n, _)| n == "result" || n.starts_with("result.") || n.starts_with("result["));
+    let Some(split) = split else { return Err(err(8, "no `result` column".into())) };
+    let mut columns: Vec<Vec<u32>> = vec![Vec::with_capacity(points); cols.len()];
+    let mut row = 0;
+    let mut ended = false;
+    for (i, line) in lines.iter().enumerate().skip(8) {
+        let lno = i + 1;
+        if *line == "# end" {
+            ended = true;
+            if i + 1 != lines.len() {
+                return Err(err(lno + 1, "text after `# end`".into()));
+            }
+            break;
+        }
+        let vals: Vec<&str> = line.split(',').collect();
+        if vals.len() != cols.len() {
+            return Err(err(lno, format!("expected {} values, found {}", cols.len(), vals.len())));
+        }
+        for (c, (v, (_, k))) in vals.iter().zip(&cols).enumerate() {
+            columns[c].push(parse_value(*k, v.trim()).map_err(|m| err(lno, format!("column `{}`: {m}", cols[c].0)))?);
+        }
+        row += 1;
+    }
+    if !ended {
+        return Err(err(lines.len(), format!("truncated: no `# end` line after {row} of {points} points")));
+    }
+    if row != points {
+        return Err(err(lines.len(), format!("the header says {points} points but the file has {row}")));
+    }
+    let output_columns = columns.split_off(split);
+    let outputs = cols.split_off(split);
+    Ok(Golden { header, inputs: cols, outputs, input_columns: columns, output_columns })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn sample() -> Golden {
+        Golden {
+            header: Header {
+                check: "c".into(),
+                shader: "s.wgsl".into(),
+                function: "f".into(),
+                shader_hash: "00ff".into(),
+                sweep: "x = list(1.0)".into(),
+                points: 4,
+            },
+            inputs: vec![("x".into(), ScalarKind::F32), ("k".into(), ScalarKind::I32)],
+            outputs: vec![("result".into(), ScalarKind::F32)],
+            input_columns: vec![
+                vec![0.1f32.to_bits(), f32::from_bits(1).to_bits(), (-0.0f32).to_bits(), 3.0e38f32.to_bits()],
+                vec![-5i32 as u32, 0, 7, i32::MIN as u32],
+            ],
+            output_columns: vec![vec![f32::NAN.to_bits(), 0x7fc0_0123, f32::INFINITY.to_bits(), 1.0f32.to_bits()]],
+        }
+    }
+
+    #[test]
+    fn values_round_trip_bit_exact() {
+        let dir = std::env::temp_dir().join(format!("shadegate-golden-{}", std::process::id()));
+        let path = dir.join("c.csv");
+        if refused_in_ci() {
+            return; // writing is refused under CI; the parse test below still runs
+        }
+        write(&path, &sample()).unwrap();
+        let back = read(&path).unwrap();
+        assert_eq!(back, sample());
+        std::fs::remove_dir_all(dir).ok();
+    }
+
+    #[test]
+    fn corrupt_and_truncated_files_name_the_line() {
+        let text = "# shadegate golden dataset, format 1\n# check: c\n# shader: s\n# function: f\n# shader-hash: 0\n# sweep: x\n# points: 2\nx:f32,result:f32\n1.0,2.0\n1.0,zz\n# end\n";
+        let e = parse(Path::new("g.csv"), text).unwrap_err();
+        assert_eq!(e.line, 10);
+        assert!(e.message.contains("`zz` is not a valid f32"), "{e}");
+        let e = parse(Path::new("g.csv"), &text.replace("1.0,zz\n# end\n", "1.0,3.0\n")).unwrap_err();
+        assert!(e.message.contains("truncated"), "{e}");
+        let e = parse(Path::new("g.csv"), &text.replace("# function: f", "# functoin: f")).unwrap_err();
+        assert_eq!(e.line, 4);
+    }
+}

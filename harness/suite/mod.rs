@@ -1,0 +1,495 @@
+//! The suite file (`shadegate.toml`): a list of checks, each binding a WGSL
+//! function, a sweep, argument expressions, a reference model and/or golden
+//! dataset, and a tolerance with its written reason.
+//!
+//! ```toml
+//! [[check]]
+//! name = "ggx_ndf"
+//! shader = "shaders/terrace_brdf.wgsl"
+//! function = "d_ggx"
+//! reference = "ggx_ndf"                 # a model of `shadegate models`
+//! golden = true                         # goldens/<name>.csv (or a path)
+//! args = { alpha = "roughness * roughness" }
+//! reference_args = { alpha = "roughness * roughness" }
+//!
+//! [check.sweep]
+//! n_dot_h = { linear = [0.0, 1.0, 256] }
+//! roughness = { edges = [0.0, 1.0] }
+//! v = { direction = { theta = { linear = [0, 89, 16] }, phi = { list = [0, 90] } } }
+//!
+//! [check.random]
+//! count = 1000
+//! seed = 7
+//!
+//! [check.tolerance]
+//! rel = 1e-5
+//! ulp = 8
+//! reason = "f32 rounding of a dozen operations"
+//! ```
+//!
+//! Arguments without an expression take the sweep parameter of the same
+//! name. Every problem is reported with the file, line and key.
+
+use std::collections::BTreeMap;
+use std::path::{Path, PathBuf};
+
+use serde::Deserialize;
+use toml::Spanned;
+
+use crate::compare::{NanPolicy, Tolerance};
+use crate::sweep::{Domain, Expr, Random, Sweep};
+use crate::wgsl::Diagnostic;
+
+/// The number model a check evaluates with.
+pub use crate::eval::Arithmetic;
+
+/// One check, validated.
+#[derive(Clone, Debug)]
+pub struct Check {
+    pub name: String,
+    /// As written in the suite (relative to the suite's folder).
+    pub shader: PathBuf,
+    pub function: String,
+    pub overrides: BTreeMap<String, f64>,
+    pub arithmetic: Arithmetic,
+    pub sweep: Sweep,
+    /// Expression per function argument name (missing ones default to the
+    /// sweep parameter of the same name).
+    pub args: BTreeMap<String, Expr>,
+    pub reference: Option<&'static crate::reference::Model>,
+    pub reference_args: BTreeMap<String, Expr>,
+    /// Path of the golden dataset, relative to the suite's folder.
+    pub golden: Option<PathBuf>,
+    pub tolerance: Tolerance,
+    pub golden_tolerance: Tolerance,
+    /// Line of the check in the suite file (for messages).
+    pub line: u32,
+}
+
+/// A parsed suite file.
+#[derive(Clone, Debug)]
+pub struct Suite {
+    pub path: PathBuf,
+    /// Folder the relative paths of the suite are resolved against.
+    pub root: PathBuf,
+    pub checks: Vec<Check>,
+}
+
+impl Suite {
+    /// A path of the suite resolved against its folder.
+    pub fn resolve(&self, p: &Path) -> PathBuf {
+        if p.is_absolute() {
+            p.to_path_buf()
+        } else {
+            self.root.join(p)
+        }
+    }
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawSuite {
+    #[serde(default)]
+    check: Vec<Spanned<RawCheck>>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawCheck {
+    name: Spanned<String>,
+    shader: Spanned<String>,
+    function: Spanned<String>,
+    #[serde(default)]
+    overrides: BTreeMap<String, f64>,
+    arithmetic: Option<Spanned<String>>,
+    seed: Option<u64>,
+    reference: Option<Spanned<String>>,
+    golden: Option<Spanned<toml::Value>>,
+    #[serde(default)]
+    args: BTreeMap<String, Spanned<String>>,
+    #[serde(default)]
+    reference_args: BTreeMap<String, Spanned<String>>,
+    sweep: Spanned<toml::Table>,
+    random: Option<RawRandom>,
+    tolerance: Option<Spanned<RawTolerance>>,
+    golden_tolerance: Option<Spanned<RawTolerance>>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawRandom {
+    count: usize,
+    seed: u64,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawTolerance {
+    abs: Option<OneOrMany>,
+    rel: Option<OneOrMany>,
+    ulp: Option<OneOrMany>,
+    nan: Option<Spanned<String>>,
+    reason: Option<Spanned<String>>,
+}
+
+#[derive(Deserialize)]
+#[serde(untagged)]
+enum OneOrMany {
+    One(f64),
+    Many(Vec<f64>),
+}
+
+impl OneOrMany {
+    fn vec(self) -> Vec<f64> {
+        match self {
+            OneOrMany::One(x) => vec![x],
+            OneOrMany::Many(v) => v,
+        }
+    }
+}
+
+/// Line and column (1-based) of byte `offset` in `text`.
+pub fn line_col(text: &str, offset: usize) -> (u32, u32) {
+    let before = &text[..offset.min(text.len())];
+    let line = before.matches('\n').count() as u32 + 1;
+    let col = before.len() - before.rfind('\n').map_or(0, |i| i + 1) + 1;
+    (line, col as u32)
+}
+
+struct Ctx<'a> {
+    path: &'a Path,
+    text: &'a str,
+}
+
+impl Ctx<'_> {
+    fn err(&self, span: std::ops::Range<usize>, msg: impl Into<String>) -> Diagnostic {
+        let (line, col) = line_col(self.text, span.start);
+        let len = self.text[span.start.min(self.text.len())..span.end.min(self.text.len())]
+            .lines()
+            .next()
+            .map_or(1, |l| l.len().max(1));
+        Diagnostic::at_location(self.path, self.text, line, col, len as u32, msg)
+    }
+}
+
+/// Read and validate a suite file.
+pub fn load(path: &Path) -> Result<Suite, Diagnostic> {
+    let text = std::fs::read_to_string(path)
+        .map_err(|e| Diagnostic::without_position(path, format!("cannot read suite file: {e}")))?;
+    parse(path, &text)
+}
+
+/// Parse and validate suite text; `path` names it in diagnostics and anchors
+/// its relative paths.
+pub fn parse(path: &Path, text: &str) -> Result<Suite, Diagnostic> {
+    let cx = Ctx { path, text };
+    let raw: RawSuite = toml::from_str(text).map_err(|e| {
+        let span = e.span().unwrap_or(0..0);
+        cx.err(span, e.message().trim().to_string())
+    })?;
+    let mut checks = Vec::new();
+    for rc in raw.check {
+        let span = rc.span();
+        let check = convert(&cx, rc.into_inner(), span)?;
+        if let Some(prev) = checks.iter().find(|c: &&Check| c.name == check.name) {
+            return Err(cx.err(
+                span_of_line(text, check.line),
+                format!("duplicate check name `{}` (first defined on line {})", check.name, prev.line),
+            ));
+        }
+        checks.push(check);
+    }
+    if checks.is_empty() {
+        return Err(Diagnostic::without_position(path, "the suite has no `[[check]]` entries"));
+    }
+    let root = path.parent().map(Path::to_path_buf).unwrap_or_default();
+    Ok(Suite { path: path.to_path_buf(), root, checks })
+}
+
+fn span_of_line(text: &str, line: u32) -> std::ops::Range<usize> {
+    let start: usize = text.split_inclusive('\n').take(line.saturating_sub(1) as usize).map(str::len).sum();
+    start..start
+}
+
+fn convert(cx: &Ctx, rc: RawCheck, span: std::ops::Range<usize>) -> Result<Check, Diagnostic> {
+    let line = line_col(cx.text, rc.name.span().start).0;
+    let name = rc.name.get_ref().clone();
+    if name.is_empty() || !name.chars().all(|c| c.is_ascii_alphanumeric() || c == '_' || c == '-') {
+        return Err(cx.err(rc.name.span(), "key `name`: expected letters, digits, `_` or `-` (it names the golden file)"));
+    }
+    let arithmetic = match rc.arithmetic.as_ref().map(|a| (a.get_ref().as_str(), a.span())) {
+        None | Some(("exact", _)) => Arithmetic::Exact,
+        Some(("spec-bounds", _)) => Arithmetic::SpecBounds { seed: rc.seed.unwrap_or(1) },
+        Some((other, s)) => {
+            return Err(cx.err(s, format!("key `arithmetic`: expected \"exact\" or \"spec-bounds\", found \"{other}\"")))
+        }
+    };
+    let reference = match &rc.reference {
+        None => None,
+        Some(r) => Some(crate::reference::find(r.get_ref()).ok_or_else(|| {
+            cx.err(r.span(), format!("key `reference`: no reference model named `{}` (see `shadegate models`)", r.get_ref()))
+        })?),
+    };
+    let golden = match &rc.golden {
+        None => None,
+        Some(g) => match g.get_ref() {
+            toml::Value::Boolean(true) => Some(PathBuf::from(format!("goldens/{name}.csv"))),
+            toml::Value::Boolean(false) => None,
+            toml::Value::String(p) => Some(PathBuf::from(p)),
+            _ => return Err(cx.err(g.span(), "key `golden`: expected true, false or a path string")),
+        },
+    };
+    if reference.is_none() && golden.is_none() {
+        return Err(cx.err(span.start..span.start, format!("check `{name}`: give a `reference` model, a `golden` dataset, or both")));
+    }
+    let sweep_span = rc.sweep.span();
+    let mut params = Vec::new();
+    for (key, value) in rc.sweep.get_ref() {
+        let d = domain(value).map_err(|m| cx.err(sweep_span.clone(), format!("key `sweep.{key}`: {m}")))?;
+        params.push((key.clone(), d));
+    }
+    let random = rc.random.map(|r| Random { count: r.count, seed: r.seed });
+    if params.is_empty() {
+        return Err(cx.err(sweep_span, format!("check `{name}`: the sweep has no parameters")));
+    }
+    if random.is_none() && params.iter().any(|(_, d)| d.count() == 0) {
+        return Err(cx.err(sweep_span, format!("check `{name}`: a parameter has no values and there are no random points")));
+    }
+    let sweep = Sweep { params, random };
+    let names: Vec<String> = sweep.params.iter().map(|(n, _)| n.clone()).collect();
+    let exprs = |table: &BTreeMap<String, Spanned<String>>, key: &str| -> Result<BTreeMap<String, Expr>, Diagnostic> {
+        let mut out = BTreeMap::new();
+        for (arg, text) in table {
+            let e = Expr::parse(text.get_ref()).map_err(|e| {
+                let s = text.span();
+                cx.err(s.start + 1 + e.offset..s.end, format!("key `{key}.{arg}`: {}", e.message))
+            })?;
+            if let Some(v) = e.variables().into_iter().find(|v| !names.contains(v)) {
+                return Err(cx.err(text.span(), format!("key `{key}.{arg}`: `{v}` is not a sweep parameter (have: {})", names.join(", "))));
+            }
+            out.insert(arg.clone(), e);
+        }
+        Ok(out)
+    };
+    let args = exprs(&rc.args, "args")?;
+    let reference_args = exprs(&rc.reference_args, "reference_args")?;
+    if let Some(m) = reference {
+        for p in m.params {
+            if !reference_args.contains_key(p.name) && !names.iter().any(|n| n == p.name) {
+                return Err(cx.err(
+                    span.start..span.start,
+                    format!(
+                        "check `{name}`: reference `{}` needs `{}`; add it to `reference_args` or the sweep",
+                        m.name, p.name
+                    ),
+                ));
+            }
+        }
+        if let Some(k) = reference_args.keys().find(|k| !m.params.iter().any(|p| p.name == k.as_str())) {
+            let known: Vec<_> = m.params.iter().map(|p| p.name).collect();
+            return Err(cx.err(span.start..span.start, format!("key `reference_args.{k}`: `{}` has no parameter `{k}` (has: {})", m.name, known.join(", "))));
+        }
+    }
+    let tolerance = match rc.tolerance {
+        Some(t) => tolerance_of(cx, t, "tolerance")?,
+        None if reference.is_some() => {
+            return Err(cx.err(span.start..span.start, format!("check `{name}`: a check against a reference needs a `[check.tolerance]` with a `reason`")))
+        }
+        None => Tolerance::exact("goldens are this evaluator's own output"),
+    };
+    let golden_tolerance = match rc.golden_tolerance {
+        Some(t) => tolerance_of(cx, t, "golden_tolerance")?,
+        None => Tolerance::exact("a golden is a bit-exact record of this evaluator's output"),
+    };
+    Ok(Check {
+        name,
+        shader: PathBuf::from(rc.shader.get_ref()),
+        function: rc.function.get_ref().clone(),
+        overrides: rc.overrides,
+        arithmetic,
+        sweep,
+        args,
+        reference,
+        reference_args,
+        golden,
+        tolerance,
+        golden_tolerance,
+        line,
+    })
+}
+
+fn tolerance_of(cx: &Ctx, t: Spanned<RawTolerance>, key: &str) -> Result<Tolerance, Diagnostic> {
+    let span = t.span();
+    let t = t.into_inner();
+    let reason = match t.reason {
+        Some(r) if !r.get_ref().trim().is_empty() => r.into_inner(),
+        Some(r) => return Err(cx.err(r.span(), format!("key `{key}.reason`: the reason is empty; say why this much error is accepted"))),
+        None => {
+            return Err(cx.err(span, format!("key `{key}.reason` is missing: every tolerance needs a written reason")))
+        }
+    };
+    let nan = match t.nan.as_ref().map(|n| (n.get_ref().as_str(), n.span())) {
+        None | Some(("match", _)) => NanPolicy::Match,
+        Some(("skip", _)) => NanPolicy::Skip,
+        Some((o, s)) => return Err(cx.err(s, format!("key `{key}.nan`: expected \"match\" or \"skip\", found \"{o}\""))),
+    };
+    let tol = Tolerance { abs: t.abs.map(OneOrMany::vec), rel: t.rel.map(OneOrMany::vec), ulp: t.ulp.map(OneOrMany::vec), nan, reason };
+    if tol.abs.is_none() && tol.rel.is_none() && tol.ulp.is_none() {
+        return Err(cx.err(span, format!("key `{key}`: give at least one of `abs`, `rel`, `ulp`")));
+    }
+    for v in [&tol.abs, &tol.rel, &tol.ulp].into_iter().flatten() {
+        if v.is_empty() || v.iter().any(|x| !(*x >= 0.0)) {
+            return Err(cx.err(span, format!("key `{key}`: bounds must be non-negative numbers")));
+        }
+    }
+    Ok(tol)
+}
+
+fn num(v: &toml::Value) -> Result<f64, String> {
+    match v {
+        toml::Value::Float(x) => Ok(*x),
+        toml::Value::Integer(i) => Ok(*i as f64),
+        other => Err(format!("expected a number, found {}", other.type_str())),
+    }
+}
+
+fn nums(v: &toml::Value, n: Option<usize>, what: &str) -> Result<Vec<f64>, String> {
+    let toml::Value::Array(a) = v else { return Err(format!("`{what}` expects an array")) };
+    if let Some(n) = n {
+        if a.len() != n {
+            return Err(format!("`{what}` expects {n} numbers, found {}", a.len()));
+        }
+    }
+    a.iter().map(num).collect()
+}
+
+fn domain(v: &toml::Value) -> Result<Domain, String> {
+    let toml::Value::Table(t) = v else {
+        return Err("expected a table such as { linear = [0.0, 1.0, 64] }".into());
+    };
+    if t.len() != 1 {
+        return Err("expected exactly one of `linear`, `log`, `list`, `edges`, `direction`".into());
+    }
+    let (kind, val) = t.iter().next().expect("one entry");
+    let count = |x: f64| -> Result<usize, String> {
+        if x >= 0.0 && x.fract() == 0.0 {
+            Ok(x as usize)
+        } else {
+            Err(format!("the point count must be a whole number, found {x}"))
+        }
+    };
+    Ok(match kind.as_str() {
+        "linear" => {
+            let a = nums(val, Some(3), "linear = [low, high, count]")?;
+            Domain::Linear { lo: a[0], hi: a[1], n: count(a[2])? }
+        }
+        "log" => {
+            let a = nums(val, Some(3), "log = [low, high, count]")?;
+            if !(a[0] > 0.0 && a[1] > 0.0) {
+                return Err("`log` needs positive bounds".into());
+            }
+            Domain::Log { lo: a[0], hi: a[1], n: count(a[2])? }
+        }
+        "list" => {
+            let a = nums(val, None, "list")?;
+            if a.is_empty() {
+                return Err("`list` is empty".into());
+            }
+            Domain::List(a)
+        }
+        "edges" => {
+            let a = nums(val, Some(2), "edges = [low, high]")?;
+            if a[0] >= a[1] {
+                return Err("`edges` needs low < high".into());
+            }
+            Domain::Edges { lo: a[0], hi: a[1] }
+        }
+        "direction" => {
+            let toml::Value::Table(d) = val else { return Err("`direction` expects { theta = ..., phi = ... }".into()) };
+            if let Some(k) = d.keys().find(|k| *k != "theta" && *k != "phi") {
+                return Err(format!("unknown key `{k}` in `direction` (expected `theta`, `phi`)"));
+            }
+            let part = |k: &str| -> Result<Box<Domain>, String> {
+                let v = d.get(k).ok_or(format!("`direction` needs `{k}` (degrees)"))?;
+                let inner = domain(v).map_err(|m| format!("{k}: {m}"))?;
+                if inner.width() != 1 {
+                    return Err(format!("{k}: must be a scalar domain"));
+                }
+                Ok(Box::new(inner))
+            };
+            Domain::Direction { theta: part("theta")?, phi: part("phi")? }
+        }
+        other => return Err(format!("unknown domain `{other}` (expected `linear`, `log`, `list`, `edges`, `direction`)")),
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    const GOOD: &str = r#"
+[[check]]
+name = "ndf"
+shader = "a.wgsl"
+function = "d_ggx"
+reference = "ggx_ndf"
+reference_args = { alpha = "roughness * roughness" }
+args = { alpha = "roughness * roughness" }
+
+[check.sweep]
+n_dot_h = { linear = [0.0, 1.0, 4] }
+roughness = { edges = [0.0, 1.0] }
+
+[check.tolerance]
+rel = 1e-5
+reason = "f32 rounding"
+"#;
+
+    fn err(text: &str) -> Diagnostic {
+        parse(Path::new("s.toml"), text).unwrap_err()
+    }
+
+    #[test]
+    fn a_good_suite_parses() {
+        let s = parse(Path::new("dir/s.toml"), GOOD).unwrap();
+        assert_eq!(s.checks.len(), 1);
+        let c = &s.checks[0];
+        assert_eq!(c.sweep.params.len(), 2);
+        assert_eq!(c.line, 3);
+        assert_eq!(s.resolve(&c.shader), PathBuf::from("dir/a.wgsl"));
+    }
+
+    #[test]
+    fn unknown_keys_are_errors_with_line() {
+        let d = err(&GOOD.replace("function = ", "fucntion = \"x\"\nfunction = "));
+        assert!(d.message.contains("unknown field `fucntion`"), "{}", d.rendered);
+        assert_eq!(d.line, 5);
+    }
+
+    #[test]
+    fn a_tolerance_without_reason_is_an_error() {
+        let d = err(&GOOD.replace("reason = \"f32 rounding\"\n", ""));
+        assert!(d.message.contains("`tolerance.reason` is missing"), "{}", d.rendered);
+        assert_eq!(d.line, 14, "{}", d.rendered);
+    }
+
+    #[test]
+    fn bad_domains_models_and_expressions_are_located() {
+        let d = err(&GOOD.replace("{ linear = [0.0, 1.0, 4] }", "{ linear = [0.0, 1.0] }"));
+        assert!(d.message.contains("sweep.n_dot_h") && d.message.contains("expects 3 numbers"), "{}", d.rendered);
+        let d = err(&GOOD.replace("\"ggx_ndf\"", "\"ggx\""));
+        assert!(d.message.contains("no reference model named `ggx`"), "{}", d.rendered);
+        assert_eq!(d.line, 6);
+        let d = err(&GOOD.replace("args = { alpha = \"roughness * roughness\" }", "args = { alpha = \"roughness * * 2\" }"));
+        assert!(d.message.contains("key `args.alpha`"), "{}", d.rendered);
+        let d = err(&GOOD.replace("args = { alpha = \"roughness * roughness\" }", "args = { alpha = \"rough * 2\" }"));
+        assert!(d.message.contains("`rough` is not a sweep parameter"), "{}", d.rendered);
+    }
+
+    #[test]
+    fn type_errors_name_the_key() {
+        let d = err(&GOOD.replace("rel = 1e-5", "rel = \"small\""));
+        assert!(d.rendered.contains("s.toml:"), "{}", d.rendered);
+        assert!(d.line >= 14, "{}", d.rendered);
+    }
+}
