@@ -157,14 +157,68 @@ pub fn inverse_sqrt(e: f32) -> f32 {
     (1.0 / libm::sqrt(f64::from(e))) as f32
 }
 
+/// The constant of `degrees`: the spec inherits it from
+/// `x * 57.295779513082322865` ("Floating Point Accuracy"), the literal
+/// rounded to the working type. Note `180.0 / PI` in f32 is one ULP lower
+/// (57.295776), which is why the literal is spelt out.
+#[allow(clippy::excessive_precision)] // the spec's literal, digit for digit
+pub const DEGREES_PER_RADIAN: f64 = 57.295_779_513_082_322_865;
+/// The constant of `radians`: `x * 0.017453292519943295474` (same section).
+#[allow(clippy::excessive_precision)] // the spec's literal, digit for digit
+pub const RADIANS_PER_DEGREE: f64 = 0.017_453_292_519_943_295_474;
+
 #[inline(always)]
 pub fn degrees(e: f32) -> f32 {
-    e * (180.0 / std::f32::consts::PI)
+    e * DEGREES_PER_RADIAN as f32
 }
 
 #[inline(always)]
 pub fn radians(e: f32) -> f32 {
-    e * (std::f32::consts::PI / 180.0)
+    e * RADIANS_PER_DEGREE as f32
+}
+
+// ---------------------------------------------------------------- f16 formulas
+//
+// The spec defines these built-ins by an expression evaluated in the working
+// type ("Floating Point Accuracy": "inherited from"); for f16 every step of
+// that expression is an f16 operation and rounds to binary16. Computing the
+// whole expression in f32 and rounding once would be more accurate but is
+// not what the formula gives (e.g. mix(0.8315h, 1.006h, 0.06555h)). Inputs
+// are f16 values carried as f32; each `round_f16` below ends one f16
+// operation (correctly rounded, see the module docs).
+
+/// f16 `e1 % e2` = `e1 - e2 * trunc(e1 / e2)`, four f16 operations.
+#[inline(always)]
+pub fn frem_f16(a: f32, b: f32) -> f32 {
+    let q = libm::truncf(round_f16(a / b));
+    round_f16(a - round_f16(b * q))
+}
+
+/// f16 `mix(e1, e2, e3)` = `e1 * (1 - e3) + e2 * e3`, each step in f16.
+#[inline(always)]
+pub fn mix_f16(a: f32, b: f32, t: f32) -> f32 {
+    round_f16(round_f16(a * round_f16(1.0 - t)) + round_f16(b * t))
+}
+
+/// f16 `smoothstep`: `t = clamp((x - lo) / (hi - lo), 0, 1)`, then
+/// `t * t * (3 - 2 * t)`, each step in f16.
+#[inline(always)]
+pub fn smoothstep_f16(lo: f32, hi: f32, x: f32) -> f32 {
+    let t = fclamp(round_f16(round_f16(x - lo) / round_f16(hi - lo)), 0.0, 1.0);
+    round_f16(round_f16(t * t) * round_f16(3.0 - round_f16(2.0 * t)))
+}
+
+/// f16 `degrees`: `x * 57.295779513082322865` with the constant as f16
+/// (57.28125) and one f16 multiplication.
+#[inline(always)]
+pub fn degrees_f16(e: f32) -> f32 {
+    round_f16(e * f16::from_f64(DEGREES_PER_RADIAN).to_f32())
+}
+
+/// f16 `radians`: `x * 0.017453292519943295474`, the constant as f16.
+#[inline(always)]
+pub fn radians_f16(e: f32) -> f32 {
+    round_f16(e * f16::from_f64(RADIANS_PER_DEGREE).to_f32())
 }
 
 /// WGSL floating-point remainder: `e1 - e2 * trunc(e1 / e2)` (8.7, "%" on floats).

@@ -102,6 +102,9 @@ pub struct Compiler<'m> {
     used_overrides: Vec<String>,
     /// Mask stack: (role, slot); the top is the current mask.
     masks: Vec<(Role, Slot)>,
+    /// The mask stacks of the calling frames (outermost first) while a
+    /// callee is inlined.
+    outer_masks: Vec<Slot>,
     /// The span used for diagnostics of the expression being compiled.
     span: naga::Span,
     depth: usize,
@@ -117,11 +120,26 @@ impl<'m> Compiler<'m> {
         spec_bounds: bool,
     ) -> R<Compiled> {
         let module = &shader.module;
-        let Some((fh, func)) = module
+        // A plain function, or an entry point (its `@location`/`@builtin`
+        // parameters become ordinary inputs).
+        let found = module
             .functions
             .iter()
             .find(|(_, f)| f.name.as_deref() == Some(name))
-        else {
+            .map(|(fh, f)| (f, &shader.info[fh], module.functions.get_span(fh)))
+            .or_else(|| {
+                let i = module.entry_points.iter().position(|e| e.name == name)?;
+                let ep = &module.entry_points[i];
+                let span = ep
+                    .function
+                    .body
+                    .span_iter()
+                    .next()
+                    .map(|(_, s)| *s)
+                    .unwrap_or_default();
+                Some((&ep.function, shader.info.get_entry_point(i), span))
+            });
+        let Some((func, info, fspan)) = found else {
             let known = shader.function_names().join(", ");
             return Err(Diagnostic::without_position(
                 &shader.path,
@@ -144,15 +162,17 @@ impl<'m> Compiler<'m> {
             used_overrides: Vec::new(),
             spec_bounds,
             masks: Vec::new(),
-            span: module.functions.get_span(fh),
+            outer_masks: Vec::new(),
+            span: fspan,
             depth: 0,
         };
         for key in overrides.keys() {
-            if !module
-                .overrides
-                .iter()
-                .any(|(_, o)| o.name.as_deref() == Some(key.as_str()))
-            {
+            // A pipeline constant is keyed by the override's name or by its
+            // numeric `@id` (WebGPU "GPUProgrammableStage.constants").
+            if !module.overrides.iter().any(|(_, o)| {
+                o.name.as_deref() == Some(key.as_str())
+                    || o.id.is_some_and(|id| id.to_string() == *key)
+            }) {
                 let known: Vec<_> = module
                     .overrides
                     .iter()
@@ -172,7 +192,7 @@ impl<'m> Compiler<'m> {
         let mut input_slots = Vec::new();
         let mut args = Vec::new();
         for (i, a) in func.arguments.iter().enumerate() {
-            let span = module.functions.get_span(fh);
+            let span = fspan;
             let ty = c.ty_of_handle(a.ty, span)?;
             let slots = c.slots(ty.leaf_count());
             input_slots.extend(&slots);
@@ -183,7 +203,7 @@ impl<'m> Compiler<'m> {
             args.push(Item::Value(Val { ty, slots }));
         }
         let result = match &func.result {
-            Some(r) => Some(c.ty_of_handle(r.ty, module.functions.get_span(fh))?),
+            Some(r) => Some(c.ty_of_handle(r.ty, fspan)?),
             None => None,
         };
         let output_slots = result
@@ -212,7 +232,6 @@ impl<'m> Compiler<'m> {
                 c.privates.insert(gh, slots);
             }
         }
-        let info = &shader.info[fh];
         let mut frame = Frame {
             func,
             info,
@@ -757,10 +776,14 @@ impl<'m> Compiler<'m> {
                 let parent = self.current();
                 let (lmask, imask) = (self.slot(), self.slot());
                 let at = self.site("");
+                // A lane out of budget leaves every construct it is in, in
+                // the callers' frames too, so they do not go on computing
+                // with its unfinished values.
                 let kill: Box<[Slot]> = self
-                    .masks
+                    .outer_masks
                     .iter()
-                    .map(|m| m.1)
+                    .copied()
+                    .chain(self.masks.iter().map(|m| m.1))
                     .chain([lmask, imask])
                     .collect();
                 let mut b = Vec::new();
@@ -841,10 +864,13 @@ impl<'m> Compiler<'m> {
                 }
             }
             S::Kill => return Err(self.unsupported("`discard`")),
-            S::ControlBarrier(_) | S::MemoryBarrier(_) => return Err(self.unsupported("a barrier")),
+            S::ControlBarrier(b) | S::MemoryBarrier(b) => {
+                return Err(self.unsupported(barrier_name(*b)))
+            }
             S::ImageStore { .. } => return Err(self.unsupported("`textureStore`")),
-            S::Atomic { .. } | S::ImageAtomic { .. } => {
-                return Err(self.unsupported("an atomic operation"))
+            S::Atomic { fun, .. } => return Err(self.unsupported(atomic_name(fun))),
+            S::ImageAtomic { .. } => {
+                return Err(self.unsupported("`textureAtomic*` (an atomic texture operation)"))
             }
             S::WorkGroupUniformLoad { .. } => {
                 return Err(self.unsupported("`workgroupUniformLoad`"))
@@ -919,6 +945,8 @@ impl<'m> Compiler<'m> {
             root,
         };
         let saved_masks = std::mem::replace(&mut self.masks, vec![(Role::Root, root)]);
+        let outer_len = self.outer_masks.len();
+        self.outer_masks.extend(saved_masks.iter().map(|m| m.1));
         let saved_span = self.span;
         self.exits.push(0);
         self.direct_result.push(None);
@@ -927,6 +955,7 @@ impl<'m> Compiler<'m> {
         self.exits.pop();
         let direct = self.direct_result.pop().flatten();
         self.masks = saved_masks;
+        self.outer_masks.truncate(outer_len);
         self.span = saved_span;
         self.depth -= 1;
         Ok(direct.or(result))
@@ -1074,10 +1103,7 @@ impl<'m> Compiler<'m> {
                     }
                     None => {
                         let name = gv.name.clone().unwrap_or_default();
-                        return Err(self.unsupported(&format!(
-                            "global variable `{name}` in address space {:?}",
-                            gv.space
-                        )));
+                        return Err(self.unsupported(&global_name(&name, gv.space)));
                     }
                 }
             }
@@ -1176,13 +1202,31 @@ impl<'m> Compiler<'m> {
                 self.convert(out, &v, *kind, *convert, &ty)?
             }
             E::CallResult(_) => return Err(self.err("call result used before the call")),
-            E::ImageSample { .. } => return Err(self.unsupported("`textureSample`")),
-            E::ImageLoad { .. } => return Err(self.unsupported("`textureLoad`")),
-            E::ImageQuery { .. } => return Err(self.unsupported("a texture query")),
-            E::Derivative { .. } => {
-                return Err(self.unsupported("a derivative (`dpdx`/`dpdy`/`fwidth`)"))
+            E::ImageSample {
+                gather,
+                level,
+                depth_ref,
+                clamp_to_edge,
+                ..
+            } => {
+                let name =
+                    sample_name(gather.is_some(), level, depth_ref.is_some(), *clamp_to_edge);
+                return Err(self.unsupported(name));
             }
-            E::AtomicResult { .. } => return Err(self.unsupported("an atomic operation")),
+            E::ImageLoad { .. } => return Err(self.unsupported("`textureLoad`")),
+            E::ImageQuery { query, .. } => {
+                let name = match query {
+                    naga::ImageQuery::Size { .. } => "`textureDimensions`",
+                    naga::ImageQuery::NumLevels => "`textureNumLevels`",
+                    naga::ImageQuery::NumLayers => "`textureNumLayers`",
+                    naga::ImageQuery::NumSamples => "`textureNumSamples`",
+                };
+                return Err(self.unsupported(name));
+            }
+            E::Derivative { axis, ctrl, .. } => {
+                return Err(self.unsupported(&derivative_name(*axis, *ctrl)))
+            }
+            E::AtomicResult { .. } => return Err(self.unsupported("an atomic operation's result")),
             E::WorkGroupUniformLoadResult { .. } => {
                 return Err(self.unsupported("`workgroupUniformLoad`"))
             }
@@ -1323,7 +1367,8 @@ impl<'m> Compiler<'m> {
             (BO::Subtract, F16) => (run2::<H<FSub>>, "subtraction"),
             (BO::Multiply, F16) => (run2::<H<FMul>>, "multiplication"),
             (BO::Divide, F16) => (run2::<H<FDiv>>, "division"),
-            (BO::Modulo, F16) => (run2::<H<FRem>>, "remainder"),
+            // Inherited from e1 - e2 * trunc(e1 / e2), each step rounded to f16.
+            (BO::Modulo, F16) => (run2::<HRem>, "remainder"),
             (BO::Equal, F32 | F16) => (run2::<FEq>, ""),
             (BO::NotEqual, F32 | F16) => (run2::<FNe>, ""),
             (BO::Less, F32 | F16) => (run2::<FLt>, ""),
@@ -1782,8 +1827,11 @@ impl<'m> Compiler<'m> {
             (MF::Clamp, K::F32 | K::F16) => Some((fk3!(FClamp), "clamp")),
             (MF::Clamp, K::I32) => Some((run3::<SClamp>, "")),
             (MF::Clamp, K::U32) => Some((run3::<UClamp>, "")),
-            (MF::Mix, K::F32 | K::F16) => Some((fk3!(FMix), "mix")),
-            (MF::SmoothStep, K::F32 | K::F16) => Some((fk3!(FSmooth), "smoothstep")),
+            (MF::Mix, K::F32) => Some((run3::<FMix>, "mix")),
+            (MF::SmoothStep, K::F32) => Some((run3::<FSmooth>, "smoothstep")),
+            // The f16 forms round after every step of the spec's formula.
+            (MF::Mix, K::F16) => Some((run3::<HMix>, "mix")),
+            (MF::SmoothStep, K::F16) => Some((run3::<HSmooth>, "smoothstep")),
             (MF::Fma, K::F32) => Some((run3::<FFma>, "fma")),
             (MF::Fma, K::F16) => Some((run3::<HFma>, "fma")),
             (MF::ExtractBits, K::U32) => Some((run3::<UExtract>, "")),
@@ -2239,8 +2287,11 @@ fn float_unary(fun: MF, f16: bool) -> Option<K1> {
         MF::Asinh => fk!(FAsinh),
         MF::Acosh => fk!(FAcosh),
         MF::Atanh => fk!(FAtanh),
-        MF::Radians => fk!(FRadians),
-        MF::Degrees => fk!(FDegrees),
+        // f16: the spec's constant is itself rounded to f16 (see `arith`).
+        MF::Radians if f16 => run1::<HRadians>,
+        MF::Degrees if f16 => run1::<HDegrees>,
+        MF::Radians => run1::<FRadians>,
+        MF::Degrees => run1::<FDegrees>,
         MF::Ceil => fk!(FCeil),
         MF::Floor => fk!(FFloor),
         MF::Round => fk!(FRound),
@@ -2273,5 +2324,87 @@ pub fn lane_bits(kind: K, v: f64) -> u32 {
     match kind {
         K::F16 => half::f16::from_f64(v).to_f32().to_bits(),
         k => super::ty::f64_to_bits(k, v),
+    }
+}
+
+// ---------------------------------------------------------------- names of unsupported constructs
+
+/// The WGSL built-in behind a naga `ImageSample` ("Texture Built-in Functions").
+fn sample_name(
+    gather: bool,
+    level: &naga::SampleLevel,
+    compare: bool,
+    clamp_to_edge: bool,
+) -> &'static str {
+    use naga::SampleLevel as L;
+    match (gather, compare, level) {
+        (true, true, _) => "`textureGatherCompare`",
+        (true, false, _) => "`textureGather`",
+        (false, true, L::Zero) => "`textureSampleCompareLevel`",
+        (false, true, _) => "`textureSampleCompare`",
+        _ if clamp_to_edge => "`textureSampleBaseClampToEdge`",
+        (false, false, L::Auto) => "`textureSample`",
+        (false, false, L::Zero | L::Exact(_)) => "`textureSampleLevel`",
+        (false, false, L::Bias(_)) => "`textureSampleBias`",
+        (false, false, L::Gradient { .. }) => "`textureSampleGrad`",
+    }
+}
+
+/// `dpdx`, `dpdyFine`, `fwidthCoarse`, ... ("Derivative Built-in Functions").
+fn derivative_name(axis: naga::DerivativeAxis, ctrl: naga::DerivativeControl) -> String {
+    let base = match axis {
+        naga::DerivativeAxis::X => "dpdx",
+        naga::DerivativeAxis::Y => "dpdy",
+        naga::DerivativeAxis::Width => "fwidth",
+    };
+    let suffix = match ctrl {
+        naga::DerivativeControl::Coarse => "Coarse",
+        naga::DerivativeControl::Fine => "Fine",
+        naga::DerivativeControl::None => "",
+    };
+    format!("`{base}{suffix}`")
+}
+
+/// `atomicAdd`, ... ("Atomic Built-in Functions").
+fn atomic_name(fun: &naga::AtomicFunction) -> &'static str {
+    use naga::AtomicFunction as A;
+    match fun {
+        A::Add => "`atomicAdd`",
+        A::Subtract => "`atomicSub`",
+        A::And => "`atomicAnd`",
+        A::ExclusiveOr => "`atomicXor`",
+        A::InclusiveOr => "`atomicOr`",
+        A::Min => "`atomicMin`",
+        A::Max => "`atomicMax`",
+        A::Exchange { compare: None } => "`atomicExchange`",
+        A::Exchange { compare: Some(_) } => "`atomicCompareExchangeWeak`",
+    }
+}
+
+/// `workgroupBarrier`, ... ("Synchronization Built-in Functions").
+fn barrier_name(b: naga::Barrier) -> &'static str {
+    if b.contains(naga::Barrier::WORK_GROUP) {
+        "`workgroupBarrier`"
+    } else if b.contains(naga::Barrier::STORAGE) {
+        "`storageBarrier`"
+    } else if b.contains(naga::Barrier::TEXTURE) {
+        "`textureBarrier`"
+    } else if b.contains(naga::Barrier::SUB_GROUP) {
+        "`subgroupBarrier`"
+    } else {
+        "a barrier"
+    }
+}
+
+/// A module-scope variable outside the CPU subset, as declared in WGSL.
+fn global_name(name: &str, space: naga::AddressSpace) -> String {
+    use naga::AddressSpace as A;
+    match space {
+        A::Uniform => format!("`var<uniform> {name}` (a uniform buffer)"),
+        A::Storage { .. } => format!("`var<storage> {name}` (a storage buffer)"),
+        A::WorkGroup => format!("`var<workgroup> {name}` (workgroup memory)"),
+        A::Handle => format!("the resource `{name}` (a texture or sampler binding)"),
+        A::Immediate => format!("`var<immediate> {name}`"),
+        other => format!("the global `{name}` in address space {other:?}"),
     }
 }

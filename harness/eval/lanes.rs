@@ -217,6 +217,8 @@ op1! {
     FSaturate(x: f32) -> f32 { arith::saturate(x) }
     FDegrees(x: f32) -> f32 { arith::degrees(x) }
     FRadians(x: f32) -> f32 { arith::radians(x) }
+    HDegrees(x: f32) -> f32 { arith::degrees_f16(x) }
+    HRadians(x: f32) -> f32 { arith::radians_f16(x) }
     FQuantize16(x: f32) -> f32 { arith::quantize_to_f16(x) }
     FIsNan(x: f32) -> bool { x.is_nan() }
     FIsInf(x: f32) -> bool { x.is_infinite() }
@@ -252,6 +254,7 @@ op2! {
     FMul(x: f32, y: f32) -> f32 { x * y }
     FDiv(x: f32, y: f32) -> f32 { x / y }
     FRem(x: f32, y: f32) -> f32 { arith::frem(x, y) }
+    HRem(x: f32, y: f32) -> f32 { arith::frem_f16(x, y) }
     FMin(x: f32, y: f32) -> f32 { arith::fmin(x, y) }
     FMax(x: f32, y: f32) -> f32 { arith::fmax(x, y) }
     FPow(x: f32, y: f32) -> f32 { arith::pow(x, y) }
@@ -301,6 +304,9 @@ op3! {
     FClamp(x: f32, lo: f32, hi: f32) -> f32 { arith::fclamp(x, lo, hi) }
     FMix(x: f32, y: f32, t: f32) -> f32 { arith::mix(x, y, t) }
     FSmooth(lo: f32, hi: f32, x: f32) -> f32 { arith::smoothstep(lo, hi, x) }
+    // f16 formula built-ins: every step rounded to binary16 (see `arith`).
+    HMix(x: f32, y: f32, t: f32) -> f32 { arith::mix_f16(x, y, t) }
+    HSmooth(lo: f32, hi: f32, x: f32) -> f32 { arith::smoothstep_f16(lo, hi, x) }
     FFma(x: f32, y: f32, z: f32) -> f32 { libm::fmaf(x, y, z) }
     SClamp(x: i32, lo: i32, hi: i32) -> i32 { x.max(lo).min(hi) }
     UClamp(x: u32, lo: u32, hi: u32) -> u32 { x.max(lo).min(hi) }
