@@ -382,26 +382,61 @@ impl Replay {
             detail,
         };
         let scope = self.device.push_error_scope(wgpu::ErrorFilter::Validation);
-        let module = self
-            .device
-            .create_shader_module(wgpu::ShaderModuleDescriptor {
-                label: Some("shadegate replay module"),
-                source: wgpu::ShaderSource::Wgsl(wrapped.source.as_str().into()),
-            });
-        let constants: Vec<(&str, f64)> = overrides.iter().map(|(k, v)| (k.as_str(), *v)).collect();
-        let pipeline = self
-            .device
-            .create_compute_pipeline(&wgpu::ComputePipelineDescriptor {
-                label: Some("shadegate replay pipeline"),
-                layout: None,
-                module: &module,
-                entry_point: Some(&wrapped.entry_point),
-                compilation_options: wgpu::PipelineCompilationOptions {
-                    constants: &constants,
-                    zero_initialize_workgroup_memory: true,
-                },
-                cache: None,
-            });
+        // WebGPU keys an override that has an `@id` by that number only; the
+        // evaluator takes its name too, so translate names of such overrides.
+        let keys: Vec<(String, f64)> = overrides
+            .iter()
+            .map(|(k, v)| {
+                let id = shader
+                    .module
+                    .overrides
+                    .iter()
+                    .find(|(_, o)| o.name.as_deref() == Some(k.as_str()))
+                    .and_then(|(_, o)| o.id);
+                (id.map_or_else(|| k.clone(), |n| n.to_string()), *v)
+            })
+            .collect();
+        let constants: Vec<(&str, f64)> = keys.iter().map(|(k, v)| (k.as_str(), *v)).collect();
+        // naga's translation for the driver runs inside these calls and
+        // panics on some valid modules (its SPIR-V writer on a pointer to an
+        // array element or struct member passed to a function): report that
+        // as this function's failure instead of taking the process down.
+        let built = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
+            let module = self
+                .device
+                .create_shader_module(wgpu::ShaderModuleDescriptor {
+                    label: Some("shadegate replay module"),
+                    source: wgpu::ShaderSource::Wgsl(wrapped.source.as_str().into()),
+                });
+            let pipeline = self
+                .device
+                .create_compute_pipeline(&wgpu::ComputePipelineDescriptor {
+                    label: Some("shadegate replay pipeline"),
+                    layout: None,
+                    module: &module,
+                    entry_point: Some(&wrapped.entry_point),
+                    compilation_options: wgpu::PipelineCompilationOptions {
+                        constants: &constants,
+                        zero_initialize_workgroup_memory: true,
+                    },
+                    cache: None,
+                });
+            (module, pipeline)
+        }));
+        let (module, pipeline) = match built {
+            Ok(b) => b,
+            Err(payload) => {
+                drop(scope);
+                let what = payload
+                    .downcast_ref::<String>()
+                    .map(String::as_str)
+                    .or_else(|| payload.downcast_ref::<&str>().copied())
+                    .unwrap_or("(no message)");
+                return Err(pipeline_error(format!(
+                    "the shader translator inside wgpu panicked: {what}"
+                )));
+            }
+        };
         if let Some(e) = pollster::block_on(scope.pop()) {
             let info = pollster::block_on(module.get_compilation_info());
             let mut detail = e.to_string();

@@ -1,5 +1,6 @@
 // ptr<function> arguments, arrays and structs passed by value, private
-// variables.
+// variables. (A pointer to an array element passed to a function is in
+// pointer_element.wgsl: the module that holds it does not reach the driver.)
 
 fn swap_i(p: ptr<function, i32>, q: ptr<function, i32>) {
     let t = *p;
@@ -27,7 +28,7 @@ fn set_elem(p: ptr<function, array<i32, 4>>, i: u32, v: i32) {
 fn pointer_array(v: array<i32, 4>, k: u32) -> array<i32, 4> {
     var a = v;
     set_elem(&a, k, a[0] + a[3]);
-    bump(&a[(k + 1u) & 3u], 10);
+    set_elem(&a, k + 1u, a[(k + 1u) & 3u] + 10);
     return a;
 }
 
