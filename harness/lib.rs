@@ -7,6 +7,7 @@ pub mod eval;
 pub mod gate;
 pub mod golden;
 pub mod reference;
+pub mod report;
 pub mod suite;
 pub mod sweep;
 #[cfg(feature = "replay")]
