@@ -129,12 +129,12 @@ pub fn describe_point(leaves: &[(String, ScalarKind)], inputs: &[&[u32]], i: usi
         .join(", ")
 }
 
+/// Input leaves and their columns, to show the inputs of the worst points.
+pub type Inputs<'a> = (&'a [(String, ScalarKind)], &'a [&'a [u32]]);
+
 /// A plain-text table, one row per leaf: points, exact share, share within
 /// 2 ULP, worst distance and where it occurred (with the inputs when given).
-pub fn format_table(
-    rows: &[LeafUlp],
-    inputs: Option<(&[(String, ScalarKind)], &[&[u32]])>,
-) -> String {
+pub fn format_table(rows: &[LeafUlp], inputs: Option<Inputs<'_>>) -> String {
     let mut out = format!(
         "{:<16} {:>5} {:>9} {:>9} {:>9} {:>10}  {}\n",
         "leaf", "type", "points", "exact", "<=2 ULP", "worst ULP", "worst point"

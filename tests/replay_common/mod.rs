@@ -341,7 +341,7 @@ pub fn points(doms: &[Dom], random: usize, seed: u64) -> Vec<Vec<u32>> {
     for _ in 0..random {
         for ((c, d), e) in cols.iter_mut().zip(doms).zip(&edges) {
             let r = splitmix(&mut s);
-            c.push(if r % 8 == 0 && !e.is_empty() {
+            c.push(if r.is_multiple_of(8) && !e.is_empty() {
                 e[(r >> 8) as usize % e.len()]
             } else {
                 d.random(&mut s)
@@ -405,6 +405,10 @@ pub enum Bound {
     PerPoint(fn(&[f64]) -> Option<Allow>),
 }
 
+/// Whether one result (leaf index, the point's inputs as numbers, result
+/// bits) is one the spec allows.
+pub type SpecSet = fn(usize, &[f64], u32) -> bool;
+
 /// One differential case: a corpus function, its argument domains and the
 /// allowance with its reason.
 pub struct Case {
@@ -419,7 +423,7 @@ pub struct Case {
     /// Instead of comparing the two back ends with each other: whether one
     /// result (leaf index, the point's inputs as numbers, result bits) is
     /// one the spec allows. Both the CPU's and the device's must be.
-    pub spec_set: Option<fn(usize, &[f64], u32) -> bool>,
+    pub spec_set: Option<SpecSet>,
     /// Least share of points that must be compared (the others are
     /// indeterminate or outside the allowance's range): a guard against a
     /// domain that silently tests nothing.
