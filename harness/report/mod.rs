@@ -317,12 +317,12 @@ impl Progress {
         }
     }
 
-    /// Check `i` (0-based) of `n`, called `name`, is starting.
+    /// Check `i` (1-based) of `n`, called `name`, is starting.
     pub fn step(&self, i: usize, n: usize, name: &str) {
         if !self.on {
             return;
         }
-        eprint!("\r\x1b[2K[{}/{}] {}", (i + 1).min(n), n, name);
+        eprint!("\r\x1b[2K[{i}/{n}] {name}");
         self.shown.set(true);
     }
 }
