@@ -1,0 +1,146 @@
+//! The demo suite (shadegate.toml) replayed on a WebGPU device: every check's
+//! sweep runs through the CPU evaluator and the device. Integer and bool
+//! results must be bit-identical; float results must meet the check's own
+//! tolerance against its reference model on both back ends; on the
+//! planted-mistakes library the same checks must fail on both back ends.
+//! Per check, the ULP distribution of device against CPU is printed
+//! (`--nocapture`).
+#![cfg(feature = "replay")]
+
+mod replay_common;
+
+use std::path::{Path, PathBuf};
+
+use shadegate::compare;
+use shadegate::eval::{bits_to_f64, ScalarKind};
+use shadegate::gate;
+use shadegate::replay;
+use shadegate::suite::{self, Check, Suite};
+use shadegate::wgsl::Shader;
+
+fn suite() -> Suite {
+    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("shadegate.toml");
+    suite::load(&path).unwrap_or_else(|d| panic!("{d}"))
+}
+
+fn as_f64(cols: &[Vec<u32>], kinds: &[(String, ScalarKind)]) -> Vec<Vec<f64>> {
+    cols.iter()
+        .zip(kinds)
+        .map(|(c, (_, k))| c.iter().map(|&b| bits_to_f64(*k, b)).collect())
+        .collect()
+}
+
+/// The planted-mistakes copy of a shader of the good library.
+fn planted(path: &Path) -> PathBuf {
+    let s = path
+        .to_string_lossy()
+        .replace("shaders/brackenfold/", "shaders/brackenfold-planted/");
+    PathBuf::from(s)
+}
+
+/// Run one check on both back ends; returns whether each passed its
+/// reference comparison (None without a reference).
+fn replay_check(suite: &Suite, check: &Check, shader_path: &Path) -> Option<(bool, bool)> {
+    let replay = replay_common::device()?;
+    let ev = gate::evaluate(suite, check, Some(shader_path))
+        .unwrap_or_else(|e| panic!("check `{}`: {e}", check.name));
+    let shader = Shader::load(shader_path).unwrap_or_else(|d| panic!("{d}"));
+    let cols: Vec<&[u32]> = ev.input_columns.iter().map(|c| c.as_slice()).collect();
+    let gpu = replay
+        .eval(&shader, &check.function, &check.overrides, &cols)
+        .unwrap_or_else(|e| panic!("check `{}`: {e}", check.name));
+    let table = replay::ulp_summary(&ev.outputs, &ev.output_columns, &gpu);
+    println!(
+        "check `{}` ({}, `{}`) on {}: device against the CPU evaluator\n{}",
+        check.name,
+        shader_path.display(),
+        check.function,
+        replay.adapter().name,
+        replay::format_table(&table, Some((&ev.inputs, &cols)))
+    );
+    for ((name, kind), row) in ev.outputs.iter().zip(&table) {
+        if !kind.is_float() {
+            assert_eq!(
+                row.exact, row.points,
+                "check `{}`: {kind:?} leaf `{name}` must be bit-identical on the device",
+                check.name
+            );
+        }
+    }
+    let model = check.reference?;
+    let want = gate::reference_columns(check, model, &ev.points, &check.reference_args)
+        .unwrap_or_else(|e| panic!("check `{}`: {e}", check.name));
+    let half = ev.outputs.iter().any(|(_, k)| *k == ScalarKind::F16);
+    let describe = |i: usize| ev.points.describe(i);
+    let cpu_stats = compare::compare(
+        &as_f64(&ev.output_columns, &ev.outputs),
+        &want,
+        &check.tolerance,
+        half,
+        &describe,
+    );
+    let gpu_stats = compare::compare(
+        &as_f64(&gpu, &ev.outputs),
+        &want,
+        &check.tolerance,
+        half,
+        &describe,
+    );
+    println!(
+        "  against reference `{}` ({}): CPU {} of {} points failed (worst rel {:.3e}), device {} failed (worst rel {:.3e})",
+        model.name,
+        check.tolerance.describe(),
+        cpu_stats.failed,
+        cpu_stats.points,
+        cpu_stats.max_rel,
+        gpu_stats.failed,
+        gpu_stats.max_rel
+    );
+    Some((cpu_stats.failed == 0, gpu_stats.failed == 0))
+}
+
+#[test]
+fn demo_library_passes_its_reference_checks_on_both_back_ends() {
+    if replay_common::device().is_none() {
+        return;
+    }
+    let suite = suite();
+    let mut with_reference = 0;
+    for check in &suite.checks {
+        let path = suite.resolve(&check.shader);
+        if let Some((cpu, gpu)) = replay_check(&suite, check, &path) {
+            assert!(cpu, "check `{}` fails on the CPU evaluator", check.name);
+            assert!(gpu, "check `{}` fails on the device", check.name);
+            with_reference += 1;
+        }
+    }
+    assert!(
+        with_reference >= 3,
+        "only {with_reference} checks have a reference"
+    );
+}
+
+#[test]
+fn planted_mistakes_fail_on_both_back_ends() {
+    if replay_common::device().is_none() {
+        return;
+    }
+    let suite = suite();
+    let mut failing = 0;
+    for check in &suite.checks {
+        let path = planted(&suite.resolve(&check.shader));
+        assert!(path.exists(), "no planted copy {}", path.display());
+        if let Some((cpu, gpu)) = replay_check(&suite, check, &path) {
+            assert_eq!(
+                cpu,
+                gpu,
+                "check `{}` on the planted library: CPU {} but device {}",
+                check.name,
+                if cpu { "passes" } else { "fails" },
+                if gpu { "passes" } else { "fails" }
+            );
+            failing += usize::from(!cpu);
+        }
+    }
+    assert!(failing >= 3, "only {failing} planted mistakes were caught");
+}
