@@ -225,13 +225,18 @@ impl Program {
         issues
     }
 
-    /// Evaluate on the calling thread only (for benchmarks and tests).
+    /// Evaluate on the calling thread only (for benchmarks and tests). Same
+    /// results and issues, in the same order, as [`Program::eval`].
     pub fn eval_serial(&self, inputs: &[&[u32]], outputs: &mut Vec<Vec<u32>>) -> Vec<LaneIssue> {
         let n = self.prepare(inputs, outputs);
         let mut m = self.machine();
         let mut outs: Vec<&mut [u32]> = outputs.iter_mut().map(|c| &mut c[..]).collect();
         let _ = n;
-        self.run_range(&mut m, inputs, &mut outs, 0)
+        let mut issues = self.run_range(&mut m, inputs, &mut outs, 0);
+        // Within a batch, index and budget issues come before the non-finite
+        // ones; sort by point (stably) as `eval` does.
+        issues.sort_by_key(|i| i.point);
+        issues
     }
 
     fn machine(&self) -> Machine {
