@@ -109,7 +109,7 @@ struct RawCheck {
     args: BTreeMap<String, Spanned<String>>,
     #[serde(default)]
     reference_args: BTreeMap<String, Spanned<String>>,
-    sweep: Spanned<toml::Table>,
+    sweep: Spanned<BTreeMap<String, Spanned<toml::Value>>>,
     random: Option<RawRandom>,
     tolerance: Option<Spanned<RawTolerance>>,
     golden_tolerance: Option<Spanned<RawTolerance>>,
@@ -245,7 +245,7 @@ fn convert(cx: &Ctx, rc: RawCheck, span: std::ops::Range<usize>) -> Result<Check
     let sweep_span = rc.sweep.span();
     let mut params = Vec::new();
     for (key, value) in rc.sweep.get_ref() {
-        let d = domain(value).map_err(|m| cx.err(sweep_span.clone(), format!("key `sweep.{key}`: {m}")))?;
+        let d = domain(value.get_ref()).map_err(|m| cx.err(value.span(), format!("key `sweep.{key}`: {m}")))?;
         params.push((key.clone(), d));
     }
     let random = rc.random.map(|r| Random { count: r.count, seed: r.seed });
