@@ -109,7 +109,7 @@ struct RawCheck {
     args: BTreeMap<String, Spanned<String>>,
     #[serde(default)]
     reference_args: BTreeMap<String, Spanned<String>>,
-    sweep: Spanned<BTreeMap<String, Spanned<toml::Value>>>,
+    sweep: Spanned<toml::Table>,
     random: Option<RawRandom>,
     tolerance: Option<Spanned<RawTolerance>>,
     golden_tolerance: Option<Spanned<RawTolerance>>,
@@ -206,6 +206,29 @@ pub fn parse(path: &Path, text: &str) -> Result<Suite, Diagnostic> {
     Ok(Suite { path: path.to_path_buf(), root, checks })
 }
 
+/// The span of the line inside `table` (a byte range of `text`) that defines `key`
+/// (`key = ...`, `"key" = ...` or `key.sub = ...`); the whole table when not found.
+fn key_in(text: &str, table: std::ops::Range<usize>, key: &str) -> std::ops::Range<usize> {
+    let body = &text[table.start.min(text.len())..table.end.min(text.len())];
+    let mut offset = table.start;
+    for line in body.split_inclusive('\n') {
+        let t = line.trim_start();
+        let rest = t
+            .strip_prefix(key)
+            .or_else(|| t.strip_prefix(&format!("\"{key}\"")))
+            .or_else(|| t.strip_prefix(&format!("'{key}'")));
+        if let Some(rest) = rest {
+            let rest = rest.trim_start();
+            if rest.starts_with('=') || rest.starts_with('.') {
+                let start = offset + (line.len() - t.len());
+                return start..offset + line.trim_end().len();
+            }
+        }
+        offset += line.len();
+    }
+    table
+}
+
 fn span_of_line(text: &str, line: u32) -> std::ops::Range<usize> {
     let start: usize = text.split_inclusive('\n').take(line.saturating_sub(1) as usize).map(str::len).sum();
     start..start
@@ -245,7 +268,10 @@ fn convert(cx: &Ctx, rc: RawCheck, span: std::ops::Range<usize>) -> Result<Check
     let sweep_span = rc.sweep.span();
     let mut params = Vec::new();
     for (key, value) in rc.sweep.get_ref() {
-        let d = domain(value.get_ref()).map_err(|m| cx.err(value.span(), format!("key `sweep.{key}`: {m}")))?;
+        // The table keeps the file's order (toml's `preserve_order`), which the grid and
+        // golden headers depend on; its values carry no spans, so find the key's line.
+        let at = key_in(cx.text, sweep_span.clone(), key);
+        let d = domain(value).map_err(|m| cx.err(at, format!("key `sweep.{key}`: {m}")))?;
         params.push((key.clone(), d));
     }
     let random = rc.random.map(|r| Random { count: r.count, seed: r.seed });
