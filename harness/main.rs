@@ -1,1 +1,376 @@
-fn main() {}
+//! The `shadegate` command: a thin layer over the library. Every subcommand
+//! is a library call a `cargo test` user can make too. Exit codes: 0 all
+//! checks pass, 1 a check failed, 2 bad input or usage.
+
+use std::collections::BTreeMap;
+use std::io::Write as _;
+use std::path::{Path, PathBuf};
+use std::process::ExitCode;
+
+use clap::{Parser, Subcommand, ValueEnum};
+use shadegate::eval::{bits_to_f64, f64_to_bits, Arithmetic, Program};
+use shadegate::gate::{self, RunResult};
+use shadegate::suite::{self, Suite};
+use shadegate::wgsl::Shader;
+use shadegate::{reference, report};
+
+#[derive(Parser)]
+#[command(name = "shadegate", version, about = "Check WGSL shading math on the CPU against f64 reference models and golden data")]
+struct Cli {
+    #[command(subcommand)]
+    command: Command,
+}
+
+#[derive(Clone, Copy, ValueEnum)]
+enum Format {
+    /// Readable report (colour on a terminal unless NO_COLOR is set).
+    Text,
+    Json,
+    /// JUnit XML, for CI systems.
+    Junit,
+}
+
+#[derive(Subcommand)]
+enum Command {
+    /// Run the checks of a suite.
+    Run {
+        /// The suite file.
+        #[arg(long, default_value = "shadegate.toml")]
+        suite: PathBuf,
+        /// Only checks whose name contains this text.
+        filter: Option<String>,
+        #[arg(long, value_enum, default_value = "text")]
+        format: Format,
+        /// Write the report here instead of standard output.
+        #[arg(long)]
+        output: Option<PathBuf>,
+    },
+    /// Record the golden datasets of a suite's checks (refused when CI is set).
+    Record {
+        #[arg(long, default_value = "shadegate.toml")]
+        suite: PathBuf,
+        /// Only checks whose name contains this text.
+        filter: Option<String>,
+    },
+    /// Evaluate one function over points and write a CSV of inputs and results.
+    Eval {
+        /// The WGSL file.
+        shader: PathBuf,
+        /// The function to evaluate.
+        function: String,
+        /// A point as `name=value,...` (vectors as `n=0;0;1`); repeatable.
+        #[arg(long = "point")]
+        points: Vec<String>,
+        /// A CSV file with one column per argument leaf (`n.x`, `alpha`, ...).
+        #[arg(long)]
+        input: Option<PathBuf>,
+        /// Use the sweep of this check of the suite instead.
+        #[arg(long)]
+        check: Option<String>,
+        #[arg(long, default_value = "shadegate.toml")]
+        suite: PathBuf,
+        /// Override values as `name=value`; repeatable.
+        #[arg(long = "override")]
+        overrides: Vec<String>,
+        /// Evaluate with every inexact operation moved within the WGSL spec's
+        /// accuracy bounds (seeded).
+        #[arg(long)]
+        spec_bounds: Option<u64>,
+        /// Write the CSV here instead of standard output.
+        #[arg(long)]
+        output: Option<PathBuf>,
+    },
+    /// Compare two versions of a WGSL file over a check's sweep.
+    Compare {
+        old: PathBuf,
+        new: PathBuf,
+        /// The check whose function, sweep and arguments to use.
+        #[arg(long)]
+        check: String,
+        #[arg(long, default_value = "shadegate.toml")]
+        suite: PathBuf,
+        #[arg(long, value_enum, default_value = "text")]
+        format: Format,
+    },
+    /// List the checks of a suite.
+    List {
+        #[arg(long, default_value = "shadegate.toml")]
+        suite: PathBuf,
+    },
+    /// List the reference models.
+    Models,
+    /// Write the Markdown tolerance ledger of a suite (runs its checks).
+    Ledger {
+        #[arg(long, default_value = "shadegate.toml")]
+        suite: PathBuf,
+        #[arg(long)]
+        output: Option<PathBuf>,
+    },
+}
+
+/// A usage or input error: message for stderr, exit code 2.
+struct Bad(String);
+
+impl<T: std::fmt::Display> From<T> for Bad {
+    fn from(e: T) -> Bad {
+        Bad(e.to_string())
+    }
+}
+
+fn main() -> ExitCode {
+    let cli = Cli::parse();
+    match dispatch(cli.command) {
+        Ok(code) => ExitCode::from(code),
+        Err(Bad(msg)) => {
+            eprintln!("{}", msg.trim_end());
+            ExitCode::from(2)
+        }
+    }
+}
+
+fn load_suite(path: &Path) -> Result<Suite, Bad> {
+    suite::load(path).map_err(|d| Bad(d.rendered))
+}
+
+fn emit(text: &str, output: Option<&Path>) -> Result<(), Bad> {
+    match output {
+        Some(p) => std::fs::write(p, text).map_err(|e| Bad(format!("{}: cannot write: {e}", p.display()))),
+        None => {
+            let mut out = std::io::stdout().lock();
+            out.write_all(text.as_bytes()).map_err(|e| Bad(e.to_string()))
+        }
+    }
+}
+
+fn render(run: &RunResult, format: Format, to_file: bool) -> String {
+    match format {
+        Format::Text => report::text(run, !to_file && report::use_colour()),
+        Format::Json => report::json(run),
+        Format::Junit => report::junit(run),
+    }
+}
+
+fn exit_of(run: &RunResult) -> u8 {
+    run.exit_code() as u8
+}
+
+fn dispatch(cmd: Command) -> Result<u8, Bad> {
+    match cmd {
+        Command::Run { suite, filter, format, output } => {
+            let s = load_suite(&suite)?;
+            let progress = report::Progress::new();
+            let run = gate::run(&s, filter.as_deref(), |i, n, name| progress.step(i, n, name));
+            if run.checks.is_empty() {
+                return Err(Bad(format!("no check of {} matches `{}`", suite.display(), filter.unwrap_or_default())));
+            }
+            emit(&render(&run, format, output.is_some()), output.as_deref())?;
+            Ok(exit_of(&run))
+        }
+        Command::Record { suite, filter } => {
+            let s = load_suite(&suite)?;
+            let mut any = false;
+            for c in s.checks.iter().filter(|c| filter.as_deref().is_none_or(|f| c.name.contains(f))) {
+                if c.golden.is_none() {
+                    continue;
+                }
+                any = true;
+                let path = gate::record(&s, c).map_err(Bad)?;
+                eprintln!("recorded {} ({} points) -> {}", c.name, c.sweep.len(), path.display());
+            }
+            if !any {
+                return Err(Bad("no check with a `golden` dataset matches".into()));
+            }
+            Ok(0)
+        }
+        Command::Eval { shader, function, points, input, check, suite, overrides, spec_bounds, output } => {
+            let ov = parse_overrides(&overrides)?;
+            let arith = spec_bounds.map_or(Arithmetic::Exact, |seed| Arithmetic::SpecBounds { seed });
+            let csv = eval_csv(&shader, &function, &points, input.as_deref(), check.as_deref(), &suite, &ov, arith)?;
+            emit(&csv, output.as_deref())?;
+            Ok(0)
+        }
+        Command::Compare { old, new, check, suite, format } => {
+            let s = load_suite(&suite)?;
+            let c = s.checks.iter().find(|c| c.name == check).ok_or_else(|| Bad(format!("no check named `{check}` in {}", suite.display())))?;
+            let r = gate::compare_versions(&s, c, &old, &new).map_err(Bad)?;
+            let run = RunResult { suite: s.path.display().to_string(), checks: vec![r] };
+            emit(&render(&run, format, false), None)?;
+            Ok(exit_of(&run))
+        }
+        Command::List { suite } => {
+            let s = load_suite(&suite)?;
+            let mut out = String::new();
+            for c in &s.checks {
+                let against: Vec<String> = c
+                    .reference
+                    .map(|m| format!("reference {}", m.name))
+                    .into_iter()
+                    .chain(c.golden.as_ref().map(|g| format!("golden {}", g.display())))
+                    .collect();
+                out.push_str(&format!(
+                    "{}  {}::{}  {} points  against {}  tolerance {} ({})\n",
+                    c.name,
+                    c.shader.display(),
+                    c.function,
+                    c.sweep.len(),
+                    against.join(" and "),
+                    c.tolerance.describe(),
+                    c.tolerance.reason
+                ));
+            }
+            emit(&out, None)?;
+            Ok(0)
+        }
+        Command::Models => {
+            emit(&reference::listing(), None)?;
+            Ok(0)
+        }
+        Command::Ledger { suite, output } => {
+            let s = load_suite(&suite)?;
+            let run = gate::run(&s, None, |_, _, _| {});
+            emit(&report::ledger(&run), output.as_deref())?;
+            Ok(0)
+        }
+    }
+}
+
+fn parse_overrides(list: &[String]) -> Result<BTreeMap<String, f64>, Bad> {
+    let mut m = BTreeMap::new();
+    for o in list {
+        let (k, v) = o.split_once('=').ok_or_else(|| Bad(format!("--override `{o}`: expected name=value")))?;
+        let v: f64 = v.trim().parse().map_err(|_| Bad(format!("--override `{o}`: `{v}` is not a number")))?;
+        m.insert(k.trim().to_string(), v);
+    }
+    Ok(m)
+}
+
+/// Parse a value for a leaf: numbers, `true`/`false`.
+fn parse_num(s: &str, what: &str) -> Result<f64, Bad> {
+    match s.trim() {
+        "true" => Ok(1.0),
+        "false" => Ok(0.0),
+        t => t.parse::<f64>().map_err(|_| Bad(format!("{what}: `{t}` is not a number"))),
+    }
+}
+
+#[allow(clippy::too_many_arguments)]
+fn eval_csv(
+    shader: &Path,
+    function: &str,
+    points: &[String],
+    input: Option<&Path>,
+    check: Option<&str>,
+    suite_path: &Path,
+    overrides: &BTreeMap<String, f64>,
+    arith: Arithmetic,
+) -> Result<String, Bad> {
+    let sources = usize::from(!points.is_empty()) + usize::from(input.is_some()) + usize::from(check.is_some());
+    if sources != 1 {
+        return Err(Bad("give the points one way: --point (repeatable), --input FILE.csv or --check NAME".into()));
+    }
+    let (leaves, cols, program) = if let Some(name) = check {
+        let s = load_suite(suite_path)?;
+        let c = s.checks.iter().find(|c| c.name == name).ok_or_else(|| Bad(format!("no check named `{name}` in {}", suite_path.display())))?;
+        let mut c = c.clone();
+        c.function = function.to_string();
+        c.overrides.extend(overrides.clone());
+        c.arithmetic = arith;
+        let ev = gate::evaluate(&s, &c, Some(shader)).map_err(Bad)?;
+        print_issues(&ev.issues);
+        let mut out = ev.output_columns;
+        let leaves = ev.inputs;
+        let mut all = ev.input_columns;
+        all.append(&mut out);
+        (leaves, all, ev.program)
+    } else {
+        let sh = Shader::load(shader).map_err(|d| Bad(d.rendered))?;
+        let program = Program::compile_with(&sh, function, overrides, arith).map_err(|d| Bad(d.rendered))?;
+        let leaves = program.input_leaves();
+        let mut cols: Vec<Vec<u32>> = vec![Vec::new(); leaves.len()];
+        if let Some(path) = input {
+            read_input_csv(path, &leaves, &mut cols)?;
+        } else {
+            for (pi, p) in points.iter().enumerate() {
+                let mut given: BTreeMap<String, Vec<f64>> = BTreeMap::new();
+                for part in p.split(',') {
+                    let (k, v) = part.split_once('=').ok_or_else(|| Bad(format!("--point `{p}`: expected name=value,...")))?;
+                    let vals = v.split(';').map(|x| parse_num(x, &format!("--point {}", pi + 1))).collect::<Result<Vec<_>, _>>()?;
+                    given.insert(k.trim().to_string(), vals);
+                }
+                let mut used = 0;
+                for (name, ty) in program.params() {
+                    let vals = given.get(name).ok_or_else(|| Bad(format!("--point {}: missing argument `{name}` ({ty})", pi + 1)))?;
+                    if vals.len() != ty.leaf_count() {
+                        return Err(Bad(format!("--point {}: `{name}` is {ty} and needs {} value(s) separated by `;`, got {}", pi + 1, ty.leaf_count(), vals.len())));
+                    }
+                    for (k, v) in ty.leaves().into_iter().zip(vals) {
+                        cols[used].push(f64_to_bits(k, *v));
+                        used += 1;
+                    }
+                }
+                if let Some(extra) = given.keys().find(|k| !program.params().iter().any(|(n, _)| n == *k)) {
+                    return Err(Bad(format!("--point {}: `{function}` has no argument `{extra}`", pi + 1)));
+                }
+            }
+        }
+        let refs: Vec<&[u32]> = cols.iter().map(|c| &c[..]).collect();
+        let mut out = Vec::new();
+        let issues = program.try_eval(&refs, &mut out).map_err(Bad)?;
+        print_issues(&issues);
+        cols.append(&mut out);
+        (leaves, cols, program)
+    };
+    let names: Vec<(String, shadegate::eval::ScalarKind)> = leaves.into_iter().chain(program.output_leaves()).collect();
+    let mut w = csv::Writer::from_writer(Vec::new());
+    w.write_record(names.iter().map(|(n, _)| n.as_str())).map_err(|e| Bad(e.to_string()))?;
+    let n = cols.first().map_or(0, |c| c.len());
+    for i in 0..n {
+        let row: Vec<String> = names
+            .iter()
+            .zip(&cols)
+            .map(|((_, k), c)| {
+                let v = bits_to_f64(*k, c[i]);
+                if k.is_float() {
+                    // Shortest text that reads back to the same f32/f16.
+                    format!("{:?}", v as f32)
+                } else {
+                    format!("{v}")
+                }
+            })
+            .collect();
+        w.write_record(&row).map_err(|e| Bad(e.to_string()))?;
+    }
+    let bytes = w.into_inner().map_err(|e| Bad(e.to_string()))?;
+    Ok(String::from_utf8_lossy(&bytes).into_owned())
+}
+
+fn read_input_csv(path: &Path, leaves: &[(String, shadegate::eval::ScalarKind)], cols: &mut [Vec<u32>]) -> Result<(), Bad> {
+    let mut r = csv::Reader::from_path(path).map_err(|e| Bad(format!("{}: {e}", path.display())))?;
+    let headers = r.headers().map_err(|e| Bad(format!("{}:1: {e}", path.display())))?.clone();
+    let mut index = Vec::new();
+    for (name, _) in leaves {
+        let i = headers.iter().position(|h| h.trim() == name).ok_or_else(|| {
+            Bad(format!("{}:1: no column `{name}` (the function's inputs are: {})", path.display(), leaves.iter().map(|l| l.0.as_str()).collect::<Vec<_>>().join(", ")))
+        })?;
+        index.push(i);
+    }
+    for (row, rec) in r.records().enumerate() {
+        let line = row + 2;
+        let rec = rec.map_err(|e| Bad(format!("{}:{line}: {e}", path.display())))?;
+        for (j, (&i, (name, k))) in index.iter().zip(leaves).enumerate() {
+            let s = rec.get(i).ok_or_else(|| Bad(format!("{}:{line}: missing value for `{name}`", path.display())))?;
+            let v = parse_num(s, &format!("{}:{line}: column `{name}`", path.display()))?;
+            cols[j].push(f64_to_bits(*k, v));
+        }
+    }
+    Ok(())
+}
+
+fn print_issues(issues: &[shadegate::eval::LaneIssue]) {
+    for i in issues.iter().take(10) {
+        eprintln!("warning: point {}: {} (line {}, column {}; inputs {})", i.point, i.message, i.line, i.column, i.inputs);
+    }
+    if issues.len() > 10 {
+        eprintln!("warning: {} more point issues", issues.len() - 10);
+    }
+}

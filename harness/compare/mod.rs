@@ -269,6 +269,9 @@ pub fn constant_factor(got: &[Vec<f64>], want: &[Vec<f64>], failing: &[usize]) -
         return None;
     }
     let r = (lo + hi) / 2.0;
+    if (r - 1.0).abs() < 1e-3 {
+        return None; // rounding noise, not a factor
+    }
     let name = FACTORS.iter().find(|(f, _)| ((r - f) / f).abs() < 2e-3).map(|(_, n)| format!(" = {n}")).unwrap_or_default();
     Some(format!("every failing result is the expected value times {r:.6}{name}"))
 }

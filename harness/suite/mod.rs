@@ -480,6 +480,12 @@ reason = "f32 rounding"
         let s = parse(Path::new("dir/s.toml"), GOOD).unwrap();
         assert_eq!(s.checks.len(), 1);
         let c = &s.checks[0];
+        // File order, not alphabetical: n_dot_h before roughness here, so
+        // check the reverse too.
+        assert_eq!(c.sweep.params[0].0, "n_dot_h");
+        let swapped = GOOD.replace("n_dot_h = { linear = [0.0, 1.0, 4] }\nroughness = { edges = [0.0, 1.0] }", "roughness = { edges = [0.0, 1.0] }\nn_dot_h = { linear = [0.0, 1.0, 4] }");
+        let s2 = parse(Path::new("dir/s.toml"), &swapped).unwrap();
+        assert_eq!(s2.checks[0].sweep.params[0].0, "roughness");
         assert_eq!(c.sweep.params.len(), 2);
         assert_eq!(c.line, 3);
         assert_eq!(s.resolve(&c.shader), PathBuf::from("dir/a.wgsl"));
