@@ -78,7 +78,10 @@ fn not_toml_at_all() {
 #[test]
 fn unknown_key_in_a_check() {
     expect_error(
-        &edit("function = \"d_ggx\"", "function = \"d_ggx\"\nfuncton = \"x\""),
+        &edit(
+            "function = \"d_ggx\"",
+            "function = \"d_ggx\"\nfuncton = \"x\"",
+        ),
         6,
         &["funct"],
     );
@@ -91,7 +94,11 @@ fn unknown_key_at_the_top() {
 
 #[test]
 fn unknown_key_in_the_tolerance() {
-    expect_error(&edit("rel = 2e-6", "rel = 2e-6\nrelative = 1"), 19, &["relative"]);
+    expect_error(
+        &edit("rel = 2e-6", "rel = 2e-6\nrelative = 1"),
+        19,
+        &["relative"],
+    );
 }
 
 #[test]
@@ -119,12 +126,20 @@ fn tolerance_with_an_empty_reason() {
 
 #[test]
 fn tolerance_without_any_bound() {
-    expect_error(&edit("rel = 2e-6\n", ""), 17, &["tolerance", "abs", "rel", "ulp"]);
+    expect_error(
+        &edit("rel = 2e-6\n", ""),
+        17,
+        &["tolerance", "abs", "rel", "ulp"],
+    );
 }
 
 #[test]
 fn negative_bound() {
-    expect_error(&edit("rel = 2e-6", "rel = -1.0"), 17, &["tolerance", "non-negative"]);
+    expect_error(
+        &edit("rel = 2e-6", "rel = -1.0"),
+        17,
+        &["tolerance", "non-negative"],
+    );
 }
 
 #[test]
@@ -138,7 +153,10 @@ fn bad_nonfinite_policy() {
 
 #[test]
 fn a_reference_check_needs_a_tolerance() {
-    let text = edit("[check.tolerance]\nrel = 2e-6\nreason = \"a few f32 roundings\"\n", "");
+    let text = edit(
+        "[check.tolerance]\nrel = 2e-6\nreason = \"a few f32 roundings\"\n",
+        "",
+    );
     expect_error(&text, 2, &["tolerance", "reason"]);
 }
 
@@ -154,7 +172,10 @@ fn unknown_reference_model() {
 #[test]
 fn reference_argument_the_model_does_not_have() {
     expect_error(
-        &edit("{ alpha = \"roughness * roughness\" }", "{ alpha = \"roughness * roughness\", beta = \"1\" }"),
+        &edit(
+            "{ alpha = \"roughness * roughness\" }",
+            "{ alpha = \"roughness * roughness\", beta = \"1\" }",
+        ),
         2,
         &["reference_args.beta", "ggx_ndf"],
     );
@@ -164,7 +185,10 @@ fn reference_argument_the_model_does_not_have() {
 fn reference_parameter_with_no_source() {
     // n_dot_h comes from the sweep; without it the model's parameter has nothing to bind.
     expect_error(
-        &edit("n_dot_h = { linear = [0.0, 1.0, 5] }", "cos_h = { linear = [0.0, 1.0, 5] }"),
+        &edit(
+            "n_dot_h = { linear = [0.0, 1.0, 5] }",
+            "cos_h = { linear = [0.0, 1.0, 5] }",
+        ),
         2,
         &["n_dot_h"],
     );
@@ -277,15 +301,24 @@ fn check_name_that_cannot_name_a_file() {
 
 #[test]
 fn check_comparing_against_nothing() {
-    let text = edit("reference = \"ggx_ndf\"\nreference_args = { alpha = \"roughness * roughness\" }\n", "")
-        .replace("[check.tolerance]\nrel = 2e-6\nreason = \"a few f32 roundings\"\n", "");
+    let text = edit(
+        "reference = \"ggx_ndf\"\nreference_args = { alpha = \"roughness * roughness\" }\n",
+        "",
+    )
+    .replace(
+        "[check.tolerance]\nrel = 2e-6\nreason = \"a few f32 roundings\"\n",
+        "",
+    );
     expect_error(&text, 2, &["reference", "golden"]);
 }
 
 #[test]
 fn golden_of_the_wrong_type() {
     expect_error(
-        &edit("reference = \"ggx_ndf\"", "reference = \"ggx_ndf\"\ngolden = 3"),
+        &edit(
+            "reference = \"ggx_ndf\"",
+            "reference = \"ggx_ndf\"\ngolden = 3",
+        ),
         7,
         &["golden"],
     );
@@ -294,7 +327,10 @@ fn golden_of_the_wrong_type() {
 #[test]
 fn unknown_number_model() {
     expect_error(
-        &edit("function = \"d_ggx\"", "function = \"d_ggx\"\narithmetic = \"fast\""),
+        &edit(
+            "function = \"d_ggx\"",
+            "function = \"d_ggx\"\narithmetic = \"fast\"",
+        ),
         6,
         &["arithmetic", "fast"],
     );
