@@ -1,0 +1,293 @@
+//! Numbers and phrases shared by the report formats, so the terminal report, the JUnit
+//! failure text and the ledger say the same thing the same way.
+
+use crate::compare::{NanPolicy, PointReport, Stats, Tolerance};
+
+/// An error or statistic: up to 3 significant digits, exponent form far from 1,
+/// `NaN` / `inf` / `-inf` for non-finite values.
+pub fn num(x: f64) -> String {
+    sig(x, 3)
+}
+
+/// A computed or expected value: an f32 value in its shortest form that reads back to
+/// the same f32 (what the shader produced), anything else with 9 significant digits.
+pub fn value(x: f64) -> String {
+    if !x.is_finite() || x == 0.0 {
+        return sig(x, 3);
+    }
+    let f = x as f32;
+    if f64::from(f) == x {
+        let a = f.abs();
+        if (1e-4..1e7).contains(&a) {
+            format!("{f}")
+        } else {
+            format!("{f:e}")
+        }
+    } else {
+        sig(x, 9)
+    }
+}
+
+/// `x` with `digits` significant digits, trailing zeros dropped.
+fn sig(x: f64, digits: usize) -> String {
+    if x.is_nan() {
+        return "NaN".into();
+    }
+    if x.is_infinite() {
+        return if x > 0.0 { "inf".into() } else { "-inf".into() };
+    }
+    if x == 0.0 {
+        return "0".into();
+    }
+    let a = x.abs();
+    if (1e-3..1e5).contains(&a) {
+        let decimals = (digits as i32 - 1 - a.log10().floor() as i32).max(0) as usize;
+        trim(&format!("{x:.decimals$}"))
+    } else {
+        let s = format!("{x:.*e}", digits - 1);
+        match s.split_once('e') {
+            Some((m, e)) => format!("{}e{e}", trim(m)),
+            None => s,
+        }
+    }
+}
+
+/// Drop trailing zeros after a decimal point (`1.500` → `1.5`, `2.000` → `2`).
+fn trim(s: &str) -> String {
+    if s.contains('.') {
+        s.trim_end_matches('0').trim_end_matches('.').to_string()
+    } else {
+        s.to_string()
+    }
+}
+
+/// A count with thousands separators: `120,000`.
+pub fn count(n: usize) -> String {
+    let s = n.to_string();
+    let mut out = String::with_capacity(s.len() + s.len() / 3);
+    for (i, c) in s.chars().enumerate() {
+        if i > 0 && (s.len() - i).is_multiple_of(3) {
+            out.push(',');
+        }
+        out.push(c);
+    }
+    out
+}
+
+/// `1 check`, `3 checks`.
+pub fn counted(n: usize, noun: &str) -> String {
+    format!("{} {noun}{}", count(n), if n == 1 { "" } else { "s" })
+}
+
+/// A share (0..=1) as a percentage: `12.5 %`, `0.0042 %`.
+pub fn percent(share: f64) -> String {
+    let p = share * 100.0;
+    if p == 0.0 || p >= 0.1 {
+        format!("{} %", trim(&format!("{p:.1}")))
+    } else {
+        format!("{} %", sig(p, 2))
+    }
+}
+
+/// Seconds for people: `41 ms`, `2.35 s`.
+pub fn duration(seconds: f64) -> String {
+    if !seconds.is_finite() || seconds < 0.0 {
+        "? s".into()
+    } else if seconds < 1.0 {
+        format!("{:.0} ms", seconds * 1000.0)
+    } else {
+        format!("{seconds:.2} s")
+    }
+}
+
+/// One or more components: `0.25` or `(0.25, 0.5, 1)`.
+pub fn values(v: &[f64]) -> String {
+    let parts: Vec<String> = v.iter().map(|x| value(*x)).collect();
+    if parts.len() == 1 {
+        parts[0].clone()
+    } else {
+        format!("({})", parts.join(", "))
+    }
+}
+
+/// The tolerance in the suite's own terms ([`Tolerance::describe`]), with what its NaN
+/// policy and a bit-exact bound mean.
+pub fn tolerance(t: &Tolerance) -> String {
+    let mut s = t.describe();
+    let exact = t.abs.is_none()
+        && t.rel.is_none()
+        && t.ulp.as_ref().is_none_or(|v| v.iter().all(|x| *x == 0.0));
+    if exact {
+        s.push_str(" (bit-exact)");
+    }
+    if t.nan == NanPolicy::Skip {
+        s.push_str(", points expected non-finite skipped");
+    }
+    s
+}
+
+/// Headroom as a factor: `∞` when nothing moved, `8.2×`, `0.0012×` when failing.
+pub fn headroom(s: &Stats) -> String {
+    if s.headroom.is_infinite() {
+        "∞".into()
+    } else {
+        format!("{}×", num(s.headroom))
+    }
+}
+
+/// What the headroom means, in words.
+pub fn headroom_words(s: &Stats) -> String {
+    if s.headroom.is_infinite() {
+        "no error at all".into()
+    } else if s.headroom >= 1.0 {
+        format!("the tolerance is {} the worst error", headroom(s))
+    } else if s.headroom > 0.0 {
+        format!(
+            "the worst point is {}× over the tolerance",
+            num(1.0 / s.headroom)
+        )
+    } else if s.nonfinite > 0 {
+        "results are NaN or infinite where finite values are expected".into()
+    } else {
+        "a point is unboundedly wrong (a non-finite value where another is expected, \
+         or an error against a zero bound)"
+            .into()
+    }
+}
+
+/// The warning for a tolerance flagged stale, or `None`.
+pub fn stale_warning(s: &Stats) -> Option<String> {
+    if !s.stale_tolerance {
+        None
+    } else if s.headroom.is_infinite() {
+        Some(
+            "stale tolerance: nothing moved at all, yet the tolerance accepts error; \
+             a bit-exact bound would catch any change"
+                .into(),
+        )
+    } else {
+        Some(format!(
+            "stale tolerance: it is {} looser than the worst error measured; \
+             tighten it so it catches a regression of that size",
+            headroom(s)
+        ))
+    }
+}
+
+/// The three worst errors: `max abs 1.2e-7 · max rel 3e-7 · max 2.5 ULP`.
+pub fn worst_errors(s: &Stats) -> String {
+    format!(
+        "max abs {} · max rel {} · max {} ULP",
+        num(s.max_abs),
+        num(s.max_rel),
+        num(s.max_ulp)
+    )
+}
+
+/// Points actually compared (those not skipped by the NaN policy).
+pub fn compared(s: &Stats) -> usize {
+    s.points.saturating_sub(s.skipped)
+}
+
+/// `12 of 1,000 points fail (1.2 %)`.
+pub fn failing(s: &Stats) -> String {
+    format!(
+        "{} of {} points fail ({})",
+        count(s.failed),
+        count(compared(s)),
+        percent(s.fail_share)
+    )
+}
+
+const COMPONENTS: [&str; 4] = ["x", "y", "z", "w"];
+
+/// One listed point: `#12 roughness=0.5: got 0.1 want 0.12 · abs 0.02 · rel 0.167 · 2.1e5 ULP`.
+/// For several output components, the component whose error is reported is named.
+pub fn point(p: &PointReport) -> String {
+    let params = if p.params.is_empty() {
+        String::new()
+    } else {
+        format!(" {}", p.params)
+    };
+    let component = if p.got.len() > 1 {
+        let c = COMPONENTS
+            .get(p.component)
+            .map_or_else(|| p.component.to_string(), |c| c.to_string());
+        format!(" · in {c}")
+    } else {
+        String::new()
+    };
+    format!(
+        "#{}{params}: got {} want {}{component} · abs {} · rel {} · {} ULP",
+        p.index,
+        values(&p.got),
+        values(&p.want),
+        num(p.abs),
+        num(p.rel),
+        num(p.ulp)
+    )
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn numbers_read_well() {
+        assert_eq!(num(0.0), "0");
+        assert_eq!(num(1.5e-7), "1.5e-7");
+        assert_eq!(num(1.23456), "1.23");
+        assert_eq!(num(12.5), "12.5");
+        assert_eq!(num(1234.6), "1235");
+        assert_eq!(num(2.0e6), "2e6");
+        assert_eq!(num(f64::INFINITY), "inf");
+        assert_eq!(num(f64::NEG_INFINITY), "-inf");
+        assert_eq!(num(f64::NAN), "NaN");
+    }
+
+    #[test]
+    fn values_show_f32_results_in_their_shortest_form() {
+        assert_eq!(value(f64::from(0.1f32)), "0.1");
+        assert_eq!(value(f64::from(1e-30f32)), "1e-30");
+        assert_eq!(value(0.1), "0.1");
+        assert_eq!(value(1.0 / 3.0), "0.333333333");
+        assert_eq!(values(&[1.0, f64::NAN]), "(1, NaN)");
+    }
+
+    #[test]
+    fn counts_shares_and_durations() {
+        assert_eq!(count(1234567), "1,234,567");
+        assert_eq!(count(123), "123");
+        assert_eq!(percent(0.125), "12.5 %");
+        assert_eq!(percent(1.0), "100 %");
+        assert_eq!(percent(0.0), "0 %");
+        assert_eq!(percent(4.2e-5), "0.0042 %");
+        assert_eq!(duration(0.0412), "41 ms");
+        assert_eq!(duration(2.345), "2.35 s");
+    }
+
+    #[test]
+    fn headroom_in_words() {
+        let s = |h: f64| Stats {
+            headroom: h,
+            ..Stats::default()
+        };
+        assert_eq!(headroom(&s(f64::INFINITY)), "∞");
+        assert_eq!(
+            headroom_words(&s(8.0)),
+            "the tolerance is 8× the worst error"
+        );
+        assert_eq!(
+            headroom_words(&s(0.01)),
+            "the worst point is 100× over the tolerance"
+        );
+        let nan = Stats {
+            nonfinite: 2,
+            ..s(0.0)
+        };
+        assert_eq!(
+            headroom_words(&nan),
+            "results are NaN or infinite where finite values are expected"
+        );
+    }
+}

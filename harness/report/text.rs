@@ -1,0 +1,298 @@
+//! The terminal report: one status line per check, the full explanation under each
+//! check that failed or could not run, one short line per comparison of a passing
+//! check, and a closing summary.
+
+use std::fmt::Write as _;
+
+use super::format::{self, count, duration, num, point};
+use super::Style;
+use crate::gate::{CheckResult, Comparison, RunResult, Verdict};
+
+/// Indentation of everything under a status line.
+const UNDER: &str = "       ";
+
+/// The readable report of a run, with ANSI colour only when `colour` is true.
+///
+/// ```text
+/// PASS   ggx_lobe  d_ggx in shaders/lib.wgsl · 12,000 points · 41 ms
+///        reference ggx: max abs 1.2e-7 · max rel 3e-7 · max 2.5 ULP · headroom 6.4×
+/// FAIL   fresnel   f_schlick in shaders/lib.wgsl · 2,000 points · 12 ms
+///        reference fresnel_schlick, tolerance abs 1e-6 or rel 1e-5
+///          reason: ...
+/// ```
+///
+/// Control characters in the run's texts (an ESC in a message, say) are shown as `�`, so
+/// data can never move the cursor or colour the terminal, with or without `colour`.
+pub fn text(run: &RunResult, colour: bool) -> String {
+    let run = &terminal_safe(run);
+    let st = Style { on: colour };
+    let mut out = String::new();
+    let _ = writeln!(
+        out,
+        "{} · suite {} · {}",
+        st.bold("shadegate"),
+        run.suite,
+        format::counted(run.checks.len(), "check")
+    );
+    out.push('\n');
+    let width = run
+        .checks
+        .iter()
+        .map(|c| c.name.chars().count())
+        .max()
+        .unwrap_or(0);
+    for c in &run.checks {
+        check(&mut out, c, st, width);
+    }
+    out.push('\n');
+    let summary = format!(
+        "{} passed · {} failed · {} could not run",
+        run.passed(),
+        run.failed(),
+        run.errors()
+    );
+    let summary = match run.exit_code() {
+        0 => st.pass(&summary),
+        1 => st.fail(&summary),
+        _ => st.error(&summary),
+    };
+    let points: usize = run.checks.iter().map(|c| c.points).sum();
+    let seconds: f64 = run.checks.iter().map(|c| c.seconds).sum();
+    let _ = writeln!(
+        out,
+        "{summary} {}",
+        st.dim(&format!(
+            "({} points in {})",
+            count(points),
+            duration(seconds)
+        ))
+    );
+    out
+}
+
+/// The explanation of one check without its status line and without colour: the body
+/// of a JUnit failure (whose XML escaping deals with control characters itself).
+pub(crate) fn details(c: &CheckResult) -> String {
+    let mut out = String::new();
+    body(&mut out, c, Style { on: false });
+    out.lines()
+        .map(|l| l.strip_prefix(UNDER).unwrap_or(l))
+        .fold(String::new(), |mut acc, l| {
+            acc.push_str(l);
+            acc.push('\n');
+            acc
+        })
+}
+
+fn check(out: &mut String, c: &CheckResult, st: Style, width: usize) {
+    let label = match c.verdict {
+        Verdict::Pass => st.pass("PASS "),
+        Verdict::Fail => st.fail("FAIL "),
+        Verdict::Error => st.error("ERROR"),
+    };
+    let pad = width.saturating_sub(c.name.chars().count());
+    let _ = writeln!(
+        out,
+        "{label}  {}{}  {}",
+        st.bold(&c.name),
+        " ".repeat(pad),
+        st.dim(&format!(
+            "{} in {} · {} points · {}",
+            c.function,
+            c.shader,
+            count(c.points),
+            duration(c.seconds)
+        ))
+    );
+    body(out, c, st);
+}
+
+fn body(out: &mut String, c: &CheckResult, st: Style) {
+    if let Some(e) = &c.error {
+        let mut lines = e.lines();
+        if let Some(first) = lines.next() {
+            let _ = writeln!(out, "{UNDER}{} {first}", st.error("could not run:"));
+        }
+        for line in lines {
+            let _ = writeln!(out, "{UNDER}  {line}");
+        }
+    }
+    for k in &c.comparisons {
+        if c.verdict == Verdict::Pass || k.stats.failed == 0 {
+            short(out, k, st);
+        } else {
+            long(out, k, st);
+        }
+    }
+    if !c.issues.is_empty() {
+        if c.verdict == Verdict::Pass {
+            for g in &c.issues {
+                let _ = writeln!(
+                    out,
+                    "{UNDER}{} {}× {} at {}: {}",
+                    st.warn("note:"),
+                    count(g.count),
+                    g.kind,
+                    g.location,
+                    g.message
+                );
+            }
+        } else {
+            let _ = writeln!(out, "{UNDER}evaluator issues:");
+            for g in &c.issues {
+                let _ = writeln!(
+                    out,
+                    "{UNDER}  {} {} at {}: {}",
+                    st.warn(&format!("{}×", count(g.count))),
+                    g.kind,
+                    g.location,
+                    g.message
+                );
+                let _ = writeln!(out, "{UNDER}    first at {}", g.example);
+            }
+        }
+    }
+    if !c.findings.is_empty() {
+        if c.verdict == Verdict::Pass {
+            for f in &c.findings {
+                let _ = writeln!(out, "{UNDER}{} {f}", st.warn("note:"));
+            }
+        } else {
+            let _ = writeln!(out, "{UNDER}what the numbers say:");
+            for f in &c.findings {
+                let _ = writeln!(out, "{UNDER}  - {f}");
+            }
+        }
+    }
+}
+
+/// A comparison within tolerance: one line, plus a warning when the tolerance is stale.
+fn short(out: &mut String, k: &Comparison, st: Style) {
+    let s = &k.stats;
+    let _ = write!(
+        out,
+        "{UNDER}{}: {} · headroom {}",
+        k.against,
+        format::worst_errors(s),
+        format::headroom(s)
+    );
+    if let Some(changed) = s.changed {
+        let _ = write!(out, " · {} points changed bits", count(changed));
+    }
+    if s.skipped > 0 {
+        let _ = write!(out, " · {} skipped", count(s.skipped));
+    }
+    out.push('\n');
+    if let Some(w) = format::stale_warning(s) {
+        let _ = writeln!(out, "{UNDER}{} {w}", st.warn("warning:"));
+    }
+}
+
+/// A failing comparison, in full.
+fn long(out: &mut String, k: &Comparison, st: Style) {
+    let s = &k.stats;
+    let t = &k.tolerance;
+    let _ = writeln!(
+        out,
+        "{UNDER}{}, tolerance {}",
+        st.bold(&k.against),
+        format::tolerance(t)
+    );
+    let _ = writeln!(out, "{UNDER}  reason: {}", t.reason);
+    let _ = writeln!(
+        out,
+        "{UNDER}  {} · headroom {}: {}",
+        st.fail(&format::failing(s)),
+        format::headroom(s),
+        format::headroom_words(s)
+    );
+    let _ = writeln!(
+        out,
+        "{UNDER}  {} · rms abs {}",
+        format::worst_errors(s),
+        num(s.rms_abs)
+    );
+    if s.skipped > 0 {
+        let _ = writeln!(
+            out,
+            "{UNDER}  {} points skipped (expected value not finite)",
+            count(s.skipped)
+        );
+    }
+    if let Some(changed) = s.changed {
+        let _ = writeln!(
+            out,
+            "{UNDER}  {} of {} points changed bits",
+            count(changed),
+            count(s.points)
+        );
+    }
+    if let Some(w) = &s.worst {
+        let _ = writeln!(out, "{UNDER}  worst point {}", point(w));
+    }
+    if !s.first_failures.is_empty() {
+        let _ = writeln!(out, "{UNDER}  first failing points, in sweep order:");
+        for p in &s.first_failures {
+            let _ = writeln!(out, "{UNDER}    {}", point(p));
+        }
+    }
+    if s.nonfinite > 0 {
+        let _ = writeln!(
+            out,
+            "{UNDER}  {}",
+            st.fail(&format!(
+                "{} points give NaN or infinity where the expected value is finite:",
+                count(s.nonfinite)
+            ))
+        );
+        for p in &s.first_nonfinite {
+            let _ = writeln!(out, "{UNDER}    {}", point(p));
+        }
+    }
+}
+
+/// Every text of the run with its control characters (other than line feed and tab)
+/// replaced by U+FFFD.
+fn terminal_safe(run: &RunResult) -> RunResult {
+    fn clean(s: &mut String) {
+        if s.chars().any(unsafe_char) {
+            *s = s
+                .chars()
+                .map(|c| if unsafe_char(c) { '\u{FFFD}' } else { c })
+                .collect();
+        }
+    }
+    fn unsafe_char(c: char) -> bool {
+        c.is_control() && c != '\n' && c != '\t'
+    }
+    let mut run = run.clone();
+    clean(&mut run.suite);
+    for c in &mut run.checks {
+        for s in [&mut c.name, &mut c.shader, &mut c.function] {
+            clean(s);
+        }
+        if let Some(e) = &mut c.error {
+            clean(e);
+        }
+        c.findings.iter_mut().for_each(clean);
+        for g in &mut c.issues {
+            for s in [&mut g.kind, &mut g.message, &mut g.location, &mut g.example] {
+                clean(s);
+            }
+        }
+        for k in &mut c.comparisons {
+            clean(&mut k.against);
+            clean(&mut k.tolerance.reason);
+            let s = &mut k.stats;
+            let points = s
+                .worst
+                .iter_mut()
+                .chain(&mut s.first_failures)
+                .chain(&mut s.first_nonfinite);
+            for p in points {
+                clean(&mut p.params);
+            }
+        }
+    }
+    run
+}
