@@ -44,6 +44,13 @@ enum Command {
         /// Write the report here instead of standard output.
         #[arg(long)]
         output: Option<PathBuf>,
+        /// Evaluate on a WebGPU device (wgpu) instead of the CPU evaluator;
+        /// needs a build with `--features replay`.
+        #[arg(long)]
+        replay: bool,
+        /// With --replay: the first adapter whose name contains this text.
+        #[arg(long, requires = "replay")]
+        adapter: Option<String>,
     },
     /// Record the golden datasets of a suite's checks (refused when CI is set).
     Record {
@@ -156,10 +163,14 @@ fn exit_of(run: &RunResult) -> u8 {
 
 fn dispatch(cmd: Command) -> Result<u8, Bad> {
     match cmd {
-        Command::Run { suite, filter, format, output } => {
+        Command::Run { suite, filter, format, output, replay, adapter } => {
             let s = load_suite(&suite)?;
             let progress = report::Progress::new();
-            let run = gate::run(&s, filter.as_deref(), |i, n, name| progress.step(i, n, name));
+            let run = if replay {
+                run_replay(&s, filter.as_deref(), adapter.as_deref(), &progress)?
+            } else {
+                gate::run(&s, filter.as_deref(), |i, n, name| progress.step(i, n, name))
+            };
             if run.checks.is_empty() {
                 return Err(Bad(format!("no check of {} matches `{}`", suite.display(), filter.unwrap_or_default())));
             }
@@ -232,6 +243,29 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
             Ok(0)
         }
     }
+}
+
+#[cfg(feature = "replay")]
+fn run_replay(s: &Suite, filter: Option<&str>, adapter: Option<&str>, progress: &report::Progress) -> Result<RunResult, Bad> {
+    use shadegate::replay::Replay;
+    let device = Replay::new(adapter).map_err(|e| Bad(format!("--replay: {e}")))?;
+    let label = device.adapter().to_string();
+    eprintln!("device: {label}");
+    let backend = |ev: &gate::Evaluated| -> Result<(Vec<Vec<u32>>, String), String> {
+        let shader = Shader::load(ev.program.path()).map_err(|d| d.rendered)?;
+        let kernel = device.prepare(&shader, ev.program.function(), &BTreeMap::new()).map_err(|e| e.to_string())?;
+        let refs: Vec<&[u32]> = ev.input_columns.iter().map(|c| &c[..]).collect();
+        let cols = kernel.eval(&refs).map_err(|e| e.to_string())?;
+        Ok((cols, label.clone()))
+    };
+    let backend = std::sync::Mutex::new(backend);
+    let call = |ev: &gate::Evaluated| (backend.lock().expect("device"))(ev);
+    Ok(gate::run_on(s, filter, |i, n, name| progress.step(i, n, name), Some(&call)))
+}
+
+#[cfg(not(feature = "replay"))]
+fn run_replay(_: &Suite, _: Option<&str>, _: Option<&str>, _: &report::Progress) -> Result<RunResult, Bad> {
+    Err(Bad("--replay needs a build with the replay back end: cargo run --release --features replay -- run --replay".into()))
 }
 
 fn parse_overrides(list: &[String]) -> Result<BTreeMap<String, f64>, Bad> {

@@ -351,8 +351,21 @@ fn findings_for(stats: &Stats, got: &[Vec<f64>], want: &[Vec<f64>], tol: &Tolera
     (f, failing)
 }
 
+/// Another back end for a check's function: given the CPU evaluation, return
+/// the output columns it computes for the same inputs (in the evaluator's
+/// encoding) and a label naming it (adapter, driver).
+pub type Backend<'a> = &'a (dyn Fn(&Evaluated) -> Result<(Vec<Vec<u32>>, String), String> + Sync);
+
 /// Run one check.
 pub fn run_check(suite: &Suite, check: &Check) -> CheckResult {
+    run_check_on(suite, check, None)
+}
+
+/// Run one check with the outputs of `backend` instead of the CPU
+/// evaluator's: the reference comparison uses the back end's results, the
+/// golden comparison (a record of the CPU evaluator) is replaced by a
+/// back end versus CPU summary per output leaf.
+pub fn run_check_on(suite: &Suite, check: &Check, backend: Option<Backend>) -> CheckResult {
     let t = Instant::now();
     let mut r = CheckResult {
         name: check.name.clone(),
@@ -366,7 +379,7 @@ pub fn run_check(suite: &Suite, check: &Check) -> CheckResult {
         findings: Vec::new(),
         seconds: 0.0,
     };
-    match run_inner(suite, check, &mut r) {
+    match run_inner(suite, check, &mut r, backend) {
         Ok(()) => {
             let failed = r.comparisons.iter().any(|c| c.stats.failed > 0);
             r.verdict = if failed { Verdict::Fail } else { Verdict::Pass };
@@ -380,8 +393,16 @@ pub fn run_check(suite: &Suite, check: &Check) -> CheckResult {
     r
 }
 
-fn run_inner(suite: &Suite, check: &Check, r: &mut CheckResult) -> Result<(), String> {
-    let ev = evaluate(suite, check, None)?;
+fn run_inner(suite: &Suite, check: &Check, r: &mut CheckResult, backend: Option<Backend>) -> Result<(), String> {
+    let mut ev = evaluate(suite, check, None)?;
+    if let Some(b) = backend {
+        let (cols, label) = b(&ev)?;
+        r.findings.push(format!("evaluated on {label}"));
+        for leaf in device_summary(&ev, &cols) {
+            r.findings.push(leaf);
+        }
+        ev.output_columns = cols;
+    }
     let half = ev.outputs.iter().any(|(_, k)| *k == ScalarKind::F16);
     let got = as_f64(&ev.output_columns, &ev.outputs);
     r.issues = group_issues(&ev.issues, &check.shader, &ev.points);
@@ -406,7 +427,7 @@ fn run_inner(suite: &Suite, check: &Check, r: &mut CheckResult) -> Result<(), St
         }
         r.comparisons.push(Comparison { against: format!("reference {}", model.name), tolerance: check.tolerance.clone(), stats });
     }
-    if let Some(gpath) = &check.golden {
+    if let (Some(gpath), None) = (&check.golden, backend) {
         let path = suite.resolve(gpath);
         let g = golden::read(&path).map_err(|d| d.rendered)?;
         check_header(&path, &g, check, &ev)?;
@@ -532,8 +553,49 @@ pub fn compare_versions(suite: &Suite, check: &Check, old: &Path, new: &Path) ->
     })
 }
 
+/// Per output leaf: how the back end's results compare with the CPU
+/// evaluator's (share bit-identical, share within 2 ULP, worst distance).
+fn device_summary(ev: &Evaluated, cols: &[Vec<u32>]) -> Vec<String> {
+    let n = ev.points.len;
+    ev.outputs
+        .iter()
+        .enumerate()
+        .map(|(j, (name, k))| {
+            let (mut exact, mut two, mut worst, mut at) = (0usize, 0usize, 0u64, 0usize);
+            for i in 0..n {
+                let (a, b) = (ev.output_columns[j][i], cols[j][i]);
+                let d = match k {
+                    ScalarKind::F32 => crate::arith::ulp_distance_f32(f32::from_bits(a), f32::from_bits(b)),
+                    ScalarKind::F16 => crate::arith::ulp_distance_f16(
+                        half::f16::from_bits(a as u16).to_f32(),
+                        half::f16::from_bits(b as u16).to_f32(),
+                    ),
+                    _ => u64::from(a != b),
+                };
+                exact += usize::from(a == b);
+                two += usize::from(d <= 2);
+                if d > worst {
+                    (worst, at) = (d, i);
+                }
+            }
+            let share = |x: usize| 100.0 * x as f64 / n.max(1) as f64;
+            let worst_text = match worst {
+                0 => "every point bit-identical".to_string(),
+                u64::MAX => format!("worst NaN against a number at {}", ev.points.describe(at)),
+                w => format!("worst {w} ULP at {}", ev.points.describe(at)),
+            };
+            format!("device vs CPU evaluator, {name}: {:.1} % bit-identical, {:.1} % within 2 ULP, {worst_text}", share(exact), share(two))
+        })
+        .collect()
+}
+
 /// Run every check whose name contains `filter` (all when `None`).
-pub fn run(suite: &Suite, filter: Option<&str>, mut progress: impl FnMut(usize, usize, &str)) -> RunResult {
+pub fn run(suite: &Suite, filter: Option<&str>, progress: impl FnMut(usize, usize, &str)) -> RunResult {
+    run_on(suite, filter, progress, None)
+}
+
+/// [`run`] on another back end (see [`run_check_on`]).
+pub fn run_on(suite: &Suite, filter: Option<&str>, mut progress: impl FnMut(usize, usize, &str), backend: Option<Backend>) -> RunResult {
     let selected: Vec<&Check> = suite.checks.iter().filter(|c| filter.is_none_or(|f| c.name.contains(f))).collect();
     let total = selected.len();
     let checks = selected
@@ -541,7 +603,7 @@ pub fn run(suite: &Suite, filter: Option<&str>, mut progress: impl FnMut(usize, 
         .enumerate()
         .map(|(i, c)| {
             progress(i + 1, total, &c.name);
-            run_check(suite, c)
+            run_check_on(suite, c, backend)
         })
         .collect();
     RunResult { suite: suite.path.display().to_string(), checks }
