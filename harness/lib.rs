@@ -7,9 +7,9 @@ pub mod eval;
 pub mod gate;
 pub mod golden;
 pub mod reference;
+#[cfg(feature = "replay")]
+pub mod replay;
 pub mod report;
 pub mod suite;
 pub mod sweep;
-#[cfg(feature = "replay")]
-pub mod replay;
 pub mod wgsl;

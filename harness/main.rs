@@ -15,7 +15,11 @@ use shadegate::wgsl::Shader;
 use shadegate::{reference, report};
 
 #[derive(Parser)]
-#[command(name = "shadegate", version, about = "Check WGSL shading math on the CPU against f64 reference models and golden data")]
+#[command(
+    name = "shadegate",
+    version,
+    about = "Check WGSL shading math on the CPU against f64 reference models and golden data"
+)]
 struct Cli {
     #[command(subcommand)]
     command: Command,
@@ -141,10 +145,13 @@ fn load_suite(path: &Path) -> Result<Suite, Bad> {
 
 fn emit(text: &str, output: Option<&Path>) -> Result<(), Bad> {
     match output {
-        Some(p) => std::fs::write(p, text).map_err(|e| Bad(format!("{}: cannot write: {e}", p.display()))),
+        Some(p) => {
+            std::fs::write(p, text).map_err(|e| Bad(format!("{}: cannot write: {e}", p.display())))
+        }
         None => {
             let mut out = std::io::stdout().lock();
-            out.write_all(text.as_bytes()).map_err(|e| Bad(e.to_string()))
+            out.write_all(text.as_bytes())
+                .map_err(|e| Bad(e.to_string()))
         }
     }
 }
@@ -163,16 +170,29 @@ fn exit_of(run: &RunResult) -> u8 {
 
 fn dispatch(cmd: Command) -> Result<u8, Bad> {
     match cmd {
-        Command::Run { suite, filter, format, output, replay, adapter } => {
+        Command::Run {
+            suite,
+            filter,
+            format,
+            output,
+            replay,
+            adapter,
+        } => {
             let s = load_suite(&suite)?;
             let progress = report::Progress::new();
             let run = if replay {
                 run_replay(&s, filter.as_deref(), adapter.as_deref(), &progress)?
             } else {
-                gate::run(&s, filter.as_deref(), |i, n, name| progress.step(i, n, name))
+                gate::run(&s, filter.as_deref(), |i, n, name| {
+                    progress.step(i, n, name)
+                })
             };
             if run.checks.is_empty() {
-                return Err(Bad(format!("no check of {} matches `{}`", suite.display(), filter.unwrap_or_default())));
+                return Err(Bad(format!(
+                    "no check of {} matches `{}`",
+                    suite.display(),
+                    filter.unwrap_or_default()
+                )));
             }
             emit(&render(&run, format, output.is_some()), output.as_deref())?;
             Ok(exit_of(&run))
@@ -180,31 +200,72 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
         Command::Record { suite, filter } => {
             let s = load_suite(&suite)?;
             let mut any = false;
-            for c in s.checks.iter().filter(|c| filter.as_deref().is_none_or(|f| c.name.contains(f))) {
+            for c in s
+                .checks
+                .iter()
+                .filter(|c| filter.as_deref().is_none_or(|f| c.name.contains(f)))
+            {
                 if c.golden.is_none() {
                     continue;
                 }
                 any = true;
                 let path = gate::record(&s, c).map_err(Bad)?;
-                eprintln!("recorded {} ({} points) -> {}", c.name, c.sweep.len(), path.display());
+                eprintln!(
+                    "recorded {} ({} points) -> {}",
+                    c.name,
+                    c.sweep.len(),
+                    path.display()
+                );
             }
             if !any {
                 return Err(Bad("no check with a `golden` dataset matches".into()));
             }
             Ok(0)
         }
-        Command::Eval { shader, function, points, input, check, suite, overrides, spec_bounds, output } => {
+        Command::Eval {
+            shader,
+            function,
+            points,
+            input,
+            check,
+            suite,
+            overrides,
+            spec_bounds,
+            output,
+        } => {
             let ov = parse_overrides(&overrides)?;
-            let arith = spec_bounds.map_or(Arithmetic::Exact, |seed| Arithmetic::SpecBounds { seed });
-            let csv = eval_csv(&shader, &function, &points, input.as_deref(), check.as_deref(), &suite, &ov, arith)?;
+            let arith =
+                spec_bounds.map_or(Arithmetic::Exact, |seed| Arithmetic::SpecBounds { seed });
+            let csv = eval_csv(
+                &shader,
+                &function,
+                &points,
+                input.as_deref(),
+                check.as_deref(),
+                &suite,
+                &ov,
+                arith,
+            )?;
             emit(&csv, output.as_deref())?;
             Ok(0)
         }
-        Command::Compare { old, new, check, suite, format } => {
+        Command::Compare {
+            old,
+            new,
+            check,
+            suite,
+            format,
+        } => {
             let s = load_suite(&suite)?;
-            let c = s.checks.iter().find(|c| c.name == check).ok_or_else(|| Bad(format!("no check named `{check}` in {}", suite.display())))?;
+            let c =
+                s.checks.iter().find(|c| c.name == check).ok_or_else(|| {
+                    Bad(format!("no check named `{check}` in {}", suite.display()))
+                })?;
             let r = gate::compare_versions(&s, c, &old, &new).map_err(Bad)?;
-            let run = RunResult { suite: s.path.display().to_string(), checks: vec![r] };
+            let run = RunResult {
+                suite: s.path.display().to_string(),
+                checks: vec![r],
+            };
             emit(&render(&run, format, false), None)?;
             Ok(exit_of(&run))
         }
@@ -246,33 +307,55 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
 }
 
 #[cfg(feature = "replay")]
-fn run_replay(s: &Suite, filter: Option<&str>, adapter: Option<&str>, progress: &report::Progress) -> Result<RunResult, Bad> {
+fn run_replay(
+    s: &Suite,
+    filter: Option<&str>,
+    adapter: Option<&str>,
+    progress: &report::Progress,
+) -> Result<RunResult, Bad> {
     use shadegate::replay::Replay;
     let device = Replay::new(adapter).map_err(|e| Bad(format!("--replay: {e}")))?;
     let label = device.adapter().to_string();
     eprintln!("device: {label}");
     let backend = |ev: &gate::Evaluated| -> Result<(Vec<Vec<u32>>, String), String> {
         let shader = Shader::load(ev.program.path()).map_err(|d| d.rendered)?;
-        let kernel = device.prepare(&shader, ev.program.function(), &BTreeMap::new()).map_err(|e| e.to_string())?;
+        let kernel = device
+            .prepare(&shader, ev.program.function(), &BTreeMap::new())
+            .map_err(|e| e.to_string())?;
         let refs: Vec<&[u32]> = ev.input_columns.iter().map(|c| &c[..]).collect();
         let cols = kernel.eval(&refs).map_err(|e| e.to_string())?;
         Ok((cols, label.clone()))
     };
     let backend = std::sync::Mutex::new(backend);
     let call = |ev: &gate::Evaluated| (backend.lock().expect("device"))(ev);
-    Ok(gate::run_on(s, filter, |i, n, name| progress.step(i, n, name), Some(&call)))
+    Ok(gate::run_on(
+        s,
+        filter,
+        |i, n, name| progress.step(i, n, name),
+        Some(&call),
+    ))
 }
 
 #[cfg(not(feature = "replay"))]
-fn run_replay(_: &Suite, _: Option<&str>, _: Option<&str>, _: &report::Progress) -> Result<RunResult, Bad> {
+fn run_replay(
+    _: &Suite,
+    _: Option<&str>,
+    _: Option<&str>,
+    _: &report::Progress,
+) -> Result<RunResult, Bad> {
     Err(Bad("--replay needs a build with the replay back end: cargo run --release --features replay -- run --replay".into()))
 }
 
 fn parse_overrides(list: &[String]) -> Result<BTreeMap<String, f64>, Bad> {
     let mut m = BTreeMap::new();
     for o in list {
-        let (k, v) = o.split_once('=').ok_or_else(|| Bad(format!("--override `{o}`: expected name=value")))?;
-        let v: f64 = v.trim().parse().map_err(|_| Bad(format!("--override `{o}`: `{v}` is not a number")))?;
+        let (k, v) = o
+            .split_once('=')
+            .ok_or_else(|| Bad(format!("--override `{o}`: expected name=value")))?;
+        let v: f64 = v
+            .trim()
+            .parse()
+            .map_err(|_| Bad(format!("--override `{o}`: `{v}` is not a number")))?;
         m.insert(k.trim().to_string(), v);
     }
     Ok(m)
@@ -283,7 +366,9 @@ fn parse_num(s: &str, what: &str) -> Result<f64, Bad> {
     match s.trim() {
         "true" => Ok(1.0),
         "false" => Ok(0.0),
-        t => t.parse::<f64>().map_err(|_| Bad(format!("{what}: `{t}` is not a number"))),
+        t => t
+            .parse::<f64>()
+            .map_err(|_| Bad(format!("{what}: `{t}` is not a number"))),
     }
 }
 
@@ -298,13 +383,23 @@ fn eval_csv(
     overrides: &BTreeMap<String, f64>,
     arith: Arithmetic,
 ) -> Result<String, Bad> {
-    let sources = usize::from(!points.is_empty()) + usize::from(input.is_some()) + usize::from(check.is_some());
+    let sources = usize::from(!points.is_empty())
+        + usize::from(input.is_some())
+        + usize::from(check.is_some());
     if sources != 1 {
-        return Err(Bad("give the points one way: --point (repeatable), --input FILE.csv or --check NAME".into()));
+        return Err(Bad(
+            "give the points one way: --point (repeatable), --input FILE.csv or --check NAME"
+                .into(),
+        ));
     }
     let (leaves, cols, program) = if let Some(name) = check {
         let s = load_suite(suite_path)?;
-        let c = s.checks.iter().find(|c| c.name == name).ok_or_else(|| Bad(format!("no check named `{name}` in {}", suite_path.display())))?;
+        let c = s.checks.iter().find(|c| c.name == name).ok_or_else(|| {
+            Bad(format!(
+                "no check named `{name}` in {}",
+                suite_path.display()
+            ))
+        })?;
         let mut c = c.clone();
         c.function = function.to_string();
         c.overrides.extend(overrides.clone());
@@ -318,7 +413,8 @@ fn eval_csv(
         (leaves, all, ev.program)
     } else {
         let sh = Shader::load(shader).map_err(|d| Bad(d.rendered))?;
-        let program = Program::compile_with(&sh, function, overrides, arith).map_err(|d| Bad(d.rendered))?;
+        let program =
+            Program::compile_with(&sh, function, overrides, arith).map_err(|d| Bad(d.rendered))?;
         let leaves = program.input_leaves();
         let mut cols: Vec<Vec<u32>> = vec![Vec::new(); leaves.len()];
         if let Some(path) = input {
@@ -327,13 +423,23 @@ fn eval_csv(
             for (pi, p) in points.iter().enumerate() {
                 let mut given: BTreeMap<String, Vec<f64>> = BTreeMap::new();
                 for part in p.split(',') {
-                    let (k, v) = part.split_once('=').ok_or_else(|| Bad(format!("--point `{p}`: expected name=value,...")))?;
-                    let vals = v.split(';').map(|x| parse_num(x, &format!("--point {}", pi + 1))).collect::<Result<Vec<_>, _>>()?;
+                    let (k, v) = part
+                        .split_once('=')
+                        .ok_or_else(|| Bad(format!("--point `{p}`: expected name=value,...")))?;
+                    let vals = v
+                        .split(';')
+                        .map(|x| parse_num(x, &format!("--point {}", pi + 1)))
+                        .collect::<Result<Vec<_>, _>>()?;
                     given.insert(k.trim().to_string(), vals);
                 }
                 let mut used = 0;
                 for (name, ty) in program.params() {
-                    let vals = given.get(name).ok_or_else(|| Bad(format!("--point {}: missing argument `{name}` ({ty})", pi + 1)))?;
+                    let vals = given.get(name).ok_or_else(|| {
+                        Bad(format!(
+                            "--point {}: missing argument `{name}` ({ty})",
+                            pi + 1
+                        ))
+                    })?;
                     if vals.len() != ty.leaf_count() {
                         return Err(Bad(format!("--point {}: `{name}` is {ty} and needs {} value(s) separated by `;`, got {}", pi + 1, ty.leaf_count(), vals.len())));
                     }
@@ -342,8 +448,14 @@ fn eval_csv(
                         used += 1;
                     }
                 }
-                if let Some(extra) = given.keys().find(|k| !program.params().iter().any(|(n, _)| n == *k)) {
-                    return Err(Bad(format!("--point {}: `{function}` has no argument `{extra}`", pi + 1)));
+                if let Some(extra) = given
+                    .keys()
+                    .find(|k| !program.params().iter().any(|(n, _)| n == *k))
+                {
+                    return Err(Bad(format!(
+                        "--point {}: `{function}` has no argument `{extra}`",
+                        pi + 1
+                    )));
                 }
             }
         }
@@ -354,9 +466,11 @@ fn eval_csv(
         cols.append(&mut out);
         (leaves, cols, program)
     };
-    let names: Vec<(String, shadegate::eval::ScalarKind)> = leaves.into_iter().chain(program.output_leaves()).collect();
+    let names: Vec<(String, shadegate::eval::ScalarKind)> =
+        leaves.into_iter().chain(program.output_leaves()).collect();
     let mut w = csv::Writer::from_writer(Vec::new());
-    w.write_record(names.iter().map(|(n, _)| n.as_str())).map_err(|e| Bad(e.to_string()))?;
+    w.write_record(names.iter().map(|(n, _)| n.as_str()))
+        .map_err(|e| Bad(e.to_string()))?;
     let n = cols.first().map_or(0, |c| c.len());
     for i in 0..n {
         let row: Vec<String> = names
@@ -378,21 +492,45 @@ fn eval_csv(
     Ok(String::from_utf8_lossy(&bytes).into_owned())
 }
 
-fn read_input_csv(path: &Path, leaves: &[(String, shadegate::eval::ScalarKind)], cols: &mut [Vec<u32>]) -> Result<(), Bad> {
-    let mut r = csv::Reader::from_path(path).map_err(|e| Bad(format!("{}: {e}", path.display())))?;
-    let headers = r.headers().map_err(|e| Bad(format!("{}:1: {e}", path.display())))?.clone();
+fn read_input_csv(
+    path: &Path,
+    leaves: &[(String, shadegate::eval::ScalarKind)],
+    cols: &mut [Vec<u32>],
+) -> Result<(), Bad> {
+    let mut r =
+        csv::Reader::from_path(path).map_err(|e| Bad(format!("{}: {e}", path.display())))?;
+    let headers = r
+        .headers()
+        .map_err(|e| Bad(format!("{}:1: {e}", path.display())))?
+        .clone();
     let mut index = Vec::new();
     for (name, _) in leaves {
-        let i = headers.iter().position(|h| h.trim() == name).ok_or_else(|| {
-            Bad(format!("{}:1: no column `{name}` (the function's inputs are: {})", path.display(), leaves.iter().map(|l| l.0.as_str()).collect::<Vec<_>>().join(", ")))
-        })?;
+        let i = headers
+            .iter()
+            .position(|h| h.trim() == name)
+            .ok_or_else(|| {
+                Bad(format!(
+                    "{}:1: no column `{name}` (the function's inputs are: {})",
+                    path.display(),
+                    leaves
+                        .iter()
+                        .map(|l| l.0.as_str())
+                        .collect::<Vec<_>>()
+                        .join(", ")
+                ))
+            })?;
         index.push(i);
     }
     for (row, rec) in r.records().enumerate() {
         let line = row + 2;
         let rec = rec.map_err(|e| Bad(format!("{}:{line}: {e}", path.display())))?;
         for (j, (&i, (name, k))) in index.iter().zip(leaves).enumerate() {
-            let s = rec.get(i).ok_or_else(|| Bad(format!("{}:{line}: missing value for `{name}`", path.display())))?;
+            let s = rec.get(i).ok_or_else(|| {
+                Bad(format!(
+                    "{}:{line}: missing value for `{name}`",
+                    path.display()
+                ))
+            })?;
             let v = parse_num(s, &format!("{}:{line}: column `{name}`", path.display()))?;
             cols[j].push(f64_to_bits(*k, v));
         }
@@ -402,7 +540,10 @@ fn read_input_csv(path: &Path, leaves: &[(String, shadegate::eval::ScalarKind)],
 
 fn print_issues(issues: &[shadegate::eval::LaneIssue]) {
     for i in issues.iter().take(10) {
-        eprintln!("warning: point {}: {} (line {}, column {}; inputs {})", i.point, i.message, i.line, i.column, i.inputs);
+        eprintln!(
+            "warning: point {}: {} (line {}, column {}; inputs {})",
+            i.point, i.message, i.line, i.column, i.inputs
+        );
     }
     if issues.len() > 10 {
         eprintln!("warning: {} more point issues", issues.len() - 10);

@@ -347,9 +347,7 @@ fn ei(e: &I, v: &Env, x: &mut Inexact) -> i32 {
         I::Mul(a, b) => ei(a, v, x).wrapping_mul(ei(b, v, x)),
         I::Div(a, b) => {
             let (p, q) = (ei(a, v, x), ei(b, v, x));
-            if q == 0 {
-                p
-            } else if p == i32::MIN && q == -1 {
+            if q == 0 || (p == i32::MIN && q == -1) {
                 p
             } else {
                 p / q
@@ -400,11 +398,8 @@ fn eu(e: &U, v: &Env, x: &mut Inexact) -> u32 {
         U::Mul(a, b) => eu(a, v, x).wrapping_mul(eu(b, v, x)),
         U::Div(a, b) => {
             let (p, q) = (eu(a, v, x), eu(b, v, x));
-            if q == 0 {
-                p
-            } else {
-                p / q
-            }
+            // Division by zero gives e1.
+            p.checked_div(q).unwrap_or(p)
         }
         U::Rem(a, b) => {
             let (p, q) = (eu(a, v, x), eu(b, v, x));
@@ -507,6 +502,9 @@ fn same_f(got: f32, want: f32, indeterminate: bool) -> bool {
     indeterminate || got.to_bits() == want.to_bits() || (got.is_nan() && want.is_nan())
 }
 
+/// A spec accuracy bound: (argument, f64 value, evaluator's f32) → within?
+type Bound = fn(f64, f64, f32) -> bool;
+
 /// Distance from the f64 value `want` to `got` in ULPs of f32 at `want`.
 fn ulps(want: f64, got: f32) -> f64 {
     let w = want as f32;
@@ -531,14 +529,13 @@ fn program(body: &str, ret: &str) -> Option<(String, Program)> {
 fn columns(pts: &[Env]) -> Vec<Vec<u32>> {
     let mut cols = vec![Vec::new(); NF + NI + NU];
     for p in pts {
-        for k in 0..NF {
-            cols[k].push(p.f[k].to_bits());
-        }
-        for k in 0..NI {
-            cols[NF + k].push(p.i[k] as u32);
-        }
-        for k in 0..NU {
-            cols[NF + NI + k].push(p.u[k]);
+        let bits =
+            p.f.iter()
+                .map(|x| x.to_bits())
+                .chain(p.i.iter().map(|&x| x as u32))
+                .chain(p.u.iter().copied());
+        for (c, b) in cols.iter_mut().zip(bits) {
+            c.push(b);
         }
     }
     cols
@@ -576,7 +573,7 @@ proptest! {
 
     #[test]
     fn transcendental_roots_within_spec_bounds(e in tree(3).0, pts in points(), which in 0usize..4) {
-        let (name, bound): (&str, fn(f64, f64, f32) -> bool) = match which {
+        let (name, bound): (&str, Bound) = match which {
             // exp: 3 + 2·|x| ULP of the result.
             0 => ("exp", |x, want, got| ulps(want, got) <= 3.0 + 2.0 * x.abs()),
             // exp2: 3 + 2·|x| ULP.

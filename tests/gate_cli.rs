@@ -11,7 +11,13 @@ fn root() -> PathBuf {
 }
 
 fn shadegate(args: &[&str], dir: &Path) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_shadegate")).args(args).current_dir(dir).env_remove("CI").env("NO_COLOR", "1").output().expect("run shadegate")
+    Command::new(env!("CARGO_BIN_EXE_shadegate"))
+        .args(args)
+        .current_dir(dir)
+        .env_remove("CI")
+        .env("NO_COLOR", "1")
+        .output()
+        .expect("run shadegate")
 }
 
 fn code(o: &Output) -> i32 {
@@ -27,7 +33,11 @@ fn scratch(name: &str) -> PathBuf {
     let dir = std::env::temp_dir().join(format!("shadegate-cli-{name}-{}", std::process::id()));
     let _ = std::fs::remove_dir_all(&dir);
     std::fs::create_dir_all(dir.join("shaders")).unwrap();
-    std::fs::copy(root().join("shaders/brackenfold/materials.wgsl"), dir.join("shaders/materials.wgsl")).unwrap();
+    std::fs::copy(
+        root().join("shaders/brackenfold/materials.wgsl"),
+        dir.join("shaders/materials.wgsl"),
+    )
+    .unwrap();
     std::fs::write(
         dir.join("shadegate.toml"),
         r#"
@@ -56,21 +66,40 @@ reason = "a handful of f32 operations"
 fn passing_failing_and_bad_suites_give_exit_codes_0_1_2() {
     let ok = shadegate(&["run", "ggx_distribution"], &root());
     assert_eq!(code(&ok), 0, "{}{}", text(&ok.stdout), text(&ok.stderr));
-    let planted = shadegate(&["run", "--suite", "shaders/brackenfold-planted/shadegate.toml", "lambert"], &root());
+    let planted = shadegate(
+        &[
+            "run",
+            "--suite",
+            "shaders/brackenfold-planted/shadegate.toml",
+            "lambert",
+        ],
+        &root(),
+    );
     assert_eq!(code(&planted), 1, "{}", text(&planted.stdout));
     assert!(text(&planted.stdout).contains("lambert_diffuse"));
 
     let dir = scratch("bad");
     let suite = std::fs::read_to_string(dir.join("shadegate.toml")).unwrap();
-    std::fs::write(dir.join("shadegate.toml"), suite.replace("golden = true", "golden = true\ncolour = \"red\"")).unwrap();
+    std::fs::write(
+        dir.join("shadegate.toml"),
+        suite.replace("golden = true", "golden = true\ncolour = \"red\""),
+    )
+    .unwrap();
     let bad = shadegate(&["run"], &dir);
     assert_eq!(code(&bad), 2);
     let err = text(&bad.stderr);
-    assert!(err.contains("shadegate.toml:9:") && err.contains("unknown field `colour`"), "{err}");
+    assert!(
+        err.contains("shadegate.toml:9:") && err.contains("unknown field `colour`"),
+        "{err}"
+    );
 
     let missing = shadegate(&["run", "--suite", "nowhere.toml"], &dir);
     assert_eq!(code(&missing), 2);
-    assert!(text(&missing.stderr).contains("nowhere.toml: error: cannot read suite file"), "{}", text(&missing.stderr));
+    assert!(
+        text(&missing.stderr).contains("nowhere.toml: error: cannot read suite file"),
+        "{}",
+        text(&missing.stderr)
+    );
 }
 
 #[test]
@@ -81,25 +110,40 @@ fn json_and_junit_reports_parse_back() {
     let v: serde_json::Value = serde_json::from_slice(&json.stdout).expect("valid JSON");
     let checks = v["checks"].as_array().expect("checks");
     assert_eq!(checks.len(), 6);
-    let lambert = checks.iter().find(|c| c["name"] == "lambert_diffuse").unwrap();
+    let lambert = checks
+        .iter()
+        .find(|c| c["name"] == "lambert_diffuse")
+        .unwrap();
     assert_eq!(lambert["verdict"], "fail");
 
     let xml = shadegate(&["run", "--suite", suite, "--format", "junit"], &root());
     assert_eq!(code(&xml), 1);
     let body = text(&xml.stdout);
     let doc = roxmltree::Document::parse(&body).expect("valid XML");
-    let cases: Vec<_> = doc.descendants().filter(|n| n.has_tag_name("testcase")).collect();
+    let cases: Vec<_> = doc
+        .descendants()
+        .filter(|n| n.has_tag_name("testcase"))
+        .collect();
     assert_eq!(cases.len(), 6);
-    let failures = cases.iter().filter(|c| c.children().any(|k| k.has_tag_name("failure"))).count();
+    let failures = cases
+        .iter()
+        .filter(|c| c.children().any(|k| k.has_tag_name("failure")))
+        .count();
     assert_eq!(failures, 5, "five planted mistakes, one untouched function");
 }
 
 #[test]
 fn goldens_round_trip_detect_change_and_corruption_and_are_refused_under_ci() {
     let dir = scratch("golden");
-    let refused = Command::new(env!("CARGO_BIN_EXE_shadegate")).args(["record"]).current_dir(&dir).env("CI", "true").output().unwrap();
+    let refused = Command::new(env!("CARGO_BIN_EXE_shadegate"))
+        .args(["record"])
+        .current_dir(&dir)
+        .env("CI", "true")
+        .output()
+        .unwrap();
     assert_eq!(code(&refused), 2);
-    assert!(text(&refused.stderr).contains("refusing to record goldens because the CI environment variable is set"));
+    assert!(text(&refused.stderr)
+        .contains("refusing to record goldens because the CI environment variable is set"));
     assert!(!dir.join("goldens/ggx.csv").exists());
 
     let rec = shadegate(&["record"], &dir);
@@ -121,8 +165,14 @@ fn goldens_round_trip_detect_change_and_corruption_and_are_refused_under_ci() {
     let run = shadegate(&["run", "--format", "json"], &dir);
     let v: serde_json::Value = serde_json::from_slice(&run.stdout).unwrap();
     let c = &v["checks"][0];
-    assert!(c["findings"].as_array().unwrap().iter().any(|f| f.as_str().unwrap().contains("the shader changed since the golden was recorded")));
-    assert!(c["comparisons"][1]["stats"]["changed"].as_u64().unwrap() > 0, "{c}");
+    assert!(c["findings"].as_array().unwrap().iter().any(|f| f
+        .as_str()
+        .unwrap()
+        .contains("the shader changed since the golden was recorded")));
+    assert!(
+        c["comparisons"][1]["stats"]["changed"].as_u64().unwrap() > 0,
+        "{c}"
+    );
     std::fs::write(&shader, &src).unwrap();
 
     // Truncate the golden: an error naming the file and line, exit code 2.
@@ -132,30 +182,78 @@ fn goldens_round_trip_detect_change_and_corruption_and_are_refused_under_ci() {
     let run = shadegate(&["run"], &dir);
     assert_eq!(code(&run), 2, "{}", text(&run.stdout));
     let out = text(&run.stdout) + &text(&run.stderr);
-    assert!(out.contains("ggx.csv:") && out.contains("truncated"), "{out}");
+    assert!(
+        out.contains("ggx.csv:") && out.contains("truncated"),
+        "{out}"
+    );
 }
 
 #[test]
 fn eval_writes_csv_and_rejects_bad_points() {
     let dir = root();
-    let o = shadegate(&["eval", "shaders/brackenfold/materials.wgsl", "d_ggx", "--point", "n_dot_h=1,roughness=0.5"], &dir);
+    let o = shadegate(
+        &[
+            "eval",
+            "shaders/brackenfold/materials.wgsl",
+            "d_ggx",
+            "--point",
+            "n_dot_h=1,roughness=0.5",
+        ],
+        &dir,
+    );
     assert_eq!(code(&o), 0, "{}", text(&o.stderr));
     let csv = text(&o.stdout);
     let mut lines = csv.lines();
     assert_eq!(lines.next(), Some("n_dot_h,roughness,result"));
-    let row: Vec<f64> = lines.next().unwrap().split(',').map(|x| x.parse().unwrap()).collect();
+    let row: Vec<f64> = lines
+        .next()
+        .unwrap()
+        .split(',')
+        .map(|x| x.parse().unwrap())
+        .collect();
     // GGX at n·h = 1: D = 1 / (π α²), α = 0.25 (published formula).
     let want = 1.0 / (std::f64::consts::PI * 0.0625);
     assert!((row[2] - want).abs() / want < 1e-6, "{row:?}");
 
-    let bad = shadegate(&["eval", "shaders/brackenfold/materials.wgsl", "d_ggx", "--point", "n_dot_h=1"], &dir);
+    let bad = shadegate(
+        &[
+            "eval",
+            "shaders/brackenfold/materials.wgsl",
+            "d_ggx",
+            "--point",
+            "n_dot_h=1",
+        ],
+        &dir,
+    );
     assert_eq!(code(&bad), 2);
-    assert!(text(&bad.stderr).contains("missing argument `roughness`"), "{}", text(&bad.stderr));
-    let bad = shadegate(&["eval", "shaders/brackenfold/materials.wgsl", "nope", "--point", "x=1"], &dir);
+    assert!(
+        text(&bad.stderr).contains("missing argument `roughness`"),
+        "{}",
+        text(&bad.stderr)
+    );
+    let bad = shadegate(
+        &[
+            "eval",
+            "shaders/brackenfold/materials.wgsl",
+            "nope",
+            "--point",
+            "x=1",
+        ],
+        &dir,
+    );
     assert_eq!(code(&bad), 2);
     assert!(text(&bad.stderr).contains("no function named `nope`"));
 
-    let sweep = shadegate(&["eval", "shaders/brackenfold/materials.wgsl", "d_ggx", "--check", "ggx_distribution"], &dir);
+    let sweep = shadegate(
+        &[
+            "eval",
+            "shaders/brackenfold/materials.wgsl",
+            "d_ggx",
+            "--check",
+            "ggx_distribution",
+        ],
+        &dir,
+    );
     assert_eq!(code(&sweep), 0, "{}", text(&sweep.stderr));
     assert_eq!(text(&sweep.stdout).lines().count(), 1 + 12240);
 }
@@ -164,16 +262,30 @@ fn eval_writes_csv_and_rejects_bad_points() {
 fn compare_list_models_and_ledger() {
     let dir = root();
     let o = shadegate(
-        &["compare", "shaders/brackenfold/materials.wgsl", "shaders/brackenfold-planted/materials.wgsl", "--check", "lambert_diffuse", "--format", "json"],
+        &[
+            "compare",
+            "shaders/brackenfold/materials.wgsl",
+            "shaders/brackenfold-planted/materials.wgsl",
+            "--check",
+            "lambert_diffuse",
+            "--format",
+            "json",
+        ],
         &dir,
     );
     assert_eq!(code(&o), 1, "{}", text(&o.stderr));
     let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
     // Every point changes: the planted copy drops the 1/π factor.
-    assert_eq!(v["checks"][0]["comparisons"][0]["stats"]["changed"], 33 * 33);
+    assert_eq!(
+        v["checks"][0]["comparisons"][0]["stats"]["changed"],
+        33 * 33
+    );
 
     let list = text(&shadegate(&["list"], &dir).stdout);
-    assert!(list.contains("brdf_full") && list.contains("reference cook_torrance_rgb"), "{list}");
+    assert!(
+        list.contains("brdf_full") && list.contains("reference cook_torrance_rgb"),
+        "{list}"
+    );
     let models = text(&shadegate(&["models"], &dir).stdout);
     assert!(models.contains("ggx_ndf") && models.contains("cook_torrance_rgb"));
     let sc = scratch("ledger");

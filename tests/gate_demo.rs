@@ -21,12 +21,28 @@ fn sig(x: f64) -> String {
 
 #[test]
 fn the_demo_suite_passes_with_pinned_statistics() {
-    let suite = shadegate::suite::load(Path::new(concat!(env!("CARGO_MANIFEST_DIR"), "/shadegate.toml"))).unwrap_or_else(|d| panic!("{d}"));
+    let suite = shadegate::suite::load(Path::new(concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/shadegate.toml"
+    )))
+    .unwrap_or_else(|d| panic!("{d}"));
     let run = gate::run(&suite, None, |_, _, _| {});
     let mut summary = String::new();
     for c in &run.checks {
-        assert_eq!(c.verdict, Verdict::Pass, "{} failed: {:?} {:#?}", c.name, c.error, c.findings);
-        writeln!(summary, "{} ({}::{}, {} points)", c.name, c.shader, c.function, c.points).unwrap();
+        assert_eq!(
+            c.verdict,
+            Verdict::Pass,
+            "{} failed: {:?} {:#?}",
+            c.name,
+            c.error,
+            c.findings
+        );
+        writeln!(
+            summary,
+            "{} ({}::{}, {} points)",
+            c.name, c.shader, c.function, c.points
+        )
+        .unwrap();
         for cmp in &c.comparisons {
             let s = &cmp.stats;
             writeln!(
@@ -44,7 +60,12 @@ fn the_demo_suite_passes_with_pinned_statistics() {
             .unwrap();
         }
         for i in &c.issues {
-            writeln!(summary, "  issue: {} at {} ({} points)", i.message, i.location, i.count).unwrap();
+            writeln!(
+                summary,
+                "  issue: {} at {} ({} points)",
+                i.message, i.location, i.count
+            )
+            .unwrap();
         }
     }
     // The full-BRDF check is the dense one: at least a million points.

@@ -19,16 +19,34 @@ fn run_on_the_device_names_the_adapter_and_compares_with_the_cpu() {
         .output()
         .unwrap();
     let out = String::from_utf8_lossy(&o.stdout);
-    assert_eq!(o.status.code(), Some(0), "{out}{}", String::from_utf8_lossy(&o.stderr));
+    assert_eq!(
+        o.status.code(),
+        Some(0),
+        "{out}{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
     assert!(String::from_utf8_lossy(&o.stderr).contains("device: "));
     assert!(out.contains("evaluated on "), "{out}");
     // Lambert is one multiplication: the device must agree bit for bit.
-    assert!(out.contains("device vs CPU evaluator, result.x: 100.0 % bit-identical"), "{out}");
+    assert!(
+        out.contains("device vs CPU evaluator, result.x: 100.0 % bit-identical"),
+        "{out}"
+    );
 
     let planted = Command::new(env!("CARGO_BIN_EXE_shadegate"))
-        .args(["run", "--replay", "--suite", "shaders/brackenfold-planted/shadegate.toml", "lambert"])
+        .args([
+            "run",
+            "--replay",
+            "--suite",
+            "shaders/brackenfold-planted/shadegate.toml",
+            "lambert",
+        ])
         .current_dir(env!("CARGO_MANIFEST_DIR"))
         .output()
         .unwrap();
-    assert_eq!(planted.status.code(), Some(1), "the planted mistake fails on the device too");
+    assert_eq!(
+        planted.status.code(),
+        Some(1),
+        "the planted mistake fails on the device too"
+    );
 }

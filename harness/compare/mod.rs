@@ -3,8 +3,8 @@
 //!
 //! A point passes when, for every output component, the error is within *any*
 //! of the tolerance's bounds (absolute, relative, ULP). Its *badness* is the
-//! smallest ratio error / bound over the given bounds; it fails when badness
-//! > 1. The worst point is the one with the largest badness, and the headroom
+//! smallest ratio error / bound over the given bounds; it fails when its badness
+//! exceeds 1. The worst point is the one with the largest badness, and the headroom
 //! of a check is 1 / (worst badness): a headroom above 100 flags a stale
 //! tolerance that would hide a regression.
 
@@ -35,7 +35,11 @@ pub struct Tolerance {
 impl Tolerance {
     /// Bit-exact (0 ULP).
     pub fn exact(reason: &str) -> Tolerance {
-        Tolerance { ulp: Some(vec![0.0]), reason: reason.to_string(), ..Tolerance::default() }
+        Tolerance {
+            ulp: Some(vec![0.0]),
+            reason: reason.to_string(),
+            ..Tolerance::default()
+        }
     }
 
     fn pick(v: &Option<Vec<f64>>, c: usize) -> Option<f64> {
@@ -45,10 +49,24 @@ impl Tolerance {
     /// Human-readable bounds, e.g. `abs 1e-6 or rel 1e-5`.
     pub fn describe(&self) -> String {
         let f = |name: &str, v: &Option<Vec<f64>>| {
-            v.as_ref().map(|v| format!("{name} {}", v.iter().map(|x| format!("{x:e}")).collect::<Vec<_>>().join("/")))
+            v.as_ref().map(|v| {
+                format!(
+                    "{name} {}",
+                    v.iter()
+                        .map(|x| format!("{x:e}"))
+                        .collect::<Vec<_>>()
+                        .join("/")
+                )
+            })
         };
-        let parts: Vec<String> =
-            [f("abs", &self.abs), f("rel", &self.rel), f("ulp", &self.ulp).map(|s| s.replace("e0", ""))].into_iter().flatten().collect();
+        let parts: Vec<String> = [
+            f("abs", &self.abs),
+            f("rel", &self.rel),
+            f("ulp", &self.ulp).map(|s| s.replace("e0", "")),
+        ]
+        .into_iter()
+        .flatten()
+        .collect();
         if parts.is_empty() {
             "exact".into()
         } else {
@@ -114,7 +132,8 @@ pub fn ulp_at(x: f64, half: bool) -> f64 {
     } else {
         let f = a as f32;
         let f = if f.is_infinite() { f32::MAX } else { f };
-        (f64::from(f32::from_bits(f.to_bits() + 1)) - f64::from(f)).max(f64::from(f32::from_bits(1)))
+        (f64::from(f32::from_bits(f.to_bits() + 1)) - f64::from(f))
+            .max(f64::from(f32::from_bits(1)))
     }
 }
 
@@ -125,10 +144,19 @@ fn same_nonfinite(a: f64, b: f64) -> bool {
 /// Compare `got` with `want` (one column per output component, same
 /// lengths). `half` selects f16 ULPs. `describe(i)` names point i's
 /// parameters for the listed points.
-pub fn compare(got: &[Vec<f64>], want: &[Vec<f64>], tol: &Tolerance, half: bool, describe: &dyn Fn(usize) -> String) -> Stats {
+pub fn compare(
+    got: &[Vec<f64>],
+    want: &[Vec<f64>],
+    tol: &Tolerance,
+    half: bool,
+    describe: &dyn Fn(usize) -> String,
+) -> Stats {
     let n = got.first().map_or(0, |c| c.len());
     let comps = got.len();
-    let mut s = Stats { points: n, ..Stats::default() };
+    let mut s = Stats {
+        points: n,
+        ..Stats::default()
+    };
     let mut sum_sq = 0.0;
     let mut compared = 0usize;
     let report = |i: usize, component: usize, abs: f64, rel: f64, ulp: f64| PointReport {
@@ -173,7 +201,13 @@ pub fn compare(got: &[Vec<f64>], want: &[Vec<f64>], tol: &Tolerance, half: bool,
                 continue;
             }
             let abs = (g - w).abs();
-            let rel = if w != 0.0 { abs / w.abs() } else if abs == 0.0 { 0.0 } else { f64::INFINITY };
+            let rel = if w != 0.0 {
+                abs / w.abs()
+            } else if abs == 0.0 {
+                0.0
+            } else {
+                f64::INFINITY
+            };
             let ulp = abs / ulp_at(w, half);
             s.max_abs = s.max_abs.max(abs);
             s.max_rel = s.max_rel.max(rel);
@@ -185,7 +219,11 @@ pub fn compare(got: &[Vec<f64>], want: &[Vec<f64>], tol: &Tolerance, half: bool,
                 Tolerance::pick(&tol.ulp, c).map(|t| ratio(ulp, t)),
             ];
             let bad = ratios.into_iter().flatten().fold(f64::INFINITY, f64::min);
-            let bad = if bad == f64::INFINITY && abs == 0.0 { 0.0 } else { bad };
+            let bad = if bad == f64::INFINITY && abs == 0.0 {
+                0.0
+            } else {
+                bad
+            };
             if bad > point_bad {
                 point_bad = bad;
                 point_comp = c;
@@ -200,13 +238,20 @@ pub fn compare(got: &[Vec<f64>], want: &[Vec<f64>], tol: &Tolerance, half: bool,
         if nonfinite {
             s.nonfinite += 1;
             if s.first_nonfinite.len() < LISTED {
-                s.first_nonfinite.push(report(i, point_comp, point_err.0, point_err.1, point_err.2));
+                s.first_nonfinite.push(report(
+                    i,
+                    point_comp,
+                    point_err.0,
+                    point_err.1,
+                    point_err.2,
+                ));
             }
         }
         if point_bad > 1.0 {
             s.failed += 1;
             if s.first_failures.len() < LISTED && !nonfinite {
-                s.first_failures.push(report(i, point_comp, point_err.0, point_err.1, point_err.2));
+                s.first_failures
+                    .push(report(i, point_comp, point_err.0, point_err.1, point_err.2));
             }
         }
         if point_bad > s.worst_badness || (s.worst.is_none() && point_bad > 0.0) {
@@ -214,11 +259,25 @@ pub fn compare(got: &[Vec<f64>], want: &[Vec<f64>], tol: &Tolerance, half: bool,
             s.worst = Some(report(i, point_comp, point_err.0, point_err.1, point_err.2));
         }
     }
-    s.fail_share = if compared > 0 { s.failed as f64 / compared as f64 } else { 0.0 };
-    s.rms_abs = if compared > 0 { (sum_sq / (compared * comps.max(1)) as f64).sqrt() } else { 0.0 };
-    s.headroom = if s.worst_badness > 0.0 { 1.0 / s.worst_badness } else { f64::INFINITY };
+    s.fail_share = if compared > 0 {
+        s.failed as f64 / compared as f64
+    } else {
+        0.0
+    };
+    s.rms_abs = if compared > 0 {
+        (sum_sq / (compared * comps.max(1)) as f64).sqrt()
+    } else {
+        0.0
+    };
+    s.headroom = if s.worst_badness > 0.0 {
+        1.0 / s.worst_badness
+    } else {
+        f64::INFINITY
+    };
     // A zero tolerance cannot be loose; otherwise flag > 100× headroom.
-    let zero_tol = [&tol.abs, &tol.rel, &tol.ulp].iter().all(|t| t.as_ref().is_none_or(|v| v.iter().all(|x| *x == 0.0)));
+    let zero_tol = [&tol.abs, &tol.rel, &tol.ulp]
+        .iter()
+        .all(|t| t.as_ref().is_none_or(|v| v.iter().all(|x| *x == 0.0)));
     s.stale_tolerance = !zero_tol && s.failed == 0 && s.headroom > 100.0;
     s
 }
@@ -236,7 +295,9 @@ fn ratio(err: f64, bound: f64) -> f64 {
 /// Count points whose output bits differ at all.
 pub fn changed_bits(a: &[Vec<u32>], b: &[Vec<u32>]) -> usize {
     let n = a.first().map_or(0, |c| c.len());
-    (0..n).filter(|&i| a.iter().zip(b).any(|(x, y)| x[i] != y[i])).count()
+    (0..n)
+        .filter(|&i| a.iter().zip(b).any(|(x, y)| x[i] != y[i]))
+        .count()
 }
 
 /// Known constant factors a wrong formula tends to introduce.
@@ -265,15 +326,21 @@ pub fn constant_factor(got: &[Vec<f64>], want: &[Vec<f64>], failing: &[usize]) -
             }
         }
     }
-    if count < 3 || !(lo > 0.0) || (hi - lo) / lo.abs() > 1e-3 {
+    if count < 3 || lo <= 0.0 || lo.is_nan() || (hi - lo) / lo.abs() > 1e-3 {
         return None;
     }
     let r = (lo + hi) / 2.0;
     if (r - 1.0).abs() < 1e-3 {
         return None; // rounding noise, not a factor
     }
-    let name = FACTORS.iter().find(|(f, _)| ((r - f) / f).abs() < 2e-3).map(|(_, n)| format!(" = {n}")).unwrap_or_default();
-    Some(format!("every failing result is the expected value times {r:.6}{name}"))
+    let name = FACTORS
+        .iter()
+        .find(|(f, _)| ((r - f) / f).abs() < 2e-3)
+        .map(|(_, n)| format!(" = {n}"))
+        .unwrap_or_default();
+    Some(format!(
+        "every failing result is the expected value times {r:.6}{name}"
+    ))
 }
 
 #[cfg(test)]
@@ -286,7 +353,12 @@ mod tests {
 
     #[test]
     fn a_point_passes_when_any_bound_holds() {
-        let tol = Tolerance { abs: Some(vec![1e-3]), rel: Some(vec![1e-6]), reason: "r".into(), ..Tolerance::default() };
+        let tol = Tolerance {
+            abs: Some(vec![1e-3]),
+            rel: Some(vec![1e-6]),
+            reason: "r".into(),
+            ..Tolerance::default()
+        };
         let s = compare(&[vec![1.0005, 2.0]], &[vec![1.0, 2.01]], &tol, false, &d);
         assert_eq!(s.failed, 1); // 2.0 vs 2.01: abs 0.01 and rel 5e-3 both exceed
         assert_eq!(s.worst.as_ref().unwrap().index, 1);
@@ -295,18 +367,41 @@ mod tests {
 
     #[test]
     fn nonfinite_results_are_failures_and_listed() {
-        let tol = Tolerance { abs: Some(vec![1.0]), reason: "r".into(), ..Tolerance::default() };
-        let s = compare(&[vec![f64::NAN, 1.0, f64::NAN]], &[vec![1.0, 1.0, f64::NAN]], &tol, false, &d);
+        let tol = Tolerance {
+            abs: Some(vec![1.0]),
+            reason: "r".into(),
+            ..Tolerance::default()
+        };
+        let s = compare(
+            &[vec![f64::NAN, 1.0, f64::NAN]],
+            &[vec![1.0, 1.0, f64::NAN]],
+            &tol,
+            false,
+            &d,
+        );
         assert_eq!((s.failed, s.nonfinite), (1, 1));
         assert_eq!(s.first_nonfinite[0].index, 0);
-        let skip = Tolerance { nan: NanPolicy::Skip, ..tol };
-        let s = compare(&[vec![1.0, 5.0]], &[vec![f64::INFINITY, 5.0]], &skip, false, &d);
+        let skip = Tolerance {
+            nan: NanPolicy::Skip,
+            ..tol
+        };
+        let s = compare(
+            &[vec![1.0, 5.0]],
+            &[vec![f64::INFINITY, 5.0]],
+            &skip,
+            false,
+            &d,
+        );
         assert_eq!((s.failed, s.skipped), (0, 1));
     }
 
     #[test]
     fn headroom_and_stale_tolerances() {
-        let tol = Tolerance { ulp: Some(vec![1000.0]), reason: "r".into(), ..Tolerance::default() };
+        let tol = Tolerance {
+            ulp: Some(vec![1000.0]),
+            reason: "r".into(),
+            ..Tolerance::default()
+        };
         let got = vec![f64::from(f32::from_bits(1.0f32.to_bits() + 2))];
         let s = compare(&[got], &[vec![1.0]], &tol, false, &d);
         assert!((s.max_ulp - 2.0).abs() < 1e-9);
@@ -320,6 +415,8 @@ mod tests {
         let got = vec![want[0].iter().map(|x| x * std::f64::consts::PI).collect()];
         let f = constant_factor(&got, &want, &[0, 1, 2, 3]).unwrap();
         assert!(f.contains("π (a missing 1/π?)"), "{f}");
-        assert!(constant_factor(&[vec![1.0, 4.0, 9.0]], &[vec![1.0, 2.0, 3.0]], &[0, 1, 2]).is_none());
+        assert!(
+            constant_factor(&[vec![1.0, 4.0, 9.0]], &[vec![1.0, 2.0, 3.0]], &[0, 1, 2]).is_none()
+        );
     }
 }

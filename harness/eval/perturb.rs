@@ -215,8 +215,8 @@ mod tests {
         // reserved one; outside [-π, π] exact.
         let sin = Bound::AbsInRange {
             abs: 2f32.powi(-11),
-            lo: -3.1415927,
-            hi: 3.1415927,
+            lo: -std::f32::consts::PI,
+            hi: std::f32::consts::PI,
             outside: None,
         };
         assert_eq!(max_steps(sin, 0.75, 1.0, false), 8191);

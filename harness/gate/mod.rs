@@ -52,7 +52,17 @@ pub fn points_of(check: &Check) -> Points {
 }
 
 fn example(points: &Points) -> Vec<Value> {
-    points.widths.iter().map(|&w| if w == 1 { Value::S(0.5) } else { Value::V([0.0, 0.6, 0.8]) }).collect()
+    points
+        .widths
+        .iter()
+        .map(|&w| {
+            if w == 1 {
+                Value::S(0.5)
+            } else {
+                Value::V([0.0, 0.6, 0.8])
+            }
+        })
+        .collect()
 }
 
 /// Bind an argument: its expression, or the sweep parameter of the same name.
@@ -72,7 +82,8 @@ fn bind_arg(
             ))
         }
     };
-    e.bind(&points.names, &example(points)).map_err(|m| format!("{what} `{name}`: {m}"))
+    e.bind(&points.names, &example(points))
+        .map_err(|m| format!("{what} `{name}`: {m}"))
 }
 
 /// Evaluate bound expressions at every point into f64 columns (one per
@@ -88,7 +99,10 @@ fn columns(exprs: &[BoundExpr], points: &Points) -> Result<Vec<Vec<f64>>, String
             }
         } else {
             const CH: usize = 4096;
-            let mut outs: Vec<&mut [f64]> = cols[c0..c0 + e.width].iter_mut().map(|c| &mut c[..]).collect();
+            let mut outs: Vec<&mut [f64]> = cols[c0..c0 + e.width]
+                .iter_mut()
+                .map(|c| &mut c[..])
+                .collect();
             let mut chunks: Vec<Vec<&mut [f64]>> = Vec::new();
             while !outs.is_empty() && !outs[0].is_empty() {
                 let mut head = Vec::new();
@@ -102,20 +116,22 @@ fn columns(exprs: &[BoundExpr], points: &Points) -> Result<Vec<Vec<f64>>, String
                 chunks.push(head);
                 outs = tail;
             }
-            chunks.into_par_iter().enumerate().try_for_each(|(k, mut ch)| -> Result<(), String> {
-                let mut vals = vec![Value::S(0.0); points.names.len()];
-                for j in 0..ch[0].len() {
-                    let i = k * CH + j;
-                    for (p, v) in vals.iter_mut().enumerate() {
-                        *v = points.value(p, i);
+            chunks.into_par_iter().enumerate().try_for_each(
+                |(k, mut ch)| -> Result<(), String> {
+                    let mut vals = vec![Value::S(0.0); points.names.len()];
+                    for j in 0..ch[0].len() {
+                        let i = k * CH + j;
+                        for (p, v) in vals.iter_mut().enumerate() {
+                            *v = points.value(p, i);
+                        }
+                        let comps = e.eval(&vals)?.components();
+                        for (c, x) in comps.into_iter().enumerate() {
+                            ch[c][j] = x;
+                        }
                     }
-                    let comps = e.eval(&vals)?.components();
-                    for (c, x) in comps.into_iter().enumerate() {
-                        ch[c][j] = x;
-                    }
-                }
-                Ok(())
-            })?;
+                    Ok(())
+                },
+            )?;
         }
         c0 += e.width;
     }
@@ -123,15 +139,24 @@ fn columns(exprs: &[BoundExpr], points: &Points) -> Result<Vec<Vec<f64>>, String
 }
 
 /// Load the shader, compile the function and evaluate it over the sweep.
-pub fn evaluate(suite: &Suite, check: &Check, shader_path: Option<&Path>) -> Result<Evaluated, String> {
-    let path = shader_path.map(Path::to_path_buf).unwrap_or_else(|| suite.resolve(&check.shader));
+pub fn evaluate(
+    suite: &Suite,
+    check: &Check,
+    shader_path: Option<&Path>,
+) -> Result<Evaluated, String> {
+    let path = shader_path
+        .map(Path::to_path_buf)
+        .unwrap_or_else(|| suite.resolve(&check.shader));
     let shader = Shader::load(&path).map_err(|d| d.rendered)?;
-    let program = Program::compile_with(&shader, &check.function, &check.overrides, check.arithmetic).map_err(|d| d.rendered)?;
+    let program =
+        Program::compile_with(&shader, &check.function, &check.overrides, check.arithmetic)
+            .map_err(|d| d.rendered)?;
     let points = points_of(check);
     let mut bound = Vec::new();
     let mut kinds = Vec::new();
     for (name, ty) in program.params() {
-        let b = bind_arg(&check.args, name, &points, "argument").map_err(|m| format!("check `{}`: {m}", check.name))?;
+        let b = bind_arg(&check.args, name, &points, "argument")
+            .map_err(|m| format!("check `{}`: {m}", check.name))?;
         let leaves = ty.leaves();
         let fits = matches!(ty, Ty::Scalar(_) | Ty::Vector(3, _)) && leaves.len() == b.width;
         if !fits {
@@ -151,7 +176,9 @@ pub fn evaluate(suite: &Suite, check: &Check, shader_path: Option<&Path>) -> Res
         .collect();
     let refs: Vec<&[u32]> = input_columns.iter().map(|c| &c[..]).collect();
     let mut output_columns = Vec::new();
-    let issues = program.try_eval(&refs, &mut output_columns).map_err(|m| format!("check `{}`: {m}", check.name))?;
+    let issues = program
+        .try_eval(&refs, &mut output_columns)
+        .map_err(|m| format!("check `{}`: {m}", check.name))?;
     Ok(Evaluated {
         shader_hash: shader.content_hash(),
         inputs: program.input_leaves(),
@@ -165,10 +192,16 @@ pub fn evaluate(suite: &Suite, check: &Check, shader_path: Option<&Path>) -> Res
 }
 
 /// Evaluate the reference model of a check at every point.
-pub fn reference_columns(check: &Check, model: &Model, points: &Points, ref_args: &BTreeMap<String, Expr>) -> Result<Vec<Vec<f64>>, String> {
+pub fn reference_columns(
+    check: &Check,
+    model: &Model,
+    points: &Points,
+    ref_args: &BTreeMap<String, Expr>,
+) -> Result<Vec<Vec<f64>>, String> {
     let mut bound = Vec::new();
     for p in model.params {
-        let b = bind_arg(ref_args, p.name, points, "reference parameter").map_err(|m| format!("check `{}`: {m}", check.name))?;
+        let b = bind_arg(ref_args, p.name, points, "reference parameter")
+            .map_err(|m| format!("check `{}`: {m}", check.name))?;
         let want = match p.kind {
             ParamKind::Scalar => 1,
             ParamKind::Vec3 => 3,
@@ -213,22 +246,39 @@ pub fn reference_columns(check: &Check, model: &Model, points: &Points, ref_args
 }
 
 fn as_f64(cols: &[Vec<u32>], kinds: &[(String, ScalarKind)]) -> Vec<Vec<f64>> {
-    cols.par_iter().zip(kinds.par_iter()).map(|(c, (_, k))| c.iter().map(|&b| bits_to_f64(*k, b)).collect()).collect()
+    cols.par_iter()
+        .zip(kinds.par_iter())
+        .map(|(c, (_, k))| c.iter().map(|&b| bits_to_f64(*k, b)).collect())
+        .collect()
 }
 
 fn group_issues(issues: &[LaneIssue], shader: &Path, points: &Points) -> Vec<IssueGroup> {
     let mut groups: Vec<IssueGroup> = Vec::new();
     for i in issues {
-        let location = if i.line > 0 { format!("{}:{}:{}", shader.display(), i.line, i.column) } else { shader.display().to_string() };
-        let kind = serde_json::to_value(i.kind).ok().and_then(|v| v.as_str().map(str::to_string)).unwrap_or_default();
-        match groups.iter_mut().find(|g| g.kind == kind && g.message == i.message && g.location == location) {
+        let location = if i.line > 0 {
+            format!("{}:{}:{}", shader.display(), i.line, i.column)
+        } else {
+            shader.display().to_string()
+        };
+        let kind = serde_json::to_value(i.kind)
+            .ok()
+            .and_then(|v| v.as_str().map(str::to_string))
+            .unwrap_or_default();
+        match groups
+            .iter_mut()
+            .find(|g| g.kind == kind && g.message == i.message && g.location == location)
+        {
             Some(g) => g.count += 1,
             None => groups.push(IssueGroup {
                 kind,
                 message: i.message.clone(),
                 location,
                 count: 1,
-                example: format!("{} (function inputs: {})", points.describe(i.point), i.inputs),
+                example: format!(
+                    "{} (function inputs: {})",
+                    points.describe(i.point),
+                    i.inputs
+                ),
             }),
         }
     }
@@ -244,8 +294,16 @@ fn locality(points: &Points, failing: &[usize], what: &str) -> Vec<String> {
     }
     for (p, name) in points.names.iter().enumerate() {
         // Directions are judged by their z component, the cosine to the normal.
-        let (col, label) = if points.widths[p] == 1 { (&points.columns[p][0], name.clone()) } else { (&points.columns[p][2], format!("{name}.z")) };
-        let range = |idx: &mut dyn Iterator<Item = f64>| idx.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), x| (a.min(x), b.max(x)));
+        let (col, label) = if points.widths[p] == 1 {
+            (&points.columns[p][0], name.clone())
+        } else {
+            (&points.columns[p][2], format!("{name}.z"))
+        };
+        let range = |idx: &mut dyn Iterator<Item = f64>| {
+            idx.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), x| {
+                (a.min(x), b.max(x))
+            })
+        };
         let (lo, hi) = range(&mut col.iter().copied());
         let (flo, fhi) = range(&mut failing.iter().map(|&i| col[i]));
         if hi > lo && (fhi - flo) < 0.5 * (hi - lo) {
@@ -264,7 +322,13 @@ fn locality(points: &Points, failing: &[usize], what: &str) -> Vec<String> {
 /// Test "the shader uses a different remap of parameter p" hypotheses: with
 /// p → sqrt(p) or p → p² in the reference arguments, does (nearly) every
 /// point pass?
-fn remap_hypotheses(check: &Check, model: &Model, points: &Points, got: &[Vec<f64>], half: bool) -> Vec<String> {
+fn remap_hypotheses(
+    check: &Check,
+    model: &Model,
+    points: &Points,
+    got: &[Vec<f64>],
+    half: bool,
+) -> Vec<String> {
     let mut out = Vec::new();
     // Subsample for speed: at most ~20k points.
     let stride = (points.len / 20_000).max(1);
@@ -272,14 +336,30 @@ fn remap_hypotheses(check: &Check, model: &Model, points: &Points, got: &[Vec<f6
     let sub = Points {
         names: points.names.clone(),
         widths: points.widths.clone(),
-        columns: points.columns.iter().map(|cs| cs.iter().map(|c| idx.iter().map(|&i| c[i]).collect()).collect()).collect(),
+        columns: points
+            .columns
+            .iter()
+            .map(|cs| {
+                cs.iter()
+                    .map(|c| idx.iter().map(|&i| c[i]).collect())
+                    .collect()
+            })
+            .collect(),
         len: idx.len(),
     };
-    let got_sub: Vec<Vec<f64>> = got.iter().map(|c| idx.iter().map(|&i| c[i]).collect()).collect();
+    let got_sub: Vec<Vec<f64>> = got
+        .iter()
+        .map(|c| idx.iter().map(|&i| c[i]).collect())
+        .collect();
     let used: Vec<String> = model
         .params
         .iter()
-        .flat_map(|p| check.reference_args.get(p.name).map_or_else(|| vec![p.name.to_string()], |e| e.variables()))
+        .flat_map(|p| {
+            check
+                .reference_args
+                .get(p.name)
+                .map_or_else(|| vec![p.name.to_string()], |e| e.variables())
+        })
         .collect();
     for (p, name) in points.names.iter().enumerate() {
         if points.widths[p] != 1 || !used.contains(name) {
@@ -316,14 +396,24 @@ fn failing_points(got: &[Vec<f64>], want: &[Vec<f64>], tol: &Tolerance, half: bo
         .collect()
 }
 
-fn findings_for(stats: &Stats, got: &[Vec<f64>], want: &[Vec<f64>], tol: &Tolerance, half: bool, points: &Points) -> (Vec<String>, Vec<usize>) {
+fn findings_for(
+    stats: &Stats,
+    got: &[Vec<f64>],
+    want: &[Vec<f64>],
+    tol: &Tolerance,
+    half: bool,
+    points: &Points,
+) -> (Vec<String>, Vec<usize>) {
     let mut f = Vec::new();
     if stats.failed == 0 {
         return (f, Vec::new());
     }
     let failing = failing_points(got, want, tol, half);
     if stats.nonfinite > 0 {
-        f.push(format!("{} point(s) give NaN or infinity where the expected value is finite", stats.nonfinite));
+        f.push(format!(
+            "{} point(s) give NaN or infinity where the expected value is finite",
+            stats.nonfinite
+        ));
     }
     if let Some(c) = compare::constant_factor(got, want, &failing) {
         f.push(c);
@@ -337,15 +427,27 @@ fn findings_for(stats: &Stats, got: &[Vec<f64>], want: &[Vec<f64>], tol: &Tolera
                 let e = (0..got.len())
                     .map(|c| {
                         let (g, w) = (got[c][i], want[c][i]);
-                        if g.is_finite() { (g - w).abs() / w.abs().max(1e-30) } else { f64::INFINITY }
+                        if g.is_finite() {
+                            (g - w).abs() / w.abs().max(1e-30)
+                        } else {
+                            f64::INFINITY
+                        }
                     })
                     .fold(0.0, f64::max);
                 (e, i)
             })
             .collect();
         by_error.sort_by(|a, b| b.0.total_cmp(&a.0));
-        let top: Vec<usize> = by_error.iter().take((failing.len() / 100).max(10)).map(|x| x.1).collect();
-        f.extend(locality(points, &top, "the largest relative errors (top 1 % of failures)"));
+        let top: Vec<usize> = by_error
+            .iter()
+            .take((failing.len() / 100).max(10))
+            .map(|x| x.1)
+            .collect();
+        f.extend(locality(
+            points,
+            &top,
+            "the largest relative errors (top 1 % of failures)",
+        ));
     }
     f.extend(local);
     (f, failing)
@@ -393,7 +495,12 @@ pub fn run_check_on(suite: &Suite, check: &Check, backend: Option<Backend>) -> C
     r
 }
 
-fn run_inner(suite: &Suite, check: &Check, r: &mut CheckResult, backend: Option<Backend>) -> Result<(), String> {
+fn run_inner(
+    suite: &Suite,
+    check: &Check,
+    r: &mut CheckResult,
+    backend: Option<Backend>,
+) -> Result<(), String> {
     let mut ev = evaluate(suite, check, None)?;
     if let Some(b) = backend {
         let (cols, label) = b(&ev)?;
@@ -423,9 +530,14 @@ fn run_inner(suite: &Suite, check: &Check, r: &mut CheckResult, backend: Option<
         let (findings, _) = findings_for(&stats, &got, &want, &check.tolerance, half, &ev.points);
         r.findings.extend(findings);
         if stats.failed > 0 {
-            r.findings.extend(remap_hypotheses(check, model, &ev.points, &got, half));
+            r.findings
+                .extend(remap_hypotheses(check, model, &ev.points, &got, half));
         }
-        r.comparisons.push(Comparison { against: format!("reference {}", model.name), tolerance: check.tolerance.clone(), stats });
+        r.comparisons.push(Comparison {
+            against: format!("reference {}", model.name),
+            tolerance: check.tolerance.clone(),
+            stats,
+        });
     }
     if let (Some(gpath), None) = (&check.golden, backend) {
         let path = suite.resolve(gpath);
@@ -440,8 +552,19 @@ fn run_inner(suite: &Suite, check: &Check, r: &mut CheckResult, backend: Option<
         let want = as_f64(&g.output_columns, &g.outputs);
         let mut stats = compare::compare(&got, &want, &check.golden_tolerance, half, &describe);
         stats.changed = Some(compare::changed_bits(&ev.output_columns, &g.output_columns));
-        let (findings, _) = findings_for(&stats, &got, &want, &check.golden_tolerance, half, &ev.points);
-        r.findings.extend(findings.into_iter().map(|f| format!("against the golden: {f}")));
+        let (findings, _) = findings_for(
+            &stats,
+            &got,
+            &want,
+            &check.golden_tolerance,
+            half,
+            &ev.points,
+        );
+        r.findings.extend(
+            findings
+                .into_iter()
+                .map(|f| format!("against the golden: {f}")),
+        );
         r.comparisons.push(Comparison {
             against: format!("golden {}", gpath.display()),
             tolerance: check.golden_tolerance.clone(),
@@ -479,10 +602,25 @@ fn check_header(path: &Path, g: &Golden, check: &Check, ev: &Evaluated) -> Resul
         return mismatch(6, "sweep", &h.sweep, &sweep);
     }
     if g.inputs != ev.inputs || g.outputs != ev.outputs {
-        let cols = |v: &[(String, ScalarKind)]| v.iter().map(|(n, k)| format!("{n}:{}", k.wgsl())).collect::<Vec<_>>().join(",");
-        return mismatch(8, "column list", &cols(&[g.inputs.clone(), g.outputs.clone()].concat()), &cols(&[ev.inputs.clone(), ev.outputs.clone()].concat()));
+        let cols = |v: &[(String, ScalarKind)]| {
+            v.iter()
+                .map(|(n, k)| format!("{n}:{}", k.wgsl()))
+                .collect::<Vec<_>>()
+                .join(",")
+        };
+        return mismatch(
+            8,
+            "column list",
+            &cols(&[g.inputs.clone(), g.outputs.clone()].concat()),
+            &cols(&[ev.inputs.clone(), ev.outputs.clone()].concat()),
+        );
     }
-    if let Some(i) = (0..h.points).find(|&i| g.input_columns.iter().zip(&ev.input_columns).any(|(a, b)| a[i] != b[i])) {
+    if let Some(i) = (0..h.points).find(|&i| {
+        g.input_columns
+            .iter()
+            .zip(&ev.input_columns)
+            .any(|(a, b)| a[i] != b[i])
+    }) {
         return Err(Diagnostic::at_location(
             path,
             &std::fs::read_to_string(path).unwrap_or_default(),
@@ -499,7 +637,10 @@ fn check_header(path: &Path, g: &Golden, check: &Check, ev: &Evaluated) -> Resul
 /// Record the golden dataset of a check (refused under `CI`).
 pub fn record(suite: &Suite, check: &Check) -> Result<PathBuf, String> {
     let Some(gpath) = &check.golden else {
-        return Err(format!("check `{}` has no `golden` dataset to record", check.name));
+        return Err(format!(
+            "check `{}` has no `golden` dataset to record",
+            check.name
+        ));
     };
     if golden::refused_in_ci() {
         return Err("refusing to record goldens because the CI environment variable is set; record them locally and commit them".into());
@@ -525,20 +666,35 @@ pub fn record(suite: &Suite, check: &Check) -> Result<PathBuf, String> {
 }
 
 /// Compare two versions of a WGSL file over a check's sweep.
-pub fn compare_versions(suite: &Suite, check: &Check, old: &Path, new: &Path) -> Result<CheckResult, String> {
+pub fn compare_versions(
+    suite: &Suite,
+    check: &Check,
+    old: &Path,
+    new: &Path,
+) -> Result<CheckResult, String> {
     let t = Instant::now();
     let a = evaluate(suite, check, Some(old))?;
     let b = evaluate(suite, check, Some(new))?;
     if a.outputs != b.outputs {
-        return Err(format!("the two versions return different types ({:?} vs {:?})", a.outputs, b.outputs));
+        return Err(format!(
+            "the two versions return different types ({:?} vs {:?})",
+            a.outputs, b.outputs
+        ));
     }
     let half = b.outputs.iter().any(|(_, k)| *k == ScalarKind::F16);
-    let (ga, gb) = (as_f64(&a.output_columns, &a.outputs), as_f64(&b.output_columns, &b.outputs));
+    let (ga, gb) = (
+        as_f64(&a.output_columns, &a.outputs),
+        as_f64(&b.output_columns, &b.outputs),
+    );
     let describe = |i: usize| b.points.describe(i);
     let mut stats = compare::compare(&gb, &ga, &check.golden_tolerance, half, &describe);
     stats.changed = Some(compare::changed_bits(&a.output_columns, &b.output_columns));
     let (findings, _) = findings_for(&stats, &gb, &ga, &check.golden_tolerance, half, &b.points);
-    let verdict = if stats.failed > 0 { Verdict::Fail } else { Verdict::Pass };
+    let verdict = if stats.failed > 0 {
+        Verdict::Fail
+    } else {
+        Verdict::Pass
+    };
     Ok(CheckResult {
         name: check.name.clone(),
         shader: format!("{} → {}", old.display(), new.display()),
@@ -546,7 +702,11 @@ pub fn compare_versions(suite: &Suite, check: &Check, old: &Path, new: &Path) ->
         points: b.points.len,
         verdict,
         error: None,
-        comparisons: vec![Comparison { against: format!("old version {}", old.display()), tolerance: check.golden_tolerance.clone(), stats }],
+        comparisons: vec![Comparison {
+            against: format!("old version {}", old.display()),
+            tolerance: check.golden_tolerance.clone(),
+            stats,
+        }],
         issues: group_issues(&b.issues, new, &b.points),
         findings,
         seconds: t.elapsed().as_secs_f64(),
@@ -562,8 +722,7 @@ fn device_summary(ev: &Evaluated, cols: &[Vec<u32>]) -> Vec<String> {
         .enumerate()
         .map(|(j, (name, k))| {
             let (mut exact, mut two, mut worst, mut at) = (0usize, 0usize, 0u64, 0usize);
-            for i in 0..n {
-                let (a, b) = (ev.output_columns[j][i], cols[j][i]);
+            for (i, (&a, &b)) in ev.output_columns[j].iter().zip(&cols[j]).enumerate() {
                 let d = match k {
                     ScalarKind::F32 => crate::arith::ulp_distance_f32(f32::from_bits(a), f32::from_bits(b)),
                     ScalarKind::F16 => crate::arith::ulp_distance_f16(
@@ -590,13 +749,26 @@ fn device_summary(ev: &Evaluated, cols: &[Vec<u32>]) -> Vec<String> {
 }
 
 /// Run every check whose name contains `filter` (all when `None`).
-pub fn run(suite: &Suite, filter: Option<&str>, progress: impl FnMut(usize, usize, &str)) -> RunResult {
+pub fn run(
+    suite: &Suite,
+    filter: Option<&str>,
+    progress: impl FnMut(usize, usize, &str),
+) -> RunResult {
     run_on(suite, filter, progress, None)
 }
 
 /// [`run`] on another back end (see [`run_check_on`]).
-pub fn run_on(suite: &Suite, filter: Option<&str>, mut progress: impl FnMut(usize, usize, &str), backend: Option<Backend>) -> RunResult {
-    let selected: Vec<&Check> = suite.checks.iter().filter(|c| filter.is_none_or(|f| c.name.contains(f))).collect();
+pub fn run_on(
+    suite: &Suite,
+    filter: Option<&str>,
+    mut progress: impl FnMut(usize, usize, &str),
+    backend: Option<Backend>,
+) -> RunResult {
+    let selected: Vec<&Check> = suite
+        .checks
+        .iter()
+        .filter(|c| filter.is_none_or(|f| c.name.contains(f)))
+        .collect();
     let total = selected.len();
     let checks = selected
         .iter()
@@ -606,5 +778,8 @@ pub fn run_on(suite: &Suite, filter: Option<&str>, mut progress: impl FnMut(usiz
             run_check_on(suite, c, backend)
         })
         .collect();
-    RunResult { suite: suite.path.display().to_string(), checks }
+    RunResult {
+        suite: suite.path.display().to_string(),
+        checks,
+    }
 }

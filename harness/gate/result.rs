@@ -63,15 +63,24 @@ pub struct RunResult {
 
 impl RunResult {
     pub fn passed(&self) -> usize {
-        self.checks.iter().filter(|c| c.verdict == Verdict::Pass).count()
+        self.checks
+            .iter()
+            .filter(|c| c.verdict == Verdict::Pass)
+            .count()
     }
 
     pub fn failed(&self) -> usize {
-        self.checks.iter().filter(|c| c.verdict == Verdict::Fail).count()
+        self.checks
+            .iter()
+            .filter(|c| c.verdict == Verdict::Fail)
+            .count()
     }
 
     pub fn errors(&self) -> usize {
-        self.checks.iter().filter(|c| c.verdict == Verdict::Error).count()
+        self.checks
+            .iter()
+            .filter(|c| c.verdict == Verdict::Error)
+            .count()
     }
 
     /// The CLI's exit code: 0 all pass, 1 a check failed, 2 a check could not run.

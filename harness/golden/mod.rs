@@ -83,7 +83,9 @@ fn parse_value(k: ScalarKind, s: &str) -> Result<u32, String> {
     }
     Ok(match k {
         ScalarKind::F32 => s.parse::<f32>().map_err(|_| bad())?.to_bits(),
-        ScalarKind::F16 => u32::from(half::f16::from_f32(s.parse::<f32>().map_err(|_| bad())?).to_bits()),
+        ScalarKind::F16 => {
+            u32::from(half::f16::from_f32(s.parse::<f32>().map_err(|_| bad())?).to_bits())
+        }
         ScalarKind::I32 => s.parse::<i32>().map_err(|_| bad())? as u32,
         ScalarKind::U32 => s.parse::<u32>().map_err(|_| bad())?,
         ScalarKind::Bool => match s {
@@ -108,7 +110,8 @@ pub fn write(path: &Path, g: &Golden) -> Result<(), String> {
         ));
     }
     if let Some(dir) = path.parent() {
-        std::fs::create_dir_all(dir).map_err(|e| format!("{}: cannot create folder: {e}", dir.display()))?;
+        std::fs::create_dir_all(dir)
+            .map_err(|e| format!("{}: cannot create folder: {e}", dir.display()))?;
     }
     let mut text = String::new();
     let h = &g.header;
@@ -124,53 +127,94 @@ pub fn write(path: &Path, g: &Golden) -> Result<(), String> {
         text.push_str(&format!("# {k}: {v}\n"));
     }
     text.push_str(&format!("# points: {}\n", h.points));
-    let cols: Vec<String> = g.inputs.iter().chain(&g.outputs).map(|(n, k)| format!("{n}:{}", k.wgsl())).collect();
+    let cols: Vec<String> = g
+        .inputs
+        .iter()
+        .chain(&g.outputs)
+        .map(|(n, k)| format!("{n}:{}", k.wgsl()))
+        .collect();
     text.push_str(&cols.join(","));
     text.push('\n');
     let kinds: Vec<ScalarKind> = g.inputs.iter().chain(&g.outputs).map(|c| c.1).collect();
     let all: Vec<&Vec<u32>> = g.input_columns.iter().chain(&g.output_columns).collect();
     for i in 0..h.points {
-        let row: Vec<String> = all.iter().zip(&kinds).map(|(c, k)| fmt_value(*k, c[i])).collect();
+        let row: Vec<String> = all
+            .iter()
+            .zip(&kinds)
+            .map(|(c, k)| fmt_value(*k, c[i]))
+            .collect();
         text.push_str(&row.join(","));
         text.push('\n');
     }
     text.push_str("# end\n");
     let tmp = tmp_path(path);
-    let mut f = std::fs::File::create(&tmp).map_err(|e| format!("{}: cannot write: {e}", tmp.display()))?;
-    f.write_all(text.as_bytes()).and_then(|_| f.sync_all()).map_err(|e| format!("{}: cannot write: {e}", tmp.display()))?;
-    std::fs::rename(&tmp, path).map_err(|e| format!("{}: cannot rename into place: {e}", path.display()))
+    let mut f =
+        std::fs::File::create(&tmp).map_err(|e| format!("{}: cannot write: {e}", tmp.display()))?;
+    f.write_all(text.as_bytes())
+        .and_then(|_| f.sync_all())
+        .map_err(|e| format!("{}: cannot write: {e}", tmp.display()))?;
+    std::fs::rename(&tmp, path)
+        .map_err(|e| format!("{}: cannot rename into place: {e}", path.display()))
 }
 
 fn tmp_path(path: &Path) -> PathBuf {
-    let mut name = path.file_name().map(|n| n.to_os_string()).unwrap_or_default();
+    let mut name = path
+        .file_name()
+        .map(|n| n.to_os_string())
+        .unwrap_or_default();
     name.push(format!(".tmp{}", std::process::id()));
     path.with_file_name(name)
 }
 
 /// Read a golden dataset; every problem names the file and line.
 pub fn read(path: &Path) -> Result<Golden, Diagnostic> {
-    let text = std::fs::read_to_string(path)
-        .map_err(|e| Diagnostic::without_position(path, format!("cannot read golden dataset: {e} (record it with `shadegate record`)")))?;
+    let text = std::fs::read_to_string(path).map_err(|e| {
+        Diagnostic::without_position(
+            path,
+            format!("cannot read golden dataset: {e} (record it with `shadegate record`)"),
+        )
+    })?;
     parse(path, &text)
 }
 
 /// Parse golden text (see [`read`]).
 pub fn parse(path: &Path, text: &str) -> Result<Golden, Diagnostic> {
-    let err = |line: usize, msg: String| Diagnostic::at_location(path, text, line as u32, 1, 1, msg);
+    let err =
+        |line: usize, msg: String| Diagnostic::at_location(path, text, line as u32, 1, 1, msg);
     let lines: Vec<&str> = text.lines().collect();
     if lines.first() != Some(&MAGIC) {
-        return Err(err(1, format!("not a shadegate golden dataset (expected the first line `{MAGIC}`)")));
+        return Err(err(
+            1,
+            format!("not a shadegate golden dataset (expected the first line `{MAGIC}`)"),
+        ));
     }
     let mut fields = Vec::new();
-    for (i, key) in ["check", "shader", "function", "shader-hash", "sweep", "points"].iter().enumerate() {
+    for (i, key) in [
+        "check",
+        "shader",
+        "function",
+        "shader-hash",
+        "sweep",
+        "points",
+    ]
+    .iter()
+    .enumerate()
+    {
         let line = lines.get(i + 1).copied().unwrap_or("");
         let prefix = format!("# {key}: ");
         match line.strip_prefix(&prefix) {
             Some(v) => fields.push(v.to_string()),
-            None => return Err(err(i + 2, format!("expected the header line `{prefix}…`, found `{line}`"))),
+            None => {
+                return Err(err(
+                    i + 2,
+                    format!("expected the header line `{prefix}…`, found `{line}`"),
+                ))
+            }
         }
     }
-    let points: usize = fields[5].parse().map_err(|_| err(7, format!("`{}` is not a point count", fields[5])))?;
+    let points: usize = fields[5]
+        .parse()
+        .map_err(|_| err(7, format!("`{}` is not a point count", fields[5])))?;
     let header = Header {
         check: fields[0].clone(),
         shader: fields[1].clone(),
@@ -182,12 +226,19 @@ pub fn parse(path: &Path, text: &str) -> Result<Golden, Diagnostic> {
     let names_line = lines.get(7).copied().unwrap_or("");
     let mut cols = Vec::new();
     for c in names_line.split(',') {
-        let (name, kind) = c.rsplit_once(':').ok_or_else(|| err(8, format!("column `{c}` lacks its type (`name:f32`)")))?;
-        let kind = ScalarKind::parse(kind).ok_or_else(|| err(8, format!("column `{c}`: unknown type `{kind}`")))?;
+        let (name, kind) = c
+            .rsplit_once(':')
+            .ok_or_else(|| err(8, format!("column `{c}` lacks its type (`name:f32`)")))?;
+        let kind = ScalarKind::parse(kind)
+            .ok_or_else(|| err(8, format!("column `{c}`: unknown type `{kind}`")))?;
         cols.push((name.to_string(), kind));
     }
-    let split = cols.iter().position(|(n, _)| n == "result" || n.starts_with("result.") || n.starts_with("result["));
-    let Some(split) = split else { return Err(err(8, "no `result` column".into())) };
+    let split = cols
+        .iter()
+        .position(|(n, _)| n == "result" || n.starts_with("result.") || n.starts_with("result["));
+    let Some(split) = split else {
+        return Err(err(8, "no `result` column".into()));
+    };
     let mut columns: Vec<Vec<u32>> = vec![Vec::with_capacity(points); cols.len()];
     let mut row = 0;
     let mut ended = false;
@@ -202,22 +253,40 @@ pub fn parse(path: &Path, text: &str) -> Result<Golden, Diagnostic> {
         }
         let vals: Vec<&str> = line.split(',').collect();
         if vals.len() != cols.len() {
-            return Err(err(lno, format!("expected {} values, found {}", cols.len(), vals.len())));
+            return Err(err(
+                lno,
+                format!("expected {} values, found {}", cols.len(), vals.len()),
+            ));
         }
         for (c, (v, (_, k))) in vals.iter().zip(&cols).enumerate() {
-            columns[c].push(parse_value(*k, v.trim()).map_err(|m| err(lno, format!("column `{}`: {m}", cols[c].0)))?);
+            columns[c].push(
+                parse_value(*k, v.trim())
+                    .map_err(|m| err(lno, format!("column `{}`: {m}", cols[c].0)))?,
+            );
         }
         row += 1;
     }
     if !ended {
-        return Err(err(lines.len(), format!("truncated: no `# end` line after {row} of {points} points")));
+        return Err(err(
+            lines.len(),
+            format!("truncated: no `# end` line after {row} of {points} points"),
+        ));
     }
     if row != points {
-        return Err(err(lines.len(), format!("the header says {points} points but the file has {row}")));
+        return Err(err(
+            lines.len(),
+            format!("the header says {points} points but the file has {row}"),
+        ));
     }
     let output_columns = columns.split_off(split);
     let outputs = cols.split_off(split);
-    Ok(Golden { header, inputs: cols, outputs, input_columns: columns, output_columns })
+    Ok(Golden {
+        header,
+        inputs: cols,
+        outputs,
+        input_columns: columns,
+        output_columns,
+    })
 }
 
 #[cfg(test)]
@@ -237,10 +306,20 @@ mod tests {
             inputs: vec![("x".into(), ScalarKind::F32), ("k".into(), ScalarKind::I32)],
             outputs: vec![("result".into(), ScalarKind::F32)],
             input_columns: vec![
-                vec![0.1f32.to_bits(), f32::from_bits(1).to_bits(), (-0.0f32).to_bits(), 3.0e38f32.to_bits()],
+                vec![
+                    0.1f32.to_bits(),
+                    f32::from_bits(1).to_bits(),
+                    (-0.0f32).to_bits(),
+                    3.0e38f32.to_bits(),
+                ],
                 vec![-5i32 as u32, 0, 7, i32::MIN as u32],
             ],
-            output_columns: vec![vec![f32::NAN.to_bits(), 0x7fc0_0123, f32::INFINITY.to_bits(), 1.0f32.to_bits()]],
+            output_columns: vec![vec![
+                f32::NAN.to_bits(),
+                0x7fc0_0123,
+                f32::INFINITY.to_bits(),
+                1.0f32.to_bits(),
+            ]],
         }
     }
 
@@ -263,9 +342,17 @@ mod tests {
         let e = parse(Path::new("g.csv"), text).unwrap_err();
         assert_eq!(e.line, 10);
         assert!(e.message.contains("`zz` is not a valid f32"), "{e}");
-        let e = parse(Path::new("g.csv"), &text.replace("1.0,zz\n# end\n", "1.0,3.0\n")).unwrap_err();
+        let e = parse(
+            Path::new("g.csv"),
+            &text.replace("1.0,zz\n# end\n", "1.0,3.0\n"),
+        )
+        .unwrap_err();
         assert!(e.message.contains("truncated"), "{e}");
-        let e = parse(Path::new("g.csv"), &text.replace("# function: f", "# functoin: f")).unwrap_err();
+        let e = parse(
+            Path::new("g.csv"),
+            &text.replace("# function: f", "# functoin: f"),
+        )
+        .unwrap_err();
         assert_eq!(e.line, 4);
     }
 }

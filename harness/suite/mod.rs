@@ -194,16 +194,26 @@ pub fn parse(path: &Path, text: &str) -> Result<Suite, Diagnostic> {
         if let Some(prev) = checks.iter().find(|c: &&Check| c.name == check.name) {
             return Err(cx.err(
                 span_of_line(text, check.line),
-                format!("duplicate check name `{}` (first defined on line {})", check.name, prev.line),
+                format!(
+                    "duplicate check name `{}` (first defined on line {})",
+                    check.name, prev.line
+                ),
             ));
         }
         checks.push(check);
     }
     if checks.is_empty() {
-        return Err(Diagnostic::without_position(path, "the suite has no `[[check]]` entries"));
+        return Err(Diagnostic::without_position(
+            path,
+            "the suite has no `[[check]]` entries",
+        ));
     }
     let root = path.parent().map(Path::to_path_buf).unwrap_or_default();
-    Ok(Suite { path: path.to_path_buf(), root, checks })
+    Ok(Suite {
+        path: path.to_path_buf(),
+        root,
+        checks,
+    })
 }
 
 /// The span of the line inside `table` (a byte range of `text`) that defines `key`
@@ -230,27 +240,55 @@ fn key_in(text: &str, table: std::ops::Range<usize>, key: &str) -> std::ops::Ran
 }
 
 fn span_of_line(text: &str, line: u32) -> std::ops::Range<usize> {
-    let start: usize = text.split_inclusive('\n').take(line.saturating_sub(1) as usize).map(str::len).sum();
+    let start: usize = text
+        .split_inclusive('\n')
+        .take(line.saturating_sub(1) as usize)
+        .map(str::len)
+        .sum();
     start..start
 }
 
 fn convert(cx: &Ctx, rc: RawCheck, span: std::ops::Range<usize>) -> Result<Check, Diagnostic> {
     let line = line_col(cx.text, rc.name.span().start).0;
     let name = rc.name.get_ref().clone();
-    if name.is_empty() || !name.chars().all(|c| c.is_ascii_alphanumeric() || c == '_' || c == '-') {
-        return Err(cx.err(rc.name.span(), "key `name`: expected letters, digits, `_` or `-` (it names the golden file)"));
+    if name.is_empty()
+        || !name
+            .chars()
+            .all(|c| c.is_ascii_alphanumeric() || c == '_' || c == '-')
+    {
+        return Err(cx.err(
+            rc.name.span(),
+            "key `name`: expected letters, digits, `_` or `-` (it names the golden file)",
+        ));
     }
-    let arithmetic = match rc.arithmetic.as_ref().map(|a| (a.get_ref().as_str(), a.span())) {
+    let arithmetic = match rc
+        .arithmetic
+        .as_ref()
+        .map(|a| (a.get_ref().as_str(), a.span()))
+    {
         None | Some(("exact", _)) => Arithmetic::Exact,
-        Some(("spec-bounds", _)) => Arithmetic::SpecBounds { seed: rc.seed.unwrap_or(1) },
+        Some(("spec-bounds", _)) => Arithmetic::SpecBounds {
+            seed: rc.seed.unwrap_or(1),
+        },
         Some((other, s)) => {
-            return Err(cx.err(s, format!("key `arithmetic`: expected \"exact\" or \"spec-bounds\", found \"{other}\"")))
+            return Err(cx.err(
+                s,
+                format!(
+                    "key `arithmetic`: expected \"exact\" or \"spec-bounds\", found \"{other}\""
+                ),
+            ))
         }
     };
     let reference = match &rc.reference {
         None => None,
         Some(r) => Some(crate::reference::find(r.get_ref()).ok_or_else(|| {
-            cx.err(r.span(), format!("key `reference`: no reference model named `{}` (see `shadegate models`)", r.get_ref()))
+            cx.err(
+                r.span(),
+                format!(
+                    "key `reference`: no reference model named `{}` (see `shadegate models`)",
+                    r.get_ref()
+                ),
+            )
         })?),
     };
     let golden = match &rc.golden {
@@ -259,11 +297,19 @@ fn convert(cx: &Ctx, rc: RawCheck, span: std::ops::Range<usize>) -> Result<Check
             toml::Value::Boolean(true) => Some(PathBuf::from(format!("goldens/{name}.csv"))),
             toml::Value::Boolean(false) => None,
             toml::Value::String(p) => Some(PathBuf::from(p)),
-            _ => return Err(cx.err(g.span(), "key `golden`: expected true, false or a path string")),
+            _ => {
+                return Err(cx.err(
+                    g.span(),
+                    "key `golden`: expected true, false or a path string",
+                ))
+            }
         },
     };
     if reference.is_none() && golden.is_none() {
-        return Err(cx.err(span.start..span.start, format!("check `{name}`: give a `reference` model, a `golden` dataset, or both")));
+        return Err(cx.err(
+            span.start..span.start,
+            format!("check `{name}`: give a `reference` model, a `golden` dataset, or both"),
+        ));
     }
     let sweep_span = rc.sweep.span();
     let mut params = Vec::new();
@@ -274,24 +320,44 @@ fn convert(cx: &Ctx, rc: RawCheck, span: std::ops::Range<usize>) -> Result<Check
         let d = domain(value).map_err(|m| cx.err(at, format!("key `sweep.{key}`: {m}")))?;
         params.push((key.clone(), d));
     }
-    let random = rc.random.map(|r| Random { count: r.count, seed: r.seed });
+    let random = rc.random.map(|r| Random {
+        count: r.count,
+        seed: r.seed,
+    });
     if params.is_empty() {
-        return Err(cx.err(sweep_span, format!("check `{name}`: the sweep has no parameters")));
+        return Err(cx.err(
+            sweep_span,
+            format!("check `{name}`: the sweep has no parameters"),
+        ));
     }
     if random.is_none() && params.iter().any(|(_, d)| d.count() == 0) {
-        return Err(cx.err(sweep_span, format!("check `{name}`: a parameter has no values and there are no random points")));
+        return Err(cx.err(
+            sweep_span,
+            format!("check `{name}`: a parameter has no values and there are no random points"),
+        ));
     }
     let sweep = Sweep { params, random };
     let names: Vec<String> = sweep.params.iter().map(|(n, _)| n.clone()).collect();
-    let exprs = |table: &BTreeMap<String, Spanned<String>>, key: &str| -> Result<BTreeMap<String, Expr>, Diagnostic> {
+    let exprs = |table: &BTreeMap<String, Spanned<String>>,
+                 key: &str|
+     -> Result<BTreeMap<String, Expr>, Diagnostic> {
         let mut out = BTreeMap::new();
         for (arg, text) in table {
             let e = Expr::parse(text.get_ref()).map_err(|e| {
                 let s = text.span();
-                cx.err(s.start + 1 + e.offset..s.end, format!("key `{key}.{arg}`: {}", e.message))
+                cx.err(
+                    s.start + 1 + e.offset..s.end,
+                    format!("key `{key}.{arg}`: {}", e.message),
+                )
             })?;
             if let Some(v) = e.variables().into_iter().find(|v| !names.contains(v)) {
-                return Err(cx.err(text.span(), format!("key `{key}.{arg}`: `{v}` is not a sweep parameter (have: {})", names.join(", "))));
+                return Err(cx.err(
+                    text.span(),
+                    format!(
+                        "key `{key}.{arg}`: `{v}` is not a sweep parameter (have: {})",
+                        names.join(", ")
+                    ),
+                ));
             }
             out.insert(arg.clone(), e);
         }
@@ -311,9 +377,19 @@ fn convert(cx: &Ctx, rc: RawCheck, span: std::ops::Range<usize>) -> Result<Check
                 ));
             }
         }
-        if let Some(k) = reference_args.keys().find(|k| !m.params.iter().any(|p| p.name == k.as_str())) {
+        if let Some(k) = reference_args
+            .keys()
+            .find(|k| !m.params.iter().any(|p| p.name == k.as_str()))
+        {
             let known: Vec<_> = m.params.iter().map(|p| p.name).collect();
-            return Err(cx.err(span.start..span.start, format!("key `reference_args.{k}`: `{}` has no parameter `{k}` (has: {})", m.name, known.join(", "))));
+            return Err(cx.err(
+                span.start..span.start,
+                format!(
+                    "key `reference_args.{k}`: `{}` has no parameter `{k}` (has: {})",
+                    m.name,
+                    known.join(", ")
+                ),
+            ));
         }
     }
     let tolerance = match rc.tolerance {
@@ -349,23 +425,50 @@ fn tolerance_of(cx: &Ctx, t: Spanned<RawTolerance>, key: &str) -> Result<Toleran
     let t = t.into_inner();
     let reason = match t.reason {
         Some(r) if !r.get_ref().trim().is_empty() => r.into_inner(),
-        Some(r) => return Err(cx.err(r.span(), format!("key `{key}.reason`: the reason is empty; say why this much error is accepted"))),
+        Some(r) => {
+            return Err(cx.err(
+                r.span(),
+                format!(
+                    "key `{key}.reason`: the reason is empty; say why this much error is accepted"
+                ),
+            ))
+        }
         None => {
-            return Err(cx.err(span, format!("key `{key}.reason` is missing: every tolerance needs a written reason")))
+            return Err(cx.err(
+                span,
+                format!("key `{key}.reason` is missing: every tolerance needs a written reason"),
+            ))
         }
     };
     let nan = match t.nan.as_ref().map(|n| (n.get_ref().as_str(), n.span())) {
         None | Some(("match", _)) => NanPolicy::Match,
         Some(("skip", _)) => NanPolicy::Skip,
-        Some((o, s)) => return Err(cx.err(s, format!("key `{key}.nan`: expected \"match\" or \"skip\", found \"{o}\""))),
+        Some((o, s)) => {
+            return Err(cx.err(
+                s,
+                format!("key `{key}.nan`: expected \"match\" or \"skip\", found \"{o}\""),
+            ))
+        }
     };
-    let tol = Tolerance { abs: t.abs.map(OneOrMany::vec), rel: t.rel.map(OneOrMany::vec), ulp: t.ulp.map(OneOrMany::vec), nan, reason };
+    let tol = Tolerance {
+        abs: t.abs.map(OneOrMany::vec),
+        rel: t.rel.map(OneOrMany::vec),
+        ulp: t.ulp.map(OneOrMany::vec),
+        nan,
+        reason,
+    };
     if tol.abs.is_none() && tol.rel.is_none() && tol.ulp.is_none() {
-        return Err(cx.err(span, format!("key `{key}`: give at least one of `abs`, `rel`, `ulp`")));
+        return Err(cx.err(
+            span,
+            format!("key `{key}`: give at least one of `abs`, `rel`, `ulp`"),
+        ));
     }
     for v in [&tol.abs, &tol.rel, &tol.ulp].into_iter().flatten() {
-        if v.is_empty() || v.iter().any(|x| !(*x >= 0.0)) {
-            return Err(cx.err(span, format!("key `{key}`: bounds must be non-negative numbers")));
+        if v.is_empty() || v.iter().any(|x| x.is_nan() || *x < 0.0) {
+            return Err(cx.err(
+                span,
+                format!("key `{key}`: bounds must be non-negative numbers"),
+            ));
         }
     }
     Ok(tol)
@@ -380,7 +483,9 @@ fn num(v: &toml::Value) -> Result<f64, String> {
 }
 
 fn nums(v: &toml::Value, n: Option<usize>, what: &str) -> Result<Vec<f64>, String> {
-    let toml::Value::Array(a) = v else { return Err(format!("`{what}` expects an array")) };
+    let toml::Value::Array(a) = v else {
+        return Err(format!("`{what}` expects an array"));
+    };
     if let Some(n) = n {
         if a.len() != n {
             return Err(format!("`{what}` expects {n} numbers, found {}", a.len()));
@@ -407,14 +512,22 @@ fn domain(v: &toml::Value) -> Result<Domain, String> {
     Ok(match kind.as_str() {
         "linear" => {
             let a = nums(val, Some(3), "linear = [low, high, count]")?;
-            Domain::Linear { lo: a[0], hi: a[1], n: count(a[2])? }
+            Domain::Linear {
+                lo: a[0],
+                hi: a[1],
+                n: count(a[2])?,
+            }
         }
         "log" => {
             let a = nums(val, Some(3), "log = [low, high, count]")?;
             if !(a[0] > 0.0 && a[1] > 0.0) {
                 return Err("`log` needs positive bounds".into());
             }
-            Domain::Log { lo: a[0], hi: a[1], n: count(a[2])? }
+            Domain::Log {
+                lo: a[0],
+                hi: a[1],
+                n: count(a[2])?,
+            }
         }
         "list" => {
             let a = nums(val, None, "list")?;
@@ -431,21 +544,34 @@ fn domain(v: &toml::Value) -> Result<Domain, String> {
             Domain::Edges { lo: a[0], hi: a[1] }
         }
         "direction" => {
-            let toml::Value::Table(d) = val else { return Err("`direction` expects { theta = ..., phi = ... }".into()) };
+            let toml::Value::Table(d) = val else {
+                return Err("`direction` expects { theta = ..., phi = ... }".into());
+            };
             if let Some(k) = d.keys().find(|k| *k != "theta" && *k != "phi") {
-                return Err(format!("unknown key `{k}` in `direction` (expected `theta`, `phi`)"));
+                return Err(format!(
+                    "unknown key `{k}` in `direction` (expected `theta`, `phi`)"
+                ));
             }
             let part = |k: &str| -> Result<Box<Domain>, String> {
-                let v = d.get(k).ok_or(format!("`direction` needs `{k}` (degrees)"))?;
+                let v = d
+                    .get(k)
+                    .ok_or(format!("`direction` needs `{k}` (degrees)"))?;
                 let inner = domain(v).map_err(|m| format!("{k}: {m}"))?;
                 if inner.width() != 1 {
                     return Err(format!("{k}: must be a scalar domain"));
                 }
                 Ok(Box::new(inner))
             };
-            Domain::Direction { theta: part("theta")?, phi: part("phi")? }
+            Domain::Direction {
+                theta: part("theta")?,
+                phi: part("phi")?,
+            }
         }
-        other => return Err(format!("unknown domain `{other}` (expected `linear`, `log`, `list`, `edges`, `direction`)")),
+        other => {
+            return Err(format!(
+                "unknown domain `{other}` (expected `linear`, `log`, `list`, `edges`, `direction`)"
+            ))
+        }
     })
 }
 
@@ -483,7 +609,10 @@ reason = "f32 rounding"
         // File order, not alphabetical: n_dot_h before roughness here, so
         // check the reverse too.
         assert_eq!(c.sweep.params[0].0, "n_dot_h");
-        let swapped = GOOD.replace("n_dot_h = { linear = [0.0, 1.0, 4] }\nroughness = { edges = [0.0, 1.0] }", "roughness = { edges = [0.0, 1.0] }\nn_dot_h = { linear = [0.0, 1.0, 4] }");
+        let swapped = GOOD.replace(
+            "n_dot_h = { linear = [0.0, 1.0, 4] }\nroughness = { edges = [0.0, 1.0] }",
+            "roughness = { edges = [0.0, 1.0] }\nn_dot_h = { linear = [0.0, 1.0, 4] }",
+        );
         let s2 = parse(Path::new("dir/s.toml"), &swapped).unwrap();
         assert_eq!(s2.checks[0].sweep.params[0].0, "roughness");
         assert_eq!(c.sweep.params.len(), 2);
@@ -494,28 +623,54 @@ reason = "f32 rounding"
     #[test]
     fn unknown_keys_are_errors_with_line() {
         let d = err(&GOOD.replace("function = ", "fucntion = \"x\"\nfunction = "));
-        assert!(d.message.contains("unknown field `fucntion`"), "{}", d.rendered);
+        assert!(
+            d.message.contains("unknown field `fucntion`"),
+            "{}",
+            d.rendered
+        );
         assert_eq!(d.line, 5);
     }
 
     #[test]
     fn a_tolerance_without_reason_is_an_error() {
         let d = err(&GOOD.replace("reason = \"f32 rounding\"\n", ""));
-        assert!(d.message.contains("`tolerance.reason` is missing"), "{}", d.rendered);
+        assert!(
+            d.message.contains("`tolerance.reason` is missing"),
+            "{}",
+            d.rendered
+        );
         assert_eq!(d.line, 14, "{}", d.rendered);
     }
 
     #[test]
     fn bad_domains_models_and_expressions_are_located() {
         let d = err(&GOOD.replace("{ linear = [0.0, 1.0, 4] }", "{ linear = [0.0, 1.0] }"));
-        assert!(d.message.contains("sweep.n_dot_h") && d.message.contains("expects 3 numbers"), "{}", d.rendered);
+        assert!(
+            d.message.contains("sweep.n_dot_h") && d.message.contains("expects 3 numbers"),
+            "{}",
+            d.rendered
+        );
         let d = err(&GOOD.replace("\"ggx_ndf\"", "\"ggx\""));
-        assert!(d.message.contains("no reference model named `ggx`"), "{}", d.rendered);
+        assert!(
+            d.message.contains("no reference model named `ggx`"),
+            "{}",
+            d.rendered
+        );
         assert_eq!(d.line, 6);
-        let d = err(&GOOD.replace("args = { alpha = \"roughness * roughness\" }", "args = { alpha = \"roughness * * 2\" }"));
+        let d = err(&GOOD.replace(
+            "args = { alpha = \"roughness * roughness\" }",
+            "args = { alpha = \"roughness * * 2\" }",
+        ));
         assert!(d.message.contains("key `args.alpha`"), "{}", d.rendered);
-        let d = err(&GOOD.replace("args = { alpha = \"roughness * roughness\" }", "args = { alpha = \"rough * 2\" }"));
-        assert!(d.message.contains("`rough` is not a sweep parameter"), "{}", d.rendered);
+        let d = err(&GOOD.replace(
+            "args = { alpha = \"roughness * roughness\" }",
+            "args = { alpha = \"rough * 2\" }",
+        ));
+        assert!(
+            d.message.contains("`rough` is not a sweep parameter"),
+            "{}",
+            d.rendered
+        );
     }
 
     #[test]

@@ -106,7 +106,10 @@ const FUNCTIONS: &[(&str, usize)] = &[
 
 impl<'a> Parser<'a> {
     fn err<T>(&self, msg: impl Into<String>) -> Result<T, ExprError> {
-        Err(ExprError { offset: self.i, message: msg.into() })
+        Err(ExprError {
+            offset: self.i,
+            message: msg.into(),
+        })
     }
 
     fn ws(&mut self) {
@@ -178,7 +181,14 @@ impl<'a> Parser<'a> {
                 "x" => 0,
                 "y" => 1,
                 "z" => 2,
-                _ => return Err(ExprError { offset: at, message: format!("expected a component x, y or z after `.`, found `{name}`") }),
+                _ => {
+                    return Err(ExprError {
+                        offset: at,
+                        message: format!(
+                            "expected a component x, y or z after `.`, found `{name}`"
+                        ),
+                    })
+                }
             };
             n = Node::Member(n.into(), k);
         }
@@ -188,7 +198,9 @@ impl<'a> Parser<'a> {
     fn ident(&mut self) -> String {
         self.ws();
         let start = self.i;
-        while self.i < self.s.len() && (self.s[self.i].is_ascii_alphanumeric() || self.s[self.i] == b'_') {
+        while self.i < self.s.len()
+            && (self.s[self.i].is_ascii_alphanumeric() || self.s[self.i] == b'_')
+        {
             self.i += 1;
         }
         String::from_utf8_lossy(&self.s[start..self.i]).into_owned()
@@ -206,7 +218,9 @@ impl<'a> Parser<'a> {
             }
             Some(c) if c.is_ascii_digit() || c == b'.' => {
                 let start = self.i;
-                while self.i < self.s.len() && (self.s[self.i].is_ascii_digit() || self.s[self.i] == b'.') {
+                while self.i < self.s.len()
+                    && (self.s[self.i].is_ascii_digit() || self.s[self.i] == b'.')
+                {
                     self.i += 1;
                 }
                 if self.i < self.s.len() && (self.s[self.i] == b'e' || self.s[self.i] == b'E') {
@@ -219,9 +233,10 @@ impl<'a> Parser<'a> {
                     }
                 }
                 let text = String::from_utf8_lossy(&self.s[start..self.i]);
-                text.parse::<f64>()
-                    .map(Node::Num)
-                    .map_err(|_| ExprError { offset: start, message: format!("`{text}` is not a number") })
+                text.parse::<f64>().map(Node::Num).map_err(|_| ExprError {
+                    offset: start,
+                    message: format!("`{text}` is not a number"),
+                })
             }
             Some(c) if c.is_ascii_alphabetic() || c == b'_' => {
                 let at = self.i;
@@ -229,7 +244,13 @@ impl<'a> Parser<'a> {
                 if self.eat(b'(') {
                     let Some(&(_, arity)) = FUNCTIONS.iter().find(|(f, _)| *f == name) else {
                         let known: Vec<_> = FUNCTIONS.iter().map(|f| f.0).collect();
-                        return Err(ExprError { offset: at, message: format!("unknown function `{name}` (known: {})", known.join(", ")) });
+                        return Err(ExprError {
+                            offset: at,
+                            message: format!(
+                                "unknown function `{name}` (known: {})",
+                                known.join(", ")
+                            ),
+                        });
                     };
                     let mut args = Vec::new();
                     if !self.eat(b')') {
@@ -244,7 +265,13 @@ impl<'a> Parser<'a> {
                         }
                     }
                     if args.len() != arity {
-                        return Err(ExprError { offset: at, message: format!("`{name}` takes {arity} argument(s), got {}", args.len()) });
+                        return Err(ExprError {
+                            offset: at,
+                            message: format!(
+                                "`{name}` takes {arity} argument(s), got {}",
+                                args.len()
+                            ),
+                        });
                     }
                     Ok(Node::Call(name, args))
                 } else if name == "pi" {
@@ -262,12 +289,18 @@ impl<'a> Parser<'a> {
 impl Expr {
     /// Parse `text`.
     pub fn parse(text: &str) -> Result<Expr, ExprError> {
-        let mut p = Parser { s: text.as_bytes(), i: 0 };
+        let mut p = Parser {
+            s: text.as_bytes(),
+            i: 0,
+        };
         let root = p.expr()?;
         if p.peek().is_some() {
             return p.err("unexpected text after the expression");
         }
-        Ok(Expr { text: text.to_string(), root })
+        Ok(Expr {
+            text: text.to_string(),
+            root,
+        })
     }
 
     /// Names of the variables the expression reads.
@@ -306,13 +339,25 @@ impl Expr {
             Ok(match n {
                 Node::Var(v) => match names.iter().position(|x| x == v) {
                     Some(i) => Node::Idx(i),
-                    None => return Err(format!("unknown name `{v}` (sweep parameters: {})", names.join(", "))),
+                    None => {
+                        return Err(format!(
+                            "unknown name `{v}` (sweep parameters: {})",
+                            names.join(", ")
+                        ))
+                    }
                 },
                 Node::Num(_) | Node::Idx(_) => n.clone(),
                 Node::Neg(a) => Node::Neg(resolve(a, names)?.into()),
                 Node::Member(a, k) => Node::Member(resolve(a, names)?.into(), *k),
-                Node::Bin(op, a, b) => Node::Bin(*op, resolve(a, names)?.into(), resolve(b, names)?.into()),
-                Node::Call(f, args) => Node::Call(f.clone(), args.iter().map(|a| resolve(a, names)).collect::<Result<_, _>>()?),
+                Node::Bin(op, a, b) => {
+                    Node::Bin(*op, resolve(a, names)?.into(), resolve(b, names)?.into())
+                }
+                Node::Call(f, args) => Node::Call(
+                    f.clone(),
+                    args.iter()
+                        .map(|a| resolve(a, names))
+                        .collect::<Result<_, _>>()?,
+                ),
             })
         }
         let root = resolve(&self.root, names)?;
@@ -333,11 +378,18 @@ impl Expr {
                 Node::Var(_) | Node::Num(_) | Node::Idx(_) => n.clone(),
                 Node::Neg(a) => Node::Neg(sub(a, name, with).into()),
                 Node::Member(a, k) => Node::Member(sub(a, name, with).into(), *k),
-                Node::Bin(op, a, b) => Node::Bin(*op, sub(a, name, with).into(), sub(b, name, with).into()),
-                Node::Call(f, args) => Node::Call(f.clone(), args.iter().map(|a| sub(a, name, with)).collect()),
+                Node::Bin(op, a, b) => {
+                    Node::Bin(*op, sub(a, name, with).into(), sub(b, name, with).into())
+                }
+                Node::Call(f, args) => {
+                    Node::Call(f.clone(), args.iter().map(|a| sub(a, name, with)).collect())
+                }
             }
         }
-        Expr { text: format!("{} [{name} := {}]", self.text, with.text), root: sub(&self.root, name, &with.root) }
+        Expr {
+            text: format!("{} [{name} := {}]", self.text, with.text),
+            root: sub(&self.root, name, &with.root),
+        }
     }
 }
 
@@ -400,7 +452,10 @@ fn eval(n: &Node, vars: &BTreeMap<&str, Value>, vals: &[Value]) -> Result<Value,
         Node::Idx(i) => vals[*i],
         Node::Var(v) => *vars.get(v.as_str()).ok_or_else(|| {
             let known: Vec<_> = vars.keys().copied().collect();
-            format!("unknown name `{v}` (sweep parameters: {})", known.join(", "))
+            format!(
+                "unknown name `{v}` (sweep parameters: {})",
+                known.join(", ")
+            )
         })?,
         Node::Neg(a) => map(eval(a)?, |x| -x),
         Node::Member(a, k) => Value::S(vector(eval(a)?, "`.x/.y/.z`")?[*k]),
@@ -437,12 +492,20 @@ fn eval(n: &Node, vars: &BTreeMap<&str, Value>, vals: &[Value]) -> Result<Value,
                 "degrees" => map(a[0], f64::to_degrees),
                 "mix" => {
                     let t = a[2];
-                    zip(zip(a[0], zip(Value::S(1.0), t, |o, t| o - t), |x, w| x * w), zip(a[1], t, |y, t| y * t), |p, q| p + q)
+                    zip(
+                        zip(a[0], zip(Value::S(1.0), t, |o, t| o - t), |x, w| x * w),
+                        zip(a[1], t, |y, t| y * t),
+                        |p, q| p + q,
+                    )
                 }
                 "dot" => Value::S(dot(vector(a[0], "dot")?, vector(a[1], "dot")?)),
                 "cross" => {
                     let (x, y) = (vector(a[0], "cross")?, vector(a[1], "cross")?);
-                    Value::V([x[1] * y[2] - x[2] * y[1], x[2] * y[0] - x[0] * y[2], x[0] * y[1] - x[1] * y[0]])
+                    Value::V([
+                        x[1] * y[2] - x[2] * y[1],
+                        x[2] * y[0] - x[0] * y[2],
+                        x[0] * y[1] - x[1] * y[0],
+                    ])
                 }
                 "length" => match a[0] {
                     Value::S(x) => Value::S(x.abs()),
@@ -453,7 +516,11 @@ fn eval(n: &Node, vars: &BTreeMap<&str, Value>, vals: &[Value]) -> Result<Value,
                     let l = dot(v, v).sqrt();
                     Value::V(v.map(|c| c / l))
                 }
-                _ => Value::V([scalar(a[0], "vec3")?, scalar(a[1], "vec3")?, scalar(a[2], "vec3")?]),
+                _ => Value::V([
+                    scalar(a[0], "vec3")?,
+                    scalar(a[1], "vec3")?,
+                    scalar(a[2], "vec3")?,
+                ]),
             }
         }
     })
@@ -473,8 +540,20 @@ mod tests {
         assert_eq!(ev("1 + 2 * 3", &[]), Value::S(7.0));
         assert_eq!(ev("-2 ^ 2", &[]), Value::S(-4.0));
         assert_eq!(ev("r * r", &[("r", Value::S(0.5))]), Value::S(0.25));
-        assert_eq!(ev("dot(normalize(vec3(3, 0, 4)), vec3(0, 0, 1))", &[]), Value::S(0.8));
-        assert_eq!(ev("(a + b).y", &[("a", Value::V([1.0, 2.0, 3.0])), ("b", Value::V([1.0, 1.0, 1.0]))]), Value::S(3.0));
+        assert_eq!(
+            ev("dot(normalize(vec3(3, 0, 4)), vec3(0, 0, 1))", &[]),
+            Value::S(0.8)
+        );
+        assert_eq!(
+            ev(
+                "(a + b).y",
+                &[
+                    ("a", Value::V([1.0, 2.0, 3.0])),
+                    ("b", Value::V([1.0, 1.0, 1.0]))
+                ]
+            ),
+            Value::S(3.0)
+        );
         assert_eq!(ev("clamp(2, 0, 1)", &[]), Value::S(1.0));
         assert_eq!(ev("1e-4 * 2", &[]), Value::S(2e-4));
     }
@@ -487,13 +566,21 @@ mod tests {
         assert!(e.message.contains("unknown function `sqr`"), "{e}");
         let e = Expr::parse("pow(x)").unwrap_err();
         assert!(e.message.contains("takes 2"), "{e}");
-        let err = Expr::parse("x + y").unwrap().eval(&BTreeMap::from([("x", Value::S(1.0))])).unwrap_err();
+        let err = Expr::parse("x + y")
+            .unwrap()
+            .eval(&BTreeMap::from([("x", Value::S(1.0))]))
+            .unwrap_err();
         assert!(err.contains("unknown name `y`"), "{err}");
     }
 
     #[test]
     fn substitution_rewrites_variables() {
-        let e = Expr::parse("r * r").unwrap().substitute("r", &Expr::parse("sqrt(r)").unwrap());
-        assert_eq!(e.eval(&BTreeMap::from([("r", Value::S(0.25))])).unwrap(), Value::S(0.25));
+        let e = Expr::parse("r * r")
+            .unwrap()
+            .substitute("r", &Expr::parse("sqrt(r)").unwrap());
+        assert_eq!(
+            e.eval(&BTreeMap::from([("r", Value::S(0.25))])).unwrap(),
+            Value::S(0.25)
+        );
     }
 }

@@ -16,12 +16,26 @@ pub use expr::{Expr, ExprError, Value};
 /// The values one sweep parameter takes.
 #[derive(Clone, Debug, PartialEq)]
 pub enum Domain {
-    Linear { lo: f64, hi: f64, n: usize },
-    Log { lo: f64, hi: f64, n: usize },
+    Linear {
+        lo: f64,
+        hi: f64,
+        n: usize,
+    },
+    Log {
+        lo: f64,
+        hi: f64,
+        n: usize,
+    },
     List(Vec<f64>),
-    Edges { lo: f64, hi: f64 },
+    Edges {
+        lo: f64,
+        hi: f64,
+    },
     /// A unit vector from polar angle θ and azimuth φ, both in degrees.
-    Direction { theta: Box<Domain>, phi: Box<Domain> },
+    Direction {
+        theta: Box<Domain>,
+        phi: Box<Domain>,
+    },
 }
 
 /// Seeded random points added after the grid.
@@ -65,7 +79,13 @@ impl Points {
         (0..self.names.len())
             .map(|p| match self.value(p, i) {
                 Value::S(x) => format!("{}={}", self.names[p], fmt_num(x)),
-                Value::V(v) => format!("{}=({}, {}, {})", self.names[p], fmt_num(v[0]), fmt_num(v[1]), fmt_num(v[2])),
+                Value::V(v) => format!(
+                    "{}=({}, {}, {})",
+                    self.names[p],
+                    fmt_num(v[0]),
+                    fmt_num(v[1]),
+                    fmt_num(v[2])
+                ),
             })
             .collect::<Vec<_>>()
             .join(", ")
@@ -101,19 +121,39 @@ impl Domain {
             Domain::Linear { lo, hi, n } => match n {
                 0 => vec![],
                 1 => vec![*lo],
-                _ => (0..*n).map(|i| lo + (hi - lo) * i as f64 / (*n - 1) as f64).collect(),
+                _ => (0..*n)
+                    .map(|i| lo + (hi - lo) * i as f64 / (*n - 1) as f64)
+                    .collect(),
             },
             Domain::Log { lo, hi, n } => match n {
                 0 => vec![],
                 1 => vec![*lo],
-                _ => (0..*n).map(|i| lo * (hi / lo).powf(i as f64 / (*n - 1) as f64)).collect(),
+                _ => (0..*n)
+                    .map(|i| lo * (hi / lo).powf(i as f64 / (*n - 1) as f64))
+                    .collect(),
             },
             Domain::List(v) => v.clone(),
             Domain::Edges { lo, hi } => {
                 let (l32, h32) = (*lo as f32, *hi as f32);
-                let next_up = f64::from(f32::from_bits(if l32 >= 0.0 { l32.to_bits() + 1 } else { l32.to_bits() - 1 }));
-                let next_down = f64::from(f32::from_bits(if h32 > 0.0 { h32.to_bits() - 1 } else { h32.to_bits() + 1 }));
-                let mut v = vec![*lo, next_up, lo + 1e-4, (lo + hi) / 2.0, hi - 1e-4, next_down, *hi];
+                let next_up = f64::from(f32::from_bits(if l32 >= 0.0 {
+                    l32.to_bits() + 1
+                } else {
+                    l32.to_bits() - 1
+                }));
+                let next_down = f64::from(f32::from_bits(if h32 > 0.0 {
+                    h32.to_bits() - 1
+                } else {
+                    h32.to_bits() + 1
+                }));
+                let mut v = vec![
+                    *lo,
+                    next_up,
+                    lo + 1e-4,
+                    (lo + hi) / 2.0,
+                    hi - 1e-4,
+                    next_down,
+                    *hi,
+                ];
                 v.retain(|x| *x >= *lo && *x <= *hi);
                 v.sort_by(f64::total_cmp);
                 v.dedup();
@@ -152,11 +192,15 @@ impl Domain {
     /// A uniformly random value of the domain's range.
     fn random(&self, rng: &mut Rng) -> Value {
         match self {
-            Domain::Linear { lo, hi, .. } | Domain::Edges { lo, hi } => Value::S(lo + (hi - lo) * rng.unit()),
+            Domain::Linear { lo, hi, .. } | Domain::Edges { lo, hi } => {
+                Value::S(lo + (hi - lo) * rng.unit())
+            }
             Domain::Log { lo, hi, .. } => Value::S(lo * (hi / lo).powf(rng.unit())),
             Domain::List(v) => Value::S(v[(rng.next() % v.len().max(1) as u64) as usize]),
             Domain::Direction { theta, phi } => {
-                let (Value::S(t), Value::S(p)) = (theta.random(rng), phi.random(rng)) else { unreachable!() };
+                let (Value::S(t), Value::S(p)) = (theta.random(rng), phi.random(rng)) else {
+                    unreachable!()
+                };
                 direction(t, p)
             }
         }
@@ -190,7 +234,11 @@ impl Rng {
 impl Sweep {
     /// Number of points: grid size plus random points.
     pub fn len(&self) -> usize {
-        let grid: usize = if self.params.is_empty() { 0 } else { self.params.iter().map(|(_, d)| d.count()).product() };
+        let grid: usize = if self.params.is_empty() {
+            0
+        } else {
+            self.params.iter().map(|(_, d)| d.count()).product()
+        };
         grid + self.random.map_or(0, |r| r.count)
     }
 
@@ -204,8 +252,11 @@ impl Sweep {
         let grid = n - self.random.map_or(0, |r| r.count);
         let caches: Vec<Vec<Vec<f64>>> = self.params.iter().map(|(_, d)| d.cache()).collect();
         let counts: Vec<usize> = self.params.iter().map(|(_, d)| d.count()).collect();
-        let mut columns: Vec<Vec<Vec<f64>>> =
-            self.params.iter().map(|(_, d)| (0..d.width()).map(|_| Vec::with_capacity(n)).collect()).collect();
+        let mut columns: Vec<Vec<Vec<f64>>> = self
+            .params
+            .iter()
+            .map(|(_, d)| (0..d.width()).map(|_| Vec::with_capacity(n)).collect())
+            .collect();
         for i in 0..grid {
             // Mixed-radix decomposition, last parameter fastest.
             let mut rest = i;
@@ -246,7 +297,14 @@ impl fmt::Display for Domain {
         match self {
             Domain::Linear { lo, hi, n } => write!(f, "linear({lo:?}, {hi:?}, {n})"),
             Domain::Log { lo, hi, n } => write!(f, "log({lo:?}, {hi:?}, {n})"),
-            Domain::List(v) => write!(f, "list({})", v.iter().map(|x| format!("{x:?}")).collect::<Vec<_>>().join(", ")),
+            Domain::List(v) => write!(
+                f,
+                "list({})",
+                v.iter()
+                    .map(|x| format!("{x:?}"))
+                    .collect::<Vec<_>>()
+                    .join(", ")
+            ),
             Domain::Edges { lo, hi } => write!(f, "edges({lo:?}, {hi:?})"),
             Domain::Direction { theta, phi } => write!(f, "direction(theta {theta}, phi {phi})"),
         }
@@ -257,7 +315,11 @@ impl fmt::Display for Domain {
 /// a golden is read back.
 impl fmt::Display for Sweep {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        let mut parts: Vec<String> = self.params.iter().map(|(n, d)| format!("{n} = {d}")).collect();
+        let mut parts: Vec<String> = self
+            .params
+            .iter()
+            .map(|(n, d)| format!("{n} = {d}"))
+            .collect();
         if let Some(r) = self.random {
             parts.push(format!("random({} points, seed {})", r.count, r.seed));
         }
@@ -274,7 +336,14 @@ mod tests {
         let s = Sweep {
             params: vec![
                 ("a".into(), Domain::List(vec![1.0, 2.0])),
-                ("b".into(), Domain::Linear { lo: 0.0, hi: 1.0, n: 3 }),
+                (
+                    "b".into(),
+                    Domain::Linear {
+                        lo: 0.0,
+                        hi: 1.0,
+                        n: 3,
+                    },
+                ),
             ],
             random: None,
         };
@@ -296,15 +365,26 @@ mod tests {
 
     #[test]
     fn log_and_directions() {
-        let v = Domain::Log { lo: 0.01, hi: 1.0, n: 3 }.values();
+        let v = Domain::Log {
+            lo: 0.01,
+            hi: 1.0,
+            n: 3,
+        }
+        .values();
         assert!((v[1] - 0.1).abs() < 1e-12);
-        let Value::V(d) = direction(90.0, 90.0) else { panic!() };
+        let Value::V(d) = direction(90.0, 90.0) else {
+            panic!()
+        };
         assert!(d[0].abs() < 1e-15 && (d[1] - 1.0).abs() < 1e-15 && d[2].abs() < 1e-15);
         let s = Sweep {
             params: vec![(
                 "v".into(),
                 Domain::Direction {
-                    theta: Box::new(Domain::Linear { lo: 0.0, hi: 80.0, n: 5 }),
+                    theta: Box::new(Domain::Linear {
+                        lo: 0.0,
+                        hi: 80.0,
+                        n: 5,
+                    }),
                     phi: Box::new(Domain::List(vec![0.0, 45.0])),
                 },
             )],
@@ -320,7 +400,20 @@ mod tests {
 
     #[test]
     fn random_points_are_reproducible() {
-        let s = Sweep { params: vec![("x".into(), Domain::Linear { lo: 2.0, hi: 3.0, n: 0 })], random: Some(Random { count: 100, seed: 9 }) };
+        let s = Sweep {
+            params: vec![(
+                "x".into(),
+                Domain::Linear {
+                    lo: 2.0,
+                    hi: 3.0,
+                    n: 0,
+                },
+            )],
+            random: Some(Random {
+                count: 100,
+                seed: 9,
+            }),
+        };
         let (a, b) = (s.points(), s.points());
         assert_eq!(a.columns, b.columns);
         assert!(a.columns[0][0].iter().all(|x| (2.0..=3.0).contains(x)));
