@@ -415,11 +415,13 @@ fn findings_for(
             stats.nonfinite
         ));
     }
-    if let Some(c) = compare::constant_factor(got, want, &failing) {
-        f.push(c);
-    }
+    let factor = compare::constant_factor(got, want, &failing);
+    let has_factor = factor.is_some();
+    f.extend(factor);
     let local = locality(points, &failing, "all failing points");
-    if local.is_empty() {
+    // With a constant factor everywhere, where the error is largest only
+    // mirrors where the values are largest: say nothing more.
+    if local.is_empty() && !has_factor {
         // Failures are everywhere: say where they are worst instead.
         let mut by_error: Vec<(f64, usize)> = failing
             .iter()
