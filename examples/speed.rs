@@ -17,15 +17,20 @@ use shadegate::wgsl::Shader;
 const N: usize = 1 << 20;
 const PI: f32 = std::f32::consts::PI;
 
-/// The demo library's functions (see `BRDF_SOURCE`).
-const BRDF_SOURCE: &str = include_str!("speed_brdf.wgsl");
+/// The demo library: its `d_ggx` and its full Cook-Torrance `brdf`.
+const LIBRARY: &str = "shaders/brackenfold/materials.wgsl";
+const INV_PI: f32 = 0.318309886183791;
 
 // ---------------------------------------------------------------- native f32
 
-fn ggx_native(n_dot_h: &[f32], alpha: &[f32], out: &mut [f32]) {
+/// `d_ggx` of the demo library, term for term.
+fn ggx_native(n_dot_h: &[f32], roughness: &[f32], out: &mut [f32]) {
     for i in 0..out.len() {
-        let a2 = alpha[i] * alpha[i];
-        let d = n_dot_h[i] * n_dot_h[i] * (a2 - 1.0) + 1.0;
+        let c = n_dot_h[i];
+        let alpha = roughness[i] * roughness[i];
+        let a2 = alpha * alpha;
+        let s2 = (1.0 - c) * (1.0 + c);
+        let d = s2 + c * c * a2;
         out[i] = a2 / (PI * d * d);
     }
 }
@@ -34,11 +39,12 @@ type V3 = [f32; 3];
 fn dot(a: V3, b: V3) -> f32 {
     a[0] * b[0] + a[1] * b[1] + a[2] * b[2]
 }
-fn clamp(x: f32, lo: f32, hi: f32) -> f32 {
-    x.max(lo).min(hi)
+fn clamp01(x: f32) -> f32 {
+    // WGSL clamp = min(max(x, 0), 1).
+    x.max(0.0).min(1.0)
 }
 
-/// The same Cook-Torrance as the WGSL, term for term, in plain Rust f32.
+/// The demo library's `brdf`, term for term, in plain Rust f32.
 #[inline(always)]
 fn brdf_native(n: V3, v: V3, l: V3, base: V3, metallic: f32, roughness: f32) -> V3 {
     brdf_native_with(n, v, l, base, metallic, roughness, |x| x.powf(5.0))
@@ -64,27 +70,35 @@ fn brdf_native_with(
     roughness: f32,
     pow5: impl Fn(f32) -> f32,
 ) -> V3 {
+    let n_dot_v = dot(n, v);
+    let n_dot_l = dot(n, l);
+    if n_dot_v <= 0.0 || n_dot_l <= 0.0 {
+        return [0.0; 3];
+    }
     let hv = [v[0] + l[0], v[1] + l[1], v[2] + l[2]];
     let len = dot(hv, hv).sqrt();
     let h = [hv[0] / len, hv[1] / len, hv[2] / len];
-    let n_dot_v = clamp(dot(n, v), 1e-4, 1.0);
-    let n_dot_l = clamp(dot(n, l), 0.0, 1.0);
-    let n_dot_h = clamp(dot(n, h), 0.0, 1.0);
-    let v_dot_h = clamp(dot(v, h), 0.0, 1.0);
+    let n_dot_h = clamp01(dot(n, h));
+    let v_dot_h = clamp01(dot(v, h));
     let alpha = roughness * roughness;
     let a2 = alpha * alpha;
-    let d = n_dot_h * n_dot_h * (a2 - 1.0) + 1.0;
-    let dd = a2 / (PI * d * d);
+    let nxh = [
+        n[1] * h[2] - n[2] * h[1],
+        n[2] * h[0] - n[0] * h[2],
+        n[0] * h[1] - n[1] * h[0],
+    ];
+    let dd = dot(nxh, nxh) + n_dot_h * n_dot_h * a2;
+    let d = a2 / (PI * dd * dd);
     let gv = n_dot_l * (n_dot_v * n_dot_v * (1.0 - a2) + a2).sqrt();
     let gl = n_dot_v * (n_dot_l * n_dot_l * (1.0 - a2) + a2).sqrt();
     let vis = 0.5 / (gv + gl);
-    let fw = pow5(1.0 - v_dot_h);
-    let dv = dd * vis;
+    let w = pow5(1.0 - v_dot_h);
+    let dv = d * vis;
     let mut out = [0.0; 3];
     for c in 0..3 {
         let f0 = 0.04 * (1.0 - metallic) + base[c] * metallic;
-        let f = f0 + (1.0 - f0) * fw;
-        out[c] = (1.0 - metallic) * base[c] / PI + f * dv;
+        let f = f0 + (1.0 - f0) * w;
+        out[c] = (1.0 - metallic) * base[c] * INV_PI + f * dv;
     }
     out
 }
@@ -166,8 +180,7 @@ fn main() {
     let big = std::env::args().any(|a| a == "--big");
     let threads = rayon::current_num_threads();
     println!("shadegate speed benchmark: {threads} threads available");
-    let shader = Shader::from_source("examples/speed_brdf.wgsl", BRDF_SOURCE.to_string())
-        .expect("benchmark WGSL");
+    let shader = Shader::load(std::path::Path::new(LIBRARY)).unwrap_or_else(|d| panic!("{d}"));
     let none = BTreeMap::new();
 
     // ---- GGX NDF
@@ -197,12 +210,13 @@ fn main() {
     let mut r64 = vec![0f64; N];
     let t_ref = best(|| {
         for i in 0..N {
-            r64[i] = ndf::ggx(f64::from(ndh[i]), f64::from(alpha[i]));
+            let r = f64::from(alpha[i]);
+            r64[i] = ndf::ggx(f64::from(ndh[i]), r * r);
         }
         black_box(&r64);
     });
     print_table(
-        "GGX NDF, 2 scalars -> 1",
+        "demo library d_ggx (GGX NDF), 2 scalars -> 1",
         &[
             Row {
                 what: "native Rust f32, 1 core",
@@ -321,7 +335,7 @@ fn main() {
         black_box(&ref3);
     });
     print_table(
-        "Cook-Torrance BRDF (GGX, Smith height-correlated, Schlick, Lambert), 14 scalars -> RGB",
+        "demo library brdf (Cook-Torrance: GGX, Smith height-correlated, Schlick, Lambert), 14 scalars -> RGB",
         &[
             Row {
                 what: "native Rust f32, 1 core",
