@@ -19,7 +19,8 @@ const PI: f32 = std::f32::consts::PI;
 
 /// The demo library: its `d_ggx` and its full Cook-Torrance `brdf`.
 const LIBRARY: &str = "shaders/brackenfold/materials.wgsl";
-const INV_PI: f32 = 0.318309886183791;
+// The WGSL literals 3.14159265358979 and 0.318309886183791 round to these f32 values.
+const INV_PI: f32 = std::f32::consts::FRAC_1_PI;
 
 // ---------------------------------------------------------------- native f32
 
