@@ -42,7 +42,7 @@ fn dot(a: V3, b: V3) -> f32 {
 }
 fn clamp01(x: f32) -> f32 {
     // WGSL clamp = min(max(x, 0), 1).
-    x.max(0.0).min(1.0)
+    x.clamp(0.0, 1.0)
 }
 
 /// The demo library's `brdf`, term for term, in plain Rust f32.
