@@ -11,7 +11,8 @@ use super::lanes::{Lanes, K1, K2, K3, K4, LANES};
 
 pub type Slot = u32;
 
-/// Index into [`Program::sites`]: where in the source an operation came from.
+/// Index into the compiled program's site table: where in the source an
+/// operation came from.
 pub type At = u32;
 
 /// A source position attached to operations that can report per-lane issues.

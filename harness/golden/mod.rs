@@ -18,7 +18,7 @@
 //! f32 and f16 values are written as the shortest decimal that reads back to
 //! the same value; NaNs other than the canonical quiet NaN as `nan:0x…` with
 //! their bits. The trailing `# end` line proves the file is complete. Only
-//! [`write`] creates these files; it refuses when the `CI` environment
+//! [`write()`] creates these files; it refuses when the `CI` environment
 //! variable is set and writes a temporary file that is then renamed.
 
 use std::io::Write as _;

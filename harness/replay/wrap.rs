@@ -12,7 +12,7 @@
 //!
 //! Encoding per leaf, the same as the evaluator's column encoding: f32 bits;
 //! f16 as its 16-bit pattern in the low half (decoded and encoded by two
-//! generated helpers, see [`F16_HELPERS`]); i32 two's complement; u32 as is;
+//! generated helpers, see `F16_HELPERS`); i32 two's complement; u32 as is;
 //! bool 0/1.
 
 use std::fmt::Write as _;
