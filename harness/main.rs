@@ -63,7 +63,9 @@ enum Command {
         /// Only checks whose name contains this text.
         filter: Option<String>,
     },
-    /// Evaluate one function over points and write a CSV of inputs and results.
+    /// Evaluate one function over points and write a CSV of inputs and results
+    /// (exit code 1 when some points reported issues: out-of-bounds index,
+    /// step budget, NaN/Inf from finite inputs).
     Eval {
         /// The WGSL file.
         shader: PathBuf,
@@ -236,7 +238,7 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
             let ov = parse_overrides(&overrides)?;
             let arith =
                 spec_bounds.map_or(Arithmetic::Exact, |seed| Arithmetic::SpecBounds { seed });
-            let csv = eval_csv(
+            let (csv, issues) = eval_csv(
                 &shader,
                 &function,
                 &points,
@@ -247,7 +249,8 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
                 arith,
             )?;
             emit(&csv, output.as_deref())?;
-            Ok(0)
+            // The CSV is complete either way; exit 1 says some points had issues.
+            Ok(u8::from(issues > 0))
         }
         Command::Compare {
             old,
@@ -382,7 +385,7 @@ fn eval_csv(
     suite_path: &Path,
     overrides: &BTreeMap<String, f64>,
     arith: Arithmetic,
-) -> Result<String, Bad> {
+) -> Result<(String, usize), Bad> {
     let sources = usize::from(!points.is_empty())
         + usize::from(input.is_some())
         + usize::from(check.is_some());
@@ -392,6 +395,7 @@ fn eval_csv(
                 .into(),
         ));
     }
+    let issue_count;
     let (leaves, cols, program) = if let Some(name) = check {
         let s = load_suite(suite_path)?;
         let c = s.checks.iter().find(|c| c.name == name).ok_or_else(|| {
@@ -406,6 +410,7 @@ fn eval_csv(
         c.arithmetic = arith;
         let ev = gate::evaluate(&s, &c, Some(shader)).map_err(Bad)?;
         print_issues(&ev.issues);
+        issue_count = ev.issues.len();
         let mut out = ev.output_columns;
         let leaves = ev.inputs;
         let mut all = ev.input_columns;
@@ -463,6 +468,7 @@ fn eval_csv(
         let mut out = Vec::new();
         let issues = program.try_eval(&refs, &mut out).map_err(Bad)?;
         print_issues(&issues);
+        issue_count = issues.len();
         cols.append(&mut out);
         (leaves, cols, program)
     };
@@ -489,7 +495,7 @@ fn eval_csv(
         w.write_record(&row).map_err(|e| Bad(e.to_string()))?;
     }
     let bytes = w.into_inner().map_err(|e| Bad(e.to_string()))?;
-    Ok(String::from_utf8_lossy(&bytes).into_owned())
+    Ok((String::from_utf8_lossy(&bytes).into_owned(), issue_count))
 }
 
 fn read_input_csv(

@@ -147,7 +147,11 @@ impl Shader {
         let info = Validator::new(ValidationFlags::all(), caps)
             .validate(&module)
             .map_err(|e| {
-                let span = e.spans().next().map(|(s, _)| *s).unwrap_or_default();
+                let span = e
+                    .spans()
+                    .map(|(s, _)| *s)
+                    .find(|s| s.is_defined())
+                    .unwrap_or_default();
                 let mut message = e.as_inner().to_string();
                 let mut src: &dyn std::error::Error = e.as_inner();
                 while let Some(next) = src.source() {
