@@ -368,102 +368,16 @@ impl<'m> Compiler<'m> {
     }
 
     fn ty_of_handle(&self, h: Handle<naga::Type>, span: naga::Span) -> R<Ty> {
-        let t = &self.module.types[h];
-        match &t.inner {
-            TypeInner::Struct { members, .. } => {
-                let mut ms = Vec::new();
-                for (i, m) in members.iter().enumerate() {
-                    ms.push((
-                        m.name.clone().unwrap_or_else(|| format!("m{i}")),
-                        self.ty_of_handle(m.ty, span)?,
-                    ));
-                }
-                Ok(Ty::Struct {
-                    name: t.name.clone().unwrap_or_else(|| "struct".into()),
-                    members: ms,
-                })
-            }
-            inner => self.ty_of_inner(inner, span),
-        }
+        Ty::from_naga(self.module, h).map_err(|m| {
+            self.shader
+                .diagnostic(span, format!("{m} in CPU evaluation"))
+        })
     }
 
     fn ty_of_inner(&self, inner: &TypeInner, span: naga::Span) -> R<Ty> {
-        let kind = |s: naga::Scalar| -> R<K> {
-            Ok(match (s.kind, s.width) {
-                (NK::Float, 4) => K::F32,
-                (NK::Float, 2) => K::F16,
-                (NK::Sint, 4) => K::I32,
-                (NK::Uint, 4) => K::U32,
-                (NK::Bool, _) => K::Bool,
-                (NK::AbstractInt, _) | (NK::AbstractFloat, _) => {
-                    return Err(self
-                        .shader
-                        .diagnostic(span, "abstract numeric type survived naga's concretisation"))
-                }
-                (k, w) => {
-                    return Err(self.shader.diagnostic(
-                        span,
-                        format!(
-                            "scalar type {k:?} of {} bytes is not supported in CPU evaluation",
-                            w
-                        ),
-                    ))
-                }
-            })
-        };
-        Ok(match inner {
-            TypeInner::Scalar(s) => Ty::Scalar(kind(*s)?),
-            TypeInner::Vector { size, scalar } => Ty::Vector(*size as u8, kind(*scalar)?),
-            TypeInner::Matrix {
-                columns,
-                rows,
-                scalar,
-            } => Ty::Matrix {
-                columns: *columns as u8,
-                rows: *rows as u8,
-                kind: kind(*scalar)?,
-            },
-            TypeInner::Array { base, size, .. } => match size {
-                naga::ArraySize::Constant(n) => {
-                    Ty::Array(Box::new(self.ty_of_handle(*base, span)?), n.get())
-                }
-                _ => return Err(self.shader.diagnostic(
-                    span,
-                    "runtime-sized or override-sized arrays are not supported in CPU evaluation",
-                )),
-            },
-            TypeInner::Struct { .. } => {
-                // Reached only through a resolution without a handle; find it.
-                let h = self
-                    .module
-                    .types
-                    .iter()
-                    .find(|(_, t)| &t.inner == inner)
-                    .map(|(h, _)| h)
-                    .ok_or_else(|| self.shader.diagnostic(span, "unknown struct type"))?;
-                self.ty_of_handle(h, span)?
-            }
-            TypeInner::Image { .. } => {
-                return Err(self
-                    .shader
-                    .diagnostic(span, "texture types are not supported in CPU evaluation"))
-            }
-            TypeInner::Sampler { .. } => {
-                return Err(self
-                    .shader
-                    .diagnostic(span, "sampler types are not supported in CPU evaluation"))
-            }
-            TypeInner::Atomic(_) => {
-                return Err(self
-                    .shader
-                    .diagnostic(span, "atomic types are not supported in CPU evaluation"))
-            }
-            other => {
-                return Err(self.shader.diagnostic(
-                    span,
-                    format!("type {other:?} is not supported in CPU evaluation"),
-                ))
-            }
+        Ty::from_naga_inner(self.module, inner, None).map_err(|m| {
+            self.shader
+                .diagnostic(span, format!("{m} in CPU evaluation"))
         })
     }
 

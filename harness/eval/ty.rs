@@ -143,6 +143,75 @@ impl Ty {
     }
 }
 
+impl Ty {
+    /// The evaluator's type for naga type `h` of `module`, or why it has none.
+    /// The messages say what is not supported; callers add where.
+    pub fn from_naga(module: &naga::Module, h: naga::Handle<naga::Type>) -> Result<Ty, String> {
+        let t = &module.types[h];
+        Self::from_naga_inner(module, &t.inner, t.name.as_deref())
+    }
+
+    /// [`Ty::from_naga`] for a type known only by value (a type resolution
+    /// without a handle); a struct is then looked up in the module's types.
+    pub fn from_naga_inner(
+        module: &naga::Module,
+        inner: &naga::TypeInner,
+        name: Option<&str>,
+    ) -> Result<Ty, String> {
+        use naga::{ScalarKind as NK, TypeInner as TI};
+        let kind = |s: naga::Scalar| -> Result<ScalarKind, String> {
+            Ok(match (s.kind, s.width) {
+                (NK::Float, 4) => ScalarKind::F32,
+                (NK::Float, 2) => ScalarKind::F16,
+                (NK::Sint, 4) => ScalarKind::I32,
+                (NK::Uint, 4) => ScalarKind::U32,
+                (NK::Bool, _) => ScalarKind::Bool,
+                (NK::AbstractInt | NK::AbstractFloat, _) => return Err(
+                    "an abstract numeric type that survived naga's concretisation is not supported"
+                        .into(),
+                ),
+                (k, w) => return Err(format!("scalar type {k:?} of {w} bytes is not supported")),
+            })
+        };
+        Ok(match inner {
+            TI::Scalar(s) => Ty::Scalar(kind(*s)?),
+            TI::Vector { size, scalar } => Ty::Vector(*size as u8, kind(*scalar)?),
+            TI::Matrix { columns, rows, scalar } => {
+                Ty::Matrix { columns: *columns as u8, rows: *rows as u8, kind: kind(*scalar)? }
+            }
+            TI::Array { base, size: naga::ArraySize::Constant(n), .. } => {
+                Ty::Array(Box::new(Self::from_naga(module, *base)?), n.get())
+            }
+            TI::Array { .. } => return Err("runtime-sized or override-sized arrays are not supported".into()),
+            TI::Struct { members, .. } => {
+                let name = match name {
+                    Some(n) => n.to_string(),
+                    None => module
+                        .types
+                        .iter()
+                        .find(|(_, t)| &t.inner == inner)
+                        .and_then(|(_, t)| t.name.clone())
+                        .unwrap_or_else(|| "struct".into()),
+                };
+                let mut ms = Vec::new();
+                for (i, m) in members.iter().enumerate() {
+                    ms.push((m.name.clone().unwrap_or_else(|| format!("m{i}")), Self::from_naga(module, m.ty)?));
+                }
+                Ty::Struct { name, members: ms }
+            }
+            TI::Image { .. } => return Err("texture types are not supported".into()),
+            TI::Sampler { .. } => return Err("sampler types are not supported".into()),
+            TI::Atomic(_) => return Err("atomic types are not supported".into()),
+            TI::Pointer { .. } | TI::ValuePointer { .. } => {
+                return Err("pointer parameters are not supported at the top level (call the function from a wrapper \
+                            that owns the variable)"
+                    .into())
+            }
+            other => return Err(format!("type {other:?} is not supported")),
+        })
+    }
+}
+
 impl fmt::Display for Ty {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         match self {

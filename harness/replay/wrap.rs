@@ -17,7 +17,7 @@
 
 use std::fmt::Write as _;
 
-use naga::{AddressSpace, ArraySize, Handle, ScalarKind as NK, TypeInner};
+use naga::{AddressSpace, Handle, ScalarKind as NK, TypeInner};
 
 use crate::eval::{ScalarKind, Ty};
 use crate::wgsl::Shader;
@@ -263,59 +263,7 @@ fn module_uses_f16(module: &naga::Module, source: &str) -> bool {
 
 /// The evaluator's type for a naga type (same flattening, same names).
 pub fn ty_of(module: &naga::Module, h: Handle<naga::Type>) -> Result<Ty, String> {
-    let t = &module.types[h];
-    let kind = |s: naga::Scalar| -> Result<ScalarKind, String> {
-        Ok(match (s.kind, s.width) {
-            (NK::Float, 4) => ScalarKind::F32,
-            (NK::Float, 2) => ScalarKind::F16,
-            (NK::Sint, 4) => ScalarKind::I32,
-            (NK::Uint, 4) => ScalarKind::U32,
-            (NK::Bool, _) => ScalarKind::Bool,
-            (k, w) => return Err(format!("scalar type {k:?} of {w} bytes is not supported")),
-        })
-    };
-    Ok(match &t.inner {
-        TypeInner::Scalar(s) => Ty::Scalar(kind(*s)?),
-        TypeInner::Vector { size, scalar } => Ty::Vector(*size as u8, kind(*scalar)?),
-        TypeInner::Matrix {
-            columns,
-            rows,
-            scalar,
-        } => Ty::Matrix {
-            columns: *columns as u8,
-            rows: *rows as u8,
-            kind: kind(*scalar)?,
-        },
-        TypeInner::Array {
-            base,
-            size: ArraySize::Constant(n),
-            ..
-        } => Ty::Array(Box::new(ty_of(module, *base)?), n.get()),
-        TypeInner::Array { .. } => {
-            return Err("runtime-sized or override-sized arrays are not supported".into())
-        }
-        TypeInner::Struct { members, .. } => {
-            let mut ms = Vec::new();
-            for (i, m) in members.iter().enumerate() {
-                ms.push((
-                    m.name.clone().unwrap_or_else(|| format!("m{i}")),
-                    ty_of(module, m.ty)?,
-                ));
-            }
-            Ty::Struct {
-                name: t.name.clone().unwrap_or_else(|| "struct".into()),
-                members: ms,
-            }
-        }
-        TypeInner::Pointer { .. } | TypeInner::ValuePointer { .. } => {
-            return Err(
-                "pointer parameters are not supported at the top level (call the function \
-                 from a wrapper that owns the variable)"
-                    .into(),
-            )
-        }
-        other => return Err(format!("type {other:?} is not supported")),
-    })
+    Ty::from_naga(module, h)
 }
 
 /// WGSL expression decoding one leaf word.
