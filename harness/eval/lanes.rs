@@ -77,9 +77,19 @@ pub trait Op4 {
     fn f(a: u32, b: u32, c: u32, d: u32) -> u32;
 }
 
+static BASELINE_ONLY: std::sync::atomic::AtomicBool = std::sync::atomic::AtomicBool::new(false);
+
+/// Use only the baseline kernels (tests prove the wide ones give the same bits).
+pub fn set_baseline_only(on: bool) {
+    BASELINE_ONLY.store(on, std::sync::atomic::Ordering::Relaxed);
+}
+
 /// Whether the wider vector instructions may be used (checked once, cached by std).
 #[inline(always)]
 fn wide() -> bool {
+    if BASELINE_ONLY.load(std::sync::atomic::Ordering::Relaxed) {
+        return false;
+    }
     #[cfg(target_arch = "x86_64")]
     {
         std::arch::is_x86_feature_detected!("avx2")
