@@ -22,7 +22,9 @@
 //! `REL_TOL = 1e-5`; the largest error actually measured is printed by each test (run with
 //! `--nocapture`) and reported in the module's documentation of `harness/reference`.
 
-use shadegate::reference::{find, ParamKind};
+mod reference_common;
+
+use shadegate::reference::find;
 
 /// See the module documentation for the derivation.
 const REL_TOL: f64 = 1e-5;
@@ -30,80 +32,7 @@ const REL_TOL: f64 = 1e-5;
 /// Checks one table; returns the largest relative error seen.
 #[track_caller]
 fn check(model: &str) -> f64 {
-    let m = find(model).unwrap_or_else(|| panic!("no registered model {model}"));
-    let path = format!(
-        "{}/tests/data/reference/mitsuba/{model}.csv",
-        env!("CARGO_MANIFEST_DIR")
-    );
-    let mut reader = csv::ReaderBuilder::new()
-        .comment(Some(b'#'))
-        .from_path(&path)
-        .unwrap_or_else(|e| panic!("{path}: {e}"));
-    let header: Vec<String> = reader
-        .headers()
-        .unwrap()
-        .iter()
-        .map(str::to_owned)
-        .collect();
-    let names: Vec<&str> = m.params.iter().map(|p| p.name).collect();
-    assert!(
-        m.params.iter().all(|p| p.kind == ParamKind::Scalar),
-        "{model}: scalar params only"
-    );
-    assert_eq!(
-        &header[..header.len() - 1],
-        &names[..],
-        "{path}: columns vs model parameters"
-    );
-    assert_eq!(
-        header.last().map(String::as_str),
-        Some("expected"),
-        "{path}"
-    );
-
-    let mut worst = 0.0_f64;
-    let mut failures = Vec::new();
-    let mut rows = 0;
-    for (i, record) in reader.records().enumerate() {
-        let record = record.unwrap_or_else(|e| panic!("{path}: {e}"));
-        let values: Vec<f64> = record
-            .iter()
-            .map(|s| {
-                s.parse()
-                    .unwrap_or_else(|e| panic!("{path} row {}: {s:?}: {e}", i + 1))
-            })
-            .collect();
-        let (args, expected) = values.split_at(values.len() - 1);
-        let expected = expected[0];
-        assert!(
-            expected > 0.0,
-            "{path} row {}: the generator keeps values positive",
-            i + 1
-        );
-        let got = m.call(args)[0];
-        let rel = ((got - expected) / expected).abs();
-        if rel.is_nan() || rel > REL_TOL {
-            failures.push(format!(
-                "  {args:?}: got {got:e}, Mitsuba {expected:e}, rel {rel:.2e}"
-            ));
-        }
-        worst = worst.max(rel);
-        rows += 1;
-    }
-    assert!(rows > 50, "{path}: only {rows} rows");
-    println!("{model}: {rows} rows, max relative error {worst:.3e}");
-    assert!(
-        failures.is_empty(),
-        "{model}: {} of {rows} rows differ from Mitsuba by more than {REL_TOL:e}:\n{}",
-        failures.len(),
-        failures
-            .iter()
-            .take(12)
-            .cloned()
-            .collect::<Vec<_>>()
-            .join("\n")
-    );
-    worst
+    reference_common::check_table("mitsuba", "Mitsuba", model, REL_TOL, true)
 }
 
 const TABLES: &[&str] = &[
