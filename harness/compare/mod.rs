@@ -170,66 +170,13 @@ pub fn compare(
         ulp,
     };
     for i in 0..n {
-        let mut point_bad = 0.0f64;
-        let mut point_comp = 0;
-        let mut point_err = (0.0, 0.0, 0.0);
-        let mut nonfinite = false;
-        let mut skip = false;
-        for c in 0..comps {
-            let (g, w) = (got[c][i], want[c][i]);
-            if !w.is_finite() {
-                match tol.nan {
-                    NanPolicy::Skip => {
-                        skip = true;
-                        continue;
-                    }
-                    NanPolicy::Match => {
-                        if !same_nonfinite(g, w) {
-                            point_bad = f64::INFINITY;
-                            point_comp = c;
-                            point_err = (f64::INFINITY, f64::INFINITY, f64::INFINITY);
-                        }
-                        continue;
-                    }
-                }
-            }
-            if !g.is_finite() {
-                nonfinite = true;
-                point_bad = f64::INFINITY;
-                point_comp = c;
-                point_err = (f64::INFINITY, f64::INFINITY, f64::INFINITY);
-                continue;
-            }
-            let abs = (g - w).abs();
-            let rel = if w != 0.0 {
-                abs / w.abs()
-            } else if abs == 0.0 {
-                0.0
-            } else {
-                f64::INFINITY
-            };
-            let ulp = abs / ulp_at(w, half);
-            s.max_abs = s.max_abs.max(abs);
-            s.max_rel = s.max_rel.max(rel);
-            s.max_ulp = s.max_ulp.max(ulp);
-            sum_sq += abs * abs;
-            let ratios = [
-                Tolerance::pick(&tol.abs, c).map(|t| ratio(abs, t)),
-                Tolerance::pick(&tol.rel, c).map(|t| ratio(rel, t)),
-                Tolerance::pick(&tol.ulp, c).map(|t| ratio(ulp, t)),
-            ];
-            let bad = ratios.into_iter().flatten().fold(f64::INFINITY, f64::min);
-            let bad = if bad == f64::INFINITY && abs == 0.0 {
-                0.0
-            } else {
-                bad
-            };
-            if bad > point_bad {
-                point_bad = bad;
-                point_comp = c;
-                point_err = (abs, rel, ulp);
-            }
-        }
+        let p = assess(got, want, i, tol, half);
+        s.max_abs = s.max_abs.max(p.max_abs);
+        s.max_rel = s.max_rel.max(p.max_rel);
+        s.max_ulp = s.max_ulp.max(p.max_ulp);
+        sum_sq += p.sum_sq;
+        let (point_bad, point_comp, point_err, nonfinite, skip) =
+            (p.badness, p.component, p.err, p.nonfinite, p.skip);
         if skip && point_bad == 0.0 {
             s.skipped += 1;
             continue;
@@ -280,6 +227,91 @@ pub fn compare(
         .all(|t| t.as_ref().is_none_or(|v| v.iter().all(|x| *x == 0.0)));
     s.stale_tolerance = !zero_tol && s.failed == 0 && s.headroom > 100.0;
     s
+}
+
+/// One point judged against a tolerance (see the module doc).
+#[derive(Clone, Copy, Debug, Default)]
+pub struct Assessment {
+    /// Largest badness over the components; > 1 fails, ∞ for non-finite.
+    pub badness: f64,
+    /// The component with that badness, and its (abs, rel, ULP) error.
+    pub component: usize,
+    pub err: (f64, f64, f64),
+    /// A non-finite result where the expected value is finite.
+    pub nonfinite: bool,
+    /// A component was not compared (expected non-finite under `Skip`).
+    pub skip: bool,
+    /// Over the finite components: largest errors and the sum of squared
+    /// absolute errors.
+    pub max_abs: f64,
+    pub max_rel: f64,
+    pub max_ulp: f64,
+    pub sum_sq: f64,
+}
+
+impl Assessment {
+    pub fn fails(&self) -> bool {
+        self.badness > 1.0
+    }
+}
+
+/// Judge point `i` of `got` against `want`.
+pub fn assess(
+    got: &[Vec<f64>],
+    want: &[Vec<f64>],
+    i: usize,
+    tol: &Tolerance,
+    half: bool,
+) -> Assessment {
+    let mut p = Assessment::default();
+    let inf = (f64::INFINITY, f64::INFINITY, f64::INFINITY);
+    for c in 0..got.len() {
+        let (g, w) = (got[c][i], want[c][i]);
+        if !w.is_finite() {
+            match tol.nan {
+                NanPolicy::Skip => p.skip = true,
+                NanPolicy::Match => {
+                    if !same_nonfinite(g, w) {
+                        (p.badness, p.component, p.err) = (f64::INFINITY, c, inf);
+                    }
+                }
+            }
+            continue;
+        }
+        if !g.is_finite() {
+            p.nonfinite = true;
+            (p.badness, p.component, p.err) = (f64::INFINITY, c, inf);
+            continue;
+        }
+        let abs = (g - w).abs();
+        let rel = if w != 0.0 {
+            abs / w.abs()
+        } else if abs == 0.0 {
+            0.0
+        } else {
+            f64::INFINITY
+        };
+        let ulp = abs / ulp_at(w, half);
+        p.max_abs = p.max_abs.max(abs);
+        p.max_rel = p.max_rel.max(rel);
+        p.max_ulp = p.max_ulp.max(ulp);
+        p.sum_sq += abs * abs;
+        let ratios = [
+            Tolerance::pick(&tol.abs, c).map(|t| ratio(abs, t)),
+            Tolerance::pick(&tol.rel, c).map(|t| ratio(rel, t)),
+            Tolerance::pick(&tol.ulp, c).map(|t| ratio(ulp, t)),
+        ];
+        let bad = ratios.into_iter().flatten().fold(f64::INFINITY, f64::min);
+        let bad = if bad == f64::INFINITY && abs == 0.0 {
+            0.0
+        } else {
+            bad
+        };
+        if bad > p.badness {
+            (p.badness, p.component, p.err) = (bad, c, (abs, rel, ulp));
+        }
+    }
+    p
 }
 
 fn ratio(err: f64, bound: f64) -> f64 {

@@ -388,11 +388,7 @@ fn remap_hypotheses(
 fn failing_points(got: &[Vec<f64>], want: &[Vec<f64>], tol: &Tolerance, half: bool) -> Vec<usize> {
     let n = got.first().map_or(0, |c| c.len());
     (0..n)
-        .filter(|&i| {
-            let g: Vec<Vec<f64>> = got.iter().map(|c| vec![c[i]]).collect();
-            let w: Vec<Vec<f64>> = want.iter().map(|c| vec![c[i]]).collect();
-            compare::compare(&g, &w, tol, half, &|_| String::new()).failed > 0
-        })
+        .filter(|&i| compare::assess(got, want, i, tol, half).fails())
         .collect()
 }
 
