@@ -106,6 +106,20 @@ fn brdf_native_with(
 
 // ---------------------------------------------------------------- inputs
 
+/// The BRDF's arguments at point `i` of the 14 input columns.
+#[inline(always)]
+fn point<C: AsRef<[f32]>>(c: &[C], i: usize) -> (V3, V3, V3, V3, f32, f32) {
+    let x = |k: usize| c[k].as_ref()[i];
+    (
+        [x(0), x(1), x(2)],
+        [x(3), x(4), x(5)],
+        [x(6), x(7), x(8)],
+        [x(9), x(10), x(11)],
+        x(12),
+        x(13),
+    )
+}
+
 struct Brdf {
     cols: Vec<Vec<f32>>,
 }
@@ -258,16 +272,7 @@ fn main() {
         .collect();
     let refs: Vec<&[u32]> = bits.iter().map(|c| &c[..]).collect();
     let c = &inp.cols;
-    let pt = |i: usize| -> (V3, V3, V3, V3, f32, f32) {
-        (
-            [c[0][i], c[1][i], c[2][i]],
-            [c[3][i], c[4][i], c[5][i]],
-            [c[6][i], c[7][i], c[8][i]],
-            [c[9][i], c[10][i], c[11][i]],
-            c[12][i],
-            c[13][i],
-        )
-    };
+    let pt = |i: usize| point(c, i);
     let mut nat3: Vec<Vec<f32>> = vec![vec![0f32; N]; 3];
     // Structure-of-arrays columns, one tight loop per chunk: the layout a
     // performance-minded hand-written version would use.
@@ -278,14 +283,8 @@ fn main() {
         let [o0, o1, o2] = o else { unreachable!() };
         let (o0, o1, o2) = (&mut o0[..n], &mut o1[..n], &mut o2[..n]);
         for i in 0..n {
-            let r = f(
-                [c[0][i], c[1][i], c[2][i]],
-                [c[3][i], c[4][i], c[5][i]],
-                [c[6][i], c[7][i], c[8][i]],
-                [c[9][i], c[10][i], c[11][i]],
-                c[12][i],
-                c[13][i],
-            );
+            let (n, v, l, b, m, r) = point(&c, i);
+            let r = f(n, v, l, b, m, r);
             o0[i] = r[0];
             o1[i] = r[1];
             o2[i] = r[2];
