@@ -6,9 +6,10 @@ pub mod compare;
 pub mod eval;
 pub mod gate;
 pub mod golden;
+#[cfg(feature = "gpu")]
+pub mod gpu;
+pub mod limits;
 pub mod reference;
-#[cfg(feature = "replay")]
-pub mod replay;
 pub mod report;
 pub mod suite;
 pub mod sweep;

@@ -49,11 +49,11 @@ enum Command {
         #[arg(long)]
         output: Option<PathBuf>,
         /// Evaluate on a WebGPU device (wgpu) instead of the CPU evaluator;
-        /// needs a build with `--features replay`.
+        /// needs a build with `--features gpu`.
         #[arg(long)]
-        replay: bool,
-        /// With --replay: the first adapter whose name contains this text.
-        #[arg(long, requires = "replay")]
+        gpu: bool,
+        /// With --gpu: the first adapter whose name contains this text.
+        #[arg(long, requires = "gpu")]
         adapter: Option<String>,
     },
     /// Record the golden datasets of a suite's checks (refused when CI is set).
@@ -177,13 +177,13 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
             filter,
             format,
             output,
-            replay,
+            gpu,
             adapter,
         } => {
             let s = load_suite(&suite)?;
             let progress = report::Progress::new();
-            let run = if replay {
-                run_replay(&s, filter.as_deref(), adapter.as_deref(), &progress)?
+            let run = if gpu {
+                run_gpu(&s, filter.as_deref(), adapter.as_deref(), &progress)?
             } else {
                 gate::run(&s, filter.as_deref(), |i, n, name| {
                     progress.step(i, n, name)
@@ -309,15 +309,15 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
     }
 }
 
-#[cfg(feature = "replay")]
-fn run_replay(
+#[cfg(feature = "gpu")]
+fn run_gpu(
     s: &Suite,
     filter: Option<&str>,
     adapter: Option<&str>,
     progress: &report::Progress,
 ) -> Result<RunResult, Bad> {
-    use shadegate::replay::Replay;
-    let device = Replay::new(adapter).map_err(|e| Bad(format!("--replay: {e}")))?;
+    use shadegate::gpu::Gpu;
+    let device = Gpu::new(adapter).map_err(|e| Bad(format!("--gpu: {e}")))?;
     let label = device.adapter().to_string();
     eprintln!("device: {label}");
     let backend = |ev: &gate::Evaluated| -> Result<(Vec<Vec<u32>>, String), String> {
@@ -339,14 +339,14 @@ fn run_replay(
     ))
 }
 
-#[cfg(not(feature = "replay"))]
-fn run_replay(
+#[cfg(not(feature = "gpu"))]
+fn run_gpu(
     _: &Suite,
     _: Option<&str>,
     _: Option<&str>,
     _: &report::Progress,
 ) -> Result<RunResult, Bad> {
-    Err(Bad("--replay needs a build with the replay back end: cargo run --release --features replay -- run --replay".into()))
+    Err(Bad("--gpu needs a build with the GPU back end: cargo run --release --features gpu -- run --gpu".into()))
 }
 
 fn parse_overrides(list: &[String]) -> Result<BTreeMap<String, f64>, Bad> {

@@ -18,11 +18,11 @@
 //! [`ParamSpec::name`], and the CLI lists them with [`listing`].
 //!
 //! How the models are proven (all in `cargo test`, no Python needed at test time):
-//! `tests/reference_mpmath.rs` compares against tables computed at 40 significant digits by
-//! `tools/refgen/refgen.py`; `tests/reference_mitsuba.rs` against tables from the Mitsuba 3
-//! renderer's own implementations; `tests/reference_identities.rs` checks normalisation,
+//! `tests/reference/mpmath.rs` compares against tables computed at 40 significant digits by
+//! `tools/refgen/refgen.py`; `tests/reference/mitsuba.rs` against tables from the Mitsuba 3
+//! renderer's own implementations; `tests/reference/identities.rs` checks normalisation,
 //! masking consistency, reciprocity and energy by numerical integration;
-//! `tests/reference_handbook.rs` checks handbook facts. The measured specular albedo table
+//! `tests/reference/handbook.rs` checks handbook facts. The measured specular albedo table
 //! is in [`brdf`] and in `harness/reference/ALBEDO.md`.
 //!
 //! Measured agreement (largest relative error over every row of every table, as the tests
@@ -33,7 +33,7 @@
 //!   below 1e-15. The tests require 1e-12.
 //! - against Mitsuba 3 in single precision (8 tables, 1,600 points): 9.2e-7 (Beckmann D),
 //!   about 15 f32 units in the last place; the tests require 1e-5, the bound derived from
-//!   f32 rounding in `tests/reference_mitsuba.rs`.
+//!   f32 rounding in `tests/reference/mitsuba.rs`.
 //!
 //! Invariant: **this module never calls the WGSL evaluator, and the evaluator never calls
 //! it**; the comparison layer brings the two together.

@@ -5,7 +5,7 @@ For each WGSL transcendental built-in (and f32 division) this computes, with
 mpmath at 60 significant digits, the exact value of the function at a few
 hundred binary32 inputs and its correctly rounded binary32 value (IEEE 754
 round to nearest, ties to even, with gradual underflow and overflow to
-infinity). tests/eval_accuracy.rs reads the table (no Python at test time)
+infinity). tests/eval/accuracy.rs reads the table (no Python at test time)
 and checks shadegate's evaluator against the WGSL spec's accuracy bounds.
 
 Inputs are deterministic: a fixed seed per function, function-specific

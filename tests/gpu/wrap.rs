@@ -1,20 +1,20 @@
 //! The generated compute entry point, checked without a device: for every
-//! function of the replay corpus the wrapped module parses and validates
+//! function of the GPU corpus the wrapped module parses and validates
 //! with naga, and its leaves are the CPU evaluator's leaves in the same
 //! order. Also the refusals (unknown function, resources, pointer
 //! parameters) and the dispatch planning arithmetic.
-#![cfg(feature = "replay")]
+#![cfg(feature = "gpu")]
 
 use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 
 use naga::valid::{Capabilities, ValidationFlags, Validator};
 use shadegate::eval::Program;
-use shadegate::replay::{self, chunk_points, grid, DispatchLimits, WORKGROUP_SIZE};
+use shadegate::gpu::{self, chunk_points, grid, DispatchLimits, WORKGROUP_SIZE};
 use shadegate::wgsl::Shader;
 
 fn corpus() -> Vec<PathBuf> {
-    let dir = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/replay_corpus");
+    let dir = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/gpu/corpus_wgsl");
     let mut files: Vec<PathBuf> = std::fs::read_dir(&dir)
         .unwrap_or_else(|e| panic!("cannot read {}: {e}", dir.display()))
         .map(|e| e.expect("directory entry").path())
@@ -50,10 +50,10 @@ fn every_corpus_function_wraps_into_a_valid_module_with_the_evaluators_leaves() 
     for path in corpus() {
         let shader = Shader::load(&path).unwrap_or_else(|d| panic!("{d}"));
         for name in shader.function_names() {
-            let w = match replay::wrap(&shader, &name) {
+            let w = match gpu::wrap(&shader, &name) {
                 Ok(w) => w,
                 // Helpers with pointer parameters or without a result are
-                // called by the corpus functions, not replayed themselves.
+                // called by the corpus functions, not run on the GPU themselves.
                 Err(e) if e.0.contains("pointer") || e.0.contains("returns nothing") => continue,
                 Err(e) => panic!("{}: `{name}`: {e}", path.display()),
             };
@@ -96,37 +96,33 @@ fn leaves_are_read_in_evaluator_order_for_nested_types() {
          struct Outer { m: mat2x3<f32>, xs: array<Inner, 2>, on: bool }\n\
          fn f(o: Outer, k: i32) -> Outer { return o; }\n",
     );
-    let w = replay::wrap(&s, "f").expect("wraps");
+    let w = gpu::wrap(&s, "f").expect("wraps");
     validate(Path::new("inline.wgsl"), "f", &w.source);
     // m: 6 leaves, xs: 2 x 3, on: 1, then k.
     assert_eq!(w.input_kinds.len(), 6 + 6 + 1 + 1);
     // The matrix is rebuilt column by column from leaves 0..6.
     assert!(w
         .source
-        .contains("mat2x3<f32>(vec3<f32>(bitcast<f32>(shadegate_replay_in[0u"));
-    assert!(w
-        .source
-        .contains("shadegate_replay_in[13u * shadegate_replay_n"));
+        .contains("mat2x3<f32>(vec3<f32>(bitcast<f32>(shadegate_gpu_in[0u"));
+    assert!(w.source.contains("shadegate_gpu_in[13u * shadegate_gpu_n"));
     // The result's bool is stored as 0/1 at leaf 12.
     assert!(w.source.contains(
-        "shadegate_replay_out[12u * shadegate_replay_n + shadegate_replay_i] = select(0u, 1u, shadegate_replay_r.on);"
+        "shadegate_gpu_out[12u * shadegate_gpu_n + shadegate_gpu_i] = select(0u, 1u, shadegate_gpu_r.on);"
     ));
 }
 
 #[test]
 fn f16_leaves_use_the_low_half_and_need_the_feature() {
     let s = shader("enable f16;\nfn h(x: f16) -> vec2<f16> { return vec2<f16>(x, -x); }\n");
-    let w = replay::wrap(&s, "h").expect("wraps");
+    let w = gpu::wrap(&s, "h").expect("wraps");
     validate(Path::new("inline.wgsl"), "h", &w.source);
     assert!(w.uses_f16);
+    assert!(w.source.contains("shadegate_gpu_f16(shadegate_gpu_in[0u"));
     assert!(w
         .source
-        .contains("shadegate_replay_f16(shadegate_replay_in[0u"));
-    assert!(w
-        .source
-        .contains("= shadegate_replay_f16_bits(shadegate_replay_r.y);"));
+        .contains("= shadegate_gpu_f16_bits(shadegate_gpu_r.y);"));
     let s = shader("fn g(x: f32) -> f32 { return x; }\n");
-    assert!(!replay::wrap(&s, "g").expect("wraps").uses_f16);
+    assert!(!gpu::wrap(&s, "g").expect("wraps").uses_f16);
 }
 
 #[test]
@@ -137,29 +133,29 @@ fn refuses_what_cannot_be_fed_and_says_why() {
          fn by_ptr(p: ptr<function, f32>) -> f32 { return *p; }\n\
          fn nothing(x: f32) { }\n",
     );
-    let e = replay::wrap(&s, "missing").unwrap_err().0;
+    let e = gpu::wrap(&s, "missing").unwrap_err().0;
     assert!(
         e.contains("no function named `missing`") && e.contains("scaled"),
         "{e}"
     );
-    let e = replay::wrap(&s, "scaled").unwrap_err().0;
+    let e = gpu::wrap(&s, "scaled").unwrap_err().0;
     assert!(e.contains("resource `scale`"), "{e}");
-    let e = replay::wrap(&s, "by_ptr").unwrap_err().0;
+    let e = gpu::wrap(&s, "by_ptr").unwrap_err().0;
     assert!(e.contains("parameter `p`") && e.contains("pointer"), "{e}");
-    let e = replay::wrap(&s, "nothing").unwrap_err().0;
+    let e = gpu::wrap(&s, "nothing").unwrap_err().0;
     assert!(e.contains("returns nothing"), "{e}");
 }
 
 #[test]
 fn generated_names_and_group_avoid_the_module_s_own() {
     let s = shader(
-        "@group(0) @binding(0) var<storage> shadegate_replay_in: array<u32>;\n\
+        "@group(0) @binding(0) var<storage> shadegate_gpu_in: array<u32>;\n\
          fn f(x: u32) -> u32 { return x; }\n",
     );
-    let w = replay::wrap(&s, "f").expect("wraps");
+    let w = gpu::wrap(&s, "f").expect("wraps");
     assert_eq!(w.group, 1, "group 0 is the module's");
     assert!(
-        w.entry_point.starts_with("shadegate_replay1_"),
+        w.entry_point.starts_with("shadegate_gpu1_"),
         "{}",
         w.entry_point
     );

@@ -1,24 +1,24 @@
-//! The replay back end as a device user sees it: skipping without an
+//! The GPU back end as a device user sees it: skipping without an
 //! adapter (and failing instead under `SHADEGATE_REQUIRE_GPU=1`), choosing
 //! an adapter by name, chunked and two-dimensional dispatches giving the
 //! same bits as one dispatch, overrides reaching the pipeline, and errors
 //! that name the file, function and adapter.
-#![cfg(feature = "replay")]
+#![cfg(feature = "gpu")]
 
-mod replay_common;
+use crate::common as gpu_common;
 
 use std::collections::BTreeMap;
 use std::process::Command;
 
-use replay_common::{device, load, points, Dom};
+use gpu_common::{device, load, points, Dom};
 use shadegate::eval::Program;
-use shadegate::replay::{Replay, ReplayError, REQUIRE_GPU_VAR};
+use shadegate::gpu::{Gpu, GpuError, REQUIRE_GPU_VAR};
 use shadegate::wgsl::Shader;
 
 /// Marks the child runs of `no_adapter_skips_unless_a_device_is_required`.
-const CHILD: &str = "SHADEGATE_REPLAY_TEST_CHILD";
+const CHILD: &str = "SHADEGATE_GPU_TEST_CHILD";
 
-/// Asks for the shared device, as every replay test does: passes with a
+/// Asks for the shared device, as every GPU test does: passes with a
 /// device, passes with a skip message without one, fails when a device is
 /// demanded and missing. Driven with a hidden driver by the test below.
 #[test]
@@ -63,7 +63,7 @@ fn no_adapter_skips_unless_a_device_is_required() {
     let (ok, text) = run_child(false);
     assert!(ok, "without an adapter the test must pass:\n{text}");
     assert!(
-        text.contains("replay test skipped: no WebGPU adapter found"),
+        text.contains("GPU test skipped: no WebGPU adapter found"),
         "the skip must say why:\n{text}"
     );
     assert!(
@@ -90,14 +90,14 @@ fn adapters_are_chosen_by_name_and_an_unknown_name_lists_the_others() {
         .next()
         .expect("adapter name")
         .to_uppercase();
-    let again = Replay::new(Some(&word)).unwrap_or_else(|e| panic!("{e}"));
+    let again = Gpu::new(Some(&word)).unwrap_or_else(|e| panic!("{e}"));
     assert_eq!(
         again.adapter().name,
         name,
         "case-insensitive part of the name"
     );
-    match Replay::new(Some("no adapter is called this")) {
-        Err(ReplayError::AdapterNotFound { wanted, available }) => {
+    match Gpu::new(Some("no adapter is called this")) {
+        Err(GpuError::AdapterNotFound { wanted, available }) => {
             assert_eq!(wanted, "no adapter is called this");
             assert!(available.iter().any(|a| a.contains(&name)), "{available:?}");
         }
@@ -113,7 +113,7 @@ fn adapters_are_chosen_by_name_and_an_unknown_name_lists_the_others() {
 #[test]
 fn chunked_two_dimensional_dispatches_give_the_same_bits() {
     let Some(shared) = device() else { return };
-    let mut small = Replay::new(None).unwrap_or_else(|e| panic!("{e}"));
+    let mut small = Gpu::new(None).unwrap_or_else(|e| panic!("{e}"));
     small.restrict_dispatch(1000, 4);
     assert_eq!(small.limits().max_workgroups_per_dimension, 4);
     let none = BTreeMap::new();
@@ -160,7 +160,7 @@ fn chunked_two_dimensional_dispatches_give_the_same_bits() {
 
 #[test]
 fn overrides_reach_the_pipeline() {
-    let Some(replay) = device() else { return };
+    let Some(gpu) = device() else { return };
     let shader = Shader::from_source(
         "overrides.wgsl",
         "override scale: f32 = 2.0;\n@id(7) override bias: i32;\n\
@@ -173,7 +173,7 @@ fn overrides_reach_the_pipeline() {
     let mut ov = BTreeMap::new();
     ov.insert("scale".to_string(), 3.0);
     ov.insert("bias".to_string(), 100.0);
-    let gpu = replay
+    let gpu = gpu
         .eval(&shader, "f", &ov, &[&x, &i])
         .unwrap_or_else(|e| panic!("{e}"));
     let got: Vec<f32> = gpu[0]
@@ -189,9 +189,9 @@ fn overrides_reach_the_pipeline() {
     // Without a value for `bias` (no default) the pipeline cannot be built.
     let mut missing = BTreeMap::new();
     missing.insert("scale".to_string(), 3.0);
-    let e = replay.eval(&shader, "f", &missing, &[&x, &i]).unwrap_err();
+    let e = gpu.eval(&shader, "f", &missing, &[&x, &i]).unwrap_err();
     let text = e.to_string();
-    assert!(matches!(e, ReplayError::Pipeline { .. }), "{text}");
+    assert!(matches!(e, GpuError::Pipeline { .. }), "{text}");
     assert!(
         text.contains("overrides.wgsl") && text.contains("`f`"),
         "{text}"
@@ -200,10 +200,10 @@ fn overrides_reach_the_pipeline() {
 
 #[test]
 fn errors_name_the_file_function_and_what_is_wrong() {
-    let Some(replay) = device() else { return };
+    let Some(gpu) = device() else { return };
     let shader = load("integers.wgsl");
     let none = BTreeMap::new();
-    let e = replay
+    let e = gpu
         .prepare(&shader, "no_such_function", &none)
         .err()
         .expect("an error");
@@ -212,7 +212,7 @@ fn errors_name_the_file_function_and_what_is_wrong() {
         text.contains("integers.wgsl") && text.contains("no function named `no_such_function`"),
         "{text}"
     );
-    let k = replay
+    let k = gpu
         .prepare(&shader, "int_div_rem", &none)
         .unwrap_or_else(|e| panic!("{e}"));
     let a = [1u32, 2, 3];
@@ -242,11 +242,11 @@ fn errors_name_the_file_function_and_what_is_wrong() {
 /// bound of the ggx_d corpus case, same domain, stays below 0.9 %).
 #[test]
 fn a_million_points_come_back_complete() {
-    let Some(replay) = device() else { return };
+    let Some(gpu) = device() else { return };
     let shader = load("shading.wgsl");
     let none = BTreeMap::new();
     let t = std::time::Instant::now();
-    let k = replay
+    let k = gpu
         .prepare(&shader, "ggx_d", &none)
         .unwrap_or_else(|e| panic!("{e}"));
     let compile = t.elapsed();
@@ -262,8 +262,8 @@ fn a_million_points_come_back_complete() {
     let n = cols[0].len();
     println!(
         "{}: setup {:?}, pipeline {compile:?}, first dispatch {first:?}, {n} points {run:?}",
-        replay.adapter(),
-        replay.setup_time()
+        gpu.adapter(),
+        gpu.setup_time()
     );
     assert_eq!(gpu[0].len(), n);
     let program = Program::compile(&shader, "ggx_d", &none).unwrap_or_else(|d| panic!("{d}"));

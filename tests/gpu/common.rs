@@ -1,4 +1,4 @@
-//! Shared by the replay tests: one device per test binary (or a clear skip),
+//! Shared by the GPU tests: one device per test binary (or a clear skip),
 //! seeded argument points, and the leaf-by-leaf comparison of the CPU
 //! evaluator with the device under an allowance derived from the WGSL spec.
 #![allow(dead_code)]
@@ -8,34 +8,34 @@ use std::path::{Path, PathBuf};
 use std::sync::OnceLock;
 
 use shadegate::eval::{bits_to_f64, Program, ScalarKind};
-use shadegate::replay::{self, Replay, ReplayError};
+use shadegate::gpu::{self, Gpu, GpuError};
 use shadegate::wgsl::Shader;
 
 /// The device shared by every test of this binary; `None` (after printing
 /// why) when the machine has no adapter and the environment does not demand
 /// one. Any other failure, and "no adapter" under `SHADEGATE_REQUIRE_GPU=1`,
 /// fails the calling test.
-pub fn device() -> Option<&'static Replay> {
-    static DEVICE: OnceLock<Result<Replay, ReplayError>> = OnceLock::new();
-    match DEVICE.get_or_init(|| Replay::new(None)) {
+pub fn device() -> Option<&'static Gpu> {
+    static DEVICE: OnceLock<Result<Gpu, GpuError>> = OnceLock::new();
+    match DEVICE.get_or_init(|| Gpu::new(None)) {
         Ok(r) => Some(r),
-        Err(e) if e.is_no_adapter() && !replay::device_required() => {
+        Err(e) if e.is_no_adapter() && !gpu::device_required() => {
             eprintln!(
-                "replay test skipped: {e}\n(set {}=1 to make this a failure)",
-                replay::REQUIRE_GPU_VAR
+                "GPU test skipped: {e}\n(set {}=1 to make this a failure)",
+                gpu::REQUIRE_GPU_VAR
             );
             None
         }
         Err(e) if e.is_no_adapter() => {
-            panic!("{}=1 demands a device, but: {e}", replay::REQUIRE_GPU_VAR)
+            panic!("{}=1 demands a device, but: {e}", gpu::REQUIRE_GPU_VAR)
         }
-        Err(e) => panic!("replay device: {e}"),
+        Err(e) => panic!("gpu device: {e}"),
     }
 }
 
 pub fn corpus_file(name: &str) -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("tests/replay_corpus")
+        .join("tests/gpu/corpus_wgsl")
         .join(name)
 }
 
@@ -538,7 +538,7 @@ fn indeterminate(kinds: &[ScalarKind], cpu: &[Vec<u32>], p: usize) -> bool {
 pub struct Outcome {
     pub points: usize,
     pub compared: usize,
-    pub table: Vec<replay::LeafUlp>,
+    pub table: Vec<gpu::LeafUlp>,
 }
 
 /// Inputs with every subnormal float replaced by a zero of the same sign
@@ -571,7 +571,7 @@ fn flushed_inputs(kinds: &[ScalarKind], cols: &[Vec<u32>]) -> Option<Vec<Vec<u32
 /// Returns `None` when skipped (no device).
 #[track_caller]
 pub fn check(case: &Case) -> Option<Outcome> {
-    let replay = device()?;
+    let gpu = device()?;
     let shader = load(case.file);
     let path = corpus_file(case.file);
     let overrides = BTreeMap::new();
@@ -603,11 +603,11 @@ pub fn check(case: &Case) -> Option<Outcome> {
 
     let mut cpu = Vec::new();
     program.eval(&cols, &mut cpu);
-    let gpu = match replay.eval(&shader, case.function, &overrides, &cols) {
+    let gpu = match gpu.eval(&shader, case.function, &overrides, &cols) {
         Ok(g) => g,
         // A capability the adapter lacks (f16): nothing to compare here.
-        Err(e @ ReplayError::Unsupported { .. }) => {
-            eprintln!("replay test skipped: {e}");
+        Err(e @ GpuError::Unsupported { .. }) => {
+            eprintln!("GPU test skipped: {e}");
             return None;
         }
         Err(e) => panic!("{e}"),
@@ -668,13 +668,13 @@ pub fn check(case: &Case) -> Option<Outcome> {
         }
     }
 
-    let table = replay::ulp_summary(&out_leaves, &cpu, &gpu);
+    let table = gpu::ulp_summary(&out_leaves, &cpu, &gpu);
     println!(
         "{}: `{}` on {}, {n} points ({compared} compared)\n{}",
         case.file,
         case.function,
-        replay.adapter().name,
-        replay::format_table(&table, Some((&in_leaves, &cols)))
+        gpu.adapter().name,
+        gpu::format_table(&table, Some((&in_leaves, &cols)))
     );
     if !failures.is_empty() {
         let mut msg = format!(
@@ -685,7 +685,7 @@ pub fn check(case: &Case) -> Option<Outcome> {
             failures.len(),
             compared,
             case.why,
-            replay.adapter()
+            gpu.adapter()
         );
         for (p, leaf, allow) in failures.iter().take(12) {
             let k = out_kinds[*leaf];
@@ -696,7 +696,7 @@ pub fn check(case: &Case) -> Option<Outcome> {
                 cpu[*leaf][*p],
                 bits_to_f64(k, gpu[*leaf][*p]),
                 gpu[*leaf][*p],
-                replay::describe_point(&in_leaves, &cols, *p)
+                gpu::describe_point(&in_leaves, &cols, *p)
             ));
         }
         panic!("{msg}");

@@ -1,19 +1,19 @@
-//! `shadegate run --replay`: the demo suite's checks on a WebGPU device, with
+//! `shadegate run --gpu`: the demo suite's checks on a WebGPU device, with
 //! the adapter named and a device-versus-CPU summary per output leaf. Skips
 //! (with a message) without an adapter unless SHADEGATE_REQUIRE_GPU=1.
-#![cfg(feature = "replay")]
+#![cfg(feature = "gpu")]
 
-mod replay_common;
+use crate::common as gpu_common;
 
 use std::process::Command;
 
 #[test]
 fn run_on_the_device_names_the_adapter_and_compares_with_the_cpu() {
-    if replay_common::device().is_none() {
+    if gpu_common::device().is_none() {
         return;
     }
     let o = Command::new(env!("CARGO_BIN_EXE_shadegate"))
-        .args(["run", "--replay", "lambert"])
+        .args(["run", "--gpu", "lambert"])
         .current_dir(env!("CARGO_MANIFEST_DIR"))
         .env("NO_COLOR", "1")
         .output()
@@ -36,7 +36,7 @@ fn run_on_the_device_names_the_adapter_and_compares_with_the_cpu() {
     let planted = Command::new(env!("CARGO_BIN_EXE_shadegate"))
         .args([
             "run",
-            "--replay",
+            "--gpu",
             "--suite",
             "shaders/brackenfold-planted/shadegate.toml",
             "lambert",

@@ -22,7 +22,7 @@
 //! `REL_TOL = 1e-5`; the largest error actually measured is printed by each test (run with
 //! `--nocapture`) and reported in the module's documentation of `harness/reference`.
 
-mod reference_common;
+use crate::common as reference_common;
 
 use shadegate::reference::find;
 

@@ -18,7 +18,7 @@
 //! not depend on which other points share its batch, on batch or chunk
 //! boundaries, or on `eval` (parallel) versus `eval_serial`.
 //!
-//! tests/eval_exprtree.rs composes operators into random expression trees;
+//! tests/eval/exprtree.rs composes operators into random expression trees;
 //! this file covers each operator alone over a wider input distribution.
 
 use std::collections::BTreeMap;

@@ -14,7 +14,7 @@
 //!    `libm` crate's binary32 routines, and f64 arithmetic for `pow`) was
 //!    measured to be, so that a change to a cruder approximation is a
 //!    deliberate, visible decision rather than an accident. The measured
-//!    worst case per function is printed (`cargo test --test eval_accuracy
+//!    worst case per function is printed (`cargo test --test eval accuracy
 //!    -- --nocapture`).
 
 use std::collections::BTreeMap;
@@ -22,7 +22,7 @@ use std::collections::BTreeMap;
 use shadegate::eval::Program;
 use shadegate::wgsl::Shader;
 
-const TABLE: &str = include_str!("data/accuracy/f32_transcendentals.csv");
+const TABLE: &str = include_str!("../data/accuracy/f32_transcendentals.csv");
 
 struct Row {
     a: u32,

@@ -17,7 +17,7 @@
 //! f64, where relative error means nothing) and counts them in the file's header; an exact
 //! zero in the table must be matched by an exact zero.
 
-mod reference_common;
+use crate::common as reference_common;
 
 const REL_TOL: f64 = 1e-12;
 

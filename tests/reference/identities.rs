@@ -543,11 +543,11 @@ fn specular_albedo_is_at_most_one_and_matches_the_published_table() {
     for (origin, source) in [
         (
             "harness/reference/brdf.rs",
-            include_str!("../harness/reference/brdf.rs"),
+            include_str!("../../harness/reference/brdf.rs"),
         ),
         (
             "harness/reference/ALBEDO.md",
-            include_str!("../harness/reference/ALBEDO.md"),
+            include_str!("../../harness/reference/ALBEDO.md"),
         ),
     ] {
         let published = published_table(source, origin);

@@ -1,4 +1,4 @@
-//! Differential test: every function of tests/replay_corpus/ runs on the CPU
+//! Differential test: every function of tests/gpu/corpus_wgsl/ runs on the CPU
 //! evaluator and on a WebGPU device over the same points (edge values, then
 //! seeded random ones), and every result leaf is compared.
 //!
@@ -12,14 +12,14 @@
 //! otherwise.
 //!
 //! One test per case, named after the corpus function, so
-//! `cargo test --features replay --test replay_corpus shifts` runs one.
+//! `cargo test --features gpu --test gpu corpus::shifts` runs one.
 //! Without an adapter every test prints a skip message and passes, unless
 //! `SHADEGATE_REQUIRE_GPU=1`.
-#![cfg(feature = "replay")]
+#![cfg(feature = "gpu")]
 
-mod replay_common;
+use crate::common as gpu_common;
 
-use replay_common::{check, rep, Allow, Case, Dom};
+use gpu_common::{check, rep, Allow, Case, Dom};
 
 /// f32 unit roundoff bounds: a correctly rounded WGSL operation may return
 /// either neighbour of the exact result ("correctly rounded", Floating Point
@@ -427,10 +427,10 @@ fn pack_tie(v: &[f64]) -> bool {
 fn pack_norm_ties() {
     use shadegate::eval::Program;
     use std::collections::BTreeMap;
-    let Some(replay) = replay_common::device() else {
+    let Some(gpu) = gpu_common::device() else {
         return;
     };
-    let shader = replay_common::load("packing.wgsl");
+    let shader = gpu_common::load("packing.wgsl");
     let program =
         Program::compile(&shader, "pack_norm", &BTreeMap::new()).unwrap_or_else(|d| panic!("{d}"));
     // (k + 0.5) / s for every scale, both signs: whichever of these rounds so
@@ -457,7 +457,7 @@ fn pack_norm_ties() {
     let cols: Vec<&[u32]> = cols_owned.iter().map(|c| c.as_slice()).collect();
     let mut cpu = Vec::new();
     program.eval(&cols, &mut cpu);
-    let gpu = replay
+    let gpu = gpu
         .eval(&shader, "pack_norm", &BTreeMap::new(), &cols)
         .unwrap_or_else(|e| panic!("{e}"));
     let (mut fields, mut half_even) = (0, 0);
@@ -493,7 +493,7 @@ fn pack_norm_ties() {
         "pack*norm at {} tie points ({fields} fields) on {}: {half_even} fields rounded \
          half-to-even instead of the spec's floor(0.5 + x)",
         points.len(),
-        replay.adapter().name
+        gpu.adapter().name
     );
 }
 
@@ -504,12 +504,12 @@ fn pack_norm_ties() {
 #[test]
 fn pointer_to_element() {
     use shadegate::eval::Program;
-    use shadegate::replay::ReplayError;
+    use shadegate::gpu::GpuError;
     use std::collections::BTreeMap;
-    let Some(replay) = replay_common::device() else {
+    let Some(gpu) = gpu_common::device() else {
         return;
     };
-    let shader = replay_common::load("pointer_element.wgsl");
+    let shader = gpu_common::load("pointer_element.wgsl");
     let program = Program::compile(&shader, "pointer_to_element", &BTreeMap::new())
         .unwrap_or_else(|d| panic!("{d}"));
     let cols_owned: Vec<Vec<u32>> =
@@ -518,9 +518,9 @@ fn pointer_to_element() {
     let mut cpu = Vec::new();
     program.eval(&cols, &mut cpu);
     assert_eq!((cpu[1][0], cpu[2][1]), (12, 14), "CPU: a[k & 3] += 10");
-    match replay.eval(&shader, "pointer_to_element", &BTreeMap::new(), &cols) {
+    match gpu.eval(&shader, "pointer_to_element", &BTreeMap::new(), &cols) {
         Ok(gpu) => assert_eq!(gpu, cpu, "device and CPU differ"),
-        Err(e @ ReplayError::Pipeline { .. }) => {
+        Err(e @ GpuError::Pipeline { .. }) => {
             let text = e.to_string();
             assert!(
                 text.contains("pointer_element.wgsl") && text.contains("`pointer_to_element`"),

@@ -1,13 +1,13 @@
-//! Print the replay adapter and a ULP table (device against the CPU
+//! Print the GPU adapter and a ULP table (device against the CPU
 //! evaluator) for one WGSL function.
 //!
 //! ```text
-//! cargo run --release --features replay --example replay_info -- \
+//! cargo run --release --features gpu --example gpu_info -- \
 //!     [--adapter TEXT] [--points N] [FILE.wgsl FUNCTION]
 //! ```
 //!
-//! Without FILE and FUNCTION it replays `ggx_d` of
-//! tests/replay_corpus/shading.wgsl. Float arguments are drawn uniformly
+//! Without FILE and FUNCTION it runs on the GPU `ggx_d` of
+//! tests/gpu/corpus_wgsl/shading.wgsl. Float arguments are drawn uniformly
 //! from [0, 1], integer and bool arguments from all bit patterns (seeded, so
 //! runs repeat).
 
@@ -17,14 +17,14 @@ use std::process::ExitCode;
 use std::time::Instant;
 
 use shadegate::eval::{Program, ScalarKind};
-use shadegate::replay::{self, Replay};
+use shadegate::gpu::{self, Gpu};
 use shadegate::wgsl::Shader;
 
 fn main() -> ExitCode {
     match run() {
         Ok(()) => ExitCode::SUCCESS,
         Err(e) => {
-            eprintln!("replay_info: {e}");
+            eprintln!("gpu_info: {e}");
             ExitCode::from(2)
         }
     }
@@ -49,19 +49,19 @@ fn run() -> Result<(), String> {
     }
     let (file, function) = match rest.as_slice() {
         [] => (
-            PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("tests/replay_corpus/shading.wgsl"),
+            PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("tests/gpu/corpus_wgsl/shading.wgsl"),
             "ggx_d".to_string(),
         ),
         [f, n] => (PathBuf::from(f), n.clone()),
-        _ => return Err("usage: replay_info [--adapter TEXT] [--points N] [FILE FUNCTION]".into()),
+        _ => return Err("usage: gpu_info [--adapter TEXT] [--points N] [FILE FUNCTION]".into()),
     };
     let shader = Shader::load(&file).map_err(|e| e.to_string())?;
     let overrides = BTreeMap::new();
     let program = Program::compile(&shader, &function, &overrides).map_err(|e| e.to_string())?;
 
     let t = Instant::now();
-    let replay = Replay::new(adapter.as_deref()).map_err(|e| e.to_string())?;
-    println!("adapter: {}", replay.adapter());
+    let gpu = Gpu::new(adapter.as_deref()).map_err(|e| e.to_string())?;
+    println!("adapter: {}", gpu.adapter());
     println!("setup: {:.1} ms", ms(t.elapsed()));
 
     let leaves = program.input_leaves();
@@ -73,7 +73,7 @@ fn run() -> Result<(), String> {
     let cols: Vec<&[u32]> = inputs.iter().map(|c| c.as_slice()).collect();
 
     let t = Instant::now();
-    let kernel = replay
+    let kernel = gpu
         .prepare(&shader, &function, &overrides)
         .map_err(|e| e.to_string())?;
     let compile = t.elapsed();
@@ -101,8 +101,8 @@ fn run() -> Result<(), String> {
         "\n{}: `{function}`, device against the CPU evaluator",
         file.display()
     );
-    let table = replay::ulp_summary(&program.output_leaves(), &cpu, &gpu);
-    print!("{}", replay::format_table(&table, Some((&leaves, &cols))));
+    let table = gpu::ulp_summary(&program.output_leaves(), &cpu, &gpu);
+    print!("{}", gpu::format_table(&table, Some((&leaves, &cols))));
     Ok(())
 }
 

@@ -1,4 +1,4 @@
-//! Replay: run a WGSL function on a real WebGPU implementation (through
+//! GPU back end: run a WGSL function on a real WebGPU implementation (through
 //! `wgpu`) over the same argument columns the CPU evaluator takes, and hand
 //! back result columns in the evaluator's encoding, so the two back ends can
 //! be compared leaf by leaf.
@@ -10,7 +10,7 @@
 //!                                              output buffer ──read back──▶ result columns
 //! ```
 //!
-//! [`Replay::new`] picks an adapter (the default one, or the first whose name
+//! [`Gpu::new`] picks an adapter (the default one, or the first whose name
 //! contains the given text), creates a device with the adapter's own limits
 //! and the `shader-f16` feature when the adapter has it, and records
 //! [`AdapterReport`] (name, driver, driver info, backend) for reports: data
@@ -49,7 +49,7 @@ pub fn device_required() -> bool {
 
 /// What went wrong, naming the adapter, file and function involved.
 #[derive(Debug, Clone, PartialEq, Eq)]
-pub enum ReplayError {
+pub enum GpuError {
     /// No WebGPU adapter at all (no GPU and no software driver installed).
     NoAdapter { detail: String },
     /// An adapter was asked for by name and none matched.
@@ -94,23 +94,23 @@ pub enum ReplayError {
     },
 }
 
-impl ReplayError {
+impl GpuError {
     /// True when the machine simply has no adapter: tests skip on this
     /// (unless [`device_required`]).
     pub fn is_no_adapter(&self) -> bool {
-        matches!(self, ReplayError::NoAdapter { .. })
+        matches!(self, GpuError::NoAdapter { .. })
     }
 }
 
-impl std::fmt::Display for ReplayError {
+impl std::fmt::Display for GpuError {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
         match self {
-            ReplayError::NoAdapter { detail } => write!(
+            GpuError::NoAdapter { detail } => write!(
                 f,
                 "no WebGPU adapter found ({detail}); install a GPU driver, or Mesa's software \
                  Vulkan driver (Debian packages mesa-vulkan-drivers and libvulkan1)"
             ),
-            ReplayError::AdapterNotFound { wanted, available } => write!(
+            GpuError::AdapterNotFound { wanted, available } => write!(
                 f,
                 "no adapter whose name contains `{wanted}` (adapters: {})",
                 if available.is_empty() {
@@ -119,10 +119,10 @@ impl std::fmt::Display for ReplayError {
                     available.join("; ")
                 }
             ),
-            ReplayError::Device { adapter, detail } => {
+            GpuError::Device { adapter, detail } => {
                 write!(f, "adapter `{adapter}` could not create a device: {detail}")
             }
-            ReplayError::Unsupported {
+            GpuError::Unsupported {
                 adapter,
                 file,
                 function,
@@ -131,39 +131,39 @@ impl std::fmt::Display for ReplayError {
                 f,
                 "{file}: `{function}` needs {what}, which adapter `{adapter}` does not support"
             ),
-            ReplayError::Wrap {
+            GpuError::Wrap {
                 file,
                 function,
                 detail,
-            } => write!(f, "{file}: cannot replay `{function}`: {detail}"),
-            ReplayError::Pipeline {
+            } => write!(f, "{file}: cannot run `{function}`: {detail}"),
+            GpuError::Pipeline {
                 adapter,
                 file,
                 function,
                 detail,
             } => write!(
                 f,
-                "{file}: adapter `{adapter}` rejected the replay module for `{function}`: {detail}"
+                "{file}: adapter `{adapter}` rejected the generated module for `{function}`: {detail}"
             ),
-            ReplayError::Inputs {
+            GpuError::Inputs {
                 file,
                 function,
                 detail,
             } => write!(f, "{file}: `{function}`: {detail}"),
-            ReplayError::Dispatch {
+            GpuError::Dispatch {
                 adapter,
                 file,
                 function,
                 detail,
             } => write!(
                 f,
-                "{file}: replaying `{function}` on adapter `{adapter}` failed: {detail}"
+                "{file}: running on the GPU `{function}` on adapter `{adapter}` failed: {detail}"
             ),
         }
     }
 }
 
-impl std::error::Error for ReplayError {}
+impl std::error::Error for GpuError {}
 
 /// Identity of the adapter and driver, for reports.
 #[derive(Clone, Debug, PartialEq, Eq, serde::Serialize)]
@@ -196,7 +196,7 @@ impl std::fmt::Display for AdapterReport {
     }
 }
 
-/// The part of the device limits the replay plans its dispatches with.
+/// The part of the device limits the GPU back end plans its dispatches with.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub struct DispatchLimits {
     /// Bytes one storage buffer binding may span.
@@ -212,8 +212,8 @@ pub struct DispatchLimits {
 /// whose single submission runs for about two seconds (common practice).
 pub const DEFAULT_POINTS_PER_DISPATCH: usize = 1 << 20;
 
-/// A device ready to replay functions.
-pub struct Replay {
+/// A device ready to run functions.
+pub struct Gpu {
     device: wgpu::Device,
     queue: wgpu::Queue,
     report: AdapterReport,
@@ -223,9 +223,9 @@ pub struct Replay {
     uncaptured: Arc<Mutex<Vec<String>>>,
 }
 
-impl std::fmt::Debug for Replay {
+impl std::fmt::Debug for Gpu {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        f.debug_struct("Replay")
+        f.debug_struct("Gpu")
             .field("adapter", &self.report)
             .field("limits", &self.limits)
             .finish_non_exhaustive()
@@ -234,7 +234,7 @@ impl std::fmt::Debug for Replay {
 
 /// A function compiled into a pipeline on one device.
 pub struct Kernel<'r> {
-    replay: &'r Replay,
+    gpu: &'r Gpu,
     wrapped: Wrapped,
     pipeline: wgpu::ComputePipeline,
     layout: wgpu::BindGroupLayout,
@@ -243,10 +243,10 @@ pub struct Kernel<'r> {
     compile: Duration,
 }
 
-impl Replay {
+impl Gpu {
     /// Pick an adapter and create a device. `adapter_name`: `None` for the
     /// default adapter, or text the adapter's name must contain (case-insensitive).
-    pub fn new(adapter_name: Option<&str>) -> Result<Replay, ReplayError> {
+    pub fn new(adapter_name: Option<&str>) -> Result<Gpu, GpuError> {
         let start = Instant::now();
         let mut desc = wgpu::InstanceDescriptor::new_without_display_handle();
         // No validation layers, no debug labels: see the module doc.
@@ -256,7 +256,7 @@ impl Replay {
             None => pollster::block_on(
                 instance.request_adapter(&wgpu::RequestAdapterOptions::default()),
             )
-            .map_err(|e| ReplayError::NoAdapter {
+            .map_err(|e| GpuError::NoAdapter {
                 detail: e.to_string(),
             })?,
             Some(wanted) => {
@@ -271,7 +271,7 @@ impl Replay {
                     .collect();
                 all.into_iter()
                     .find(|a| a.get_info().name.to_lowercase().contains(&lower))
-                    .ok_or(ReplayError::AdapterNotFound {
+                    .ok_or(GpuError::AdapterNotFound {
                         wanted: wanted.to_string(),
                         available: names,
                     })?
@@ -285,7 +285,7 @@ impl Replay {
             wgpu::Features::empty()
         };
         let (device, queue) = pollster::block_on(adapter.request_device(&wgpu::DeviceDescriptor {
-            label: Some("shadegate replay"),
+            label: Some("shadegate gpu"),
             required_features,
             // The adapter's own limits: the largest buffers it allows.
             required_limits: adapter.limits(),
@@ -293,7 +293,7 @@ impl Replay {
             memory_hints: wgpu::MemoryHints::Performance,
             trace: wgpu::Trace::Off,
         }))
-        .map_err(|e| ReplayError::Device {
+        .map_err(|e| GpuError::Device {
             adapter: info.name.clone(),
             detail: e.to_string(),
         })?;
@@ -320,7 +320,7 @@ impl Replay {
             device: info.device,
             shader_f16: f16,
         };
-        Ok(Replay {
+        Ok(Gpu {
             device,
             queue,
             report,
@@ -334,7 +334,7 @@ impl Replay {
         &self.report
     }
 
-    /// Time [`Replay::new`] took (instance, adapter, device).
+    /// Time [`Gpu::new`] took (instance, adapter, device).
     pub fn setup_time(&self) -> Duration {
         self.setup
     }
@@ -359,23 +359,23 @@ impl Replay {
         shader: &Shader,
         function: &str,
         overrides: &BTreeMap<String, f64>,
-    ) -> Result<Kernel<'_>, ReplayError> {
+    ) -> Result<Kernel<'_>, GpuError> {
         let start = Instant::now();
         let file = shader.path.display().to_string();
-        let wrapped = wrap::wrap(shader, function).map_err(|e| ReplayError::Wrap {
+        let wrapped = wrap::wrap(shader, function).map_err(|e| GpuError::Wrap {
             file: file.clone(),
             function: function.to_string(),
             detail: e.0,
         })?;
         if wrapped.uses_f16 && !self.report.shader_f16 {
-            return Err(ReplayError::Unsupported {
+            return Err(GpuError::Unsupported {
                 adapter: self.report.name.clone(),
                 file,
                 function: function.to_string(),
                 what: "f16 (the WebGPU feature `shader-f16`)".into(),
             });
         }
-        let pipeline_error = |detail: String| ReplayError::Pipeline {
+        let pipeline_error = |detail: String| GpuError::Pipeline {
             adapter: self.report.name.clone(),
             file: file.clone(),
             function: function.to_string(),
@@ -405,13 +405,13 @@ impl Replay {
             let module = self
                 .device
                 .create_shader_module(wgpu::ShaderModuleDescriptor {
-                    label: Some("shadegate replay module"),
+                    label: Some("shadegate gpu module"),
                     source: wgpu::ShaderSource::Wgsl(wrapped.source.as_str().into()),
                 });
             let pipeline = self
                 .device
                 .create_compute_pipeline(&wgpu::ComputePipelineDescriptor {
-                    label: Some("shadegate replay pipeline"),
+                    label: Some("shadegate gpu pipeline"),
                     layout: None,
                     module: &module,
                     entry_point: Some(&wrapped.entry_point),
@@ -454,7 +454,7 @@ impl Replay {
         }
         let layout = pipeline.get_bind_group_layout(wrapped.group);
         Ok(Kernel {
-            replay: self,
+            gpu: self,
             wrapped,
             pipeline,
             layout,
@@ -464,14 +464,14 @@ impl Replay {
         })
     }
 
-    /// [`Replay::prepare`] then [`Kernel::eval`].
+    /// [`Gpu::prepare`] then [`Kernel::eval`].
     pub fn eval(
         &self,
         shader: &Shader,
         function: &str,
         overrides: &BTreeMap<String, f64>,
         inputs: &[&[u32]],
-    ) -> Result<Vec<Vec<u32>>, ReplayError> {
+    ) -> Result<Vec<Vec<u32>>, GpuError> {
         self.prepare(shader, function, overrides)?.eval(inputs)
     }
 
@@ -550,14 +550,14 @@ impl Kernel<'_> {
         &self.wrapped.source
     }
 
-    /// Time [`Replay::prepare`] took (wrapping, shader module, pipeline).
+    /// Time [`Gpu::prepare`] took (wrapping, shader module, pipeline).
     pub fn compile_time(&self) -> Duration {
         self.compile
     }
 
-    fn err(&self, detail: impl Into<String>) -> ReplayError {
-        ReplayError::Dispatch {
-            adapter: self.replay.report.name.clone(),
+    fn err(&self, detail: impl Into<String>) -> GpuError {
+        GpuError::Dispatch {
+            adapter: self.gpu.report.name.clone(),
             file: self.file.clone(),
             function: self.function.clone(),
             detail: detail.into(),
@@ -566,7 +566,7 @@ impl Kernel<'_> {
 
     /// Run every point; `inputs[i]` is the column of input leaf `i`, all of
     /// one length. Returns one column per output leaf.
-    pub fn eval(&self, inputs: &[&[u32]]) -> Result<Vec<Vec<u32>>, ReplayError> {
+    pub fn eval(&self, inputs: &[&[u32]]) -> Result<Vec<Vec<u32>>, GpuError> {
         let n_in = self.wrapped.input_kinds.len();
         let n_out = self.wrapped.output_kinds.len();
         if inputs.len() != n_in {
@@ -576,7 +576,7 @@ impl Kernel<'_> {
                 .iter()
                 .map(|(n, t)| format!("{n}: {t} ({} leaves)", t.leaf_count()))
                 .collect();
-            return Err(ReplayError::Inputs {
+            return Err(GpuError::Inputs {
                 file: self.file.clone(),
                 function: self.function.clone(),
                 detail: format!(
@@ -588,7 +588,7 @@ impl Kernel<'_> {
         }
         let points = inputs.first().map_or(1, |c| c.len());
         if let Some(i) = inputs.iter().position(|c| c.len() != points) {
-            return Err(ReplayError::Inputs {
+            return Err(GpuError::Inputs {
                 file: self.file.clone(),
                 function: self.function.clone(),
                 detail: format!(
@@ -601,14 +601,14 @@ impl Kernel<'_> {
         if points == 0 {
             return Ok(out);
         }
-        let limits = self.replay.limits;
+        let limits = self.gpu.limits;
         let chunk = chunk_points(&limits, n_in, n_out).min(points);
-        let dev = &self.replay.device;
+        let dev = &self.gpu.device;
         let scope = dev.push_error_scope(wgpu::ErrorFilter::OutOfMemory);
         let scope_v = dev.push_error_scope(wgpu::ErrorFilter::Validation);
         let in_buf = (n_in > 0).then(|| {
             dev.create_buffer(&wgpu::BufferDescriptor {
-                label: Some("replay input"),
+                label: Some("gpu input"),
                 size: (chunk * n_in * 4) as u64,
                 usage: wgpu::BufferUsages::STORAGE | wgpu::BufferUsages::COPY_DST,
                 mapped_at_creation: false,
@@ -616,19 +616,19 @@ impl Kernel<'_> {
         });
         let out_bytes = (chunk * n_out * 4) as u64;
         let out_buf = dev.create_buffer(&wgpu::BufferDescriptor {
-            label: Some("replay output"),
+            label: Some("gpu output"),
             size: out_bytes,
             usage: wgpu::BufferUsages::STORAGE | wgpu::BufferUsages::COPY_SRC,
             mapped_at_creation: false,
         });
         let staging = dev.create_buffer(&wgpu::BufferDescriptor {
-            label: Some("replay read-back"),
+            label: Some("gpu read-back"),
             size: out_bytes,
             usage: wgpu::BufferUsages::MAP_READ | wgpu::BufferUsages::COPY_DST,
             mapped_at_creation: false,
         });
         let count_buf = dev.create_buffer(&wgpu::BufferDescriptor {
-            label: Some("replay count"),
+            label: Some("gpu count"),
             size: 16,
             usage: wgpu::BufferUsages::UNIFORM | wgpu::BufferUsages::COPY_DST,
             mapped_at_creation: false,
@@ -650,7 +650,7 @@ impl Kernel<'_> {
             });
         }
         let bind = dev.create_bind_group(&wgpu::BindGroupDescriptor {
-            label: Some("replay bindings"),
+            label: Some("gpu bindings"),
             layout: &self.layout,
             entries: &entries,
         });
@@ -668,7 +668,7 @@ impl Kernel<'_> {
             let n = chunk.min(points - start);
             if let Some(b) = &in_buf {
                 for (leaf, col) in inputs.iter().enumerate() {
-                    self.replay.queue.write_buffer(
+                    self.gpu.queue.write_buffer(
                         b,
                         (leaf * n * 4) as u64,
                         bytemuck::cast_slice(&col[start..start + n]),
@@ -677,15 +677,15 @@ impl Kernel<'_> {
             }
             let g = grid(n, limits.max_workgroups_per_dimension);
             let count = [n as u32, g.row, 0, 0];
-            self.replay
+            self.gpu
                 .queue
                 .write_buffer(&count_buf, 0, bytemuck::cast_slice(&count));
             let mut enc = dev.create_command_encoder(&wgpu::CommandEncoderDescriptor {
-                label: Some("replay dispatch"),
+                label: Some("gpu dispatch"),
             });
             {
                 let mut pass = enc.begin_compute_pass(&wgpu::ComputePassDescriptor {
-                    label: Some("replay"),
+                    label: Some("gpu"),
                     timestamp_writes: None,
                 });
                 pass.set_pipeline(&self.pipeline);
@@ -694,7 +694,7 @@ impl Kernel<'_> {
             }
             let bytes = (n * n_out * 4) as u64;
             enc.copy_buffer_to_buffer(&out_buf, 0, &staging, 0, bytes);
-            self.replay.queue.submit([enc.finish()]);
+            self.gpu.queue.submit([enc.finish()]);
             let (tx, rx) = mpsc::channel();
             staging.map_async(wgpu::MapMode::Read, 0..bytes, move |r| {
                 let _ = tx.send(r);
@@ -724,7 +724,7 @@ impl Kernel<'_> {
                 }
             }
             staging.unmap();
-            if let Some(e) = self.replay.take_uncaptured() {
+            if let Some(e) = self.gpu.take_uncaptured() {
                 return Err(self.err(e));
             }
             start += n;

@@ -1,20 +1,20 @@
-//! The demo suite (shadegate.toml) replayed on a WebGPU device: every check's
+//! The demo suite (shadegate.toml) run on the GPU on a WebGPU device: every check's
 //! sweep runs through the CPU evaluator and the device. Integer and bool
 //! results must be bit-identical; float results must meet the check's own
 //! tolerance against its reference model on both back ends; on the
 //! planted-mistakes library the same checks must fail on both back ends.
 //! Per check, the ULP distribution of device against CPU is printed
 //! (`--nocapture`).
-#![cfg(feature = "replay")]
+#![cfg(feature = "gpu")]
 
-mod replay_common;
+use crate::common as gpu_common;
 
 use std::path::{Path, PathBuf};
 
 use shadegate::compare;
 use shadegate::eval::{bits_to_f64, ScalarKind};
 use shadegate::gate;
-use shadegate::replay;
+use shadegate::gpu;
 use shadegate::suite::{self, Check, Suite};
 use shadegate::wgsl::Shader;
 
@@ -40,23 +40,23 @@ fn planted(path: &Path) -> PathBuf {
 
 /// Run one check on both back ends; returns whether each passed its
 /// reference comparison (None without a reference).
-fn replay_check(suite: &Suite, check: &Check, shader_path: &Path) -> Option<(bool, bool)> {
-    let replay = replay_common::device()?;
+fn gpu_check(suite: &Suite, check: &Check, shader_path: &Path) -> Option<(bool, bool)> {
+    let gpu = gpu_common::device()?;
     let ev = gate::evaluate(suite, check, Some(shader_path))
         .unwrap_or_else(|e| panic!("check `{}`: {e}", check.name));
     let shader = Shader::load(shader_path).unwrap_or_else(|d| panic!("{d}"));
     let cols: Vec<&[u32]> = ev.input_columns.iter().map(|c| c.as_slice()).collect();
-    let gpu = replay
+    let gpu = gpu
         .eval(&shader, &check.function, &check.overrides, &cols)
         .unwrap_or_else(|e| panic!("check `{}`: {e}", check.name));
-    let table = replay::ulp_summary(&ev.outputs, &ev.output_columns, &gpu);
+    let table = gpu::ulp_summary(&ev.outputs, &ev.output_columns, &gpu);
     println!(
         "check `{}` ({}, `{}`) on {}: device against the CPU evaluator\n{}",
         check.name,
         shader_path.display(),
         check.function,
-        replay.adapter().name,
-        replay::format_table(&table, Some((&ev.inputs, &cols)))
+        gpu.adapter().name,
+        gpu::format_table(&table, Some((&ev.inputs, &cols)))
     );
     for ((name, kind), row) in ev.outputs.iter().zip(&table) {
         if !kind.is_float() {
@@ -101,14 +101,14 @@ fn replay_check(suite: &Suite, check: &Check, shader_path: &Path) -> Option<(boo
 
 #[test]
 fn demo_library_passes_its_reference_checks_on_both_back_ends() {
-    if replay_common::device().is_none() {
+    if gpu_common::device().is_none() {
         return;
     }
     let suite = suite();
     let mut with_reference = 0;
     for check in &suite.checks {
         let path = suite.resolve(&check.shader);
-        if let Some((cpu, gpu)) = replay_check(&suite, check, &path) {
+        if let Some((cpu, gpu)) = gpu_check(&suite, check, &path) {
             assert!(cpu, "check `{}` fails on the CPU evaluator", check.name);
             assert!(gpu, "check `{}` fails on the device", check.name);
             with_reference += 1;
@@ -122,7 +122,7 @@ fn demo_library_passes_its_reference_checks_on_both_back_ends() {
 
 #[test]
 fn planted_mistakes_fail_on_both_back_ends() {
-    if replay_common::device().is_none() {
+    if gpu_common::device().is_none() {
         return;
     }
     let suite = suite();
@@ -130,7 +130,7 @@ fn planted_mistakes_fail_on_both_back_ends() {
     for check in &suite.checks {
         let path = planted(&suite.resolve(&check.shader));
         assert!(path.exists(), "no planted copy {}", path.display());
-        if let Some((cpu, gpu)) = replay_check(&suite, check, &path) {
+        if let Some((cpu, gpu)) = gpu_check(&suite, check, &path) {
             assert_eq!(
                 cpu,
                 gpu,

@@ -1775,7 +1775,7 @@ fn transpose_and_determinant() {
 fn transcendental_built_ins_meet_the_accuracy_table_at_sample_points() {
     // Exact values from mathematics (to f64); tolerances from the table in
     // "Floating Point Accuracy" (f32 column). The systematic accuracy sweep
-    // against mpmath lives in tests/eval_accuracy.rs; here each built-in is
+    // against mpmath lives in tests/eval/accuracy.rs; here each built-in is
     // checked to be wired to the right function with the right argument order.
     use std::f64::consts::{E, FRAC_PI_2, FRAC_PI_3, FRAC_PI_4, FRAC_PI_6, PI};
     let mut c = Corpus::new(NUMERIC);

@@ -1,0 +1,128 @@
+//! One policy for the limits that keep a bad input from hanging, exhausting
+//! memory or overflowing the stack. Every stage reads its limit from a
+//! [`Limits`] value instead of a constant of its own, and every limit that is
+//! hit becomes a located error (file, line, the limit's name and value, and
+//! [`Limit::how_to_raise`]) rather than a panic, an abort or a silent pass.
+//!
+//! The defaults are sized for the 2-core, 24 GiB machines CI runs on: each is
+//! far above what a real shading library needs and far below what would
+//! exhaust such a machine. A suite raises one with a `[limits]` table (the
+//! keys are [`Limit::key`]); the README's "Limits" section lists them.
+
+use std::fmt;
+
+/// The limits a run is held to. `Limits::default()` is the policy.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Limits {
+    /// Points in one check's sweep (after the grid or count is multiplied out).
+    pub points_per_check: u64,
+    /// Operations in one function's program after every call is inlined.
+    pub program_ops: u64,
+    /// Loop iterations one point may run, summed over every loop and every
+    /// inlined call it executes.
+    pub steps_per_point: u64,
+    /// Scalar slots (function-local and private variables' leaves, arrays
+    /// included) one function's program may use.
+    pub program_slots: u64,
+    /// Nesting depth of an argument expression or of a WGSL expression
+    /// (parentheses, unary operators, operator chains).
+    pub expression_depth: u32,
+    /// Size in bytes of one golden file, read or written.
+    pub golden_bytes: u64,
+    /// Checks in one suite file.
+    pub checks_per_suite: u64,
+}
+
+impl Default for Limits {
+    fn default() -> Limits {
+        Limits {
+            points_per_check: 1 << 28,
+            program_ops: 1 << 20,
+            steps_per_point: 1 << 20,
+            program_slots: 1 << 16,
+            expression_depth: 256,
+            golden_bytes: 256 << 20,
+            checks_per_suite: 100_000,
+        }
+    }
+}
+
+/// Names one limit, for errors and for the suite's `[limits]` table.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Limit {
+    PointsPerCheck,
+    ProgramOps,
+    StepsPerPoint,
+    ProgramSlots,
+    ExpressionDepth,
+    GoldenBytes,
+    ChecksPerSuite,
+}
+
+impl Limit {
+    /// Every limit, in the order the README lists them.
+    pub const ALL: [Limit; 7] = [
+        Limit::PointsPerCheck,
+        Limit::ProgramOps,
+        Limit::StepsPerPoint,
+        Limit::ProgramSlots,
+        Limit::ExpressionDepth,
+        Limit::GoldenBytes,
+        Limit::ChecksPerSuite,
+    ];
+
+    /// The key of this limit in a suite's `[limits]` table.
+    pub fn key(self) -> &'static str {
+        match self {
+            Limit::PointsPerCheck => "points_per_check",
+            Limit::ProgramOps => "program_ops",
+            Limit::StepsPerPoint => "steps_per_point",
+            Limit::ProgramSlots => "program_slots",
+            Limit::ExpressionDepth => "expression_depth",
+            Limit::GoldenBytes => "golden_bytes",
+            Limit::ChecksPerSuite => "checks_per_suite",
+        }
+    }
+
+    /// The limit's value under `limits`.
+    pub fn value(self, limits: &Limits) -> u64 {
+        match self {
+            Limit::PointsPerCheck => limits.points_per_check,
+            Limit::ProgramOps => limits.program_ops,
+            Limit::StepsPerPoint => limits.steps_per_point,
+            Limit::ProgramSlots => limits.program_slots,
+            Limit::ExpressionDepth => u64::from(limits.expression_depth),
+            Limit::GoldenBytes => limits.golden_bytes,
+            Limit::ChecksPerSuite => limits.checks_per_suite,
+        }
+    }
+
+    /// The sentence an error ends with: how a user raises this limit.
+    pub fn how_to_raise(self) -> String {
+        format!(
+            "raise it with `{} = N` in the suite's [limits] table",
+            self.key()
+        )
+    }
+}
+
+impl fmt::Display for Limit {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(self.key())
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn keys_are_distinct_and_values_positive() {
+        let d = Limits::default();
+        let mut keys: Vec<_> = Limit::ALL.iter().map(|l| l.key()).collect();
+        keys.sort();
+        keys.dedup();
+        assert_eq!(keys.len(), Limit::ALL.len());
+        assert!(Limit::ALL.iter().all(|l| l.value(&d) > 0));
+    }
+}

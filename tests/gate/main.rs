@@ -1,0 +1,9 @@
+//! The gate end to end: suite errors, goldens, the CLI, the demo and planted suites, report formats, and the house rules (tidy). One test crate for the whole concern.
+
+mod cli;
+mod demo;
+mod golden;
+mod planted;
+mod report_formats;
+mod suite_errors;
+mod tidy;

@@ -1,0 +1,7 @@
+//! The reference models against outside sources: mpmath tables, Mitsuba 3 tables, mathematical identities, handbook facts.
+
+mod common;
+mod handbook;
+mod identities;
+mod mitsuba;
+mod mpmath;
