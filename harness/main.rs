@@ -8,8 +8,8 @@ use std::path::{Path, PathBuf};
 use std::process::ExitCode;
 
 use clap::{Parser, Subcommand, ValueEnum};
-use shadegate::eval::{bits_to_f64, f64_to_bits, Arithmetic, Program};
-use shadegate::gate::{self, RunResult};
+use shadegate::eval::{Arithmetic, Program};
+use shadegate::gate::{self, table, RunResult};
 use shadegate::suite::{self, Suite};
 use shadegate::wgsl::Shader;
 use shadegate::{reference, report};
@@ -235,7 +235,7 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
             spec_bounds,
             output,
         } => {
-            let ov = parse_overrides(&overrides)?;
+            let ov = table::parse_overrides(&overrides).map_err(Bad)?;
             let arith =
                 spec_bounds.map_or(Arithmetic::Exact, |seed| Arithmetic::SpecBounds { seed });
             let (csv, issues) = eval_csv(
@@ -316,27 +316,9 @@ fn run_gpu(
     adapter: Option<&str>,
     progress: &report::Progress,
 ) -> Result<RunResult, Bad> {
-    use shadegate::gpu::Gpu;
-    let device = Gpu::new(adapter).map_err(|e| Bad(format!("--gpu: {e}")))?;
-    let label = device.adapter().to_string();
-    eprintln!("device: {label}");
-    let backend = |ev: &gate::Evaluated| -> Result<(Vec<Vec<u32>>, String), String> {
-        let shader = Shader::load(ev.program.path()).map_err(|d| d.rendered)?;
-        let kernel = device
-            .prepare(&shader, ev.program.function(), &BTreeMap::new())
-            .map_err(|e| e.to_string())?;
-        let refs: Vec<&[u32]> = ev.input_columns.iter().map(|c| &c[..]).collect();
-        let cols = kernel.eval(&refs).map_err(|e| e.to_string())?;
-        Ok((cols, label.clone()))
-    };
-    let backend = std::sync::Mutex::new(backend);
-    let call = |ev: &gate::Evaluated| (backend.lock().expect("device"))(ev);
-    Ok(gate::run_on(
-        s,
-        filter,
-        |i, n, name| progress.step(i, n, name),
-        Some(&call),
-    ))
+    let device = shadegate::gpu::Gpu::new(adapter).map_err(|e| Bad(format!("--gpu: {e}")))?;
+    eprintln!("device: {}", device.adapter());
+    Ok(device.run_suite(s, filter, |i, n, name| progress.step(i, n, name)))
 }
 
 #[cfg(not(feature = "gpu"))]
@@ -347,32 +329,6 @@ fn run_gpu(
     _: &report::Progress,
 ) -> Result<RunResult, Bad> {
     Err(Bad("--gpu needs a build with the GPU back end: cargo run --release --features gpu -- run --gpu".into()))
-}
-
-fn parse_overrides(list: &[String]) -> Result<BTreeMap<String, f64>, Bad> {
-    let mut m = BTreeMap::new();
-    for o in list {
-        let (k, v) = o
-            .split_once('=')
-            .ok_or_else(|| Bad(format!("--override `{o}`: expected name=value")))?;
-        let v: f64 = v
-            .trim()
-            .parse()
-            .map_err(|_| Bad(format!("--override `{o}`: `{v}` is not a number")))?;
-        m.insert(k.trim().to_string(), v);
-    }
-    Ok(m)
-}
-
-/// Parse a value for a leaf: numbers, `true`/`false`.
-fn parse_num(s: &str, what: &str) -> Result<f64, Bad> {
-    match s.trim() {
-        "true" => Ok(1.0),
-        "false" => Ok(0.0),
-        t => t
-            .parse::<f64>()
-            .map_err(|_| Bad(format!("{what}: `{t}` is not a number"))),
-    }
 }
 
 #[allow(clippy::too_many_arguments)]
@@ -395,8 +351,7 @@ fn eval_csv(
                 .into(),
         ));
     }
-    let issue_count;
-    let (leaves, cols, program) = if let Some(name) = check {
+    let (mut leaves, mut cols, program, issues) = if let Some(name) = check {
         let s = load_suite(suite_path)?;
         let c = s.checks.iter().find(|c| c.name == name).ok_or_else(|| {
             Bad(format!(
@@ -409,139 +364,29 @@ fn eval_csv(
         c.overrides.extend(overrides.clone());
         c.arithmetic = arith;
         let ev = gate::evaluate(&s, &c, Some(shader)).map_err(Bad)?;
-        print_issues(&ev.issues);
-        issue_count = ev.issues.len();
-        let mut out = ev.output_columns;
-        let leaves = ev.inputs;
-        let mut all = ev.input_columns;
-        all.append(&mut out);
-        (leaves, all, ev.program)
+        let mut cols = ev.input_columns;
+        cols.extend(ev.output_columns);
+        (ev.inputs, cols, ev.program, ev.issues)
     } else {
         let sh = Shader::load(shader).map_err(|d| Bad(d.rendered))?;
         let program =
             Program::compile_with(&sh, function, overrides, arith).map_err(|d| Bad(d.rendered))?;
         let leaves = program.input_leaves();
-        let mut cols: Vec<Vec<u32>> = vec![Vec::new(); leaves.len()];
-        if let Some(path) = input {
-            read_input_csv(path, &leaves, &mut cols)?;
-        } else {
-            for (pi, p) in points.iter().enumerate() {
-                let mut given: BTreeMap<String, Vec<f64>> = BTreeMap::new();
-                for part in p.split(',') {
-                    let (k, v) = part
-                        .split_once('=')
-                        .ok_or_else(|| Bad(format!("--point `{p}`: expected name=value,...")))?;
-                    let vals = v
-                        .split(';')
-                        .map(|x| parse_num(x, &format!("--point {}", pi + 1)))
-                        .collect::<Result<Vec<_>, _>>()?;
-                    given.insert(k.trim().to_string(), vals);
-                }
-                let mut used = 0;
-                for (name, ty) in program.params() {
-                    let vals = given.get(name).ok_or_else(|| {
-                        Bad(format!(
-                            "--point {}: missing argument `{name}` ({ty})",
-                            pi + 1
-                        ))
-                    })?;
-                    if vals.len() != ty.leaf_count() {
-                        return Err(Bad(format!("--point {}: `{name}` is {ty} and needs {} value(s) separated by `;`, got {}", pi + 1, ty.leaf_count(), vals.len())));
-                    }
-                    for (k, v) in ty.leaves().into_iter().zip(vals) {
-                        cols[used].push(f64_to_bits(k, *v));
-                        used += 1;
-                    }
-                }
-                if let Some(extra) = given
-                    .keys()
-                    .find(|k| !program.params().iter().any(|(n, _)| n == *k))
-                {
-                    return Err(Bad(format!(
-                        "--point {}: `{function}` has no argument `{extra}`",
-                        pi + 1
-                    )));
-                }
-            }
-        }
+        let mut cols = match input {
+            Some(path) => table::read_csv(path, &leaves).map_err(Bad)?,
+            None => table::columns_of_points(&program, points).map_err(Bad)?,
+        };
         let refs: Vec<&[u32]> = cols.iter().map(|c| &c[..]).collect();
         let mut out = Vec::new();
         let issues = program.try_eval(&refs, &mut out).map_err(Bad)?;
-        print_issues(&issues);
-        issue_count = issues.len();
         cols.append(&mut out);
-        (leaves, cols, program)
+        (leaves, cols, program, issues)
     };
-    let names: Vec<(String, shadegate::eval::ScalarKind)> =
-        leaves.into_iter().chain(program.output_leaves()).collect();
-    let mut w = csv::Writer::from_writer(Vec::new());
-    w.write_record(names.iter().map(|(n, _)| n.as_str()))
-        .map_err(|e| Bad(e.to_string()))?;
-    let n = cols.first().map_or(0, |c| c.len());
-    for i in 0..n {
-        let row: Vec<String> = names
-            .iter()
-            .zip(&cols)
-            .map(|((_, k), c)| {
-                let v = bits_to_f64(*k, c[i]);
-                if k.is_float() {
-                    // Shortest text that reads back to the same f32/f16.
-                    format!("{:?}", v as f32)
-                } else {
-                    format!("{v}")
-                }
-            })
-            .collect();
-        w.write_record(&row).map_err(|e| Bad(e.to_string()))?;
-    }
-    let bytes = w.into_inner().map_err(|e| Bad(e.to_string()))?;
-    Ok((String::from_utf8_lossy(&bytes).into_owned(), issue_count))
-}
-
-fn read_input_csv(
-    path: &Path,
-    leaves: &[(String, shadegate::eval::ScalarKind)],
-    cols: &mut [Vec<u32>],
-) -> Result<(), Bad> {
-    let mut r =
-        csv::Reader::from_path(path).map_err(|e| Bad(format!("{}: {e}", path.display())))?;
-    let headers = r
-        .headers()
-        .map_err(|e| Bad(format!("{}:1: {e}", path.display())))?
-        .clone();
-    let mut index = Vec::new();
-    for (name, _) in leaves {
-        let i = headers
-            .iter()
-            .position(|h| h.trim() == name)
-            .ok_or_else(|| {
-                Bad(format!(
-                    "{}:1: no column `{name}` (the function's inputs are: {})",
-                    path.display(),
-                    leaves
-                        .iter()
-                        .map(|l| l.0.as_str())
-                        .collect::<Vec<_>>()
-                        .join(", ")
-                ))
-            })?;
-        index.push(i);
-    }
-    for (row, rec) in r.records().enumerate() {
-        let line = row + 2;
-        let rec = rec.map_err(|e| Bad(format!("{}:{line}: {e}", path.display())))?;
-        for (j, (&i, (name, k))) in index.iter().zip(leaves).enumerate() {
-            let s = rec.get(i).ok_or_else(|| {
-                Bad(format!(
-                    "{}:{line}: missing value for `{name}`",
-                    path.display()
-                ))
-            })?;
-            let v = parse_num(s, &format!("{}:{line}: column `{name}`", path.display()))?;
-            cols[j].push(f64_to_bits(*k, v));
-        }
-    }
-    Ok(())
+    print_issues(&issues);
+    leaves.extend(program.output_leaves());
+    let csv = table::write_csv(&leaves, &cols).map_err(Bad)?;
+    cols.clear();
+    Ok((csv, issues.len()))
 }
 
 fn print_issues(issues: &[shadegate::eval::LaneIssue]) {

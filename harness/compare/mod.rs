@@ -8,6 +8,8 @@
 //! of a check is 1 / (worst badness): a headroom above 100 flags a stale
 //! tolerance that would hide a regression.
 
+pub mod ulp;
+
 use serde::Serialize;
 
 /// What to do with points where the expected value is NaN or infinite.
@@ -89,6 +91,15 @@ pub struct PointReport {
     pub abs: f64,
     pub rel: f64,
     pub ulp: f64,
+    /// The expected value of that component is near zero (|x| ≤ 2⁻²³, the
+    /// spacing of f32 at 1), where a relative error means nothing: reports
+    /// show the absolute error there and say so.
+    pub near_zero: bool,
+}
+
+/// Whether an expected value is near zero (see [`PointReport::near_zero`]).
+pub fn near_zero(want: f64) -> bool {
+    want.abs() <= f64::from(f32::EPSILON)
 }
 
 /// Statistics of one comparison (against the reference or a golden).
@@ -168,6 +179,7 @@ pub fn compare(
         abs,
         rel,
         ulp,
+        near_zero: near_zero(want[component][i]),
     };
     for i in 0..n {
         let p = assess(got, want, i, tol, half);
@@ -201,7 +213,16 @@ pub fn compare(
                     .push(report(i, point_comp, point_err.0, point_err.1, point_err.2));
             }
         }
-        if point_bad > s.worst_badness || (s.worst.is_none() && point_bad > 0.0) {
+        // Ties (every failing point infinitely over a zero tolerance, say)
+        // go to the larger error, so the worst point is the worst.
+        let worse = match &s.worst {
+            None => point_bad > 0.0,
+            Some(w) => {
+                point_bad > s.worst_badness
+                    || (point_bad == s.worst_badness && (point_err.2, point_err.0) > (w.ulp, w.abs))
+            }
+        };
+        if worse {
             s.worst_badness = point_bad;
             s.worst = Some(report(i, point_comp, point_err.0, point_err.1, point_err.2));
         }
@@ -332,7 +353,8 @@ pub fn changed_bits(a: &[Vec<u32>], b: &[Vec<u32>]) -> usize {
         .count()
 }
 
-/// Known constant factors a wrong formula tends to introduce.
+/// Known constant factors a wrong formula tends to introduce, with what
+/// each usually means (`got / want`).
 const FACTORS: &[(f64, &str)] = &[
     (std::f64::consts::PI, "π (a missing 1/π?)"),
     (1.0 / std::f64::consts::PI, "1/π (an extra 1/π?)"),
@@ -340,39 +362,86 @@ const FACTORS: &[(f64, &str)] = &[
     (0.5, "1/2"),
     (4.0, "4 (the 1/(4 n·l n·v) denominator?)"),
     (0.25, "1/4 (the 1/(4 n·l n·v) denominator applied twice?)"),
+    (
+        std::f64::consts::PI / 3.14,
+        "π/3.14 (dividing by 3.14 instead of π?)",
+    ),
+    (3.14 / std::f64::consts::PI, "3.14/π (3.14 written for π?)"),
+    (
+        std::f64::consts::PI / (22.0 / 7.0),
+        "π/(22/7) (dividing by 22/7 instead of π?)",
+    ),
+    (
+        (22.0 / 7.0) / std::f64::consts::PI,
+        "(22/7)/π (22/7 written for π?)",
+    ),
 ];
 
-/// If `got / want` is the same constant on every failing point, name it.
-pub fn constant_factor(got: &[Vec<f64>], want: &[Vec<f64>], failing: &[usize]) -> Option<String> {
+/// A factor between results and expected values (see [`constant_factor`]).
+#[derive(Clone, Debug, PartialEq)]
+pub struct Factor {
+    /// The ratio result / expected, the same on every point it explains.
+    pub factor: f64,
+    /// A known factor it matches.
+    pub named: Option<&'static str>,
+    /// Failing points it explains (those with an expected value far enough
+    /// from zero for a ratio to mean something).
+    pub points: usize,
+}
+
+/// If `got / want` is one constant on every failing point, name it.
+///
+/// The ratio must be constant: its spread over the points (at least three
+/// distinct expected values, each at least 1e-6 of the largest expected
+/// magnitude, so near-zero values cannot fake a factor) must be under 1e-3
+/// of the ratio, and, for a ratio near 1, under a tenth of its distance from
+/// 1 (rounding noise moves the ratio as much as it moves it away from 1; a
+/// real factor such as π/3.14 = 1.000507 moves every point the same way).
+pub fn constant_factor(got: &[Vec<f64>], want: &[Vec<f64>], failing: &[usize]) -> Option<Factor> {
+    let scale = failing
+        .iter()
+        .flat_map(|&i| want.iter().map(move |c| c[i].abs()))
+        .filter(|w| w.is_finite())
+        .fold(0.0, f64::max);
     let mut lo = f64::INFINITY;
     let mut hi = f64::NEG_INFINITY;
-    let mut count = 0;
+    let mut distinct: Vec<f64> = Vec::new();
+    let mut points = 0;
     for &i in failing {
+        let mut used = false;
         for c in 0..got.len() {
             let (g, w) = (got[c][i], want[c][i]);
-            if w.abs() > 1e-12 && g.is_finite() {
+            if !g.is_finite() || !w.is_finite() {
+                return None; // not a factor: a non-finite result
+            }
+            if w.abs() > 1e-6 * scale && w != 0.0 {
                 let r = g / w;
                 lo = lo.min(r);
                 hi = hi.max(r);
-                count += 1;
+                used = true;
+                if distinct.len() < 3 && !distinct.contains(&w) {
+                    distinct.push(w);
+                }
             }
         }
+        points += usize::from(used);
     }
-    if count < 3 || lo <= 0.0 || lo.is_nan() || (hi - lo) / lo.abs() > 1e-3 {
+    if distinct.len() < 3 || lo <= 0.0 || (hi - lo) > 1e-3 * lo {
         return None;
     }
     let r = (lo + hi) / 2.0;
-    if (r - 1.0).abs() < 1e-3 {
-        return None; // rounding noise, not a factor
+    if (hi - lo) > 0.1 * (r - 1.0).abs() {
+        return None; // rounding noise around 1, not a factor
     }
-    let name = FACTORS
+    let named = FACTORS
         .iter()
-        .find(|(f, _)| ((r - f) / f).abs() < 2e-3)
-        .map(|(_, n)| format!(" = {n}"))
-        .unwrap_or_default();
-    Some(format!(
-        "every failing result is the expected value times {r:.6}{name}"
-    ))
+        .find(|(f, _)| ((r - f) / f).abs() < 1e-3 * (f - 1.0).abs().max(1e-2))
+        .map(|(_, n)| *n);
+    Some(Factor {
+        factor: r,
+        named,
+        points,
+    })
 }
 
 #[cfg(test)]
@@ -446,7 +515,8 @@ mod tests {
         let want = vec![vec![1.0, 2.0, 3.0, 4.0]];
         let got = vec![want[0].iter().map(|x| x * std::f64::consts::PI).collect()];
         let f = constant_factor(&got, &want, &[0, 1, 2, 3]).unwrap();
-        assert!(f.contains("π (a missing 1/π?)"), "{f}");
+        assert_eq!(f.named, Some("π (a missing 1/π?)"));
+        assert_eq!(f.points, 4);
         assert!(
             constant_factor(&[vec![1.0, 4.0, 9.0]], &[vec![1.0, 2.0, 3.0]], &[0, 1, 2]).is_none()
         );

@@ -49,9 +49,111 @@ pub struct CheckResult {
     pub error: Option<String>,
     pub comparisons: Vec<Comparison>,
     pub issues: Vec<IssueGroup>,
-    /// Plain-language explanations of where and why the numbers moved.
-    pub findings: Vec<String>,
+    /// What explains the numbers, most explaining first (see [`Finding`]).
+    pub findings: Vec<Finding>,
     pub seconds: f64,
+}
+
+/// One explanation of a check's numbers, with its evidence. Renderers turn
+/// it into words; tests assert on it.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct Finding {
+    /// The comparison it explains (`reference ggx_ndf`, `golden goldens/x.csv`);
+    /// empty when it concerns the check as a whole.
+    pub against: String,
+    /// Share of that comparison's failing points the finding explains, in
+    /// [0, 1]; `None` for context that explains no failure (which back end
+    /// ran, the shader changed since a golden was recorded).
+    pub explains: Option<f64>,
+    #[serde(flatten)]
+    pub kind: FindingKind,
+}
+
+/// What a finding says. Each variant carries its evidence.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+#[serde(tag = "kind", rename_all = "snake_case")]
+pub enum FindingKind {
+    /// The results come from another back end (a WebGPU device).
+    EvaluatedOn { backend: String },
+    /// That back end against the CPU evaluator, for one output leaf.
+    BackendAgreement {
+        leaf: String,
+        points: usize,
+        /// Points bit-identical, and at most 2 ULP apart.
+        exact: usize,
+        within_2: usize,
+        /// Largest distance in ULP; `None`: a NaN against a number.
+        worst_ulp: Option<u64>,
+        /// The sweep parameters of the (first) worst point, when any differs.
+        worst_at: Option<String>,
+    },
+    /// The shader file changed since the golden was recorded.
+    ShaderChanged { recorded: String, current: String },
+    /// Results are NaN or infinite where the expected value is finite.
+    NonFinite {
+        points: usize,
+        /// `file:line:col` of the operation that first produced one, when the
+        /// evaluator traced it.
+        site: Option<String>,
+    },
+    /// Every explained result is the expected value times `factor` (the same
+    /// on every point, within rounding).
+    ConstantFactor {
+        factor: f64,
+        /// What such a factor usually is (`π (a missing 1/π?)`).
+        named: Option<String>,
+    },
+    /// The failing points (or, when they are everywhere, the points with the
+    /// largest errors) lie in a narrower range of one sweep parameter.
+    Confined {
+        which: Confined,
+        parameter: String,
+        lo: f64,
+        hi: f64,
+        swept_lo: f64,
+        swept_hi: f64,
+    },
+    /// With `parameter` replaced by `replaced_by` in the reference's
+    /// arguments, the points pass: the shader remaps it differently.
+    Remap {
+        parameter: String,
+        replaced_by: String,
+        meaning: Remap,
+        /// Share of (sampled) points that pass under the replacement.
+        passing: f64,
+    },
+}
+
+/// Which points a [`FindingKind::Confined`] finding describes.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Confined {
+    /// Every failing point.
+    Failures,
+    /// The top 1 % of failures by how far over the tolerance they are.
+    LargestErrors,
+}
+
+/// The remap a [`FindingKind::Remap`] finding suggests.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Remap {
+    /// The shader uses p where the reference has p² (one squaring skipped).
+    SquaringSkipped,
+    /// The shader squares p once more than the reference (applied twice).
+    SquaredTwice,
+}
+
+impl Finding {
+    /// Order findings: context first, then the most explaining.
+    pub fn rank(findings: &mut [Finding]) {
+        findings.sort_by(|a, b| match (a.explains, b.explains) {
+            (None, None) => std::cmp::Ordering::Equal,
+            (None, Some(_)) => std::cmp::Ordering::Less,
+            (Some(_), None) => std::cmp::Ordering::Greater,
+            (Some(x), Some(y)) => y.total_cmp(&x),
+        });
+    }
 }
 
 /// A whole run.

@@ -295,6 +295,90 @@ pub fn parse(path: &Path, text: &str) -> Result<Golden, Diagnostic> {
     })
 }
 
+/// What a golden must have been recorded from, for [`check_identity`].
+pub struct Identity<'a> {
+    pub check: &'a str,
+    pub shader: &'a str,
+    pub function: &'a str,
+    pub sweep: &'a str,
+    pub points: usize,
+    pub inputs: &'a [(String, ScalarKind)],
+    pub outputs: &'a [(String, ScalarKind)],
+    pub input_columns: &'a [Vec<u32>],
+}
+
+/// Check that a golden read from `path` was recorded from `want`: its
+/// check, shader, function, sweep, point count, columns and input values.
+/// A mismatch names the golden's line and the command that re-records it.
+/// (A changed shader hash is not an error: it is what a golden compares.)
+pub fn check_identity(path: &Path, g: &Golden, want: &Identity) -> Result<(), Diagnostic> {
+    let h = &g.header;
+    let text = || std::fs::read_to_string(path).unwrap_or_default();
+    let rerecord = format!("re-record with `shadegate record {}`", want.check);
+    let mismatch = |line: u32, what: &str, found: &str, expected: &str| {
+        Err(Diagnostic::at_location(
+            path,
+            &text(),
+            line,
+            1,
+            1,
+            format!("golden {what} is `{found}` but the check has `{expected}`; {rerecord}"),
+        ))
+    };
+    if h.check != want.check {
+        return mismatch(2, "check", &h.check, want.check);
+    }
+    if h.shader != want.shader {
+        return mismatch(3, "shader", &h.shader, want.shader);
+    }
+    if h.function != want.function {
+        return mismatch(4, "function", &h.function, want.function);
+    }
+    if h.sweep != want.sweep {
+        return mismatch(6, "sweep", &h.sweep, want.sweep);
+    }
+    let rows = g.output_columns.first().map_or(h.points, Vec::len);
+    if h.points != want.points || rows != want.points {
+        return mismatch(
+            7,
+            "point count",
+            &format!("{} ({rows} rows)", h.points),
+            &want.points.to_string(),
+        );
+    }
+    if g.inputs != want.inputs || g.outputs != want.outputs {
+        let cols = |v: &[(String, ScalarKind)]| {
+            v.iter()
+                .map(|(n, k)| format!("{n}:{}", k.wgsl()))
+                .collect::<Vec<_>>()
+                .join(",")
+        };
+        return mismatch(
+            8,
+            "column list",
+            &cols(&[g.inputs.clone(), g.outputs.clone()].concat()),
+            &cols(&[want.inputs.to_vec(), want.outputs.to_vec()].concat()),
+        );
+    }
+    let differs = |i: usize| {
+        g.input_columns
+            .iter()
+            .zip(want.input_columns)
+            .any(|(a, b)| a.get(i) != b.get(i))
+    };
+    if let Some(i) = (0..want.points).find(|&i| differs(i)) {
+        return Err(Diagnostic::at_location(
+            path,
+            &text(),
+            (9 + i) as u32,
+            1,
+            1,
+            format!("the golden's inputs differ from the check's at point {i} (the argument expressions changed?); {rerecord}"),
+        ));
+    }
+    Ok(())
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -26,7 +26,6 @@
 //! of subnormals: "Floating Point Evaluation"); compare floats with
 //! [`ulp_summary`] and a bound per check, integers and bits exactly.
 
-pub mod ulp;
 pub mod wrap;
 
 use std::collections::BTreeMap;
@@ -36,7 +35,7 @@ use std::time::{Duration, Instant};
 use crate::eval::{ScalarKind, Ty};
 use crate::wgsl::Shader;
 
-pub use ulp::{describe_point, format_table, leaf_distance, ulp_summary, LeafUlp};
+pub use crate::compare::ulp::{describe_point, format_table, leaf_distance, ulp_summary, LeafUlp};
 pub use wrap::{wrap, Wrapped, WORKGROUP_SIZE};
 
 /// Environment variable that turns "no adapter" from a skip into a failure.
@@ -473,6 +472,47 @@ impl Gpu {
         inputs: &[&[u32]],
     ) -> Result<Vec<Vec<u32>>, GpuError> {
         self.prepare(shader, function, overrides)?.eval(inputs)
+    }
+
+    /// Compile a check's function from its [`crate::gate::Build`]: the
+    /// check's overrides reach the pipeline; a number model other than exact
+    /// arithmetic is refused (the device has only its own).
+    pub fn prepare_build(&self, build: &crate::gate::Build) -> Result<Kernel<'_>, String> {
+        if build.arithmetic != crate::eval::Arithmetic::Exact {
+            return Err(format!(
+                "`{}` in {}: the device evaluates with its own arithmetic; a check with a different number model ({:?}) runs only on the CPU evaluator",
+                build.function,
+                build.shader.path.display(),
+                build.arithmetic
+            ));
+        }
+        self.prepare(&build.shader, &build.function, &build.overrides)
+            .map_err(|e| e.to_string())
+    }
+
+    /// Run the checks of `suite` whose name contains `filter` with this
+    /// device as the back end (see [`crate::gate::run_on`]).
+    pub fn run_suite(
+        &self,
+        suite: &crate::suite::Suite,
+        filter: Option<&str>,
+        progress: impl FnMut(usize, usize, &str),
+    ) -> crate::gate::RunResult {
+        let label = self.adapter().to_string();
+        let device = Mutex::new(self);
+        let call = |build: &crate::gate::Build,
+                    inputs: &[&[u32]]|
+         -> Result<(Vec<Vec<u32>>, String), String> {
+            let gpu = device
+                .lock()
+                .map_err(|_| "the device lock is poisoned".to_string())?;
+            let cols = gpu
+                .prepare_build(build)?
+                .eval(inputs)
+                .map_err(|e| e.to_string())?;
+            Ok((cols, label.clone()))
+        };
+        crate::gate::run_on(suite, filter, progress, Some(&call))
     }
 
     fn take_uncaptured(&self) -> Option<String> {

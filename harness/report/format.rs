@@ -2,6 +2,8 @@
 //! failure text and the ledger say the same thing the same way.
 
 use crate::compare::{NanPolicy, PointReport, Stats, Tolerance};
+use crate::gate::{Confined, Finding, FindingKind, Remap};
+use crate::sweep::fmt_num;
 
 /// An error or statistic: up to 3 significant digits, exponent form far from 1,
 /// `NaN` / `inf` / `-inf` for non-finite values.
@@ -130,9 +132,17 @@ pub fn tolerance(t: &Tolerance) -> String {
 pub fn headroom(s: &Stats) -> String {
     if s.headroom.is_infinite() {
         "∞".into()
+    } else if exact_bound_exceeded(s) {
+        "none (exact tolerance)".into()
     } else {
         format!("{}×", num(s.headroom))
     }
+}
+
+/// A finite error against a zero (exact) bound: no headroom factor exists,
+/// yet nothing is unboundedly wrong.
+fn exact_bound_exceeded(s: &Stats) -> bool {
+    s.headroom == 0.0 && s.nonfinite == 0 && s.max_ulp > 0.0 && s.max_ulp.is_finite()
 }
 
 /// What the headroom means, in words.
@@ -148,6 +158,11 @@ pub fn headroom_words(s: &Stats) -> String {
         )
     } else if s.nonfinite > 0 {
         "results are NaN or infinite where finite values are expected".into()
+    } else if exact_bound_exceeded(s) {
+        format!(
+            "the tolerance is exact and the worst point is {} ULP off",
+            num(s.max_ulp)
+        )
     } else {
         "a point is unboundedly wrong (a non-finite value where another is expected, \
          or an error against a zero bound)"
@@ -217,15 +232,107 @@ pub fn point(p: &PointReport) -> String {
     } else {
         String::new()
     };
+    let rel = if p.near_zero {
+        "rel not shown (expected value near zero: see abs)".to_string()
+    } else {
+        format!("rel {}", num(p.rel))
+    };
     format!(
-        "#{}{params}: got {} want {}{component} · abs {} · rel {} · {} ULP",
+        "#{}{params}: got {} want {}{component} · abs {} · {rel} · {} ULP",
         p.index,
         values(&p.got),
         values(&p.want),
         num(p.abs),
-        num(p.rel),
         num(p.ulp)
     )
+}
+
+/// A finding in words: what it says and how much of the failure it explains.
+pub fn finding(f: &Finding) -> String {
+    let text = match &f.kind {
+        FindingKind::EvaluatedOn { backend } => format!("evaluated on {backend}"),
+        FindingKind::BackendAgreement {
+            leaf,
+            points,
+            exact,
+            within_2,
+            worst_ulp,
+            worst_at,
+        } => {
+            let share = |x: usize| 100.0 * x as f64 / (*points).max(1) as f64;
+            let worst = match (worst_ulp, worst_at) {
+                (_, None) => "every point bit-identical".to_string(),
+                (None, Some(at)) => format!("worst NaN against a number at {at}"),
+                (Some(w), Some(at)) => format!("worst {w} ULP at {at}"),
+            };
+            format!(
+                "device vs CPU evaluator, {leaf}: {:.1} % bit-identical, {:.1} % within 2 ULP, {worst}",
+                share(*exact),
+                share(*within_2)
+            )
+        }
+        FindingKind::ShaderChanged { recorded, current } => format!(
+            "the shader changed since the golden was recorded (hash {recorded} → {current})"
+        ),
+        FindingKind::NonFinite { points, site } => format!(
+            "{} point(s) give NaN or infinity where the expected value is finite{}",
+            count(*points),
+            site.as_ref()
+                .map(|s| format!(" (first produced at {s})"))
+                .unwrap_or_default()
+        ),
+        FindingKind::ConstantFactor { factor, named } => format!(
+            "every failing result is the expected value times {factor:.6}{}",
+            named.as_ref().map(|n| format!(" = {n}")).unwrap_or_default()
+        ),
+        FindingKind::Confined {
+            which,
+            parameter,
+            lo,
+            hi,
+            swept_lo,
+            swept_hi,
+        } => format!(
+            "{} have {parameter} in [{}, {}] (swept [{}, {}])",
+            match which {
+                Confined::Failures => "all failing points",
+                Confined::LargestErrors => "the largest errors (top 1 % of failures)",
+            },
+            fmt_num(*lo),
+            fmt_num(*hi),
+            fmt_num(*swept_lo),
+            fmt_num(*swept_hi)
+        ),
+        FindingKind::Remap {
+            parameter,
+            replaced_by,
+            meaning,
+            passing,
+        } => format!(
+            "with `{parameter}` replaced by `{replaced_by}` in the reference arguments, {:.1} % of points pass: {}",
+            100.0 * passing,
+            match meaning {
+                Remap::SquaringSkipped => format!(
+                    "the shader seems to skip one squaring of `{parameter}` (e.g. alpha = {parameter} instead of {parameter}²)"
+                ),
+                Remap::SquaredTwice => format!(
+                    "the shader seems to square `{parameter}` once more than the reference (a remap applied twice?)"
+                ),
+            }
+        ),
+    };
+    let against = if f.against.is_empty() {
+        String::new()
+    } else {
+        format!("against the {}: ", f.against)
+    };
+    match f.explains {
+        Some(x) if x < 1.0 => format!(
+            "{against}{text} [explains {:.1} % of failing points]",
+            100.0 * x
+        ),
+        _ => format!("{against}{text}"),
+    }
 }
 
 #[cfg(test)]

@@ -14,7 +14,7 @@ use serde::ser::{SerializeSeq, Serializer};
 use serde::Serialize;
 
 use crate::compare::{NanPolicy, PointReport, Stats, Tolerance};
-use crate::gate::{CheckResult, Comparison, IssueGroup, RunResult, Verdict};
+use crate::gate::{CheckResult, Comparison, Finding, IssueGroup, RunResult, Verdict};
 
 /// The value of the top-level `format` field.
 pub const FORMAT: &str = "shadegate-run";
@@ -123,7 +123,7 @@ struct Check<'a> {
     comparisons: Vec<Compared<'a>>,
     // IssueGroup holds no float: its derived form is already exact.
     issues: &'a [IssueGroup],
-    findings: &'a [String],
+    findings: Vec<Found<'a>>,
 }
 
 impl<'a> From<&'a CheckResult> for Check<'a> {
@@ -138,9 +138,25 @@ impl<'a> From<&'a CheckResult> for Check<'a> {
             seconds: Num(c.seconds),
             comparisons: c.comparisons.iter().map(Compared::from).collect(),
             issues: &c.issues,
-            findings: &c.findings,
+            findings: c
+                .findings
+                .iter()
+                .map(|f| Found {
+                    message: super::format::finding(f),
+                    finding: f,
+                })
+                .collect(),
         }
     }
+}
+
+/// A finding: its typed evidence, and the sentence the text report shows.
+/// (Its numbers are finite by construction: factors, shares and ranges.)
+#[derive(Serialize)]
+struct Found<'a> {
+    #[serde(flatten)]
+    finding: &'a Finding,
+    message: String,
 }
 
 #[derive(Serialize)]
@@ -237,6 +253,7 @@ struct Point<'a> {
     abs: Num,
     rel: Num,
     ulp: Num,
+    near_zero: bool,
 }
 
 impl<'a> From<&'a PointReport> for Point<'a> {
@@ -250,6 +267,7 @@ impl<'a> From<&'a PointReport> for Point<'a> {
             abs: Num(p.abs),
             rel: Num(p.rel),
             ulp: Num(p.ulp),
+            near_zero: p.near_zero,
         }
     }
 }

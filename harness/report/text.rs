@@ -6,7 +6,7 @@ use std::fmt::Write as _;
 
 use super::format::{self, count, duration, num, point};
 use super::Style;
-use crate::gate::{CheckResult, Comparison, RunResult, Verdict};
+use crate::gate::{CheckResult, Comparison, FindingKind, RunResult, Verdict};
 
 /// Indentation of everything under a status line.
 const UNDER: &str = "       ";
@@ -155,12 +155,12 @@ fn body(out: &mut String, c: &CheckResult, st: Style) {
     if !c.findings.is_empty() {
         if c.verdict == Verdict::Pass {
             for f in &c.findings {
-                let _ = writeln!(out, "{UNDER}{} {f}", st.warn("note:"));
+                let _ = writeln!(out, "{UNDER}{} {}", st.warn("note:"), format::finding(f));
             }
         } else {
             let _ = writeln!(out, "{UNDER}what the numbers say:");
             for f in &c.findings {
-                let _ = writeln!(out, "{UNDER}  - {f}");
+                let _ = writeln!(out, "{UNDER}  - {}", format::finding(f));
             }
         }
     }
@@ -274,7 +274,31 @@ fn terminal_safe(run: &RunResult) -> RunResult {
         if let Some(e) = &mut c.error {
             clean(e);
         }
-        c.findings.iter_mut().for_each(clean);
+        for f in &mut c.findings {
+            clean(&mut f.against);
+            match &mut f.kind {
+                FindingKind::EvaluatedOn { backend: s }
+                | FindingKind::ShaderChanged { recorded: s, .. }
+                | FindingKind::Confined { parameter: s, .. } => clean(s),
+                FindingKind::BackendAgreement { leaf, worst_at, .. } => {
+                    clean(leaf);
+                    worst_at.iter_mut().for_each(clean);
+                }
+                FindingKind::NonFinite { site, .. } => site.iter_mut().for_each(clean),
+                FindingKind::ConstantFactor { named, .. } => named.iter_mut().for_each(clean),
+                FindingKind::Remap {
+                    parameter,
+                    replaced_by,
+                    ..
+                } => {
+                    clean(parameter);
+                    clean(replaced_by);
+                }
+            }
+            if let FindingKind::ShaderChanged { current, .. } = &mut f.kind {
+                clean(current);
+            }
+        }
         for g in &mut c.issues {
             for s in [&mut g.kind, &mut g.message, &mut g.location, &mut g.example] {
                 clean(s);

@@ -5,5 +5,6 @@ mod demo;
 mod golden;
 mod planted;
 mod report_formats;
+mod runner;
 mod suite_errors;
 mod tidy;

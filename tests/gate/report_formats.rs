@@ -4,7 +4,9 @@
 //! are parsed back; the terminal report and the ledger are read as text.
 
 use shadegate::compare::{NanPolicy, PointReport, Stats, Tolerance};
-use shadegate::gate::{CheckResult, Comparison, IssueGroup, RunResult, Verdict};
+use shadegate::gate::{
+    CheckResult, Comparison, Confined, Finding, FindingKind, IssueGroup, RunResult, Verdict,
+};
 use shadegate::report;
 
 const FAILING_NAME: &str = "fresnel <grazing> & \"edge\"";
@@ -29,6 +31,7 @@ fn point(
         abs,
         rel,
         ulp,
+        near_zero: false,
     }
 }
 
@@ -169,8 +172,26 @@ fn failing() -> CheckResult {
             example: "cos_theta=1, f0=0.04 (function inputs: 1, 0.04)".into(),
         }],
         findings: vec![
-            "3 point(s) give NaN or infinity where the expected value is finite".into(),
-            "all failing points have cos_theta < 0.1 \u{1b}[bell]".into(),
+            Finding {
+                against: "reference fresnel_schlick".into(),
+                explains: Some(0.0016),
+                kind: FindingKind::NonFinite {
+                    points: 3,
+                    site: Some("shaders/patio/finish.wgsl:42:17".into()),
+                },
+            },
+            Finding {
+                against: "reference fresnel_schlick".into(),
+                explains: Some(1.0),
+                kind: FindingKind::Confined {
+                    which: Confined::Failures,
+                    parameter: "cos_theta \u{1b}[bell]".into(),
+                    lo: 0.0,
+                    hi: 0.1,
+                    swept_lo: 0.0,
+                    swept_hi: 1.0,
+                },
+            },
         ],
         seconds: 0.012,
     }
@@ -259,6 +280,10 @@ fn json_parses_back_with_the_expected_fields() {
     );
     assert_eq!(fail["issues"][0]["count"], 3);
     assert_eq!(fail["findings"].as_array().unwrap().len(), 2);
+    assert_eq!(fail["findings"][0]["kind"], "non_finite");
+    assert_eq!(fail["findings"][0]["points"], 3);
+    assert_eq!(fail["findings"][1]["kind"], "confined");
+    assert_eq!(fail["findings"][1]["which"], "failures");
 
     assert_eq!(checks[2]["error"], BROKEN_ERROR);
     assert!(checks[0]["error"].is_null());
@@ -532,7 +557,7 @@ fn text_states_the_key_facts() {
         &t,
         "first at cos_theta=1, f0=0.04 (function inputs: 1, 0.04)",
     );
-    has(&t, "- all failing points have cos_theta < 0.1");
+    has(&t, "- against the reference fresnel_schlick: all failing points have cos_theta \u{FFFD}[bell] in [0, 0.1]");
     // Erroring: the whole message, every line.
     has(
         &t,
@@ -551,7 +576,7 @@ fn text_is_coloured_only_when_asked() {
     let coloured = report::text(&run(), true);
     assert!(!plain.contains('\x1b'), "{plain}");
     // The ESC inside the fixture's finding is data: shown, never sent to the terminal.
-    has(&plain, "cos_theta < 0.1 \u{FFFD}[bell]");
+    has(&plain, "cos_theta \u{FFFD}[bell] in [0, 0.1]");
     assert!(coloured.contains("\x1b[31;1mFAIL"), "{coloured}");
     assert!(coloured.contains("\x1b[32;1mPASS"), "{coloured}");
     assert!(coloured.contains("\x1b[35;1mERROR"), "{coloured}");

@@ -1,0 +1,376 @@
+//! Explaining a comparison: typed [`Finding`]s from the comparison's
+//! statistics and columns, plus the re-evaluations an explainer asks for
+//! through [`Reevaluate`] (never by calling back into the runner).
+//!
+//! Every explainer is one entry of [`EXPLAINERS`]: a value implementing
+//! [`Explainer`]. A hypothesis search or a call-graph attribution plugs in
+//! as another entry; the runner and the renderers do not change.
+
+use std::collections::BTreeMap;
+use std::path::Path;
+
+use super::result::{Confined, Finding, FindingKind, IssueGroup, Remap};
+use crate::compare::{self, Stats, Tolerance};
+use crate::eval::{LaneIssue, ScalarKind};
+use crate::reference::Model;
+use crate::suite::Check;
+use crate::sweep::{Expr, Points};
+
+/// What an explainer sees of one comparison.
+pub struct Evidence<'a> {
+    pub check: &'a Check,
+    /// The comparison's label, copied into each finding.
+    pub against: &'a str,
+    pub stats: &'a Stats,
+    pub points: &'a Points,
+    /// Computed and expected columns, one per output component.
+    pub got: &'a [Vec<f64>],
+    pub want: &'a [Vec<f64>],
+    pub tolerance: &'a Tolerance,
+    /// f16 ULPs.
+    pub half: bool,
+    /// Indices of the failing points, in sweep order.
+    pub failing: &'a [usize],
+    /// The evaluator's per-point issues, grouped (for source sites).
+    pub issues: &'a [IssueGroup],
+    /// The reference model, when the comparison is against one.
+    pub model: Option<&'static Model>,
+}
+
+/// Re-evaluations an explainer may ask for.
+pub trait Reevaluate {
+    /// The reference model with other argument expressions, at `points`.
+    fn reference_with(
+        &self,
+        args: &BTreeMap<String, Expr>,
+        points: &Points,
+    ) -> Result<Vec<Vec<f64>>, String>;
+}
+
+/// One source of findings.
+pub trait Explainer: Sync {
+    fn explain(&self, evidence: &Evidence, reevaluate: &dyn Reevaluate) -> Vec<Finding>;
+}
+
+/// The explainers, run in this order on every failing comparison.
+pub const EXPLAINERS: &[&dyn Explainer] = &[&NonFinite, &ConstantFactor, &Locality, &RemapSearch];
+
+/// Explain a failing comparison (nothing for a passing one), ranked.
+pub fn explain(evidence: &Evidence, reevaluate: &dyn Reevaluate) -> Vec<Finding> {
+    if evidence.stats.failed == 0 {
+        return Vec::new();
+    }
+    let mut out: Vec<Finding> = EXPLAINERS
+        .iter()
+        .flat_map(|e| e.explain(evidence, reevaluate))
+        .collect();
+    // A constant factor everywhere makes "where the errors are largest"
+    // only mirror where the values are largest.
+    if out
+        .iter()
+        .any(|f| matches!(f.kind, FindingKind::ConstantFactor { .. }))
+    {
+        out.retain(|f| {
+            !matches!(
+                f.kind,
+                FindingKind::Confined {
+                    which: Confined::LargestErrors,
+                    ..
+                }
+            )
+        });
+    }
+    Finding::rank(&mut out);
+    out
+}
+
+/// Indices of the points of `got` that fail `tol` against `want`.
+pub fn failing_points(
+    got: &[Vec<f64>],
+    want: &[Vec<f64>],
+    tol: &Tolerance,
+    half: bool,
+) -> Vec<usize> {
+    let n = got.first().map_or(0, |c| c.len());
+    (0..n)
+        .filter(|&i| compare::assess(got, want, i, tol, half).fails())
+        .collect()
+}
+
+fn finding(evidence: &Evidence, explains: f64, kind: FindingKind) -> Finding {
+    Finding {
+        against: evidence.against.to_string(),
+        explains: Some(explains),
+        kind,
+    }
+}
+
+fn share(part: usize, of: usize) -> f64 {
+    part as f64 / of.max(1) as f64
+}
+
+/// NaN or infinity where a finite value is expected, with the site the
+/// evaluator traced.
+struct NonFinite;
+
+impl Explainer for NonFinite {
+    fn explain(&self, ev: &Evidence, _: &dyn Reevaluate) -> Vec<Finding> {
+        if ev.stats.nonfinite == 0 {
+            return Vec::new();
+        }
+        let site = ev
+            .issues
+            .iter()
+            .find(|g| g.kind == "non_finite")
+            .map(|g| g.location.clone());
+        vec![finding(
+            ev,
+            share(ev.stats.nonfinite, ev.stats.failed),
+            FindingKind::NonFinite {
+                points: ev.stats.nonfinite,
+                site,
+            },
+        )]
+    }
+}
+
+/// The same factor between result and expected value on every failing point.
+struct ConstantFactor;
+
+impl Explainer for ConstantFactor {
+    fn explain(&self, ev: &Evidence, _: &dyn Reevaluate) -> Vec<Finding> {
+        compare::constant_factor(ev.got, ev.want, ev.failing)
+            .map(|f| {
+                finding(
+                    ev,
+                    share(f.points, ev.stats.failed),
+                    FindingKind::ConstantFactor {
+                        factor: f.factor,
+                        named: f.named.map(str::to_string),
+                    },
+                )
+            })
+            .into_iter()
+            .collect()
+    }
+}
+
+/// Where the failing points lie; when they lie everywhere, where the worst
+/// ones lie.
+struct Locality;
+
+impl Explainer for Locality {
+    fn explain(&self, ev: &Evidence, _: &dyn Reevaluate) -> Vec<Finding> {
+        let all = confined(ev.points, ev.failing);
+        if !all.is_empty() {
+            return all
+                .into_iter()
+                .map(|k| finding(ev, 1.0, k(Confined::Failures)))
+                .collect();
+        }
+        // By how far over the tolerance a point is (not by relative error,
+        // which is meaningless where the expected value is near zero).
+        let mut by_badness: Vec<(f64, usize)> = ev
+            .failing
+            .iter()
+            .map(|&i| {
+                let b = compare::assess(ev.got, ev.want, i, ev.tolerance, ev.half).badness;
+                (b, i)
+            })
+            .collect();
+        by_badness.sort_by(|a, b| b.0.total_cmp(&a.0).then(a.1.cmp(&b.1)));
+        let top: Vec<usize> = by_badness
+            .iter()
+            .take((ev.failing.len() / 100).max(10))
+            .map(|x| x.1)
+            .collect();
+        let explained = share(top.len(), ev.stats.failed);
+        confined(ev.points, &top)
+            .into_iter()
+            .map(|k| finding(ev, explained, k(Confined::LargestErrors)))
+            .collect()
+    }
+}
+
+type ConfinedKind = Box<dyn Fn(Confined) -> FindingKind>;
+
+/// Per sweep parameter, the range of `selected` points when it is narrower
+/// than half the swept range.
+fn confined(points: &Points, selected: &[usize]) -> Vec<ConfinedKind> {
+    let mut out: Vec<ConfinedKind> = Vec::new();
+    if selected.is_empty() || selected.len() == points.len {
+        return out;
+    }
+    for (p, name) in points.names.iter().enumerate() {
+        // Directions are judged by their z component, the cosine to the normal.
+        let (col, label) = if points.widths[p] == 1 {
+            (&points.columns[p][0], name.clone())
+        } else {
+            (&points.columns[p][2], format!("{name}.z"))
+        };
+        let range = |idx: &mut dyn Iterator<Item = f64>| {
+            idx.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), x| {
+                (a.min(x), b.max(x))
+            })
+        };
+        let (swept_lo, swept_hi) = range(&mut col.iter().copied());
+        let (lo, hi) = range(&mut selected.iter().map(|&i| col[i]));
+        if swept_hi > swept_lo && (hi - lo) < 0.5 * (swept_hi - swept_lo) {
+            out.push(Box::new(move |which| FindingKind::Confined {
+                which,
+                parameter: label.clone(),
+                lo,
+                hi,
+                swept_lo,
+                swept_hi,
+            }));
+        }
+    }
+    out
+}
+
+/// "The shader uses a different remap of parameter p": with p → sqrt(p) or
+/// p → p² in the reference arguments, do (nearly) all points pass?
+struct RemapSearch;
+
+impl Explainer for RemapSearch {
+    fn explain(&self, ev: &Evidence, reevaluate: &dyn Reevaluate) -> Vec<Finding> {
+        let Some(model) = ev.model else {
+            return Vec::new();
+        };
+        let points = ev.points;
+        // Subsample for speed: at most ~20k points.
+        let stride = (points.len / 20_000).max(1);
+        let idx: Vec<usize> = (0..points.len).step_by(stride).collect();
+        let sub = Points {
+            names: points.names.clone(),
+            widths: points.widths.clone(),
+            columns: points
+                .columns
+                .iter()
+                .map(|cs| {
+                    cs.iter()
+                        .map(|c| idx.iter().map(|&i| c[i]).collect())
+                        .collect()
+                })
+                .collect(),
+            len: idx.len(),
+        };
+        let got_sub: Vec<Vec<f64>> = ev
+            .got
+            .iter()
+            .map(|c| idx.iter().map(|&i| c[i]).collect())
+            .collect();
+        let check = ev.check;
+        let used: Vec<String> = model
+            .params
+            .iter()
+            .flat_map(|p| {
+                check
+                    .reference_args
+                    .get(p.name)
+                    .map_or_else(|| vec![p.name.to_string()], |e| e.variables())
+            })
+            .collect();
+        let mut out = Vec::new();
+        for (p, name) in points.names.iter().enumerate() {
+            if points.widths[p] != 1 || !used.contains(name) {
+                continue;
+            }
+            for (with, meaning) in [
+                (format!("sqrt({name})"), Remap::SquaringSkipped),
+                (format!("{name} * {name}"), Remap::SquaredTwice),
+            ] {
+                let replacement = Expr::parse(&with).expect("hypothesis parses");
+                let mut args = BTreeMap::new();
+                for mp in model.params {
+                    let e = check
+                        .reference_args
+                        .get(mp.name)
+                        .cloned()
+                        .unwrap_or_else(|| Expr::parse(mp.name).expect("name"));
+                    args.insert(mp.name.to_string(), e.substitute(name, &replacement));
+                }
+                let Ok(want) = reevaluate.reference_with(&args, &sub) else {
+                    continue;
+                };
+                let s =
+                    compare::compare(&got_sub, &want, ev.tolerance, ev.half, &|_| String::new());
+                if s.failed as f64 <= 0.001 * sub.len as f64 {
+                    let passing = 1.0 - s.fail_share;
+                    out.push(finding(
+                        ev,
+                        passing,
+                        FindingKind::Remap {
+                            parameter: name.clone(),
+                            replaced_by: with,
+                            meaning,
+                            passing,
+                        },
+                    ));
+                }
+            }
+        }
+        out
+    }
+}
+
+/// The evaluator's per-point issues grouped by kind, message and source site.
+pub fn group_issues(issues: &[LaneIssue], shader: &Path, points: &Points) -> Vec<IssueGroup> {
+    let mut groups: Vec<IssueGroup> = Vec::new();
+    for i in issues {
+        let location = if i.line > 0 {
+            format!("{}:{}:{}", shader.display(), i.line, i.column)
+        } else {
+            shader.display().to_string()
+        };
+        let kind = serde_json::to_value(i.kind)
+            .ok()
+            .and_then(|v| v.as_str().map(str::to_string))
+            .unwrap_or_default();
+        match groups
+            .iter_mut()
+            .find(|g| g.kind == kind && g.message == i.message && g.location == location)
+        {
+            Some(g) => g.count += 1,
+            None => groups.push(IssueGroup {
+                kind,
+                message: i.message.clone(),
+                location,
+                count: 1,
+                example: format!(
+                    "{} (function inputs: {})",
+                    points.describe(i.point),
+                    i.inputs
+                ),
+            }),
+        }
+    }
+    groups
+}
+
+/// Per output leaf: how another back end's results compare with the CPU
+/// evaluator's (the one device-versus-CPU summary, from
+/// [`compare::ulp::ulp_summary`]).
+pub fn backend_agreement(
+    outputs: &[(String, ScalarKind)],
+    cpu: &[Vec<u32>],
+    backend: &[Vec<u32>],
+    points: &Points,
+) -> Vec<Finding> {
+    compare::ulp::ulp_summary(outputs, cpu, backend)
+        .into_iter()
+        .map(|leaf| Finding {
+            against: String::new(),
+            explains: None,
+            kind: FindingKind::BackendAgreement {
+                leaf: leaf.leaf,
+                points: leaf.points,
+                exact: leaf.exact,
+                within_2: leaf.within_2,
+                worst_ulp: (leaf.worst != u64::MAX).then_some(leaf.worst),
+                worst_at: leaf.worst_point.map(|i| points.describe(i)),
+            },
+        })
+        .collect()
+}

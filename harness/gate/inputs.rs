@@ -1,0 +1,309 @@
+//! Building a check's inputs: the sweep's points (rounded to f32 once), the
+//! function's argument columns, the program built from the check (the one
+//! place a check's shader, function, overrides and number model become a
+//! [`Build`] every back end receives), the CPU evaluation, and the reference
+//! model's expected columns.
+//!
+//! Sweep parameter values are rounded to f32 once, before anything else, so
+//! the function and the reference see the same parameter values; argument
+//! expressions are then evaluated in f64 (for the reference) and rounded to the
+//! argument's type (for the function).
+
+use std::collections::BTreeMap;
+use std::path::{Path, PathBuf};
+
+use rayon::prelude::*;
+
+use crate::eval::{bits_to_f64, f64_to_bits, Arithmetic, LaneIssue, Program, ScalarKind, Ty};
+use crate::reference::{Model, ParamKind};
+use crate::suite::{Check, Suite};
+use crate::sweep::{expr::BoundExpr, Expr, Points, Value};
+use crate::wgsl::Shader;
+
+/// Everything a back end needs to build a check's function: the loaded
+/// shader, the function's name, the pipeline-overridable constants and the
+/// number model. Made only by [`build_of`], so no back end can miss a part.
+pub struct Build {
+    pub shader: Shader,
+    pub function: String,
+    pub overrides: BTreeMap<String, f64>,
+    pub arithmetic: Arithmetic,
+}
+
+/// The [`Build`] of a check, with its shader file (or `shader_path` instead,
+/// for comparing two versions of a file).
+pub fn build_of(suite: &Suite, check: &Check, shader_path: Option<&Path>) -> Result<Build, String> {
+    let path: PathBuf = shader_path
+        .map(Path::to_path_buf)
+        .unwrap_or_else(|| suite.resolve(&check.shader));
+    let shader = Shader::load(&path).map_err(|d| d.rendered)?;
+    Ok(Build {
+        shader,
+        function: check.function.clone(),
+        overrides: check.overrides.clone(),
+        arithmetic: check.arithmetic,
+    })
+}
+
+impl Build {
+    /// Compile the function for the CPU evaluator.
+    pub fn program(&self) -> Result<Program, String> {
+        Program::compile_with(
+            &self.shader,
+            &self.function,
+            &self.overrides,
+            self.arithmetic,
+        )
+        .map_err(|d| d.rendered)
+    }
+}
+
+/// The function evaluated over a check's sweep.
+pub struct Evaluated {
+    pub build: Build,
+    pub points: Points,
+    pub program: Program,
+    pub shader_hash: String,
+    pub inputs: Vec<(String, ScalarKind)>,
+    pub outputs: Vec<(String, ScalarKind)>,
+    pub input_columns: Vec<Vec<u32>>,
+    pub output_columns: Vec<Vec<u32>>,
+    pub issues: Vec<LaneIssue>,
+}
+
+/// Generate the sweep with every value rounded to f32.
+pub fn points_of(check: &Check) -> Points {
+    let mut points = check.sweep.points();
+    for cols in &mut points.columns {
+        for col in cols.iter_mut() {
+            for x in col.iter_mut() {
+                *x = f64::from(*x as f32);
+            }
+        }
+    }
+    points
+}
+
+fn example(points: &Points) -> Vec<Value> {
+    points
+        .widths
+        .iter()
+        .map(|&w| {
+            if w == 1 {
+                Value::S(0.5)
+            } else {
+                Value::V([0.0, 0.6, 0.8])
+            }
+        })
+        .collect()
+}
+
+/// Bind an argument: its expression, or the sweep parameter of the same name.
+pub(crate) fn bind_arg(
+    exprs: &BTreeMap<String, Expr>,
+    name: &str,
+    points: &Points,
+    what: &str,
+) -> Result<BoundExpr, String> {
+    let e = match exprs.get(name) {
+        Some(e) => e.clone(),
+        None if points.names.iter().any(|n| n == name) => Expr::parse(name).expect("a name parses"),
+        None => {
+            return Err(format!(
+                "{what} `{name}` has no expression and no sweep parameter of that name (sweep: {})",
+                points.names.join(", ")
+            ))
+        }
+    };
+    e.bind(&points.names, &example(points))
+        .map_err(|m| format!("{what} `{name}`: {m}"))
+}
+
+/// Points per chunk when argument and reference columns are filled in parallel.
+const CHUNK: usize = 4096;
+
+/// Evaluate bound expressions at every point into f64 columns (one per
+/// component), in parallel.
+fn columns(exprs: &[BoundExpr], points: &Points) -> Result<Vec<Vec<f64>>, String> {
+    let width: usize = exprs.iter().map(|e| e.width).sum();
+    let mut cols = vec![vec![0.0; points.len]; width];
+    let mut c0 = 0;
+    for e in exprs {
+        if let Some(p) = e.var {
+            for k in 0..e.width {
+                cols[c0 + k].copy_from_slice(&points.columns[p][k]);
+            }
+        } else {
+            let mut outs: Vec<&mut [f64]> = cols[c0..c0 + e.width]
+                .iter_mut()
+                .map(|c| &mut c[..])
+                .collect();
+            let mut chunks: Vec<Vec<&mut [f64]>> = Vec::new();
+            while !outs.is_empty() && !outs[0].is_empty() {
+                let mut head = Vec::new();
+                let mut tail = Vec::new();
+                for o in outs {
+                    let n = CHUNK.min(o.len());
+                    let (h, t) = o.split_at_mut(n);
+                    head.push(h);
+                    tail.push(t);
+                }
+                chunks.push(head);
+                outs = tail;
+            }
+            chunks.into_par_iter().enumerate().try_for_each(
+                |(k, mut chunk)| -> Result<(), String> {
+                    let mut vals = vec![Value::S(0.0); points.names.len()];
+                    for j in 0..chunk[0].len() {
+                        let i = k * CHUNK + j;
+                        for (p, v) in vals.iter_mut().enumerate() {
+                            *v = points.value(p, i);
+                        }
+                        match e.eval(&vals)? {
+                            Value::S(x) => chunk[0][j] = x,
+                            Value::V(v) => {
+                                for (c, x) in v.into_iter().enumerate() {
+                                    chunk[c][j] = x;
+                                }
+                            }
+                        }
+                    }
+                    Ok(())
+                },
+            )?;
+        }
+        c0 += e.width;
+    }
+    Ok(cols)
+}
+
+/// Load the shader, compile the function and evaluate it over the sweep.
+///
+/// A function without arguments is evaluated once and its result stands
+/// for every point of the sweep: with no inputs it computes the same value
+/// at each (WGSL functions have no state that outlives a call), so the
+/// output columns have one row per point like any other check's.
+pub fn evaluate(
+    suite: &Suite,
+    check: &Check,
+    shader_path: Option<&Path>,
+) -> Result<Evaluated, String> {
+    let build = build_of(suite, check, shader_path)?;
+    let program = build.program()?;
+    let points = points_of(check);
+    let mut bound = Vec::new();
+    let mut kinds = Vec::new();
+    for (name, ty) in program.params() {
+        let b = bind_arg(&check.args, name, &points, "argument")
+            .map_err(|m| format!("check `{}`: {m}", check.name))?;
+        let leaves = ty.leaves();
+        let fits = matches!(ty, Ty::Scalar(_) | Ty::Vector(3, _)) && leaves.len() == b.width;
+        if !fits {
+            return Err(format!(
+                "check `{}`: argument `{name}` has type {ty} but its expression gives {} value(s); only scalars and vec3 can be fed from a sweep",
+                check.name, b.width
+            ));
+        }
+        kinds.extend(leaves);
+        bound.push(b);
+    }
+    let f64_cols = columns(&bound, &points)?;
+    let input_columns: Vec<Vec<u32>> = f64_cols
+        .par_iter()
+        .zip(kinds.par_iter())
+        .map(|(c, &k)| c.iter().map(|&x| f64_to_bits(k, x)).collect())
+        .collect();
+    let refs: Vec<&[u32]> = input_columns.iter().map(|c| &c[..]).collect();
+    let mut output_columns = Vec::new();
+    let mut issues = program
+        .try_eval(&refs, &mut output_columns)
+        .map_err(|m| format!("check `{}`: {m}", check.name))?;
+    if input_columns.is_empty() {
+        // One evaluation (see the doc): its result and its issues hold at
+        // every point.
+        for col in &mut output_columns {
+            let v = col.first().copied().unwrap_or(0);
+            *col = vec![v; points.len];
+        }
+        issues = (0..points.len)
+            .flat_map(|p| {
+                issues.iter().map(move |i| LaneIssue {
+                    point: p,
+                    ..i.clone()
+                })
+            })
+            .collect();
+    }
+    Ok(Evaluated {
+        shader_hash: build.shader.content_hash(),
+        inputs: program.input_leaves(),
+        outputs: program.output_leaves(),
+        build,
+        points,
+        program,
+        input_columns,
+        output_columns,
+        issues,
+    })
+}
+
+/// Evaluate the reference model of a check at every point.
+pub fn reference_columns(
+    check: &Check,
+    model: &Model,
+    points: &Points,
+    ref_args: &BTreeMap<String, Expr>,
+) -> Result<Vec<Vec<f64>>, String> {
+    let mut bound = Vec::new();
+    for p in model.params {
+        let b = bind_arg(ref_args, p.name, points, "reference parameter")
+            .map_err(|m| format!("check `{}`: {m}", check.name))?;
+        let want = match p.kind {
+            ParamKind::Scalar => 1,
+            ParamKind::Vec3 => 3,
+        };
+        if b.width != want {
+            return Err(format!(
+                "check `{}`: reference parameter `{}` of `{}` takes {want} value(s), its expression gives {}",
+                check.name, p.name, model.name, b.width
+            ));
+        }
+        bound.push(b);
+    }
+    let args = columns(&bound, points)?;
+    let n = points.len;
+    let mut out = vec![vec![0.0; n]; model.outputs];
+    let results: Vec<Vec<f64>> = (0..n.div_ceil(CHUNK))
+        .into_par_iter()
+        .map(|k| {
+            let (start, end) = (k * CHUNK, ((k + 1) * CHUNK).min(n));
+            let mut point_args = vec![0.0; args.len()];
+            let mut values = vec![0.0; model.outputs];
+            let mut flat = Vec::with_capacity((end - start) * model.outputs);
+            for i in start..end {
+                for (j, c) in args.iter().enumerate() {
+                    point_args[j] = c[i];
+                }
+                (model.eval)(&point_args, &mut values);
+                flat.extend_from_slice(&values);
+            }
+            flat
+        })
+        .collect();
+    for (k, flat) in results.iter().enumerate() {
+        for (j, vals) in flat.chunks(model.outputs).enumerate() {
+            for (c, &v) in vals.iter().enumerate() {
+                out[c][k * CHUNK + j] = v;
+            }
+        }
+    }
+    Ok(out)
+}
+
+/// Output columns in the evaluator's encoding as f64 columns.
+pub fn as_f64(cols: &[Vec<u32>], kinds: &[(String, ScalarKind)]) -> Vec<Vec<f64>> {
+    cols.par_iter()
+        .zip(kinds.par_iter())
+        .map(|(c, (_, k))| c.iter().map(|&b| bits_to_f64(*k, b)).collect())
+        .collect()
+}

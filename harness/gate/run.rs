@@ -1,0 +1,386 @@
+//! Running checks: inputs → evaluation (CPU or another back end) →
+//! reference and golden comparisons → explanation, one way, for each check.
+
+use std::collections::BTreeMap;
+use std::path::Path;
+use std::time::Instant;
+
+use super::explain::{self, backend_agreement, failing_points, group_issues, Evidence, Reevaluate};
+use super::inputs::{as_f64, evaluate, reference_columns, Build};
+use super::result::{
+    CheckResult, Comparison, Finding, FindingKind, IssueGroup, RunResult, Verdict,
+};
+use crate::compare::{self, Tolerance};
+use crate::eval::ScalarKind;
+use crate::golden;
+use crate::reference::Model;
+use crate::suite::{Check, Suite};
+use crate::sweep::{Expr, Points};
+
+/// Another back end for a check's function: given the check's [`Build`]
+/// (shader, function, overrides, number model) and the CPU evaluator's
+/// input columns, return the output columns it computes (in the evaluator's
+/// encoding) and a label naming it (adapter, driver).
+pub type Backend<'a> =
+    &'a (dyn Fn(&Build, &[&[u32]]) -> Result<(Vec<Vec<u32>>, String), String> + Sync);
+
+/// Run one check.
+pub fn run_check(suite: &Suite, check: &Check) -> CheckResult {
+    run_check_on(suite, check, None)
+}
+
+/// Run one check with the outputs of `backend` instead of the CPU
+/// evaluator's: the reference comparison uses the back end's results, the
+/// golden comparison (a record of the CPU evaluator) is replaced by a
+/// back end versus CPU summary per output leaf.
+pub fn run_check_on(suite: &Suite, check: &Check, backend: Option<Backend>) -> CheckResult {
+    let start = Instant::now();
+    let mut r = CheckResult {
+        name: check.name.clone(),
+        shader: check.shader.display().to_string(),
+        function: check.function.clone(),
+        points: check.sweep.len(),
+        verdict: Verdict::Error,
+        error: None,
+        comparisons: Vec::new(),
+        issues: Vec::new(),
+        findings: Vec::new(),
+        seconds: 0.0,
+    };
+    match run_inner(suite, check, &mut r, backend) {
+        Ok(()) => {
+            let failed = r.comparisons.iter().any(|c| c.stats.failed > 0);
+            r.verdict = if failed { Verdict::Fail } else { Verdict::Pass };
+        }
+        Err(e) => {
+            r.verdict = Verdict::Error;
+            r.error = Some(e);
+        }
+    }
+    Finding::rank(&mut r.findings);
+    r.seconds = start.elapsed().as_secs_f64();
+    r
+}
+
+/// Re-evaluations of a check's reference model, for explainers.
+struct ReferenceOf<'a> {
+    check: &'a Check,
+    model: &'static Model,
+}
+
+impl Reevaluate for ReferenceOf<'_> {
+    fn reference_with(
+        &self,
+        args: &BTreeMap<String, Expr>,
+        points: &Points,
+    ) -> Result<Vec<Vec<f64>>, String> {
+        reference_columns(self.check, self.model, points, args)
+    }
+}
+
+/// Nothing to re-evaluate (goldens, old versions).
+struct NoReference;
+
+impl Reevaluate for NoReference {
+    fn reference_with(
+        &self,
+        _: &BTreeMap<String, Expr>,
+        _: &Points,
+    ) -> Result<Vec<Vec<f64>>, String> {
+        Err("no reference model to re-evaluate".into())
+    }
+}
+
+/// Tolerance lists must have one value or one per output component.
+fn check_tolerance(
+    suite: &Suite,
+    check: &Check,
+    tol: &Tolerance,
+    key: &str,
+    components: usize,
+) -> Result<(), String> {
+    for (name, list) in [("abs", &tol.abs), ("rel", &tol.rel), ("ulp", &tol.ulp)] {
+        if let Some(v) = list {
+            if v.len() != 1 && v.len() != components {
+                return Err(format!(
+                    "{}:{}: check `{}`: `{key}.{name}` lists {} values but `{}` returns {components} component(s); give one value or {components}",
+                    suite.path.display(),
+                    check.line,
+                    check.name,
+                    v.len(),
+                    check.function
+                ));
+            }
+        }
+    }
+    Ok(())
+}
+
+/// One comparison: statistics, then its explanation.
+#[allow(clippy::too_many_arguments)]
+fn comparison(
+    check: &Check,
+    against: String,
+    got: &[Vec<f64>],
+    want: &[Vec<f64>],
+    tolerance: &Tolerance,
+    half: bool,
+    points: &Points,
+    issues: &[IssueGroup],
+    model: Option<&'static Model>,
+    changed: Option<usize>,
+) -> (Comparison, Vec<Finding>) {
+    let describe = |i: usize| points.describe(i);
+    let mut stats = compare::compare(got, want, tolerance, half, &describe);
+    stats.changed = changed;
+    let failing = if stats.failed > 0 {
+        failing_points(got, want, tolerance, half)
+    } else {
+        Vec::new()
+    };
+    let evidence = Evidence {
+        check,
+        against: &against,
+        stats: &stats,
+        points,
+        got,
+        want,
+        tolerance,
+        half,
+        failing: &failing,
+        issues,
+        model,
+    };
+    let findings = match model {
+        Some(model) => explain::explain(&evidence, &ReferenceOf { check, model }),
+        None => explain::explain(&evidence, &NoReference),
+    };
+    (
+        Comparison {
+            against,
+            tolerance: tolerance.clone(),
+            stats,
+        },
+        findings,
+    )
+}
+
+fn run_inner(
+    suite: &Suite,
+    check: &Check,
+    r: &mut CheckResult,
+    backend: Option<Backend>,
+) -> Result<(), String> {
+    let mut ev = evaluate(suite, check, None)?;
+    if let Some(b) = backend {
+        let refs: Vec<&[u32]> = ev.input_columns.iter().map(|c| &c[..]).collect();
+        let (cols, label) = b(&ev.build, &refs)?;
+        if cols.len() != ev.outputs.len() || cols.iter().any(|c| c.len() != ev.points.len) {
+            return Err(format!(
+                "check `{}`: {label} returned {} column(s) of {} point(s); expected {} of {}",
+                check.name,
+                cols.len(),
+                cols.first().map_or(0, Vec::len),
+                ev.outputs.len(),
+                ev.points.len
+            ));
+        }
+        r.findings.push(Finding {
+            against: String::new(),
+            explains: None,
+            kind: FindingKind::EvaluatedOn { backend: label },
+        });
+        r.findings.extend(backend_agreement(
+            &ev.outputs,
+            &ev.output_columns,
+            &cols,
+            &ev.points,
+        ));
+        ev.output_columns = cols;
+    }
+    let half = ev.outputs.iter().any(|(_, k)| *k == ScalarKind::F16);
+    let got = as_f64(&ev.output_columns, &ev.outputs);
+    r.issues = group_issues(&ev.issues, &check.shader, &ev.points);
+    if let Some(model) = check.reference {
+        if model.outputs != got.len() {
+            return Err(format!(
+                "check `{}`: `{}` returns {} value(s) but reference `{}` gives {}",
+                check.name,
+                check.function,
+                got.len(),
+                model.name,
+                model.outputs
+            ));
+        }
+        check_tolerance(suite, check, &check.tolerance, "tolerance", got.len())?;
+        let want = reference_columns(check, model, &ev.points, &check.reference_args)?;
+        let (c, findings) = comparison(
+            check,
+            format!("reference {}", model.name),
+            &got,
+            &want,
+            &check.tolerance,
+            half,
+            &ev.points,
+            &r.issues,
+            Some(model),
+            None,
+        );
+        r.comparisons.push(c);
+        r.findings.extend(findings);
+    }
+    if let (Some(gpath), None) = (&check.golden, backend) {
+        check_tolerance(
+            suite,
+            check,
+            &check.golden_tolerance,
+            "golden_tolerance",
+            got.len(),
+        )?;
+        let path = suite.resolve(gpath);
+        let g = golden::read(&path).map_err(|d| d.rendered)?;
+        let shader = check.shader.display().to_string();
+        let sweep = check.sweep.to_string();
+        golden::check_identity(
+            &path,
+            &g,
+            &golden::Identity {
+                check: &check.name,
+                shader: &shader,
+                function: &check.function,
+                sweep: &sweep,
+                points: ev.points.len,
+                inputs: &ev.inputs,
+                outputs: &ev.outputs,
+                input_columns: &ev.input_columns,
+            },
+        )
+        .map_err(|d| d.rendered)?;
+        let against = format!("golden {}", gpath.display());
+        if g.header.shader_hash != ev.shader_hash {
+            r.findings.push(Finding {
+                against: against.clone(),
+                explains: None,
+                kind: FindingKind::ShaderChanged {
+                    recorded: g.header.shader_hash.clone(),
+                    current: ev.shader_hash.clone(),
+                },
+            });
+        }
+        let want = as_f64(&g.output_columns, &g.outputs);
+        let changed = compare::changed_bits(&ev.output_columns, &g.output_columns);
+        let (c, findings) = comparison(
+            check,
+            against,
+            &got,
+            &want,
+            &check.golden_tolerance,
+            half,
+            &ev.points,
+            &r.issues,
+            None,
+            Some(changed),
+        );
+        r.comparisons.push(c);
+        r.findings.extend(findings);
+    }
+    Ok(())
+}
+
+/// Compare two versions of a WGSL file over a check's sweep.
+pub fn compare_versions(
+    suite: &Suite,
+    check: &Check,
+    old: &Path,
+    new: &Path,
+) -> Result<CheckResult, String> {
+    let start = Instant::now();
+    let a = evaluate(suite, check, Some(old))?;
+    let b = evaluate(suite, check, Some(new))?;
+    if a.outputs != b.outputs {
+        return Err(format!(
+            "the two versions return different types ({:?} vs {:?})",
+            a.outputs, b.outputs
+        ));
+    }
+    let half = b.outputs.iter().any(|(_, k)| *k == ScalarKind::F16);
+    let (ga, gb) = (
+        as_f64(&a.output_columns, &a.outputs),
+        as_f64(&b.output_columns, &b.outputs),
+    );
+    check_tolerance(
+        suite,
+        check,
+        &check.golden_tolerance,
+        "golden_tolerance",
+        gb.len(),
+    )?;
+    let issues = group_issues(&b.issues, new, &b.points);
+    let changed = compare::changed_bits(&a.output_columns, &b.output_columns);
+    let (c, mut findings) = comparison(
+        check,
+        format!("old version {}", old.display()),
+        &gb,
+        &ga,
+        &check.golden_tolerance,
+        half,
+        &b.points,
+        &issues,
+        None,
+        Some(changed),
+    );
+    Finding::rank(&mut findings);
+    let verdict = if c.stats.failed > 0 {
+        Verdict::Fail
+    } else {
+        Verdict::Pass
+    };
+    Ok(CheckResult {
+        name: check.name.clone(),
+        shader: format!("{} → {}", old.display(), new.display()),
+        function: check.function.clone(),
+        points: b.points.len,
+        verdict,
+        error: None,
+        comparisons: vec![c],
+        issues,
+        findings,
+        seconds: start.elapsed().as_secs_f64(),
+    })
+}
+
+/// Run every check whose name contains `filter` (all when `None`).
+pub fn run(
+    suite: &Suite,
+    filter: Option<&str>,
+    progress: impl FnMut(usize, usize, &str),
+) -> RunResult {
+    run_on(suite, filter, progress, None)
+}
+
+/// [`run`] on another back end (see [`run_check_on`]).
+pub fn run_on(
+    suite: &Suite,
+    filter: Option<&str>,
+    mut progress: impl FnMut(usize, usize, &str),
+    backend: Option<Backend>,
+) -> RunResult {
+    let selected: Vec<&Check> = suite
+        .checks
+        .iter()
+        .filter(|c| filter.is_none_or(|f| c.name.contains(f)))
+        .collect();
+    let total = selected.len();
+    let checks = selected
+        .iter()
+        .enumerate()
+        .map(|(i, c)| {
+            progress(i + 1, total, &c.name);
+            run_check_on(suite, c, backend)
+        })
+        .collect();
+    RunResult {
+        suite: suite.path.display().to_string(),
+        checks,
+    }
+}
