@@ -80,7 +80,7 @@ reason = "one rounding per component"
     let r = run_only(&s);
     assert_eq!(r.verdict, Verdict::Error, "{r:#?}");
     let e = r.error.unwrap();
-    let at = format!("{}:2:", dir.join("shadegate.toml").display());
+    let at = format!("{}:3:", dir.join("shadegate.toml").display());
     assert!(e.contains(&at) && e.contains("lists 2 values"), "{e}");
 }
 
