@@ -528,4 +528,42 @@ mod tests {
             constant_factor(&[vec![1.0, 4.0, 9.0]], &[vec![1.0, 2.0, 3.0]], &[0, 1, 2]).is_none()
         );
     }
+
+    #[test]
+    fn the_worst_point_is_the_worst_even_against_an_exact_tolerance() {
+        // Every changed point is infinitely over a zero bound; the worst is
+        // the one with the largest error, not the first.
+        let one = f64::from(f32::from_bits(1.0f32.to_bits() + 1));
+        let three = f64::from(f32::from_bits(1.0f32.to_bits() + 3));
+        let s = compare(
+            &[vec![one, three, one]],
+            &[vec![1.0, 1.0, 1.0]],
+            &Tolerance::exact("r"),
+            false,
+            &d,
+        );
+        assert_eq!(s.failed, 3);
+        assert_eq!(s.worst.as_ref().unwrap().index, 1);
+    }
+
+    #[test]
+    fn near_1_factors_are_named_only_when_constant() {
+        let want = vec![vec![0.1, 0.2, 0.3, 0.4]];
+        let got = vec![want[0]
+            .iter()
+            .map(|x| x * std::f64::consts::PI / PI_AS_3_14)
+            .collect()];
+        let f = constant_factor(&got, &want, &[0, 1, 2, 3]).unwrap();
+        assert_eq!(f.named, Some("π/3.14 (dividing by 3.14 instead of π?)"));
+        // Rounding noise of either sign is no factor.
+        let noisy = vec![vec![
+            0.1 * (1.0 + 1e-7),
+            0.2 * (1.0 - 1e-7),
+            0.3 * (1.0 + 2e-7),
+        ]];
+        assert!(constant_factor(&noisy, &[vec![0.1, 0.2, 0.3]], &[0, 1, 2]).is_none());
+        // Three points sharing one near-zero expected value are no factor.
+        let tiny = vec![vec![1e-12, 1e-12, 1e-12, 1.0]];
+        assert!(constant_factor(&[vec![0.08, 0.08, 0.08, 1.0]], &tiny, &[0, 1, 2]).is_none());
+    }
 }

@@ -397,4 +397,19 @@ mod tests {
             "results are NaN or infinite where finite values are expected"
         );
     }
+
+    #[test]
+    fn a_finite_error_against_an_exact_tolerance_is_not_unbounded() {
+        let s = Stats {
+            headroom: 0.0,
+            max_ulp: 1.0,
+            failed: 1,
+            ..Stats::default()
+        };
+        assert_eq!(headroom(&s), "none (exact tolerance)");
+        assert_eq!(
+            headroom_words(&s),
+            "the tolerance is exact and the worst point is 1 ULP off"
+        );
+    }
 }
