@@ -571,7 +571,7 @@ fn flushed_inputs(kinds: &[ScalarKind], cols: &[Vec<u32>]) -> Option<Vec<Vec<u32
 /// Returns `None` when skipped (no device).
 #[track_caller]
 pub fn check(case: &Case) -> Option<Outcome> {
-    let gpu = device()?;
+    let dev = device()?;
     let shader = load(case.file);
     let path = corpus_file(case.file);
     let overrides = BTreeMap::new();
@@ -603,7 +603,7 @@ pub fn check(case: &Case) -> Option<Outcome> {
 
     let mut cpu = Vec::new();
     program.eval(&cols, &mut cpu);
-    let gpu = match gpu.eval(&shader, case.function, &overrides, &cols) {
+    let gpu = match dev.eval(&shader, case.function, &overrides, &cols) {
         Ok(g) => g,
         // A capability the adapter lacks (f16): nothing to compare here.
         Err(e @ GpuError::Unsupported { .. }) => {
@@ -673,7 +673,7 @@ pub fn check(case: &Case) -> Option<Outcome> {
         "{}: `{}` on {}, {n} points ({compared} compared)\n{}",
         case.file,
         case.function,
-        gpu.adapter().name,
+        dev.adapter().name,
         gpu::format_table(&table, Some((&in_leaves, &cols)))
     );
     if !failures.is_empty() {
@@ -685,7 +685,7 @@ pub fn check(case: &Case) -> Option<Outcome> {
             failures.len(),
             compared,
             case.why,
-            gpu.adapter()
+            dev.adapter()
         );
         for (p, leaf, allow) in failures.iter().take(12) {
             let k = out_kinds[*leaf];

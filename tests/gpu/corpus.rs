@@ -427,7 +427,7 @@ fn pack_tie(v: &[f64]) -> bool {
 fn pack_norm_ties() {
     use shadegate::eval::Program;
     use std::collections::BTreeMap;
-    let Some(gpu) = gpu_common::device() else {
+    let Some(dev) = gpu_common::device() else {
         return;
     };
     let shader = gpu_common::load("packing.wgsl");
@@ -457,7 +457,7 @@ fn pack_norm_ties() {
     let cols: Vec<&[u32]> = cols_owned.iter().map(|c| c.as_slice()).collect();
     let mut cpu = Vec::new();
     program.eval(&cols, &mut cpu);
-    let gpu = gpu
+    let gpu = dev
         .eval(&shader, "pack_norm", &BTreeMap::new(), &cols)
         .unwrap_or_else(|e| panic!("{e}"));
     let (mut fields, mut half_even) = (0, 0);
@@ -493,7 +493,7 @@ fn pack_norm_ties() {
         "pack*norm at {} tie points ({fields} fields) on {}: {half_even} fields rounded \
          half-to-even instead of the spec's floor(0.5 + x)",
         points.len(),
-        gpu.adapter().name
+        dev.adapter().name
     );
 }
 
@@ -506,7 +506,7 @@ fn pointer_to_element() {
     use shadegate::eval::Program;
     use shadegate::gpu::GpuError;
     use std::collections::BTreeMap;
-    let Some(gpu) = gpu_common::device() else {
+    let Some(dev) = gpu_common::device() else {
         return;
     };
     let shader = gpu_common::load("pointer_element.wgsl");
@@ -518,7 +518,7 @@ fn pointer_to_element() {
     let mut cpu = Vec::new();
     program.eval(&cols, &mut cpu);
     assert_eq!((cpu[1][0], cpu[2][1]), (12, 14), "CPU: a[k & 3] += 10");
-    match gpu.eval(&shader, "pointer_to_element", &BTreeMap::new(), &cols) {
+    match dev.eval(&shader, "pointer_to_element", &BTreeMap::new(), &cols) {
         Ok(gpu) => assert_eq!(gpu, cpu, "device and CPU differ"),
         Err(e @ GpuError::Pipeline { .. }) => {
             let text = e.to_string();

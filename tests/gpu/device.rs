@@ -160,7 +160,7 @@ fn chunked_two_dimensional_dispatches_give_the_same_bits() {
 
 #[test]
 fn overrides_reach_the_pipeline() {
-    let Some(gpu) = device() else { return };
+    let Some(dev) = device() else { return };
     let shader = Shader::from_source(
         "overrides.wgsl",
         "override scale: f32 = 2.0;\n@id(7) override bias: i32;\n\
@@ -173,7 +173,7 @@ fn overrides_reach_the_pipeline() {
     let mut ov = BTreeMap::new();
     ov.insert("scale".to_string(), 3.0);
     ov.insert("bias".to_string(), 100.0);
-    let gpu = gpu
+    let gpu = dev
         .eval(&shader, "f", &ov, &[&x, &i])
         .unwrap_or_else(|e| panic!("{e}"));
     let got: Vec<f32> = gpu[0]
@@ -189,7 +189,7 @@ fn overrides_reach_the_pipeline() {
     // Without a value for `bias` (no default) the pipeline cannot be built.
     let mut missing = BTreeMap::new();
     missing.insert("scale".to_string(), 3.0);
-    let e = gpu.eval(&shader, "f", &missing, &[&x, &i]).unwrap_err();
+    let e = dev.eval(&shader, "f", &missing, &[&x, &i]).unwrap_err();
     let text = e.to_string();
     assert!(matches!(e, GpuError::Pipeline { .. }), "{text}");
     assert!(
@@ -200,10 +200,10 @@ fn overrides_reach_the_pipeline() {
 
 #[test]
 fn errors_name_the_file_function_and_what_is_wrong() {
-    let Some(gpu) = device() else { return };
+    let Some(dev) = device() else { return };
     let shader = load("integers.wgsl");
     let none = BTreeMap::new();
-    let e = gpu
+    let e = dev
         .prepare(&shader, "no_such_function", &none)
         .err()
         .expect("an error");
@@ -212,7 +212,7 @@ fn errors_name_the_file_function_and_what_is_wrong() {
         text.contains("integers.wgsl") && text.contains("no function named `no_such_function`"),
         "{text}"
     );
-    let k = gpu
+    let k = dev
         .prepare(&shader, "int_div_rem", &none)
         .unwrap_or_else(|e| panic!("{e}"));
     let a = [1u32, 2, 3];
@@ -242,11 +242,11 @@ fn errors_name_the_file_function_and_what_is_wrong() {
 /// bound of the ggx_d corpus case, same domain, stays below 0.9 %).
 #[test]
 fn a_million_points_come_back_complete() {
-    let Some(gpu) = device() else { return };
+    let Some(dev) = device() else { return };
     let shader = load("shading.wgsl");
     let none = BTreeMap::new();
     let t = std::time::Instant::now();
-    let k = gpu
+    let k = dev
         .prepare(&shader, "ggx_d", &none)
         .unwrap_or_else(|e| panic!("{e}"));
     let compile = t.elapsed();
@@ -262,8 +262,8 @@ fn a_million_points_come_back_complete() {
     let n = cols[0].len();
     println!(
         "{}: setup {:?}, pipeline {compile:?}, first dispatch {first:?}, {n} points {run:?}",
-        gpu.adapter(),
-        gpu.setup_time()
+        dev.adapter(),
+        dev.setup_time()
     );
     assert_eq!(gpu[0].len(), n);
     let program = Program::compile(&shader, "ggx_d", &none).unwrap_or_else(|d| panic!("{d}"));

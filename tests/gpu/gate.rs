@@ -41,12 +41,12 @@ fn planted(path: &Path) -> PathBuf {
 /// Run one check on both back ends; returns whether each passed its
 /// reference comparison (None without a reference).
 fn gpu_check(suite: &Suite, check: &Check, shader_path: &Path) -> Option<(bool, bool)> {
-    let gpu = gpu_common::device()?;
+    let dev = gpu_common::device()?;
     let ev = gate::evaluate(suite, check, Some(shader_path))
         .unwrap_or_else(|e| panic!("check `{}`: {e}", check.name));
     let shader = Shader::load(shader_path).unwrap_or_else(|d| panic!("{d}"));
     let cols: Vec<&[u32]> = ev.input_columns.iter().map(|c| c.as_slice()).collect();
-    let gpu = gpu
+    let gpu = dev
         .eval(&shader, &check.function, &check.overrides, &cols)
         .unwrap_or_else(|e| panic!("check `{}`: {e}", check.name));
     let table = gpu::ulp_summary(&ev.outputs, &ev.output_columns, &gpu);
@@ -55,7 +55,7 @@ fn gpu_check(suite: &Suite, check: &Check, shader_path: &Path) -> Option<(bool, 
         check.name,
         shader_path.display(),
         check.function,
-        gpu.adapter().name,
+        dev.adapter().name,
         gpu::format_table(&table, Some((&ev.inputs, &cols)))
     );
     for ((name, kind), row) in ev.outputs.iter().zip(&table) {
