@@ -33,7 +33,7 @@ fn run_child(require: bool) -> (bool, String) {
     let mut cmd = Command::new(exe);
     cmd.args([
         "--exact",
-        "device_or_skip",
+        "device::device_or_skip",
         "--nocapture",
         "--test-threads=1",
     ])
