@@ -205,7 +205,8 @@ pub static CATALOGUE: &[Hypothesis] = &[
         "the visibility at n·h in place of n·v"),
     h!("half_not_normalised", Cosine, Cosines, |v| v.half_normalised = false,
         "the half vector v + l not normalised"),
-    h!("no_horizon_cut", Cosine, Horizon, |v| v.horizon_cut = false,
+    h!("no_horizon_cut", Cosine, Horizon,
+        |v| (v.horizon_cut, v.vis_cut, v.ndf_cut) = (false, false, false),
         "no cut below the horizon (n·v or n·l ≤ 0 reaches the formula)"),
     // ---- metallic workflow ----
     h!("dielectric_f0_0_02", F0, Metallic, |v| v.dielectric_f0 = Some(0.02),

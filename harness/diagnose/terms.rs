@@ -132,8 +132,8 @@ pub struct Variant {
     pub burley_alpha: bool,
     /// Dielectric `F0` of the metallic workflow (`None`: the model's).
     pub dielectric_f0: Option<f64>,
-    /// `mix(base_color, dielectric, metallic)` instead of `mix(dielectric, base_color, metallic)`,
-    /// and `metallic · base_color` as the diffuse colour.
+    /// `F0 = mix(base_color, dielectric, metallic)` instead of
+    /// `mix(dielectric, base_color, metallic)`.
     pub metallic_inverted: bool,
     /// The diffuse colour left at `base_color` for metals.
     pub metal_diffuse_kept: bool,
@@ -487,8 +487,6 @@ fn f0_metallic(base: Vec3, metallic: f64, model_dielectric: f64, v: &Variant) ->
 fn diffuse_color(base: Vec3, metallic: f64, v: &Variant) -> Vec3 {
     if v.metal_diffuse_kept {
         base
-    } else if v.metallic_inverted {
-        scale(base, metallic)
     } else {
         material::diffuse_color(base, metallic)
     }
