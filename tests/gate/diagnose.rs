@@ -654,3 +654,94 @@ fn the_correct_library_gets_no_hypothesis() {
         assert!(o.fits.is_empty(), "{}", s.function);
     }
 }
+
+// ---- call-graph attribution ----
+
+#[test]
+fn capture_reads_the_arguments_inside_a_branch() {
+    let src = "
+fn term(x: f32, k: vec2<f32>) -> f32 { return x * k.y; }
+fn caller(x: f32) -> f32 {
+    var y = x + 1.0;
+    if (x > 0.5) {
+        y = term(y * 3.0, vec2<f32>(x, 2.0));
+    }
+    return y;
+}
+";
+    let shader = Shader::from_source("capture.wgsl", src.to_string()).unwrap();
+    let sites = diagnose::callgraph::call_sites(&shader, "caller", "term").unwrap();
+    assert_eq!(sites.len(), 1);
+    assert_eq!(sites[0].line, 6);
+    let xs = [0.0_f32, 0.25, 0.75, 1.0].map(f32::to_bits);
+    let cap = diagnose::callgraph::capture(&shader, &sites[0], &[&xs]).unwrap();
+    assert_eq!(cap.reached, vec![false, false, true, true]);
+    let names: Vec<&str> = cap.args.iter().map(|(n, _)| n.as_str()).collect();
+    assert_eq!(names, ["x", "k.x", "k.y"]);
+    // Arithmetic by hand: (x + 1) * 3 and the vector (x, 2); the result (x + 1) * 3 * 2.
+    assert_eq!(cap.args[0].1[2..], [5.25, 6.0]);
+    assert_eq!(cap.args[1].1[2..], [0.75, 1.0]);
+    assert_eq!(cap.args[2].1[2..], [2.0, 2.0]);
+    assert_eq!(cap.result[0].1[2..], [10.5, 12.0]);
+}
+
+#[test]
+fn the_failing_brdf_is_traced_to_its_call_of_material_f0() {
+    // The mistake is planted in material_f0; brdf, which calls it, fails. Judged at the
+    // arguments brdf passes, material_f0 deviates from its reference at every failing point
+    // of brdf, alpha_from_roughness at none; the search on the captured columns names the
+    // mistake.
+    let source = edit(
+        "material_f0",
+        "vec3<f32>(DIELECTRIC_F0)",
+        "vec3<f32>(0.02)",
+    );
+    let s = &BRDF;
+    let shader = Shader::from_source("planted.wgsl", source).unwrap();
+    let program = Program::compile(&shader, "brdf", &BTreeMap::new()).unwrap();
+    let points = (s.points)();
+    let inputs: Vec<Vec<u32>> = (0..program.input_leaves().len())
+        .map(|c| points.iter().map(|p| f64_to_bits(ScalarKind::F32, p[c])).collect())
+        .collect();
+    let refs: Vec<&[u32]> = inputs.iter().map(Vec::as_slice).collect();
+    let mut out = Vec::new();
+    program.eval(&refs, &mut out);
+    let model = reference::find("cook_torrance_rgb").unwrap();
+    let pass = pass_rule(s.rel, s.abs);
+    let failing: Vec<usize> = (0..points.len())
+        .filter(|&i| {
+            let got: Vec<f64> = out.iter().map(|c| bits_to_f64(ScalarKind::F32, c[i])).collect();
+            !pass(i, &got, &model.call(&points[i]))
+        })
+        .collect();
+    assert!(!failing.is_empty());
+
+    let site = &diagnose::callgraph::call_sites(&shader, "brdf", "material_f0").unwrap()[0];
+    assert_eq!(site.line, 104);
+    let cap = diagnose::callgraph::capture(&shader, site, &refs).unwrap();
+    let f0_model = reference::find("material_f0").unwrap();
+    // material_f0's own check: a few f32 roundings, 1e-6 relative.
+    let f0_pass = pass_rule(1e-6, 0.0);
+    let a = diagnose::callgraph::attribute(&cap, f0_model, |x| x.to_vec(), &f0_pass, &failing);
+    assert_eq!(a.failing_reached, failing.len());
+    assert_eq!(a.deviating_failing, failing.len());
+
+    let site = &diagnose::callgraph::call_sites(&shader, "brdf", "alpha_from_roughness").unwrap()[0];
+    let cap_alpha = diagnose::callgraph::capture(&shader, site, &refs).unwrap();
+    let alpha_model = reference::find("alpha_from_roughness").unwrap();
+    let b = diagnose::callgraph::attribute(&cap_alpha, alpha_model, |x| x.to_vec(), &f0_pass, &failing);
+    assert_eq!(b.deviating_failing, 0);
+    assert_eq!(b.reached, points.len());
+
+    let fits = diagnose::search(
+        "material_f0",
+        &cap.arg_columns(),
+        &cap.result_columns(),
+        &f0_pass,
+        &a.deviating,
+        &Options::default(),
+    )
+    .unwrap();
+    assert_eq!(fits.first().map(|f| f.hypothesis.id), Some("dielectric_f0_0_02"));
+    assert!(fits[0].is_full());
+}
