@@ -237,3 +237,110 @@ mod tests {
         ));
     }
 }
+
+#[cfg(test)]
+mod catalogue_tests {
+    //! Every hypothesis against a "function" that is the reference with exactly that change
+    //! (in f64, so only the change differs): the search must name it as a full fit ranked
+    //! first or tied with the first; and every hypothesis must show on some model.
+    use super::*;
+    use crate::diagnose::terms::{decompositions, Variant};
+
+    fn points(m: &reference::Model) -> Vec<Vec<f64>> {
+        // A deterministic grid-like walk over each parameter's range (SplitMix64), vectors
+        // as directions in the upper hemisphere so the BRDFs are lit.
+        let mut state = 0x0d1a_9005_u64;
+        let mut next = || {
+            state = state.wrapping_add(0x9e37_79b9_7f4a_7c15);
+            let mut z = state;
+            z = (z ^ (z >> 30)).wrapping_mul(0xbf58_476d_1ce4_e5b9);
+            z = (z ^ (z >> 27)).wrapping_mul(0x94d0_49bb_1331_11eb);
+            ((z ^ (z >> 31)) >> 11) as f64 / (1u64 << 53) as f64
+        };
+        (0..800)
+            .map(|_| {
+                let mut p = Vec::new();
+                for s in m.params {
+                    match s.kind {
+                        reference::ParamKind::Scalar => {
+                            let (lo, hi) = s.range;
+                            let (lo, hi) = (lo.max(-0.2), hi.min(2.0));
+                            p.push(lo + (hi - lo) * next());
+                        }
+                        reference::ParamKind::Vec3 if s.range.0 < 0.0 => {
+                            let z = 0.05 + 0.95 * next();
+                            let phi = 6.283 * next();
+                            let r = (1.0 - z * z).sqrt();
+                            p.extend([r * phi.cos(), r * phi.sin(), z]);
+                        }
+                        reference::ParamKind::Vec3 => {
+                            p.extend([next(), next(), next()]);
+                        }
+                    }
+                }
+                p
+            })
+            .collect()
+    }
+
+    fn pass(_: usize, got: &[f64], want: &[f64]) -> bool {
+        got.iter().zip(want).all(|(g, w)| {
+            (g.is_nan() && w.is_nan()) || g == w || (g - w).abs() <= 1e-9 * w.abs()
+        })
+    }
+
+    #[test]
+    fn each_hypothesis_is_named_where_it_changes_the_model() {
+        let mut named = std::collections::HashSet::new();
+        for d in decompositions() {
+            let m = reference::find(d.model).unwrap();
+            let pts = points(m);
+            let cols: Vec<Vec<f64>> = (0..m.arity())
+                .map(|c| pts.iter().map(|p| p[c]).collect())
+                .collect();
+            let args: Vec<&[f64]> = cols.iter().map(Vec::as_slice).collect();
+            for h in CATALOGUE.iter().filter(|h| d.reads(h.knob)) {
+                let v = h.variant();
+                let mut out = vec![0.0; m.outputs];
+                let got_rows: Vec<Vec<f64>> = pts
+                    .iter()
+                    .map(|p| {
+                        (d.eval)(p, &v, &mut out);
+                        out.clone()
+                    })
+                    .collect();
+                let got_cols: Vec<Vec<f64>> = (0..m.outputs)
+                    .map(|c| got_rows.iter().map(|r| r[c]).collect())
+                    .collect();
+                let got: Vec<&[f64]> = got_cols.iter().map(Vec::as_slice).collect();
+                let failing: Vec<usize> = (0..pts.len())
+                    .filter(|&i| !pass(i, &got_rows[i], &m.call(&pts[i])))
+                    .collect();
+                if failing.is_empty() {
+                    // The change does not show on this model's domain (say, a clamp value
+                    // the model has no roughness for): nothing to name here.
+                    continue;
+                }
+                let fits = search(d.model, &args, &got, pass, &failing, &Options::default())
+                    .unwrap();
+                let fit = fits
+                    .iter()
+                    .find(|f| f.hypothesis.id == h.id)
+                    .unwrap_or_else(|| panic!("{} on {}: not found", h.id, d.model));
+                assert!(fit.is_full(), "{} on {}: {:?}", h.id, d.model, fit);
+                assert_eq!(fit.score(), fits[0].score(), "{} on {}", h.id, d.model);
+                named.insert(h.id);
+            }
+            // The unchanged reference passes everywhere, so nothing is named.
+            let mut out = vec![0.0; m.outputs];
+            let unchanged = pts.iter().all(|p| {
+                (d.eval)(p, &Variant::REFERENCE, &mut out);
+                pass(0, &out, &m.call(p))
+            });
+            assert!(unchanged, "{}", d.model);
+        }
+        for h in CATALOGUE {
+            assert!(named.contains(h.id), "{} is never distinguishable on any model", h.id);
+        }
+    }
+}
