@@ -121,7 +121,11 @@ fn calls_in(block: &Block, callee: Handle<Function>, out: &mut Vec<Span>) {
 }
 
 /// The calls from `caller` to `callee`, in source order.
-pub fn call_sites(shader: &Shader, caller: &str, callee: &str) -> Result<Vec<CallSite>, Diagnostic> {
+pub fn call_sites(
+    shader: &Shader,
+    caller: &str,
+    callee: &str,
+) -> Result<Vec<CallSite>, Diagnostic> {
     let m = &shader.module;
     let f = find_function(m, caller).ok_or_else(|| missing(shader, caller))?;
     let c = find_function(m, callee).ok_or_else(|| missing(shader, callee))?;
@@ -171,7 +175,13 @@ fn rewrite(block: &Block, plan: &mut Plan) -> Block {
                 if chosen {
                     plan.done = true;
                     for (&g, &a) in plan.args.iter().zip(arguments) {
-                        out.push(Statement::Store { pointer: g, value: a }, Span::UNDEFINED);
+                        out.push(
+                            Statement::Store {
+                                pointer: g,
+                                value: a,
+                            },
+                            Span::UNDEFINED,
+                        );
                     }
                     out.push(
                         Statement::Store {
@@ -182,7 +192,13 @@ fn rewrite(block: &Block, plan: &mut Plan) -> Block {
                     );
                     out.push(s.clone(), *span);
                     if let (Some(g), Some(r)) = (plan.result, result) {
-                        out.push(Statement::Store { pointer: g, value: *r }, Span::UNDEFINED);
+                        out.push(
+                            Statement::Store {
+                                pointer: g,
+                                value: *r,
+                            },
+                            Span::UNDEFINED,
+                        );
                     }
                     continue;
                 }
@@ -240,7 +256,12 @@ fn private(module: &mut Module, name: String, ty: Handle<Type>) -> Handle<Global
 }
 
 /// A function with `caller`'s parameters that calls it and returns global `g`.
-fn wrapper(module: &Module, caller: Handle<Function>, g: Handle<GlobalVariable>, name: &str) -> Function {
+fn wrapper(
+    module: &Module,
+    caller: Handle<Function>,
+    g: Handle<GlobalVariable>,
+    name: &str,
+) -> Function {
     let c = &module.functions[caller];
     let mut f = Function {
         name: Some(name.into()),
@@ -252,14 +273,21 @@ fn wrapper(module: &Module, caller: Handle<Function>, g: Handle<GlobalVariable>,
         ..Default::default()
     };
     let args: Vec<_> = (0..c.arguments.len() as u32)
-        .map(|i| f.expressions.append(Expression::FunctionArgument(i), Span::UNDEFINED))
+        .map(|i| {
+            f.expressions
+                .append(Expression::FunctionArgument(i), Span::UNDEFINED)
+        })
         .collect();
-    let result = c
-        .result
-        .as_ref()
-        .map(|_| f.expressions.append(Expression::CallResult(caller), Span::UNDEFINED));
-    let ptr = f.expressions.append(Expression::GlobalVariable(g), Span::UNDEFINED);
-    let load = f.expressions.append(Expression::Load { pointer: ptr }, Span::UNDEFINED);
+    let result = c.result.as_ref().map(|_| {
+        f.expressions
+            .append(Expression::CallResult(caller), Span::UNDEFINED)
+    });
+    let ptr = f
+        .expressions
+        .append(Expression::GlobalVariable(g), Span::UNDEFINED);
+    let load = f
+        .expressions
+        .append(Expression::Load { pointer: ptr }, Span::UNDEFINED);
     f.body.push(
         Statement::Call {
             function: caller,
@@ -268,18 +296,28 @@ fn wrapper(module: &Module, caller: Handle<Function>, g: Handle<GlobalVariable>,
         },
         Span::UNDEFINED,
     );
-    f.body.push(Statement::Emit(Range::new_from_bounds(load, load)), Span::UNDEFINED);
-    f.body.push(Statement::Return { value: Some(load) }, Span::UNDEFINED);
+    f.body.push(
+        Statement::Emit(Range::new_from_bounds(load, load)),
+        Span::UNDEFINED,
+    );
+    f.body
+        .push(Statement::Return { value: Some(load) }, Span::UNDEFINED);
     f
 }
 
 /// Evaluate what call `site` receives and returns at every point of the caller's sweep.
 /// `inputs` are the caller's input columns in the evaluator's encoding (as
 /// `Program::eval` takes them).
-pub fn capture(shader: &Shader, site: &CallSite, inputs: &[&[u32]]) -> Result<Captured, Diagnostic> {
+pub fn capture(
+    shader: &Shader,
+    site: &CallSite,
+    inputs: &[&[u32]],
+) -> Result<Captured, Diagnostic> {
     let mut module = shader.module.clone();
-    let caller = find_function(&module, &site.caller).ok_or_else(|| missing(shader, &site.caller))?;
-    let callee = find_function(&module, &site.callee).ok_or_else(|| missing(shader, &site.callee))?;
+    let caller =
+        find_function(&module, &site.caller).ok_or_else(|| missing(shader, &site.caller))?;
+    let callee =
+        find_function(&module, &site.callee).ok_or_else(|| missing(shader, &site.callee))?;
     let callee_fn = module.functions[callee].clone();
     for (j, a) in callee_fn.arguments.iter().enumerate() {
         if matches!(module.types[a.ty].inner, TypeInner::Pointer { .. }) {
@@ -314,7 +352,10 @@ pub fn capture(shader: &Shader, site: &CallSite, inputs: &[&[u32]]) -> Result<Ca
 
     let body = {
         let f = &mut module.functions[caller];
-        let mut gexpr = |g| f.expressions.append(Expression::GlobalVariable(g), Span::UNDEFINED);
+        let mut gexpr = |g| {
+            f.expressions
+                .append(Expression::GlobalVariable(g), Span::UNDEFINED)
+        };
         let args = arg_globals.iter().map(|&g| gexpr(g)).collect();
         let result = result_global.map(&mut gexpr);
         let flag = gexpr(flag_global);
@@ -364,7 +405,11 @@ pub fn capture(shader: &Shader, site: &CallSite, inputs: &[&[u32]]) -> Result<Ca
         .map_err(|e| {
             Diagnostic::without_position(
                 &shader.path,
-                format!("capturing the call to `{}` failed validation: {}", site.callee, e.as_inner()),
+                format!(
+                    "capturing the call to `{}` failed validation: {}",
+                    site.callee,
+                    e.as_inner()
+                ),
             )
         })?;
     let rewritten = Shader {
@@ -383,7 +428,11 @@ pub fn capture(shader: &Shader, site: &CallSite, inputs: &[&[u32]]) -> Result<Ca
             p.output_leaves()
                 .into_iter()
                 .zip(out)
-                .map(|((_, kind), col)| col.into_iter().map(|b| bits_to_f64(kind, b)).collect::<Vec<f64>>())
+                .map(|((_, kind), col)| {
+                    col.into_iter()
+                        .map(|b| bits_to_f64(kind, b))
+                        .collect::<Vec<f64>>()
+                })
                 .collect::<Vec<_>>(),
         );
     }

@@ -284,9 +284,9 @@ mod catalogue_tests {
     }
 
     fn pass(_: usize, got: &[f64], want: &[f64]) -> bool {
-        got.iter().zip(want).all(|(g, w)| {
-            (g.is_nan() && w.is_nan()) || g == w || (g - w).abs() <= 1e-9 * w.abs()
-        })
+        got.iter()
+            .zip(want)
+            .all(|(g, w)| (g.is_nan() && w.is_nan()) || g == w || (g - w).abs() <= 1e-9 * w.abs())
     }
 
     #[test]
@@ -321,8 +321,8 @@ mod catalogue_tests {
                     // the model has no roughness for): nothing to name here.
                     continue;
                 }
-                let fits = search(d.model, &args, &got, pass, &failing, &Options::default())
-                    .unwrap();
+                let fits =
+                    search(d.model, &args, &got, pass, &failing, &Options::default()).unwrap();
                 let fit = fits
                     .iter()
                     .find(|f| f.hypothesis.id == h.id)
@@ -340,7 +340,11 @@ mod catalogue_tests {
             assert!(unchanged, "{}", d.model);
         }
         for h in CATALOGUE {
-            assert!(named.contains(h.id), "{} is never distinguishable on any model", h.id);
+            assert!(
+                named.contains(h.id),
+                "{} is never distinguishable on any model",
+                h.id
+            );
         }
     }
 }

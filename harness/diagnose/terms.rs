@@ -541,7 +541,9 @@ fn cook_torrance(
         RoughnessClamp::Min(x) => Some(x),
     };
     let clamped = match (v.clamp, model_min) {
-        (Clamp::AsModel, Some(min)) | (Clamp::Min(min), _) => RoughnessClamp::Min(min).apply(roughness),
+        (Clamp::AsModel, Some(min)) | (Clamp::Min(min), _) => {
+            RoughnessClamp::Min(min).apply(roughness)
+        }
         _ => roughness,
     };
     let alpha = remap(clamped, v.remap);
@@ -554,7 +556,14 @@ fn cook_torrance(
         FresnelKind::SchlickF90FromF0 => fresnel_rgb(f_cos, f0, None, v),
     };
     let d = distribution(m.ndf, pick(v.ndf_cos, n_dot_h), alpha, v);
-    let vis = visibility(m.ndf, m.masking, pick(v.vis_cos, n_dot_v), n_dot_l, alpha, v);
+    let vis = visibility(
+        m.ndf,
+        m.masking,
+        pick(v.vis_cos, n_dot_v),
+        n_dot_l,
+        alpha,
+        v,
+    );
     let specular = scale(f, factor(d * vis, v.specular_factor));
 
     let kind = match v.diffuse_form {
@@ -564,17 +573,14 @@ fn cook_torrance(
     let fd = match kind {
         DiffuseKind::None => return specular.map(|x| factor(x, v.total_factor)),
         DiffuseKind::Lambert => v.diffuse_inv_pi,
-        DiffuseKind::Burley => burley(
-            n_dot_v,
-            n_dot_l,
-            pick(v.burley_cos, dot(l, h)),
-            clamped,
-            v,
-        ),
+        DiffuseKind::Burley => burley(n_dot_v, n_dot_l, pick(v.burley_cos, dot(l, h)), clamped, v),
     };
     add(
         specular,
-        scale(diffuse_color(base_color, metallic, v), factor(fd, v.diffuse_factor)),
+        scale(
+            diffuse_color(base_color, metallic, v),
+            factor(fd, v.diffuse_factor),
+        ),
     )
     .map(|x| factor(x, v.total_factor))
 }
@@ -640,7 +646,10 @@ const ROUGHNESS_KNOBS: &[Knob] = &[Knob::Roughness, Knob::Total];
 
 fn vis_model(m: MaskingKind, a: &[f64], v: &Variant, o: &mut [f64]) {
     let alpha = alpha_of_alpha(a[2], v);
-    o[0] = factor(visibility(NdfKind::Ggx, m, a[0], a[1], alpha, v), v.total_factor);
+    o[0] = factor(
+        visibility(NdfKind::Ggx, m, a[0], a[1], alpha, v),
+        v.total_factor,
+    );
 }
 
 fn ndf_model(k: NdfKind, a: &[f64], v: &Variant, o: &mut [f64]) {
@@ -766,14 +775,20 @@ static DECOMPOSITIONS: &[Decomposition] = &[
         model: "schlick_fresnel",
         knobs: FRESNEL_KNOBS,
         eval: |a, v, o| {
-            o[0] = factor(fresnel_rgb(a[0], [a[1]; 3], Some(1.0), v)[0], v.total_factor)
+            o[0] = factor(
+                fresnel_rgb(a[0], [a[1]; 3], Some(1.0), v)[0],
+                v.total_factor,
+            )
         },
     },
     Decomposition {
         model: "schlick_fresnel_f90",
         knobs: FRESNEL_KNOBS,
         eval: |a, v, o| {
-            o[0] = factor(fresnel_rgb(a[0], [a[1]; 3], Some(a[2]), v)[0], v.total_factor)
+            o[0] = factor(
+                fresnel_rgb(a[0], [a[1]; 3], Some(a[2]), v)[0],
+                v.total_factor,
+            )
         },
     },
     Decomposition {
@@ -923,7 +938,8 @@ mod tests {
         // The decomposition with no change is the registry model, bit for bit (NaN where the
         // registry gives NaN), over each model's domain.
         for d in decompositions() {
-            let m = reference::find(d.model).unwrap_or_else(|| panic!("{} not registered", d.model));
+            let m =
+                reference::find(d.model).unwrap_or_else(|| panic!("{} not registered", d.model));
             let mut got = vec![0.0; m.outputs];
             for p in domain_points(m, 20_000) {
                 let want = m.call(&p);

@@ -128,7 +128,10 @@ const VIS: Setup = Setup {
         grid(&[
             lin(0.01, 1.0, 30),
             log(1e-3, 1.0, 30),
-            vec![0.02, 0.1, 0.3, 0.6, 1.0].into_iter().map(|x| f64::from(x as f32)).collect(),
+            vec![0.02, 0.1, 0.3, 0.6, 1.0]
+                .into_iter()
+                .map(|x| f64::from(x as f32))
+                .collect(),
         ])
     },
     reference_args: square_last,
@@ -220,14 +223,19 @@ fn pass_rule(rel: f64, abs: f64) -> impl Fn(usize, &[f64], &[f64]) -> bool {
 /// Evaluate `function` of `source` over the setup's points and run the search.
 #[track_caller]
 fn run(s: &Setup, source: &str, probe: Option<&str>) -> Outcome {
-    let shader = Shader::from_source("planted.wgsl", source.to_string())
-        .unwrap_or_else(|d| panic!("{d}"));
+    let shader =
+        Shader::from_source("planted.wgsl", source.to_string()).unwrap_or_else(|d| panic!("{d}"));
     let program =
         Program::compile(&shader, s.function, &BTreeMap::new()).unwrap_or_else(|d| panic!("{d}"));
     let points = (s.points)();
     let leaves = program.input_leaves().len();
     let inputs: Vec<Vec<u32>> = (0..leaves)
-        .map(|c| points.iter().map(|p| f64_to_bits(ScalarKind::F32, p[c])).collect())
+        .map(|c| {
+            points
+                .iter()
+                .map(|p| f64_to_bits(ScalarKind::F32, p[c]))
+                .collect()
+        })
         .collect();
     let refs: Vec<&[u32]> = inputs.iter().map(Vec::as_slice).collect();
     let mut outputs = Vec::new();
@@ -284,7 +292,12 @@ fn edit(function: &str, from: &str, to: &str) -> String {
     };
     let body = &LIBRARY[start..end];
     assert!(body.contains(from), "`{from}` not in {function}");
-    format!("{}{}{}", &LIBRARY[..start], body.replacen(from, to, 1), &LIBRARY[end..])
+    format!(
+        "{}{}{}",
+        &LIBRARY[..start],
+        body.replacen(from, to, 1),
+        &LIBRARY[end..]
+    )
 }
 
 /// The planted mistake `mistaken` is named by `id` (a full fit, ranked first or tied with
@@ -295,7 +308,10 @@ fn planted(s: &Setup, mistaken: &str, correct: &str, id: &str) {
     let bad = run(s, mistaken, None);
     assert!(bad.failing > 0, "{id}: the mistake does not fail the check");
     let top = bad.fits.first().unwrap_or_else(|| {
-        panic!("{id}: nothing found ({} of {} points fail)", bad.failing, bad.points)
+        panic!(
+            "{id}: nothing found ({} of {} points fail)",
+            bad.failing, bad.points
+        )
     });
     let fit = bad
         .fits
@@ -303,11 +319,20 @@ fn planted(s: &Setup, mistaken: &str, correct: &str, id: &str) {
         .find(|f| f.hypothesis.id == id)
         .unwrap_or_else(|| panic!("{id} not found; found {:?}", summary(&bad.fits)));
     assert!(fit.is_full(), "{id}: partial {:?}", summary(&bad.fits));
-    assert_eq!(fit.score(), top.score(), "{id} ranked below {:?}", summary(&bad.fits));
+    assert_eq!(
+        fit.score(),
+        top.score(),
+        "{id} ranked below {:?}",
+        summary(&bad.fits)
+    );
 
     let good = run(s, correct, Some(id));
     assert_eq!(good.failing, 0, "{id}: the correct function fails");
-    assert!(good.fits.is_empty(), "{id}: the correct function gets {:?}", summary(&good.fits));
+    assert!(
+        good.fits.is_empty(),
+        "{id}: the correct function gets {:?}",
+        summary(&good.fits)
+    );
     assert!(
         good.probe_pass < 1.0,
         "{id}: the correct function also behaves like the reference with this change; the sweep cannot tell them apart"
@@ -322,7 +347,11 @@ fn summary(fits: &[diagnose::Fit]) -> Vec<(&'static str, f64, f64)> {
 
 #[track_caller]
 fn plant(s: &Setup, from: &str, to: &str, id: &str) {
-    let scope = if from.starts_with("const ") { "" } else { s.function };
+    let scope = if from.starts_with("const ") {
+        ""
+    } else {
+        s.function
+    };
     planted(s, &edit(scope, from, to), LIBRARY, id);
 }
 
@@ -330,7 +359,12 @@ fn plant(s: &Setup, from: &str, to: &str, id: &str) {
 
 #[test]
 fn remap_none() {
-    plant(&BRDF, "alpha_from_roughness(roughness)", "roughness", "remap_none");
+    plant(
+        &BRDF,
+        "alpha_from_roughness(roughness)",
+        "roughness",
+        "remap_none",
+    );
 }
 
 #[test]
@@ -345,14 +379,29 @@ fn remap_twice() {
 
 #[test]
 fn remap_sqrt() {
-    plant(&BRDF, "alpha_from_roughness(roughness)", "sqrt(roughness)", "remap_sqrt");
+    plant(
+        &BRDF,
+        "alpha_from_roughness(roughness)",
+        "sqrt(roughness)",
+        "remap_sqrt",
+    );
 }
 
 #[test]
 fn remap_none_in_the_distribution_alone() {
     // Alone, D(alpha = roughness) is also "alpha where alpha² belongs": a tie, both named.
-    plant(&D_GGX, "alpha_from_roughness(roughness)", "roughness", "remap_none");
-    plant(&D_GGX, "alpha_from_roughness(roughness)", "roughness", "ndf_alpha_not_squared");
+    plant(
+        &D_GGX,
+        "alpha_from_roughness(roughness)",
+        "roughness",
+        "remap_none",
+    );
+    plant(
+        &D_GGX,
+        "alpha_from_roughness(roughness)",
+        "roughness",
+        "ndf_alpha_not_squared",
+    );
 }
 
 #[test]
@@ -378,7 +427,12 @@ fn alpha_unclamped(roughness: f32, min_roughness: f32) -> f32 {
 const ALPHA_CLAMPED: Setup = Setup {
     function: "alpha_clamped",
     model: "alpha_from_roughness_clamped",
-    points: || grid(&[lin(0.0, 1.0, 101), vec![f64::from(0.045_f32), f64::from(0.089_f32)]]),
+    points: || {
+        grid(&[
+            lin(0.0, 1.0, 101),
+            vec![f64::from(0.045_f32), f64::from(0.089_f32)],
+        ])
+    },
     reference_args: same,
     rel: 1e-6,
     abs: 0.0,
@@ -386,7 +440,9 @@ const ALPHA_CLAMPED: Setup = Setup {
 
 #[test]
 fn clamp_missing() {
-    let mistaken = CLAMPED.replace("alpha_clamped(", "alpha_x(").replace("alpha_unclamped(", "alpha_clamped(");
+    let mistaken = CLAMPED
+        .replace("alpha_clamped(", "alpha_x(")
+        .replace("alpha_unclamped(", "alpha_clamped(");
     planted(&ALPHA_CLAMPED, &mistaken, CLAMPED, "clamp_missing");
 }
 
@@ -411,7 +467,12 @@ fn ndf_inv_pi_missing_and_twice() {
 
 #[test]
 fn ndf_denominator_not_squared() {
-    plant(&D_GGX, "PI * d * d", "PI * d", "ndf_denominator_not_squared");
+    plant(
+        &D_GGX,
+        "PI * d * d",
+        "PI * d",
+        "ndf_denominator_not_squared",
+    );
 }
 
 #[test]
@@ -456,8 +517,18 @@ fn ndf_beckmann_for_ggx() {
 
 #[test]
 fn vis_four_missing_and_two() {
-    plant(&VIS, "g2 / (4.0 * nv * nl)", "g2 / (nv * nl)", "vis_four_missing");
-    plant(&VIS, "g2 / (4.0 * nv * nl)", "g2 / (2.0 * nv * nl)", "vis_four_as_two");
+    plant(
+        &VIS,
+        "g2 / (4.0 * nv * nl)",
+        "g2 / (nv * nl)",
+        "vis_four_missing",
+    );
+    plant(
+        &VIS,
+        "g2 / (4.0 * nv * nl)",
+        "g2 / (2.0 * nv * nl)",
+        "vis_four_as_two",
+    );
 }
 
 #[test]
@@ -491,8 +562,18 @@ fn vis_fast_approximation() {
 
 #[test]
 fn schlick_exponent() {
-    plant(&SCHLICK, "1.0 - v_dot_h, 5.0", "1.0 - v_dot_h, 4.0", "schlick_exponent_4");
-    plant(&BRDF, "1.0 - v_dot_h, 5.0", "1.0 - v_dot_h, 6.0", "schlick_exponent_6");
+    plant(
+        &SCHLICK,
+        "1.0 - v_dot_h, 5.0",
+        "1.0 - v_dot_h, 4.0",
+        "schlick_exponent_4",
+    );
+    plant(
+        &BRDF,
+        "1.0 - v_dot_h, 5.0",
+        "1.0 - v_dot_h, 6.0",
+        "schlick_exponent_6",
+    );
 }
 
 #[test]
@@ -520,7 +601,13 @@ fn f90_ignored() {
         function: "f_schlick_f90",
         model: "schlick_fresnel_rgb_f90",
         points: || {
-            grid(&[lin(0.0, 1.0, 51), vec![f64::from(0.04_f32)], vec![f64::from(0.5_f32)], vec![f64::from(0.9_f32)], lin(0.0, 1.0, 5)])
+            grid(&[
+                lin(0.0, 1.0, 51),
+                vec![f64::from(0.04_f32)],
+                vec![f64::from(0.5_f32)],
+                vec![f64::from(0.9_f32)],
+                lin(0.0, 1.0, 5),
+            ])
         },
         ..SCHLICK
     };
@@ -534,21 +621,56 @@ fn f90_ignored() {
 
 #[test]
 fn diffuse_pi() {
-    plant(&LAMBERT, "diffuse_color * INV_PI", "diffuse_color / 3.14", "diffuse_pi_3_14");
-    plant(&LAMBERT, "diffuse_color * INV_PI", "diffuse_color * INV_PI * INV_PI", "diffuse_inv_pi_twice");
-    plant(&BRDF, "base_color * INV_PI", "base_color", "diffuse_inv_pi_missing");
+    plant(
+        &LAMBERT,
+        "diffuse_color * INV_PI",
+        "diffuse_color / 3.14",
+        "diffuse_pi_3_14",
+    );
+    plant(
+        &LAMBERT,
+        "diffuse_color * INV_PI",
+        "diffuse_color * INV_PI * INV_PI",
+        "diffuse_inv_pi_twice",
+    );
+    plant(
+        &BRDF,
+        "base_color * INV_PI",
+        "base_color",
+        "diffuse_inv_pi_missing",
+    );
 }
 
 #[test]
 fn burley_terms() {
-    plant(&BURLEY, "roughness * l_dot_h * l_dot_h", "roughness * l_dot_h", "burley_ldh_not_squared");
-    plant(&BURLEY, "2.0 * roughness * l_dot_h", "2.0 * roughness * roughness * l_dot_h", "burley_alpha");
-    plant(&BURLEY, "roughness * l_dot_h * l_dot_h", "roughness * n_dot_l * n_dot_l", "burley_at_ndl");
+    plant(
+        &BURLEY,
+        "roughness * l_dot_h * l_dot_h",
+        "roughness * l_dot_h",
+        "burley_ldh_not_squared",
+    );
+    plant(
+        &BURLEY,
+        "2.0 * roughness * l_dot_h",
+        "2.0 * roughness * roughness * l_dot_h",
+        "burley_alpha",
+    );
+    plant(
+        &BURLEY,
+        "roughness * l_dot_h * l_dot_h",
+        "roughness * n_dot_l * n_dot_l",
+        "burley_at_ndl",
+    );
 }
 
 #[test]
 fn lambert_for_burley() {
-    plant(&BURLEY, "let fd90 =", "return INV_PI;\n    let fd90 =", "diffuse_lambert");
+    plant(
+        &BURLEY,
+        "let fd90 =",
+        "return INV_PI;\n    let fd90 =",
+        "diffuse_lambert",
+    );
 }
 
 // ---- cosines and vectors ----
@@ -567,8 +689,18 @@ fn distribution_at_the_wrong_cosine() {
 
 #[test]
 fn fresnel_at_the_wrong_cosine() {
-    plant(&BRDF, "pow(1.0 - v_dot_h, 5.0)", "pow(1.0 - n_dot_v, 5.0)", "fresnel_at_ndv");
-    plant(&BRDF, "pow(1.0 - v_dot_h, 5.0)", "pow(1.0 - n_dot_h, 5.0)", "fresnel_at_ndh");
+    plant(
+        &BRDF,
+        "pow(1.0 - v_dot_h, 5.0)",
+        "pow(1.0 - n_dot_v, 5.0)",
+        "fresnel_at_ndv",
+    );
+    plant(
+        &BRDF,
+        "pow(1.0 - v_dot_h, 5.0)",
+        "pow(1.0 - n_dot_h, 5.0)",
+        "fresnel_at_ndh",
+    );
 }
 
 #[test]
@@ -604,7 +736,12 @@ fn half_vector_not_normalised() {
 
 #[test]
 fn dielectric_f0() {
-    plant(&BRDF, "const DIELECTRIC_F0: f32 = 0.04;", "const DIELECTRIC_F0: f32 = 0.02;", "dielectric_f0_0_02");
+    plant(
+        &BRDF,
+        "const DIELECTRIC_F0: f32 = 0.04;",
+        "const DIELECTRIC_F0: f32 = 0.02;",
+        "dielectric_f0_0_02",
+    );
 }
 
 #[test]
@@ -619,15 +756,30 @@ fn metallic_inverted() {
 
 #[test]
 fn metal_diffuse_kept() {
-    plant(&BRDF, "(1.0 - metallic) * base_color * INV_PI", "base_color * INV_PI", "metal_diffuse_kept");
+    plant(
+        &BRDF,
+        "(1.0 - metallic) * base_color * INV_PI",
+        "base_color * INV_PI",
+        "metal_diffuse_kept",
+    );
 }
 
 // ---- constant factors ----
 
 #[test]
 fn lobe_and_total_factors() {
-    plant(&BRDF, "return diffuse + f * (d * vis);", "return diffuse + 0.5 * f * (d * vis);", "specular_half");
-    plant(&BRDF, "return diffuse + f * (d * vis);", "return 2.0 * (diffuse + f * (d * vis));", "total_x2");
+    plant(
+        &BRDF,
+        "return diffuse + f * (d * vis);",
+        "return diffuse + 0.5 * f * (d * vis);",
+        "specular_half",
+    );
+    plant(
+        &BRDF,
+        "return diffuse + f * (d * vis);",
+        "return 2.0 * (diffuse + f * (d * vis));",
+        "total_x2",
+    );
 }
 
 // ---- what must get no hypothesis ----
@@ -636,9 +788,21 @@ fn lobe_and_total_factors() {
 fn equivalent_refactors_get_no_hypothesis() {
     for (s, from, to) in [
         (&D_GGX, "a2 / (PI * d * d)", "(a2 / PI) / (d * d)"),
-        (&BRDF, "return diffuse + f * (d * vis);", "return f * (vis * d) + diffuse;"),
-        (&BRDF, "let h = normalize(v + l);", "let h = (v + l) * inverseSqrt(dot(v + l, v + l));"),
-        (&SCHLICK, "let w = pow(1.0 - v_dot_h, 5.0);", "let m = 1.0 - v_dot_h;\n    let w = m * m * m * m * m;"),
+        (
+            &BRDF,
+            "return diffuse + f * (d * vis);",
+            "return f * (vis * d) + diffuse;",
+        ),
+        (
+            &BRDF,
+            "let h = normalize(v + l);",
+            "let h = (v + l) * inverseSqrt(dot(v + l, v + l));",
+        ),
+        (
+            &SCHLICK,
+            "let w = pow(1.0 - v_dot_h, 5.0);",
+            "let m = 1.0 - v_dot_h;\n    let w = m * m * m * m * m;",
+        ),
     ] {
         let o = run(s, &edit(s.function, from, to), None);
         assert_eq!(o.failing, 0, "{from} -> {to} fails");
@@ -691,17 +855,18 @@ fn the_failing_brdf_is_traced_to_its_call_of_material_f0() {
     // arguments brdf passes, material_f0 deviates from its reference at every failing point
     // of brdf, alpha_from_roughness at none; the search on the captured columns names the
     // mistake.
-    let source = edit(
-        "material_f0",
-        "vec3<f32>(DIELECTRIC_F0)",
-        "vec3<f32>(0.02)",
-    );
+    let source = edit("material_f0", "vec3<f32>(DIELECTRIC_F0)", "vec3<f32>(0.02)");
     let s = &BRDF;
     let shader = Shader::from_source("planted.wgsl", source).unwrap();
     let program = Program::compile(&shader, "brdf", &BTreeMap::new()).unwrap();
     let points = (s.points)();
     let inputs: Vec<Vec<u32>> = (0..program.input_leaves().len())
-        .map(|c| points.iter().map(|p| f64_to_bits(ScalarKind::F32, p[c])).collect())
+        .map(|c| {
+            points
+                .iter()
+                .map(|p| f64_to_bits(ScalarKind::F32, p[c]))
+                .collect()
+        })
         .collect();
     let refs: Vec<&[u32]> = inputs.iter().map(Vec::as_slice).collect();
     let mut out = Vec::new();
@@ -710,7 +875,10 @@ fn the_failing_brdf_is_traced_to_its_call_of_material_f0() {
     let pass = pass_rule(s.rel, s.abs);
     let failing: Vec<usize> = (0..points.len())
         .filter(|&i| {
-            let got: Vec<f64> = out.iter().map(|c| bits_to_f64(ScalarKind::F32, c[i])).collect();
+            let got: Vec<f64> = out
+                .iter()
+                .map(|c| bits_to_f64(ScalarKind::F32, c[i]))
+                .collect();
             !pass(i, &got, &model.call(&points[i]))
         })
         .collect();
@@ -726,10 +894,12 @@ fn the_failing_brdf_is_traced_to_its_call_of_material_f0() {
     assert_eq!(a.failing_reached, failing.len());
     assert_eq!(a.deviating_failing, failing.len());
 
-    let site = &diagnose::callgraph::call_sites(&shader, "brdf", "alpha_from_roughness").unwrap()[0];
+    let site =
+        &diagnose::callgraph::call_sites(&shader, "brdf", "alpha_from_roughness").unwrap()[0];
     let cap_alpha = diagnose::callgraph::capture(&shader, site, &refs).unwrap();
     let alpha_model = reference::find("alpha_from_roughness").unwrap();
-    let b = diagnose::callgraph::attribute(&cap_alpha, alpha_model, |x| x.to_vec(), &f0_pass, &failing);
+    let b =
+        diagnose::callgraph::attribute(&cap_alpha, alpha_model, |x| x.to_vec(), &f0_pass, &failing);
     assert_eq!(b.deviating_failing, 0);
     assert_eq!(b.reached, points.len());
 
@@ -742,6 +912,9 @@ fn the_failing_brdf_is_traced_to_its_call_of_material_f0() {
         &Options::default(),
     )
     .unwrap();
-    assert_eq!(fits.first().map(|f| f.hypothesis.id), Some("dielectric_f0_0_02"));
+    assert_eq!(
+        fits.first().map(|f| f.hypothesis.id),
+        Some("dielectric_f0_0_02")
+    );
     assert!(fits[0].is_full());
 }
