@@ -147,7 +147,7 @@ where
     for &i in failing {
         is_failing[i] = true;
     }
-    let passing_count = n - failing.iter().filter(|&&i| is_failing[i]).count().min(n);
+    let passing_count = is_failing.iter().filter(|&&f| !f).count();
     let passing_all: Vec<usize> = if passing_count <= opts.max_passing {
         (0..n).filter(|&i| !is_failing[i]).collect()
     } else {
