@@ -84,7 +84,10 @@ fn main() {
             "pow(1.0 - n_dot_v, 5.0)",
         ),
     ] {
-        let source = LIBRARY.replacen(from, to, 1);
+        // The edit is made inside `brdf` (other functions share some of its text).
+        let at = LIBRARY.find("fn brdf(").unwrap();
+        let source = format!("{}{}", &LIBRARY[..at], LIBRARY[at..].replacen(from, to, 1));
+        assert_ne!(source, LIBRARY, "{from} not in brdf");
         let shader = Shader::from_source("planted.wgsl", source).unwrap();
         let program = Program::compile(&shader, "brdf", &BTreeMap::new()).unwrap();
 

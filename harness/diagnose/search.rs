@@ -175,6 +175,17 @@ where
     let mut fits = Vec::new();
     for h in CATALOGUE.iter().filter(|h| d.reads(h.knob)) {
         let v = h.variant();
+        // A first pass over every tenth sampled failing point (at least 100) drops the
+        // hypotheses that explain nothing, which is most of them, at a tenth of the cost.
+        let probe = (failing_sample.len() / 10).max(100);
+        if failing_sample.len() > probe {
+            let hits = stride(failing_sample.len(), probe)
+                .filter(|&k| passes(failing_sample[k], &v))
+                .count();
+            if (hits as f64) < 0.5 * opts.min_explained * probe as f64 {
+                continue;
+            }
+        }
         let (mut explained, mut explained_point, mut unexplained_point) = (0usize, None, None);
         for &i in &failing_sample {
             if passes(i, &v) {
