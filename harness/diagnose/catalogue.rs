@@ -55,6 +55,12 @@ pub fn hypothesis(id: &str) -> Option<&'static Hypothesis> {
     CATALOGUE.iter().find(|h| h.id == id)
 }
 
+/// π as 3.14, the usual mistyping (the quotient is the same f64 as the literal 3.14: both
+/// are correctly rounded).
+const PI_3_14: f64 = 314.0 / 100.0;
+/// π as 3.142.
+const PI_3_142: f64 = 3142.0 / 1000.0;
+
 macro_rules! h {
     ($id:literal, $term:ident, $knob:ident, |$v:ident| $body:expr, $desc:literal) => {
         Hypothesis {
@@ -99,11 +105,11 @@ pub static CATALOGUE: &[Hypothesis] = &[
     h!("clamp_0_1", RoughnessClamp, Roughness, |v| v.clamp = Clamp::Min(0.1),
         "roughness clamped at 0.1"),
     // ---- distribution ----
-    h!("ndf_pi_3_14", Constant, Distribution, |v| v.ndf_pi = 3.14,
+    h!("ndf_pi_3_14", Constant, Distribution, |v| v.ndf_pi = PI_3_14,
         "π written as 3.14 in the distribution"),
     h!("ndf_pi_22_7", Constant, Distribution, |v| v.ndf_pi = 22.0 / 7.0,
         "π written as 22/7 in the distribution"),
-    h!("ndf_pi_3_142", Constant, Distribution, |v| v.ndf_pi = 3.142,
+    h!("ndf_pi_3_142", Constant, Distribution, |v| v.ndf_pi = PI_3_142,
         "π written as 3.142 in the distribution"),
     h!("ndf_inv_pi_missing", Constant, Distribution, |v| v.ndf_pi = 1.0,
         "the distribution's 1/π missing"),
@@ -164,11 +170,11 @@ pub static CATALOGUE: &[Hypothesis] = &[
     h!("f90_unsaturated", F90, F90, |v| v.fresnel_form = FresnelForm::F90Unsaturated,
         "F90 from F0 not saturated"),
     // ---- diffuse ----
-    h!("diffuse_pi_3_14", Constant, DiffusePi, |v| v.diffuse_inv_pi = 1.0 / 3.14,
+    h!("diffuse_pi_3_14", Constant, DiffusePi, |v| v.diffuse_inv_pi = 1.0 / PI_3_14,
         "π written as 3.14 in the diffuse term"),
     h!("diffuse_pi_22_7", Constant, DiffusePi, |v| v.diffuse_inv_pi = 7.0 / 22.0,
         "π written as 22/7 in the diffuse term"),
-    h!("diffuse_pi_3_142", Constant, DiffusePi, |v| v.diffuse_inv_pi = 1.0 / 3.142,
+    h!("diffuse_pi_3_142", Constant, DiffusePi, |v| v.diffuse_inv_pi = 1.0 / PI_3_142,
         "π written as 3.142 in the diffuse term"),
     h!("diffuse_inv_pi_missing", Constant, DiffusePi, |v| v.diffuse_inv_pi = 1.0,
         "the diffuse term's 1/π missing"),

@@ -280,7 +280,7 @@ mod catalogue_tests {
                         }
                         reference::ParamKind::Vec3 if s.range.0 < 0.0 => {
                             let z = 0.05 + 0.95 * next();
-                            let phi = 6.283 * next();
+                            let phi = std::f64::consts::TAU * next();
                             let r = (1.0 - z * z).sqrt();
                             p.extend([r * phi.cos(), r * phi.sin(), z]);
                         }

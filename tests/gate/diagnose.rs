@@ -86,7 +86,7 @@ fn brdf_points(roughnesses: &[f32]) -> Vec<Vec<f64>> {
                         p.extend(l);
                         p.extend([albedo, albedo * 0.85, albedo * 0.7].map(f64::from));
                         p.push(metallic);
-                        p.push(f64::from(roughness as f32));
+                        p.push(f64::from(roughness));
                         out.push(p);
                     }
                 }
