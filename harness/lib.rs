@@ -3,6 +3,7 @@
 
 pub mod arith;
 pub mod compare;
+pub mod diagnose;
 pub mod eval;
 pub mod gate;
 pub mod golden;

@@ -2,6 +2,7 @@
 
 mod cli;
 mod demo;
+mod diagnose;
 mod golden;
 mod planted;
 mod report_formats;
