@@ -14,12 +14,14 @@ pub mod exec;
 pub mod lanes;
 pub mod perturb;
 pub mod ty;
+pub mod text;
 
 use std::collections::BTreeMap;
 use std::path::PathBuf;
 
 pub use lanes::LANES;
 pub use ty::{bits_to_f64, f64_to_bits, ScalarKind, Ty};
+pub use text::{format_value, parse_value};
 
 use crate::arith;
 use crate::wgsl::{Diagnostic, Shader};
