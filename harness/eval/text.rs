@@ -29,9 +29,13 @@ pub fn parse_value(kind: ScalarKind, text: &str) -> Result<u32, String> {
         },
         ScalarKind::I32 => {
             let v = parse_integer(t)?;
-            i32::try_from(v)
-                .map(|v| v as u32)
-                .map_err(|_| format!("`{t}` is out of range for i32 ({} to {})", i32::MIN, i32::MAX))
+            i32::try_from(v).map(|v| v as u32).map_err(|_| {
+                format!(
+                    "`{t}` is out of range for i32 ({} to {})",
+                    i32::MIN,
+                    i32::MAX
+                )
+            })
         }
         ScalarKind::U32 => {
             let v = parse_integer(t)?;
@@ -97,7 +101,10 @@ fn parse_integer(t: &str) -> Result<i128, String> {
     let mut v: i128 = 0;
     let whole_len = (d.digits.len() as i64 + d.exp.min(0)).max(0) as usize;
     for &c in &d.digits[..whole_len] {
-        v = v.checked_mul(10).and_then(|v| v.checked_add(i128::from(c))).ok_or_else(too_big)?;
+        v = v
+            .checked_mul(10)
+            .and_then(|v| v.checked_add(i128::from(c)))
+            .ok_or_else(too_big)?;
     }
     for _ in 0..d.exp.max(0) {
         v = v.checked_mul(10).ok_or_else(too_big)?;
@@ -255,7 +262,10 @@ mod tests {
         // to exactly the half-way point (f64 spacing there is 2^-52, about 2.2e-16), and
         // then ties-to-even gives 1; rounded once it is 1 + 2^-23.
         let text = "1.00000005960464477539062500001";
-        assert_eq!((text.parse::<f64>().unwrap() as f32).to_bits(), 1f32.to_bits());
+        assert_eq!(
+            (text.parse::<f64>().unwrap() as f32).to_bits(),
+            1f32.to_bits()
+        );
         assert_eq!(
             parse_value(ScalarKind::F32, text).unwrap(),
             (1.0f32 + f32::EPSILON).to_bits()
@@ -288,7 +298,10 @@ mod tests {
         assert_eq!(parse_value(ScalarKind::I32, "-7").unwrap(), (-7i32) as u32);
         assert_eq!(parse_value(ScalarKind::I32, "3.0").unwrap(), 3);
         assert_eq!(parse_value(ScalarKind::U32, "1e3").unwrap(), 1000);
-        assert_eq!(parse_value(ScalarKind::U32, "4294967295").unwrap(), u32::MAX);
+        assert_eq!(
+            parse_value(ScalarKind::U32, "4294967295").unwrap(),
+            u32::MAX
+        );
         for (k, t, says) in [
             (ScalarKind::I32, "2.5", "fraction"),
             (ScalarKind::I32, "2147483648", "out of range"),
@@ -306,11 +319,17 @@ mod tests {
 
     #[test]
     fn bit_patterns_in_and_out() {
-        assert_eq!(parse_value(ScalarKind::F32, "0x3f800000").unwrap(), 0x3f80_0000);
+        assert_eq!(
+            parse_value(ScalarKind::F32, "0x3f800000").unwrap(),
+            0x3f80_0000
+        );
         assert_eq!(parse_value(ScalarKind::F16, "0x3c00").unwrap(), 0x3c00);
         assert!(parse_value(ScalarKind::F16, "0x3f800000").is_err());
         assert!(parse_value(ScalarKind::F32, "0xg").is_err());
-        assert_eq!(format_value(ScalarKind::F32, 0x3f80_0000, true), "0x3f800000");
+        assert_eq!(
+            format_value(ScalarKind::F32, 0x3f80_0000, true),
+            "0x3f800000"
+        );
         assert_eq!(format_value(ScalarKind::F16, 0x3c00, true), "0x3c00");
         assert_eq!(format_value(ScalarKind::F32, 0x3f80_0000, false), "1.0");
         // -0.0 and a NaN payload survive the round trip only as bits.
