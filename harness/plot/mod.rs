@@ -559,9 +559,10 @@ impl LineChart {
 }
 
 /// The lobe of a BRDF-like check in the plane of incidence at one roughness: the view
-/// direction, and per signed light angle (degrees, negative on the far side of the
-/// normal from the viewer's azimuth + 180°) the function's first output and the
-/// reference's.
+/// direction, and per signed light angle the function's first output and the
+/// reference's. Angles are degrees from the normal, positive on the view's side
+/// (azimuth 0), negative on the far side (azimuth 180°): the mirror direction of a view
+/// at θ is at −θ.
 pub struct Lobe {
     pub roughness: f64,
     pub view_theta: f64,
@@ -742,7 +743,7 @@ where
             let rr = rad(f, a);
             (rr * a.to_radians().sin(), rr * a.to_radians().cos())
         };
-        let vt = -lobe.view_theta.to_radians();
+        let vt = lobe.view_theta.to_radians();
         chart
             .draw_series(LineSeries::new(
                 [(0.0, 0.0), (r * vt.sin(), r * vt.cos())],
