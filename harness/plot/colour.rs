@@ -34,7 +34,10 @@ impl Scale {
     }
 
     /// The colour at `t` in [0, 1] (clamped; NaN reads as 0), as sRGB bytes: linear
-    /// interpolation between the stops.
+    /// interpolation between the stops. Rounding each channel to a byte on its own can
+    /// make lightness dip by a few hundredths between close samples; of the byte
+    /// colours around the interpolated one, the one whose lightness is nearest the
+    /// stops' lightness interpolated the same way is taken, so lightness keeps rising.
     pub fn at(self, t: f64) -> (u8, u8, u8) {
         let stops = self.stops();
         let t = if t.is_nan() { 0.0 } else { t.clamp(0.0, 1.0) };
@@ -42,8 +45,25 @@ impl Scale {
         let k = (x.floor() as usize).min(stops.len() - 2);
         let f = x - k as f64;
         let (a, b) = (rgb(stops[k]), rgb(stops[k + 1]));
-        let mix = |p: u8, q: u8| (f64::from(p) + f * (f64::from(q) - f64::from(p))).round() as u8;
-        (mix(a.0, b.0), mix(a.1, b.1), mix(a.2, b.2))
+        let want = lightness(a) + f * (lightness(b) - lightness(a));
+        let mix = |p: u8, q: u8| f64::from(p) + f * (f64::from(q) - f64::from(p));
+        let (r, g, bl) = (mix(a.0, b.0), mix(a.1, b.1), mix(a.2, b.2));
+        let mut best = (a, f64::INFINITY);
+        for m in 0..8 {
+            let pick = |v: f64, bit: u32| {
+                if m >> bit & 1 == 1 {
+                    v.ceil() as u8
+                } else {
+                    v.floor() as u8
+                }
+            };
+            let c = (pick(r, 0), pick(g, 1), pick(bl, 2));
+            let d = (lightness(c) - want).abs();
+            if d < best.1 {
+                best = (c, d);
+            }
+        }
+        best.0
     }
 
     /// The scale's name as readers know it.
