@@ -55,6 +55,18 @@ enum Command {
         /// With --gpu: the first adapter whose name contains this text.
         #[arg(long, requires = "gpu")]
         adapter: Option<String>,
+        /// Also write one self-contained HTML page of the run (findings, tolerance
+        /// ledger, error maps, lobes, per-check details) into this folder.
+        #[arg(long, value_name = "DIR")]
+        html: Option<PathBuf>,
+        /// Write each failing comparison's failing points as CSV into this folder
+        /// (`<check>.<against>.csv`).
+        #[arg(long, value_name = "DIR")]
+        failing_points: Option<PathBuf>,
+        /// Reports without timings, so two runs of the same code give identical files
+        /// (the default when the CI environment variable is set).
+        #[arg(long)]
+        deterministic: bool,
     },
     /// Record the golden datasets of a suite's checks (refused when CI is set).
     Record {
@@ -92,6 +104,13 @@ enum Command {
         /// Write the CSV here instead of standard output.
         #[arg(long)]
         output: Option<PathBuf>,
+        /// Write float values as bit patterns (`0x3f800000`) instead of decimals.
+        #[arg(long)]
+        bits: bool,
+        /// With --check: add the check's expected values (reference model, else
+        /// golden), the error in ULP and relative, and a pass column per point.
+        #[arg(long, requires = "check")]
+        judge: bool,
     },
     /// Compare two versions of a WGSL file over a check's sweep.
     Compare {
@@ -152,18 +171,29 @@ fn emit(text: &str, output: Option<&Path>) -> Result<(), Bad> {
         }
         None => {
             let mut out = std::io::stdout().lock();
-            out.write_all(text.as_bytes())
-                .map_err(|e| Bad(e.to_string()))
+            match out.write_all(text.as_bytes()).and_then(|()| out.flush()) {
+                // The reader went away (`| head`): what it wanted it has; not an error.
+                Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => Ok(()),
+                r => r.map_err(|e| Bad(format!("standard output: {e}"))),
+            }
         }
     }
 }
 
 fn render(run: &RunResult, format: Format, to_file: bool) -> String {
+    render_with(run, format, to_file, report::Timings::Show)
+}
+
+fn render_with(run: &RunResult, format: Format, to_file: bool, t: report::Timings) -> String {
     match format {
-        Format::Text => report::text(run, !to_file && report::use_colour()),
-        Format::Json => report::json(run),
-        Format::Junit => report::junit(run),
+        Format::Text => report::text_with(run, !to_file && report::use_colour(), t),
+        Format::Json => report::json_with(run, t),
+        Format::Junit => report::junit_with(run, t),
     }
+}
+
+fn plural(n: usize, noun: &str) -> String {
+    format!("{n} {noun}{}", if n == 1 { "" } else { "s" })
 }
 
 fn exit_of(run: &RunResult) -> u8 {
@@ -179,8 +209,12 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
             output,
             gpu,
             adapter,
+            html,
+            failing_points,
+            deterministic,
         } => {
             let s = load_suite(&suite)?;
+            warn_unused_parameters(&s, filter.as_deref());
             let progress = report::Progress::new();
             let run = if gpu {
                 run_gpu(&s, filter.as_deref(), adapter.as_deref(), &progress)?
@@ -196,7 +230,21 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
                     filter.unwrap_or_default()
                 )));
             }
-            emit(&render(&run, format, output.is_some()), output.as_deref())?;
+            let timings = if deterministic || std::env::var_os("CI").is_some() {
+                report::Timings::Omit
+            } else {
+                report::Timings::Show
+            };
+            let text = render_with(&run, format, output.is_some(), timings);
+            if let Some(dir) = &failing_points {
+                write_failing_points(&s, &run, dir)?;
+            }
+            if let Some(dir) = &html {
+                let page = shadegate::report::html(&s, &run, timings);
+                let path = write_in(dir, &html_name(&s), &page)?;
+                eprintln!("report page: {}", path.display());
+            }
+            emit(&text, output.as_deref())?;
             Ok(exit_of(&run))
         }
         Command::Record { suite, filter } => {
@@ -234,6 +282,8 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
             overrides,
             spec_bounds,
             output,
+            bits,
+            judge,
         } => {
             let ov = table::parse_overrides(&overrides).map_err(Bad)?;
             let arith =
@@ -247,6 +297,7 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
                 &suite,
                 &ov,
                 arith,
+                Columns { bits, judge },
             )?;
             emit(&csv, output.as_deref())?;
             // The CSV is complete either way; exit 1 says some points had issues.
@@ -276,21 +327,34 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
             let s = load_suite(&suite)?;
             let mut out = String::new();
             for c in &s.checks {
+                // Each comparison with the tolerance that applies to it.
                 let against: Vec<String> = c
                     .reference
-                    .map(|m| format!("reference {}", m.name))
+                    .map(|m| {
+                        format!(
+                            "reference {} within {} ({})",
+                            m.name,
+                            c.tolerance.describe(),
+                            c.tolerance.reason
+                        )
+                    })
                     .into_iter()
-                    .chain(c.golden.as_ref().map(|g| format!("golden {}", g.display())))
+                    .chain(c.golden.as_ref().map(|g| {
+                        format!(
+                            "golden {} within {} ({})",
+                            g.display(),
+                            c.golden_tolerance.describe(),
+                            c.golden_tolerance.reason
+                        )
+                    }))
                     .collect();
                 out.push_str(&format!(
-                    "{}  {}::{}  {} points  against {}  tolerance {} ({})\n",
+                    "{}  {}::{}  {}  against {}\n",
                     c.name,
                     c.shader.display(),
                     c.function,
-                    c.sweep.len(),
-                    against.join(" and "),
-                    c.tolerance.describe(),
-                    c.tolerance.reason
+                    plural(c.sweep.len(), "point"),
+                    against.join(" and ")
                 ));
             }
             emit(&out, None)?;
@@ -304,7 +368,7 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
             let s = load_suite(&suite)?;
             let run = gate::run(&s, None, |_, _, _| {});
             emit(&report::ledger(&run), output.as_deref())?;
-            Ok(0)
+            Ok(exit_of(&run))
         }
     }
 }
@@ -331,6 +395,78 @@ fn run_gpu(
     Err(Bad("--gpu needs a build with the GPU back end: cargo run --release --features gpu -- run --gpu".into()))
 }
 
+/// What `eval` writes besides inputs and results.
+#[derive(Clone, Copy)]
+struct Columns {
+    /// Floats as bit patterns.
+    bits: bool,
+    /// Expected values, errors and pass/fail (needs a check).
+    judge: bool,
+}
+
+/// Warn (on standard error) about sweep parameters that no argument uses: each one
+/// multiplies the point count without testing anything new.
+fn warn_unused_parameters(s: &Suite, filter: Option<&str>) {
+    for c in s
+        .checks
+        .iter()
+        .filter(|c| filter.is_none_or(|f| c.name.contains(f)))
+    {
+        // A check that cannot compile is reported by the run itself.
+        let Ok(unused) = shadegate::detail::unused_parameters(s, c) else {
+            continue;
+        };
+        for (name, n) in unused {
+            eprintln!(
+                "warning: {}:{}: check `{}`: sweep parameter `{name}` is used by no argument of the function or the reference; its {n} values multiply the point count without testing anything new",
+                s.path.display(),
+                c.line,
+                c.name
+            );
+        }
+    }
+}
+
+/// Write `text` as `dir/name`, creating `dir`.
+fn write_in(dir: &Path, name: &str, text: &str) -> Result<PathBuf, Bad> {
+    std::fs::create_dir_all(dir)
+        .map_err(|e| Bad(format!("{}: cannot create: {e}", dir.display())))?;
+    let path = dir.join(name);
+    std::fs::write(&path, text)
+        .map_err(|e| Bad(format!("{}: cannot write: {e}", path.display())))?;
+    Ok(path)
+}
+
+/// The report page's file name: the suite file's stem, `.html`.
+fn html_name(s: &Suite) -> String {
+    let stem = s
+        .path
+        .file_stem()
+        .map_or_else(|| "shadegate".into(), |x| x.to_string_lossy().into_owned());
+    format!("{stem}.html")
+}
+
+/// For each failing comparison of the run: its failing points as CSV in `dir`.
+fn write_failing_points(s: &Suite, run: &RunResult, dir: &Path) -> Result<(), Bad> {
+    for r in run
+        .checks
+        .iter()
+        .filter(|r| r.verdict == gate::Verdict::Fail)
+    {
+        let Some(c) = s.checks.iter().find(|c| c.name == r.name) else {
+            continue;
+        };
+        let detail = shadegate::detail::CheckPoints::of(s, c).map_err(Bad)?;
+        for e in &detail.expected {
+            if let Some(csv) = detail.failing_csv(e) {
+                let path = write_in(dir, &format!("{}.{}.csv", c.name, e.kind), &csv)?;
+                eprintln!("failing points: {}", path.display());
+            }
+        }
+    }
+    Ok(())
+}
+
 #[allow(clippy::too_many_arguments)]
 fn eval_csv(
     shader: &Path,
@@ -341,6 +477,7 @@ fn eval_csv(
     suite_path: &Path,
     overrides: &BTreeMap<String, f64>,
     arith: Arithmetic,
+    want: Columns,
 ) -> Result<(String, usize), Bad> {
     let sources = usize::from(!points.is_empty())
         + usize::from(input.is_some())
@@ -351,6 +488,8 @@ fn eval_csv(
                 .into(),
         ));
     }
+    // With --judge: header names and per-point text of the extra columns.
+    let mut judged: Option<(Vec<String>, Vec<Vec<String>>)> = None;
     let (mut leaves, mut cols, program, issues) = if let Some(name) = check {
         let s = load_suite(suite_path)?;
         let c = s.checks.iter().find(|c| c.name == name).ok_or_else(|| {
@@ -364,9 +503,18 @@ fn eval_csv(
         c.overrides.extend(overrides.clone());
         c.arithmetic = arith;
         let ev = gate::evaluate(&s, &c, Some(shader)).map_err(Bad)?;
-        let mut cols = ev.input_columns;
-        cols.extend(ev.output_columns);
-        (ev.inputs, cols, ev.program, ev.issues)
+        if want.judge {
+            let detail = shadegate::detail::CheckPoints::judge(&s, &c, ev).map_err(Bad)?;
+            judged = Some(detail.judge_columns());
+            let ev = detail.ev;
+            let mut cols = ev.input_columns;
+            cols.extend(ev.output_columns);
+            (ev.inputs, cols, ev.program, ev.issues)
+        } else {
+            let mut cols = ev.input_columns;
+            cols.extend(ev.output_columns);
+            (ev.inputs, cols, ev.program, ev.issues)
+        }
     } else {
         let sh = Shader::load(shader).map_err(|d| Bad(d.rendered))?;
         let program =
@@ -384,7 +532,8 @@ fn eval_csv(
     };
     print_issues(&issues);
     leaves.extend(program.output_leaves());
-    let csv = table::write_csv(&leaves, &cols).map_err(Bad)?;
+    let extra = judged.as_ref().map(|(n, rows)| (&n[..], &rows[..]));
+    let csv = table::write_csv_with(&leaves, &cols, want.bits, extra).map_err(Bad)?;
     cols.clear();
     Ok((csv, issues.len()))
 }

@@ -13,12 +13,14 @@ pub mod compile;
 pub mod exec;
 pub mod lanes;
 pub mod perturb;
+pub mod text;
 pub mod ty;
 
 use std::collections::BTreeMap;
 use std::path::PathBuf;
 
 pub use lanes::LANES;
+pub use text::{format_value, parse_value};
 pub use ty::{bits_to_f64, f64_to_bits, ScalarKind, Ty};
 
 use crate::arith;

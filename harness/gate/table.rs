@@ -1,22 +1,13 @@
 //! Point tables for `shadegate eval`: reading a function's inputs from a CSV
 //! file or from `name=value,...` points, and writing inputs and results as
-//! CSV. Every error names the file (or the point) and line.
+//! CSV. Every error names the file (or the point) and line. Values are read for
+//! their leaf's type with [`crate::eval::parse_value`] (strict integers, one rounding
+//! to f32, bit patterns).
 
 use std::collections::BTreeMap;
 use std::path::Path;
 
-use crate::eval::{bits_to_f64, f64_to_bits, Program, ScalarKind};
-
-/// A value for a leaf: a number, `true` or `false`.
-fn parse_num(text: &str, what: &str) -> Result<f64, String> {
-    match text.trim() {
-        "true" => Ok(1.0),
-        "false" => Ok(0.0),
-        t => t
-            .parse::<f64>()
-            .map_err(|_| format!("{what}: `{t}` is not a number")),
-    }
-}
+use crate::eval::{Program, ScalarKind};
 
 /// `name=value` overrides (as given on the command line) by name.
 pub fn parse_overrides(list: &[String]) -> Result<BTreeMap<String, f64>, String> {
@@ -39,15 +30,12 @@ pub fn parse_overrides(list: &[String]) -> Result<BTreeMap<String, f64>, String>
 pub fn columns_of_points(program: &Program, points: &[String]) -> Result<Vec<Vec<u32>>, String> {
     let mut cols: Vec<Vec<u32>> = vec![Vec::new(); program.input_leaves().len()];
     for (pi, p) in points.iter().enumerate() {
-        let mut given: BTreeMap<String, Vec<f64>> = BTreeMap::new();
+        let mut given: BTreeMap<String, Vec<&str>> = BTreeMap::new();
         for part in p.split(',') {
             let (k, v) = part
                 .split_once('=')
                 .ok_or_else(|| format!("--point `{p}`: expected name=value,..."))?;
-            let vals = v
-                .split(';')
-                .map(|x| parse_num(x, &format!("--point {}", pi + 1)))
-                .collect::<Result<Vec<_>, _>>()?;
+            let vals = v.split(';').collect();
             given.insert(k.trim().to_string(), vals);
         }
         let mut used = 0;
@@ -64,7 +52,10 @@ pub fn columns_of_points(program: &Program, points: &[String]) -> Result<Vec<Vec
                 ));
             }
             for (k, v) in ty.leaves().into_iter().zip(vals) {
-                cols[used].push(f64_to_bits(k, *v));
+                // Read for the leaf's own type: strict integers, one rounding to f32.
+                let bits = crate::eval::parse_value(k, v)
+                    .map_err(|e| format!("--point {}: `{name}`: {e}", pi + 1))?;
+                cols[used].push(bits);
                 used += 1;
             }
         }
@@ -116,8 +107,9 @@ pub fn read_csv(path: &Path, leaves: &[(String, ScalarKind)]) -> Result<Vec<Vec<
             let text = rec
                 .get(i)
                 .ok_or_else(|| format!("{}:{line}: missing value for `{name}`", path.display()))?;
-            let v = parse_num(text, &format!("{}:{line}: column `{name}`", path.display()))?;
-            cols[j].push(f64_to_bits(*k, v));
+            let bits = crate::eval::parse_value(*k, text)
+                .map_err(|e| format!("{}:{line}: column `{name}`: {e}", path.display()))?;
+            cols[j].push(bits);
         }
     }
     Ok(cols)
@@ -126,24 +118,34 @@ pub fn read_csv(path: &Path, leaves: &[(String, ScalarKind)]) -> Result<Vec<Vec<
 /// CSV text with a header of leaf names and one row per point. Floats are
 /// written as the shortest text that reads back to the same f32/f16.
 pub fn write_csv(leaves: &[(String, ScalarKind)], cols: &[Vec<u32>]) -> Result<String, String> {
+    write_csv_with(leaves, cols, false, None)
+}
+
+/// [`write_csv`] with floats as bit patterns when `bits` (`0x3f800000`), and `extra`
+/// columns (their names, and one row of texts per point) after the leaves.
+pub fn write_csv_with(
+    leaves: &[(String, ScalarKind)],
+    cols: &[Vec<u32>],
+    bits: bool,
+    extra: Option<(&[String], &[Vec<String>])>,
+) -> Result<String, String> {
     let mut w = csv::Writer::from_writer(Vec::new());
-    w.write_record(leaves.iter().map(|(n, _)| n.as_str()))
-        .map_err(|e| e.to_string())?;
+    let (extra_names, extra_rows) = extra.unwrap_or((&[], &[]));
+    w.write_record(
+        leaves
+            .iter()
+            .map(|(n, _)| n.as_str())
+            .chain(extra_names.iter().map(String::as_str)),
+    )
+    .map_err(|e| e.to_string())?;
     let n = cols.first().map_or(0, |c| c.len());
     for i in 0..n {
-        let row: Vec<String> = leaves
+        let row = leaves
             .iter()
             .zip(cols)
-            .map(|((_, k), c)| {
-                let v = bits_to_f64(*k, c[i]);
-                if k.is_float() {
-                    format!("{:?}", v as f32)
-                } else {
-                    format!("{v}")
-                }
-            })
-            .collect();
-        w.write_record(&row).map_err(|e| e.to_string())?;
+            .map(|((_, k), c)| crate::eval::format_value(*k, c[i], bits))
+            .chain(extra_rows.get(i).cloned().unwrap_or_default());
+        w.write_record(row).map_err(|e| e.to_string())?;
     }
     let bytes = w.into_inner().map_err(|e| e.to_string())?;
     Ok(String::from_utf8_lossy(&bytes).into_owned())

@@ -207,9 +207,9 @@ pub fn compared(s: &Stats) -> usize {
 /// `12 of 1,000 points fail (1.2 %)`.
 pub fn failing(s: &Stats) -> String {
     format!(
-        "{} of {} points fail ({})",
+        "{} of {} fail ({})",
         count(s.failed),
-        count(compared(s)),
+        counted(compared(s), "point"),
         percent(s.fail_share)
     )
 }
@@ -228,7 +228,8 @@ pub fn point(p: &PointReport) -> String {
         let c = COMPONENTS
             .get(p.component)
             .map_or_else(|| p.component.to_string(), |c| c.to_string());
-        format!(" · in {c}")
+        // `result.x`, not `x`: a sweep parameter may be called x.
+        format!(" · in result.{c}")
     } else {
         String::new()
     };

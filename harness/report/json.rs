@@ -16,6 +16,8 @@ use serde::Serialize;
 use crate::compare::{NanPolicy, PointReport, Stats, Tolerance};
 use crate::gate::{CheckResult, Comparison, Finding, IssueGroup, RunResult, Verdict};
 
+use super::Timings;
+
 /// The value of the top-level `format` field.
 pub const FORMAT: &str = "shadegate-run";
 /// The value of the top-level `version` field; raised when a field changes meaning or
@@ -40,7 +42,12 @@ pub const VERSION: u32 = 1;
 /// Every field of the result types appears under its own name. Non-finite numbers are
 /// the strings `"NaN"`, `"inf"` and `"-inf"` (see the module doc).
 pub fn json(run: &RunResult) -> String {
-    let doc = Run {
+    json_with(run, Timings::Show)
+}
+
+/// [`json()`], with or without the `seconds` fields (without: same code, same bytes).
+pub fn json_with(run: &RunResult, timings: Timings) -> String {
+    let mut doc = Run {
         format: FORMAT,
         version: VERSION,
         suite: &run.suite,
@@ -51,10 +58,16 @@ pub fn json(run: &RunResult) -> String {
             errors: run.errors(),
             exit_code: run.exit_code(),
             points: run.checks.iter().map(|c| c.points).sum(),
-            seconds: Num(run.checks.iter().map(|c| c.seconds).sum()),
+            seconds: Some(Num(run.checks.iter().map(|c| c.seconds).sum())),
         },
         checks: run.checks.iter().map(Check::from).collect(),
     };
+    if timings == Timings::Omit {
+        doc.summary.seconds = None;
+        for c in &mut doc.checks {
+            c.seconds = None;
+        }
+    }
     // Only strings, integers, finite floats and sequences of them: cannot fail.
     serde_json::to_string_pretty(&doc).expect("the JSON mirror of a run always serialises")
 }
@@ -108,7 +121,8 @@ struct Summary {
     errors: usize,
     exit_code: i32,
     points: usize,
-    seconds: Num,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    seconds: Option<Num>,
 }
 
 #[derive(Serialize)]
@@ -119,7 +133,8 @@ struct Check<'a> {
     points: usize,
     verdict: Verdict,
     error: Option<&'a str>,
-    seconds: Num,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    seconds: Option<Num>,
     comparisons: Vec<Compared<'a>>,
     // IssueGroup holds no float: its derived form is already exact.
     issues: &'a [IssueGroup],
@@ -135,7 +150,7 @@ impl<'a> From<&'a CheckResult> for Check<'a> {
             points: c.points,
             verdict: c.verdict,
             error: c.error.as_deref(),
-            seconds: Num(c.seconds),
+            seconds: Some(Num(c.seconds)),
             comparisons: c.comparisons.iter().map(Compared::from).collect(),
             issues: &c.issues,
             findings: c

@@ -23,10 +23,21 @@ use std::cell::RefCell;
 use std::ffi::OsStr;
 use std::io::{IsTerminal as _, Write};
 
-pub use json::json;
-pub use junit::junit;
+mod html;
+
+pub use html::html;
+pub use json::{json, json_with};
+pub use junit::{junit, junit_with};
 pub use ledger::ledger;
-pub use text::text;
+pub use text::{text, text_with};
+
+/// Whether a report carries timings. Without them two runs of the same code give
+/// identical files (the CLI's `--deterministic`, and its default when `CI` is set).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Timings {
+    Show,
+    Omit,
+}
 
 /// Whether the terminal report should be coloured: standard output is a terminal and
 /// `NO_COLOR` is unset or empty.

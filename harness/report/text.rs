@@ -5,7 +5,7 @@
 use std::fmt::Write as _;
 
 use super::format::{self, count, duration, num, point};
-use super::Style;
+use super::{Style, Timings};
 use crate::gate::{CheckResult, Comparison, FindingKind, RunResult, Verdict};
 
 /// Indentation of everything under a status line.
@@ -24,6 +24,11 @@ const UNDER: &str = "       ";
 /// Control characters in the run's texts (an ESC in a message, say) are shown as `�`, so
 /// data can never move the cursor or colour the terminal, with or without `colour`.
 pub fn text(run: &RunResult, colour: bool) -> String {
+    text_with(run, colour, Timings::Show)
+}
+
+/// [`text()`], with or without the timings (without: same code, same bytes).
+pub fn text_with(run: &RunResult, colour: bool, timings: Timings) -> String {
     let run = &terminal_safe(run);
     let st = Style { on: colour };
     let mut out = String::new();
@@ -42,7 +47,7 @@ pub fn text(run: &RunResult, colour: bool) -> String {
         .max()
         .unwrap_or(0);
     for c in &run.checks {
-        check(&mut out, c, st, width);
+        check(&mut out, c, st, width, timings);
     }
     out.push('\n');
     let summary = format!(
@@ -58,14 +63,14 @@ pub fn text(run: &RunResult, colour: bool) -> String {
     };
     let points: usize = run.checks.iter().map(|c| c.points).sum();
     let seconds: f64 = run.checks.iter().map(|c| c.seconds).sum();
+    let took = match timings {
+        Timings::Show => format!(" in {}", duration(seconds)),
+        Timings::Omit => String::new(),
+    };
     let _ = writeln!(
         out,
         "{summary} {}",
-        st.dim(&format!(
-            "({} points in {})",
-            count(points),
-            duration(seconds)
-        ))
+        st.dim(&format!("({}{took})", format::counted(points, "point")))
     );
     out
 }
@@ -84,7 +89,7 @@ pub(crate) fn details(c: &CheckResult) -> String {
         })
 }
 
-fn check(out: &mut String, c: &CheckResult, st: Style, width: usize) {
+fn check(out: &mut String, c: &CheckResult, st: Style, width: usize, timings: Timings) {
     let label = match c.verdict {
         Verdict::Pass => st.pass("PASS "),
         Verdict::Fail => st.fail("FAIL "),
@@ -97,11 +102,14 @@ fn check(out: &mut String, c: &CheckResult, st: Style, width: usize) {
         st.bold(&c.name),
         " ".repeat(pad),
         st.dim(&format!(
-            "{} in {} · {} points · {}",
+            "{} in {} · {}{}",
             c.function,
             c.shader,
-            count(c.points),
-            duration(c.seconds)
+            format::counted(c.points, "point"),
+            match timings {
+                Timings::Show => format!(" · {}", duration(c.seconds)),
+                Timings::Omit => String::new(),
+            }
         ))
     );
     body(out, c, st);
@@ -177,7 +185,7 @@ fn short(out: &mut String, k: &Comparison, st: Style) {
         format::headroom(s)
     );
     if let Some(changed) = s.changed {
-        let _ = write!(out, " · {} points changed bits", count(changed));
+        let _ = write!(out, " · {} changed bits", format::counted(changed, "point"));
     }
     if s.skipped > 0 {
         let _ = write!(out, " · {} skipped", count(s.skipped));
@@ -215,16 +223,16 @@ fn long(out: &mut String, k: &Comparison, st: Style) {
     if s.skipped > 0 {
         let _ = writeln!(
             out,
-            "{UNDER}  {} points skipped (expected value not finite)",
-            count(s.skipped)
+            "{UNDER}  {} skipped (expected value not finite)",
+            format::counted(s.skipped, "point")
         );
     }
     if let Some(changed) = s.changed {
         let _ = writeln!(
             out,
-            "{UNDER}  {} of {} points changed bits",
+            "{UNDER}  {} of {} changed bits",
             count(changed),
-            count(s.points)
+            format::counted(s.points, "point")
         );
     }
     if let Some(w) = &s.worst {

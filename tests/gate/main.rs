@@ -1,10 +1,13 @@
 //! The gate end to end: suite errors, goldens, the CLI, the demo and planted suites, report formats, and the house rules (tidy). One test crate for the whole concern.
 
 mod cli;
+mod cli_extra;
 mod demo;
 mod diagnose;
 mod golden;
+mod html;
 mod planted;
+mod plots;
 mod report_formats;
 mod runner;
 mod suite_errors;
