@@ -38,7 +38,8 @@ pub fn lambert_rgb(albedo: Vec3) -> Vec3 {
 /// `F_D90`, so smooth surfaces (`F_D90 = 0.5`) darken by half per grazing direction and rough
 /// ones (`F_D90` up to 2.5) brighten. The model is not energy conserving.
 ///
-/// Source: B. Burley, "Physically-Based Shading at Disney", 2012 (its diffuse model).
+/// Source: B. Burley, course notes of the SIGGRAPH 2012 course "Practical Physically Based
+/// Shading in Film and Game Production", 2012 (its diffuse model).
 pub fn burley(n_dot_v: f64, n_dot_l: f64, l_dot_h: f64, roughness: f64) -> f64 {
     let fd90 = 0.5 + 2.0 * roughness * l_dot_h * l_dot_h;
     let light = 1.0 + (fd90 - 1.0) * pow5(1.0 - n_dot_l);

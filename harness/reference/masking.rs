@@ -124,8 +124,9 @@ pub fn ggx_v_separable(n_dot_v: f64, n_dot_l: f64, alpha: f64) -> f64 {
 /// (finite for `alpha > 0`); infinite when both cosines are 0+; 0 if either cosine is ≤ 0.
 ///
 /// Source: E. Heitz, "Understanding the Masking-Shadowing Function in Microfacet-Based
-/// BRDFs", 2014; in this form S. Lagarde and C. de Rousiers, "Moving Frostbite to
-/// Physically Based Rendering 3.0", 2014.
+/// BRDFs", Journal of Computer Graphics Techniques 3(2), 2014; in this form S. Lagarde and
+/// C. de Rousiers, course notes of the SIGGRAPH 2014 course "Physically Based Shading in
+/// Theory and Practice", 2014.
 pub fn ggx_v_height_correlated(n_dot_v: f64, n_dot_l: f64, alpha: f64) -> f64 {
     if n_dot_v <= 0.0 || n_dot_l <= 0.0 {
         return 0.0;
@@ -147,8 +148,9 @@ pub fn ggx_v_height_correlated(n_dot_v: f64, n_dot_l: f64, alpha: f64) -> f64 {
 /// the same as the exact form; infinite when both cosines are 0. The approximation is
 /// "mathematically wrong", in its authors' words, in between (tested).
 ///
-/// Source: R. Guy and M. Agopian, "Physically Based Rendering in Filament", 2018 (section
-/// on the geometric shadowing term). Algebraically it equals
+/// Source: R. Guy and M. Agopian, design documentation of an open-source real-time
+/// physically based renderer, 2018 (section on the geometric shadowing term; common
+/// practice, quoted from memory). Algebraically it equals
 /// [`ggx_v_height_correlated_hammon`]; the two are kept apart because a shader written in one
 /// form rounds differently in f32 from one written in the other.
 pub fn ggx_v_height_correlated_fast(n_dot_v: f64, n_dot_l: f64, alpha: f64) -> f64 {
@@ -183,8 +185,8 @@ pub fn ggx_v_height_correlated_hammon(n_dot_v: f64, n_dot_l: f64, alpha: f64) ->
 /// Edges: 1 at `n_dot_v = 1` or `k = 0`; 0 at `n_dot_v = 0` for `k > 0`.
 ///
 /// Source: C. Schlick, "An Inexpensive BRDF Model for Physically-based Rendering", 1994
-/// (the rational form); B. Karis, "Real Shading in Unreal Engine 4", 2013 (its use with
-/// GGX).
+/// (the rational form); B. Karis, course notes of the SIGGRAPH 2013 course "Physically
+/// Based Shading in Theory and Practice", 2013 (its use with GGX).
 pub fn schlick_ggx_g1(n_dot_v: f64, k: f64) -> f64 {
     n_dot_v / (n_dot_v * (1.0 - k) + k)
 }
@@ -202,7 +204,8 @@ pub fn schlick_ggx_v(n_dot_v: f64, n_dot_l: f64, k: f64) -> f64 {
 
 /// Schlick's `k` fitted to Smith GGX: `k = alpha / 2`.
 ///
-/// Source: B. Karis, "Real Shading in Unreal Engine 4", 2013.
+/// Source: B. Karis, course notes of the SIGGRAPH 2013 course "Physically Based Shading in
+/// Theory and Practice", 2013.
 pub fn schlick_k_from_alpha(alpha: f64) -> f64 {
     alpha / 2.0
 }
@@ -210,8 +213,8 @@ pub fn schlick_k_from_alpha(alpha: f64) -> f64 {
 /// Schlick's `k` for analytic lights with the roughness remapping `(roughness + 1) / 2`:
 /// `k = (roughness + 1)² / 8`, where `roughness` is the perceptual roughness.
 ///
-/// Source: B. Karis, "Real Shading in Unreal Engine 4", 2013 (after Burley's remapping
-/// for analytic lights).
+/// Source: B. Karis, course notes of the SIGGRAPH 2013 course "Physically Based Shading in
+/// Theory and Practice", 2013 (after Burley's remapping for analytic lights).
 pub fn schlick_k_analytic_light(roughness: f64) -> f64 {
     (roughness + 1.0) * (roughness + 1.0) / 8.0
 }

@@ -241,42 +241,51 @@ const SPECULAR_COLOR: ParamSpec = vector("specular_color", "specular colour", 0.
 const SHININESS: ParamSpec = scalar("shininess", "specular exponent", 0.0, 1.0e4);
 
 const WALTER: &str = "B. Walter, S. R. Marschner, H. Li, K. E. Torrance, \
-    \"Microfacet Models for Refraction through Rough Surfaces\", 2007";
+    \"Microfacet Models for Refraction through Rough Surfaces\", Eurographics Symposium on \
+    Rendering, 2007";
 const HEITZ: &str = "E. Heitz, \"Understanding the Masking-Shadowing Function in \
-    Microfacet-Based BRDFs\", 2014";
+    Microfacet-Based BRDFs\", Journal of Computer Graphics Techniques 3(2), 2014";
 const GGX_CITE: &str = "T. S. Trowbridge, K. P. Reitz, \"Average irregularity representation \
-    of a rough surface for ray reflection\", 1975; B. Walter, S. R. Marschner, H. Li, \
-    K. E. Torrance, \"Microfacet Models for Refraction through Rough Surfaces\", 2007";
+    of a rough surface for ray reflection\", Journal of the Optical Society of America, 1975; \
+    B. Walter, S. R. Marschner, H. Li, K. E. Torrance, \"Microfacet Models for Refraction \
+    through Rough Surfaces\", Eurographics Symposium on Rendering, 2007";
 const BECKMANN_CITE: &str = "P. Beckmann, A. Spizzichino, \"The Scattering of Electromagnetic \
     Waves from Rough Surfaces\", 1963; B. Walter et al., \"Microfacet Models for Refraction \
-    through Rough Surfaces\", 2007";
+    through Rough Surfaces\", Eurographics Symposium on Rendering, 2007";
 const BLINN_CITE: &str = "J. F. Blinn, \"Models of Light Reflection for Computer Synthesized \
-    Pictures\", 1977; normalisation from B. Walter et al., \"Microfacet Models for \
-    Refraction through Rough Surfaces\", 2007";
-const FROSTBITE: &str = "E. Heitz, \"Understanding the Masking-Shadowing Function in \
-    Microfacet-Based BRDFs\", 2014; S. Lagarde, C. de Rousiers, \"Moving Frostbite to \
-    Physically Based Rendering 3.0\", 2014";
-const FILAMENT: &str = "R. Guy, M. Agopian, \"Physically Based Rendering in Filament\", 2018";
+    Pictures\", SIGGRAPH 1977; normalisation from B. Walter et al., \"Microfacet Models for \
+    Refraction through Rough Surfaces\", Eurographics Symposium on Rendering, 2007";
+const HEITZ_LAGARDE: &str = "E. Heitz, \"Understanding the Masking-Shadowing Function in \
+    Microfacet-Based BRDFs\", Journal of Computer Graphics Techniques 3(2), 2014; in this form \
+    S. Lagarde, C. de Rousiers, course notes, SIGGRAPH 2014 course \"Physically Based Shading \
+    in Theory and Practice\"";
+const GUY_AGOPIAN: &str = "R. Guy, M. Agopian, design documentation of an open-source \
+    real-time physically based renderer, 2018 (common practice; quoted from memory)";
 const HAMMON: &str = "E. Hammon Jr., \"PBR Diffuse Lighting for GGX+Smith Microsurfaces\", \
     Game Developers Conference, 2017";
-const KARIS: &str = "C. Schlick, \"An Inexpensive BRDF Model for Physically-based \
-    Rendering\", 1994; B. Karis, \"Real Shading in Unreal Engine 4\", 2013";
+const SCHLICK_KARIS: &str = "C. Schlick, \"An Inexpensive BRDF Model for Physically-based \
+    Rendering\", Computer Graphics Forum (Eurographics), 1994; B. Karis, course notes, \
+    SIGGRAPH 2013 course \"Physically Based Shading in Theory and Practice\"";
 const SCHLICK: &str = "C. Schlick, \"An Inexpensive BRDF Model for Physically-based \
-    Rendering\", 1994";
+    Rendering\", Computer Graphics Forum (Eurographics), 1994";
 const SCHLICK_F90: &str = "C. Schlick, \"An Inexpensive BRDF Model for Physically-based \
-    Rendering\", 1994; F90 from R. Guy, M. Agopian, \"Physically Based Rendering in \
-    Filament\", 2018, after C. Schüler, \"An Efficient and Physically Plausible Real-Time \
-    Shading Model\", 2009";
+    Rendering\", Computer Graphics Forum (Eurographics), 1994; F90 from R. Guy, M. Agopian, \
+    design documentation of an open-source real-time renderer, 2018, after C. Schüler, \
+    \"An Efficient and Physically Plausible Real-Time Shading Model\", ShaderX7, 2009 \
+    (common practice; attribution from memory)";
 const BORN_WOLF: &str = "A. Fresnel, 1823, as given by M. Born, E. Wolf, \"Principles of \
     Optics\", 1959";
 const LAMBERT: &str = "J. H. Lambert, \"Photometria\", 1760";
-const BURLEY: &str = "B. Burley, \"Physically-Based Shading at Disney\", 2012";
-const METALLIC_CITE: &str = "B. Burley, \"Physically-Based Shading at Disney\", 2012; \
-    B. Karis, \"Real Shading in Unreal Engine 4\", 2013";
+const BURLEY: &str = "B. Burley, course notes, SIGGRAPH 2012 course \"Practical Physically \
+    Based Shading in Film and Game Production\"";
+const BURLEY_KARIS: &str = "B. Burley, course notes, SIGGRAPH 2012 course \"Practical \
+    Physically Based Shading in Film and Game Production\"; B. Karis, course notes, \
+    SIGGRAPH 2013 course \"Physically Based Shading in Theory and Practice\"";
 const COOK_TORRANCE: &str = "R. L. Cook, K. E. Torrance, \"A Reflectance Model for Computer \
-    Graphics\", 1982; B. Walter et al., \"Microfacet Models for Refraction through Rough \
-    Surfaces\", 2007";
-const PHONG: &str = "B. T. Phong, \"Illumination for Computer Generated Pictures\", 1975";
+    Graphics\", ACM Transactions on Graphics, 1982; B. Walter et al., \"Microfacet Models \
+    for Refraction through Rough Surfaces\", Eurographics Symposium on Rendering, 2007";
+const PHONG: &str = "B. T. Phong, \"Illumination for Computer Generated Pictures\", \
+    Communications of the ACM, 1975";
 
 /// Typical unit vectors for the examples: a normal, a view and a light direction.
 const EX_N: [f64; 3] = [0.0, 0.0, 1.0];
@@ -455,7 +464,7 @@ static MODELS: &[Model] = &[
         name: "smith_ggx_v_height_correlated",
         family: "masking",
         summary: "visibility G2/(4 n_dot_l n_dot_v), height-correlated Smith GGX",
-        citation: FROSTBITE,
+        citation: HEITZ_LAGARDE,
         params: &[N_DOT_V, N_DOT_L, ALPHA],
         outputs: 1,
         eval: |a, o| o[0] = masking::ggx_v_height_correlated(a[0], a[1], a[2]),
@@ -465,7 +474,7 @@ static MODELS: &[Model] = &[
         name: "smith_ggx_v_height_correlated_fast",
         family: "masking",
         summary: "height-correlated GGX visibility without square roots (approximation)",
-        citation: FILAMENT,
+        citation: GUY_AGOPIAN,
         params: &[N_DOT_V, N_DOT_L, ALPHA],
         outputs: 1,
         eval: |a, o| o[0] = masking::ggx_v_height_correlated_fast(a[0], a[1], a[2]),
@@ -486,7 +495,7 @@ static MODELS: &[Model] = &[
         name: "smith_schlick_ggx_g1",
         family: "masking",
         summary: "Schlick's G1 n_dot_v/(n_dot_v (1-k) + k)",
-        citation: KARIS,
+        citation: SCHLICK_KARIS,
         params: &[N_DOT_V, K],
         outputs: 1,
         eval: |a, o| o[0] = masking::schlick_ggx_g1(a[0], a[1]),
@@ -496,7 +505,7 @@ static MODELS: &[Model] = &[
         name: "smith_schlick_ggx_v",
         family: "masking",
         summary: "visibility of the separable Schlick G2",
-        citation: KARIS,
+        citation: SCHLICK_KARIS,
         params: &[N_DOT_V, N_DOT_L, K],
         outputs: 1,
         eval: |a, o| o[0] = masking::schlick_ggx_v(a[0], a[1], a[2]),
@@ -506,7 +515,7 @@ static MODELS: &[Model] = &[
         name: "smith_schlick_k_from_alpha",
         family: "masking",
         summary: "Schlick k = alpha/2, fitted to Smith GGX",
-        citation: KARIS,
+        citation: SCHLICK_KARIS,
         params: &[ALPHA],
         outputs: 1,
         eval: |a, o| o[0] = masking::schlick_k_from_alpha(a[0]),
@@ -516,7 +525,7 @@ static MODELS: &[Model] = &[
         name: "smith_schlick_k_analytic_light",
         family: "masking",
         summary: "Schlick k = (roughness + 1)^2 / 8 for analytic lights",
-        citation: KARIS,
+        citation: SCHLICK_KARIS,
         params: &[ROUGHNESS],
         outputs: 1,
         eval: |a, o| o[0] = masking::schlick_k_analytic_light(a[0]),
@@ -749,7 +758,7 @@ static MODELS: &[Model] = &[
         name: "material_diffuse_color",
         family: "material",
         summary: "metallic workflow diffuse colour (1 - metallic) base_color",
-        citation: METALLIC_CITE,
+        citation: BURLEY_KARIS,
         params: &[BASE_COLOR, METALLIC],
         outputs: 3,
         eval: |a, o| put3(o, material::diffuse_color(v3(a, 0), a[3])),
@@ -759,7 +768,7 @@ static MODELS: &[Model] = &[
         name: "material_f0",
         family: "material",
         summary: "metallic workflow F0 = mix(0.04, base_color, metallic)",
-        citation: METALLIC_CITE,
+        citation: BURLEY_KARIS,
         params: &[BASE_COLOR, METALLIC],
         outputs: 3,
         eval: |a, o| put3(o, material::f0_metallic(v3(a, 0), a[3])),
@@ -769,7 +778,7 @@ static MODELS: &[Model] = &[
         name: "f0_from_reflectance",
         family: "material",
         summary: "dielectric F0 = 0.16 reflectance^2",
-        citation: FILAMENT,
+        citation: GUY_AGOPIAN,
         params: &[REFLECTANCE],
         outputs: 1,
         eval: |a, o| o[0] = material::f0_from_reflectance(a[0]),
@@ -779,7 +788,7 @@ static MODELS: &[Model] = &[
         name: "material_f0_reflectance",
         family: "material",
         summary: "F0 = 0.16 reflectance^2 (1 - metallic) + base_color metallic",
-        citation: FILAMENT,
+        citation: GUY_AGOPIAN,
         params: &[BASE_COLOR, METALLIC, REFLECTANCE],
         outputs: 3,
         eval: |a, o| put3(o, material::f0_metallic_reflectance(v3(a, 0), a[3], a[4])),
