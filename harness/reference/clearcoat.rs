@@ -4,6 +4,7 @@
 //! at a fixed index of refraction 1.5 (`F0 = 0.04`), in Schlick's form.
 
 use super::fresnel;
+use super::sin2_from_cos;
 use std::f64::consts::{FRAC_1_PI, PI};
 
 /// The fixed index of refraction of the clearcoat layer.
@@ -12,28 +13,38 @@ pub const CLEARCOAT_IOR: f64 = 1.5;
 /// The generalised Trowbridge-Reitz distribution with exponent 1 (Berry's distribution).
 ///
 /// Formula: `D(h) = (alpha² - 1) / (π ln(alpha²) (1 + (alpha² - 1) cos²θh))`; written with
-/// `alpha² - 1 = (alpha - 1)(alpha + 1)` and `ln(alpha²) = ln_1p(alpha² - 1)` so the ratio
-/// stays accurate near `alpha = 1`.
+/// `alpha² - 1 = (alpha - 1)(alpha + 1)`, `ln(alpha²) = ln_1p(alpha² - 1)` near
+/// `alpha = 1` (`2 ln alpha` below 0.5) and `1 + (alpha² - 1) cos² = alpha² cos² + sin²`, so
+/// it stays accurate near `alpha = 1` and for narrow lobes at `n·h → 1`.
 ///
 /// Domain: `n_dot_h` in `-1 ..= 1`, `alpha` in `(0, 1]`. Normalised: `∫ D (n·h) dω_h = 1`
 /// (tested).
 ///
 /// Edges: `alpha = 1` gives the constant `1/π` (the limit); as `alpha → 0` it narrows to a
-/// delta, with long tails; 0 for `n·h ≤ 0`.
+/// delta, with long tails; 0 for `n·h < 0`.
 ///
 /// Source: B. Burley, course notes, SIGGRAPH 2012 course "Practical Physically Based
 /// Shading in Film and Game Production" (GTR, its clearcoat with `gamma = 1`); the
 /// distribution is E. M. Berry, "Diffuse reflection of light from a matt surface", Journal
 /// of the Optical Society of America, 1923.
 pub fn gtr1_ndf(n_dot_h: f64, alpha: f64) -> f64 {
-    if n_dot_h <= 0.0 {
+    if n_dot_h < 0.0 {
         return 0.0;
     }
     if alpha >= 1.0 {
         return FRAC_1_PI;
     }
     let a2m1 = (alpha - 1.0) * (alpha + 1.0);
-    a2m1 / (PI * a2m1.ln_1p() * (1.0 + a2m1 * n_dot_h * n_dot_h))
+    // ln(alpha²): through ln_1p near 1, where alpha² - 1 is small; directly below, where
+    // 1 + (alpha² - 1) would lose the digits of a small alpha².
+    let log_a2 = if alpha > 0.5 {
+        a2m1.ln_1p()
+    } else {
+        2.0 * alpha.ln()
+    };
+    // 1 + (alpha² - 1) cos² = alpha² cos² + sin², without the cancellation at cos → 1.
+    let c = n_dot_h;
+    a2m1 / (PI * log_a2 * (alpha * alpha * c * c + sin2_from_cos(c)))
 }
 
 /// The clearcoat width from the gloss parameter: `alpha = mix(0.1, 0.001, gloss)`.

@@ -18,12 +18,12 @@ use std::f64::consts::PI;
 /// `∫ D (n·h) dω_h = 1` (tested).
 ///
 /// Edges: 0 at `n·h = 1` (the lobe peaks at grazing facets); `(2 + 1/alpha)/(2π)` at
-/// `n·h = 0`; `alpha = 1` gives `3 sin θ / (2π)`; 0 for `n·h ≤ 0`.
+/// `n·h = 0`; `alpha = 1` gives `3 sin θ / (2π)`; 0 for `n·h < 0`.
 ///
 /// Source: A. Conty Estevez, C. Kulla, "Production Friendly Microfacet Sheen BRDF",
 /// technical report, 2017.
 pub fn charlie_ndf(n_dot_h: f64, alpha: f64) -> f64 {
-    if n_dot_h <= 0.0 {
+    if n_dot_h < 0.0 {
         return 0.0;
     }
     let inv = 1.0 / alpha;
@@ -38,13 +38,13 @@ pub fn charlie_ndf(n_dot_h: f64, alpha: f64) -> f64 {
 /// Gaussian part integrates to `4 π sigma²`; tested).
 ///
 /// Edges: `1 / (π (1 + 4 sigma²))` at `n·h = 1` (the limit: `exp(-cot²/sigma²)` falls
-/// faster than `sin⁴` does); `(1 + 4) / (π (1 + 4 sigma²))` at `n·h = 0`; 0 for `n·h ≤ 0`.
+/// faster than `sin⁴` does); `(1 + 4) / (π (1 + 4 sigma²))` at `n·h = 0`; 0 for `n·h < 0`.
 ///
 /// Source: M. Ashikhmin, S. Premože, "Distribution-based BRDFs", technical report, 2007
 /// (the velvet example; the amplitude 4 and the normalisation are as we remember them and
 /// are checked here by the normalisation identity).
 pub fn ashikhmin_velvet_ndf(n_dot_h: f64, sigma: f64) -> f64 {
-    if n_dot_h <= 0.0 {
+    if n_dot_h < 0.0 {
         return 0.0;
     }
     let s2 = sin2_from_cos(n_dot_h);
