@@ -12,8 +12,9 @@
 //! A single-scattering microfacet lobe loses the light that would have bounced more than
 //! once between microfacets, and the loss grows with roughness. The table below is the
 //! directional albedo `E(v) = ∫ f_spec(v, l) (n·l) dω_l` of [`CookTorrance::STANDARD`]'s
-//! specular lobe (GGX, height-correlated Smith, `F = 1`), measured by adaptive numerical
-//! integration in `tests/reference/identities.rs` (which also checks that it is ≤ 1, that it
+//! specular lobe (GGX, height-correlated Smith, `F = 1`), the output of
+//! [`crate::reference::multiscatter::albedo_table`], and also measured by adaptive numerical
+//! integration of its own in `tests/reference/identities.rs` (which also checks that it is ≤ 1, that it
 //! falls as roughness grows, and that these published digits match what it measures). The
 //! same table is in `harness/reference/ALBEDO.md`. Rows are perceptual roughness
 //! (`alpha = roughness²`), columns `n·v`; the last column is the hemispherical average

@@ -32,7 +32,9 @@
 //! `tools/refgen/refgen.py`; `tests/reference/mitsuba.rs` against tables from the Mitsuba 3
 //! renderer's own implementations; `tests/reference/identities.rs` checks normalisation,
 //! masking consistency, reciprocity and energy by numerical integration;
-//! `tests/reference/handbook.rs` checks handbook facts. The measured specular albedo table
+//! `tests/reference/handbook.rs` checks handbook facts; `tests/reference/integrated.rs`
+//! checks the integrated models against scipy integrals over a different variable, closed
+//! forms and identities (white furnace, round trips). The measured specular albedo table
 //! is in [`brdf`] and in `harness/reference/ALBEDO.md`.
 //!
 //! Measured agreement (largest relative error over every row of every table, as the tests

@@ -681,8 +681,11 @@ def sp_bias(mu, roughness):
 
 def points_albedo(name):
     r = rng(name)
-    pts = grid2([1.0, 0.75, 0.5, 0.25, 0.1, 0.01, 0.0], [0.01, 0.04, 0.1, 0.3, 0.6, 1.0])
-    pts += [(r.random(), r.uniform(0.02, 1.0)) for _ in range(12)]
+    # n.v = 0 is left out: the lobe then peaks at a corner of the integration domain (the
+    # horizon) and dblquad misses part of it for narrow lobes (0.9922 at alpha = 0.01 where
+    # the value is 1: see tests/reference/integrated.rs, albedo_edges).
+    pts = grid2([1.0, 0.75, 0.5, 0.25, 0.1, 0.01], [0.01, 0.04, 0.1, 0.3, 0.6, 1.0])
+    pts += [(r.random(), r.uniform(0.02, 1.0)) for _ in range(18)]
     return pts
 
 
