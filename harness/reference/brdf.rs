@@ -12,8 +12,9 @@
 //! A single-scattering microfacet lobe loses the light that would have bounced more than
 //! once between microfacets, and the loss grows with roughness. The table below is the
 //! directional albedo `E(v) = ∫ f_spec(v, l) (n·l) dω_l` of [`CookTorrance::STANDARD`]'s
-//! specular lobe (GGX, height-correlated Smith, `F = 1`), measured by adaptive numerical
-//! integration in `tests/reference/identities.rs` (which also checks that it is ≤ 1, that it
+//! specular lobe (GGX, height-correlated Smith, `F = 1`), the output of
+//! [`crate::reference::multiscatter::albedo_table`], and also measured by adaptive numerical
+//! integration of its own in `tests/reference/identities.rs` (which also checks that it is ≤ 1, that it
 //! falls as roughness grows, and that these published digits match what it measures). The
 //! same table is in `harness/reference/ALBEDO.md`. Rows are perceptual roughness
 //! (`alpha = roughness²`), columns `n·v`; the last column is the hemispherical average
@@ -311,6 +312,46 @@ pub fn blinn_phong(
     let h = normalize(add(v, l));
     let s = dot(n, h).max(0.0).powf(shininess);
     add(scale(diffuse_color, n_dot_l), scale(specular_color, s))
+}
+
+/// The anisotropic GGX specular lobe with `F = 1`: `f = D(h) · V(v, l)` with the
+/// anisotropic GGX distribution ([`ndf::ggx_aniso`]) and the height-correlated anisotropic
+/// Smith visibility ([`masking::ggx_aniso_v_height_correlated`]).
+///
+/// Formula: with `v`, `l` normalised, `h = normalize(v + l)` and each direction's
+/// components in the frame `(t, b, n)`: `f = D(n·h, t·h, b·h) ·
+/// 0.5 / (n·l r_v + n·v r_l)`, `r = sqrt(n² + alpha_x² t² + alpha_y² b²)`.
+///
+/// Domain: `n`, `t`, `b` an orthonormal frame (not checked; used as given); `v`, `l`
+/// non-zero (normalised here); `alpha_x`, `alpha_y` in `(0, 1]`.
+///
+/// Edges: 0 when `n·v ≤ 0` or `n·l ≤ 0`; equals [`CookTorrance::SPECULAR_ONLY`]'s lobe
+/// when `alpha_x = alpha_y` (tested); `1 / (4 π alpha_x alpha_y)` at `v = l = n`.
+///
+/// Source: E. Heitz, "Understanding the Masking-Shadowing Function in Microfacet-Based
+/// BRDFs", Journal of Computer Graphics Techniques 3(2), 2014; B. Walter et al. 2007 for the
+/// microfacet BRDF.
+#[allow(clippy::too_many_arguments)]
+pub fn ggx_aniso_specular(n: Vec3, t: Vec3, b: Vec3, v: Vec3, l: Vec3, ax: f64, ay: f64) -> f64 {
+    let v = normalize(v);
+    let l = normalize(l);
+    let (nv, nl) = (dot(n, v), dot(n, l));
+    if nv <= 0.0 || nl <= 0.0 {
+        return 0.0;
+    }
+    let h = normalize(add(v, l));
+    let d = ndf::ggx_aniso(dot(n, h), dot(t, h), dot(b, h), ax, ay);
+    let vis = masking::ggx_aniso_v_height_correlated(
+        nv,
+        dot(t, v),
+        dot(b, v),
+        nl,
+        dot(t, l),
+        dot(b, l),
+        ax,
+        ay,
+    );
+    d * vis
 }
 
 #[cfg(test)]

@@ -33,9 +33,10 @@ pub fn schlick(v_dot_h: f64, f0: f64) -> f64 {
 /// Edges: `F0` at `v_dot_h = 1`, `F90` at `v_dot_h = 0`.
 ///
 /// Source: C. Schlick, "An Inexpensive BRDF Model for Physically-based Rendering", 1994
-/// (with `F90 = 1`); the free `F90` is used by B. Burley, "Physically-Based Shading at
-/// Disney", 2012, and by S. Lagarde and C. de Rousiers, "Moving Frostbite to Physically
-/// Based Rendering 3.0", 2014.
+/// (with `F90 = 1`); the free `F90` is used by B. Burley, course notes of the SIGGRAPH 2012
+/// course "Practical Physically Based Shading in Film and Game Production", 2012, and by
+/// S. Lagarde and C. de Rousiers, course notes of the SIGGRAPH 2014 course "Physically Based
+/// Shading in Theory and Practice", 2014.
 pub fn schlick_f90(v_dot_h: f64, f0: f64, f90: f64) -> f64 {
     let m = 1.0 - v_dot_h;
     let m2 = m * m;
@@ -72,9 +73,10 @@ pub fn schlick_rgb_f90(v_dot_h: f64, f0: Vec3, f90: f64) -> Vec3 {
 /// Domain: RGB `F0` with components in `0 ..= 1`. Edges: 0 at `F0 = 0`; 1 (saturated) once
 /// the mean `F0` reaches about 0.0202; the common dielectric 0.04 gives 1.
 ///
-/// Source: R. Guy and M. Agopian, "Physically Based Rendering in Filament", 2018 (section
-/// on specular occlusion), after C. Schüler, "An Efficient and Physically Plausible
-/// Real-Time Shading Model", ShaderX7, 2009 (attribution from memory).
+/// Source: R. Guy and M. Agopian, design documentation of an open-source real-time
+/// physically based renderer, 2018 (section on specular occlusion), after C. Schüler, "An
+/// Efficient and Physically Plausible Real-Time Shading Model", ShaderX7, 2009 (common
+/// practice; attribution from memory).
 pub fn f90_from_f0(f0: Vec3) -> f64 {
     (50.0 * dot(f0, [0.33, 0.33, 0.33])).clamp(0.0, 1.0)
 }

@@ -124,8 +124,9 @@ pub fn ggx_v_separable(n_dot_v: f64, n_dot_l: f64, alpha: f64) -> f64 {
 /// (finite for `alpha > 0`); infinite when both cosines are 0+; 0 if either cosine is ≤ 0.
 ///
 /// Source: E. Heitz, "Understanding the Masking-Shadowing Function in Microfacet-Based
-/// BRDFs", 2014; in this form S. Lagarde and C. de Rousiers, "Moving Frostbite to
-/// Physically Based Rendering 3.0", 2014.
+/// BRDFs", Journal of Computer Graphics Techniques 3(2), 2014; in this form S. Lagarde and
+/// C. de Rousiers, course notes of the SIGGRAPH 2014 course "Physically Based Shading in
+/// Theory and Practice", 2014.
 pub fn ggx_v_height_correlated(n_dot_v: f64, n_dot_l: f64, alpha: f64) -> f64 {
     if n_dot_v <= 0.0 || n_dot_l <= 0.0 {
         return 0.0;
@@ -147,8 +148,9 @@ pub fn ggx_v_height_correlated(n_dot_v: f64, n_dot_l: f64, alpha: f64) -> f64 {
 /// the same as the exact form; infinite when both cosines are 0. The approximation is
 /// "mathematically wrong", in its authors' words, in between (tested).
 ///
-/// Source: R. Guy and M. Agopian, "Physically Based Rendering in Filament", 2018 (section
-/// on the geometric shadowing term). Algebraically it equals
+/// Source: R. Guy and M. Agopian, design documentation of an open-source real-time
+/// physically based renderer, 2018 (section on the geometric shadowing term; common
+/// practice, quoted from memory). Algebraically it equals
 /// [`ggx_v_height_correlated_hammon`]; the two are kept apart because a shader written in one
 /// form rounds differently in f32 from one written in the other.
 pub fn ggx_v_height_correlated_fast(n_dot_v: f64, n_dot_l: f64, alpha: f64) -> f64 {
@@ -183,8 +185,8 @@ pub fn ggx_v_height_correlated_hammon(n_dot_v: f64, n_dot_l: f64, alpha: f64) ->
 /// Edges: 1 at `n_dot_v = 1` or `k = 0`; 0 at `n_dot_v = 0` for `k > 0`.
 ///
 /// Source: C. Schlick, "An Inexpensive BRDF Model for Physically-based Rendering", 1994
-/// (the rational form); B. Karis, "Real Shading in Unreal Engine 4", 2013 (its use with
-/// GGX).
+/// (the rational form); B. Karis, course notes of the SIGGRAPH 2013 course "Physically
+/// Based Shading in Theory and Practice", 2013 (its use with GGX).
 pub fn schlick_ggx_g1(n_dot_v: f64, k: f64) -> f64 {
     n_dot_v / (n_dot_v * (1.0 - k) + k)
 }
@@ -202,7 +204,8 @@ pub fn schlick_ggx_v(n_dot_v: f64, n_dot_l: f64, k: f64) -> f64 {
 
 /// Schlick's `k` fitted to Smith GGX: `k = alpha / 2`.
 ///
-/// Source: B. Karis, "Real Shading in Unreal Engine 4", 2013.
+/// Source: B. Karis, course notes of the SIGGRAPH 2013 course "Physically Based Shading in
+/// Theory and Practice", 2013.
 pub fn schlick_k_from_alpha(alpha: f64) -> f64 {
     alpha / 2.0
 }
@@ -210,8 +213,8 @@ pub fn schlick_k_from_alpha(alpha: f64) -> f64 {
 /// Schlick's `k` for analytic lights with the roughness remapping `(roughness + 1) / 2`:
 /// `k = (roughness + 1)² / 8`, where `roughness` is the perceptual roughness.
 ///
-/// Source: B. Karis, "Real Shading in Unreal Engine 4", 2013 (after Burley's remapping
-/// for analytic lights).
+/// Source: B. Karis, course notes of the SIGGRAPH 2013 course "Physically Based Shading in
+/// Theory and Practice", 2013 (after Burley's remapping for analytic lights).
 pub fn schlick_k_analytic_light(roughness: f64) -> f64 {
     (roughness + 1.0) * (roughness + 1.0) / 8.0
 }
@@ -362,6 +365,150 @@ pub fn beckmann_v_height_correlated(n_dot_v: f64, n_dot_l: f64, alpha: f64) -> f
     let cl_v = beckmann_cos_lambda(n_dot_v, alpha);
     let cl_l = beckmann_cos_lambda(n_dot_l, alpha);
     0.25 / (n_dot_v * n_dot_l + n_dot_l * cl_v + n_dot_v * cl_l)
+}
+
+/// `sqrt(n² + alpha_x² t² + alpha_y² b²)` for a unit direction with components `(t, b, n)`
+/// in the tangent frame: the square root of the anisotropic GGX Λ, times `n`.
+fn ggx_aniso_root(n: f64, t: f64, b: f64, alpha_x: f64, alpha_y: f64) -> f64 {
+    (n * n + alpha_x * alpha_x * t * t + alpha_y * alpha_y * b * b).sqrt()
+}
+
+/// Smith Λ for anisotropic GGX.
+///
+/// Formula: with the direction's tangent-frame components `(t, b, n)` (`t = t·v`,
+/// `b = b·v`, `n = n·v`, unit `v`), `Λ(v) = (-1 + sqrt(1 + (alpha_x² t² + alpha_y² b²) /
+/// n²)) / 2`; evaluated as `s / (2 n (n + sqrt(n² + s)))` with `s = alpha_x² t² +
+/// alpha_y² b²`, which removes the subtraction.
+///
+/// Domain: `t`, `b`, `n` the components of a unit vector; `alpha_x`, `alpha_y ≥ 0`.
+///
+/// Edges: 0 at `n = 1` or when both alphas are 0; equals the isotropic [`ggx_lambda`] when
+/// `alpha_x = alpha_y`; grows like `sqrt(s) / (2 n)` as `n → 0+`; `+∞` for `n ≤ 0`.
+///
+/// Source: E. Heitz, "Understanding the Masking-Shadowing Function in Microfacet-Based
+/// BRDFs", Journal of Computer Graphics Techniques 3(2), 2014 (section 5.2, the
+/// anisotropic GGX Λ with the projected width `alpha_0² = cos²φ alpha_x² + sin²φ alpha_y²`).
+pub fn ggx_aniso_lambda(n_dot_v: f64, t_dot_v: f64, b_dot_v: f64, ax: f64, ay: f64) -> f64 {
+    if n_dot_v <= 0.0 {
+        return f64::INFINITY;
+    }
+    let s = ax * ax * t_dot_v * t_dot_v + ay * ay * b_dot_v * b_dot_v;
+    s / (2.0 * n_dot_v * (n_dot_v + ggx_aniso_root(n_dot_v, t_dot_v, b_dot_v, ax, ay)))
+}
+
+/// Smith G1 for anisotropic GGX: `G1 = 1 / (1 + Λ) = 2 n / (n + sqrt(n² + alpha_x² t² +
+/// alpha_y² b²))`.
+///
+/// Domain and components as [`ggx_aniso_lambda`]. Edges: 1 at `n = 1` or zero alphas;
+/// 0 for `n ≤ 0`; tends to 0 as `n → 0+` when the alphas are positive.
+///
+/// Source: Heitz 2014 (section 5.2).
+pub fn ggx_aniso_g1(n_dot_v: f64, t_dot_v: f64, b_dot_v: f64, ax: f64, ay: f64) -> f64 {
+    if n_dot_v <= 0.0 {
+        return 0.0;
+    }
+    2.0 * n_dot_v / (n_dot_v + ggx_aniso_root(n_dot_v, t_dot_v, b_dot_v, ax, ay))
+}
+
+/// Separable Smith G2 for anisotropic GGX: `G2 = G1(v) G1(l)`.
+///
+/// Domain: the tangent-frame components of two unit vectors `v` and `l`, alphas `≥ 0`.
+/// Edges: 1 when both directions are the normal; 0 if either `n` component is `≤ 0`.
+///
+/// Source: Heitz 2014 (section 6, the separable form).
+#[allow(clippy::too_many_arguments)]
+pub fn ggx_aniso_g2_separable(
+    n_dot_v: f64,
+    t_dot_v: f64,
+    b_dot_v: f64,
+    n_dot_l: f64,
+    t_dot_l: f64,
+    b_dot_l: f64,
+    ax: f64,
+    ay: f64,
+) -> f64 {
+    ggx_aniso_g1(n_dot_v, t_dot_v, b_dot_v, ax, ay)
+        * ggx_aniso_g1(n_dot_l, t_dot_l, b_dot_l, ax, ay)
+}
+
+/// Height-correlated Smith G2 for anisotropic GGX: `G2 = 1 / (1 + Λ(v) + Λ(l))`.
+///
+/// Domain and edges as [`ggx_aniso_g2_separable`]; equals the isotropic
+/// [`ggx_g2_height_correlated`] when `alpha_x = alpha_y`.
+///
+/// Source: Heitz 2014 (section 6, the height-correlated form).
+#[allow(clippy::too_many_arguments)]
+pub fn ggx_aniso_g2_height_correlated(
+    n_dot_v: f64,
+    t_dot_v: f64,
+    b_dot_v: f64,
+    n_dot_l: f64,
+    t_dot_l: f64,
+    b_dot_l: f64,
+    ax: f64,
+    ay: f64,
+) -> f64 {
+    if n_dot_v <= 0.0 || n_dot_l <= 0.0 {
+        return 0.0;
+    }
+    1.0 / (1.0
+        + ggx_aniso_lambda(n_dot_v, t_dot_v, b_dot_v, ax, ay)
+        + ggx_aniso_lambda(n_dot_l, t_dot_l, b_dot_l, ax, ay))
+}
+
+/// Visibility of the separable anisotropic G2: `V = G1(v) G1(l) / (4 n·v n·l) =
+/// 1 / ((n_v + r_v)(n_l + r_l))` with `r = sqrt(n² + alpha_x² t² + alpha_y² b²)`.
+///
+/// Domain as [`ggx_aniso_g2_separable`]. Edges: `1/4` when both directions are the normal;
+/// finite as either `n → 0+` (for positive alphas); 0 if either `n ≤ 0`.
+///
+/// Source: Heitz 2014; the visibility form (G2 divided by the BRDF's `4 n·v n·l`) is
+/// common practice.
+#[allow(clippy::too_many_arguments)]
+pub fn ggx_aniso_v_separable(
+    n_dot_v: f64,
+    t_dot_v: f64,
+    b_dot_v: f64,
+    n_dot_l: f64,
+    t_dot_l: f64,
+    b_dot_l: f64,
+    ax: f64,
+    ay: f64,
+) -> f64 {
+    if n_dot_v <= 0.0 || n_dot_l <= 0.0 {
+        return 0.0;
+    }
+    let rv = ggx_aniso_root(n_dot_v, t_dot_v, b_dot_v, ax, ay);
+    let rl = ggx_aniso_root(n_dot_l, t_dot_l, b_dot_l, ax, ay);
+    1.0 / ((n_dot_v + rv) * (n_dot_l + rl))
+}
+
+/// Visibility of the height-correlated anisotropic G2: `V = G2 / (4 n·v n·l) =
+/// 0.5 / (n_l r_v + n_v r_l)` with `r = sqrt(n² + alpha_x² t² + alpha_y² b²)`.
+///
+/// Domain as [`ggx_aniso_g2_separable`]. Edges: `1/4` when both directions are the normal;
+/// equals [`ggx_v_height_correlated`] when `alpha_x = alpha_y`; at `n_v = 0+` it tends to
+/// `0.5 / (n_l r_v)` (finite for positive alphas); 0 if either `n ≤ 0`.
+///
+/// Source: Heitz 2014; in this form common practice (the anisotropic extension of the
+/// isotropic visibility, quoted from memory of several open renderers).
+#[allow(clippy::too_many_arguments)]
+pub fn ggx_aniso_v_height_correlated(
+    n_dot_v: f64,
+    t_dot_v: f64,
+    b_dot_v: f64,
+    n_dot_l: f64,
+    t_dot_l: f64,
+    b_dot_l: f64,
+    ax: f64,
+    ay: f64,
+) -> f64 {
+    if n_dot_v <= 0.0 || n_dot_l <= 0.0 {
+        return 0.0;
+    }
+    let rv = ggx_aniso_root(n_dot_v, t_dot_v, b_dot_v, ax, ay);
+    let rl = ggx_aniso_root(n_dot_l, t_dot_l, b_dot_l, ax, ay);
+    0.5 / (n_dot_l * rv + n_dot_v * rl)
 }
 
 #[cfg(test)]

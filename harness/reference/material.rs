@@ -18,8 +18,10 @@ pub const DIELECTRIC_F0: f64 = 0.04;
 /// Domain: `base_color` components and `metallic` in `0 ..= 1`. Edges: `metallic = 1`
 /// (a metal) has no diffuse term; `metallic = 0` gives the base colour.
 ///
-/// Source: B. Burley, "Physically-Based Shading at Disney", 2012 (the metallic parameter);
-/// in this form B. Karis, "Real Shading in Unreal Engine 4", 2013.
+/// Source: B. Burley, course notes of the SIGGRAPH 2012 course "Practical Physically Based
+/// Shading in Film and Game Production", 2012 (the metallic parameter); in this form
+/// B. Karis, course notes of the SIGGRAPH 2013 course "Physically Based Shading in Theory
+/// and Practice", 2013.
 pub fn diffuse_color(base_color: Vec3, metallic: f64) -> Vec3 {
     scale(base_color, 1.0 - metallic)
 }
@@ -49,8 +51,9 @@ pub fn f0_metallic_with(base_color: Vec3, metallic: f64, dielectric_f0: f64) -> 
 /// 0.16 at 1, near diamond's `F0` of about 0.17 (index 2.42, a handbook value quoted from
 /// memory).
 ///
-/// Source: R. Guy and M. Agopian, "Physically Based Rendering in Filament", 2018 (the
-/// reflectance parameter of the standard material).
+/// Source: R. Guy and M. Agopian, design documentation of an open-source real-time
+/// physically based renderer, 2018 (the reflectance parameter of its standard material).
+/// Known to us only from that source: common practice, quoted from memory.
 pub fn f0_from_reflectance(reflectance: f64) -> f64 {
     0.16 * reflectance * reflectance
 }
@@ -69,8 +72,9 @@ pub fn f0_metallic_reflectance(base_color: Vec3, metallic: f64, reflectance: f64
 /// Domain: `roughness` in `0 ..= 1`. Edges: `roughness = 0` gives `alpha = 0`, the mirror
 /// limit in which the NDFs are Dirac deltas (see [`RoughnessClamp`] for the usual guard).
 ///
-/// Source: B. Burley, "Physically-Based Shading at Disney", 2012 (the squared mapping,
-/// chosen so roughness changes look perceptually even).
+/// Source: B. Burley, course notes of the SIGGRAPH 2012 course "Practical Physically Based
+/// Shading in Film and Game Production", 2012 (the squared mapping, chosen so roughness
+/// changes look perceptually even).
 pub fn alpha_from_roughness(roughness: f64) -> f64 {
     roughness * roughness
 }
@@ -90,12 +94,12 @@ pub enum RoughnessClamp {
 
 impl RoughnessClamp {
     /// The bound used by shaders running in f32: perceptual roughness 0.045, so that
-    /// `alpha² = 0.045⁴ ≈ 4.1e-6`. Common practice; the value is from memory of the
-    /// Filament renderer's sources (Guy and Agopian 2018).
+    /// `alpha² = 0.045⁴ ≈ 4.1e-6`. Common practice; the value is from memory of an
+    /// open-source real-time renderer's sources (Guy and Agopian 2018).
     pub const F32: RoughnessClamp = RoughnessClamp::Min(0.045);
     /// The bound used by shaders running in f16: perceptual roughness 0.089, so that
     /// `alpha² = 0.089⁴ ≈ 6.3e-5` stays above f16's smallest normal number (6.1e-5).
-    /// Common practice; the value is from memory of the Filament renderer's sources.
+    /// Common practice; the value is from memory of the same renderer's sources.
     pub const F16: RoughnessClamp = RoughnessClamp::Min(0.089);
 
     /// The clamped perceptual roughness.

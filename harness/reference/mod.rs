@@ -9,9 +9,19 @@
 //! - [`masking`]: Smith Λ, G1, G2 (separable and height-correlated) and the visibility form,
 //!   with the named fast approximations.
 //! - [`fresnel`]: Schlick's approximation and the exact dielectric and conductor formulas.
-//! - [`diffuse`]: Lambert and Burley.
+//! - [`diffuse`]: Lambert, Burley, Oren-Nayar (full and qualitative) and Hammon's GGX
+//!   diffuse approximation.
 //! - [`material`]: the metallic workflow and the roughness remapping.
-//! - [`brdf`]: Cook-Torrance composed from chosen terms, and legacy Phong / Blinn-Phong.
+//! - [`brdf`]: Cook-Torrance composed from chosen terms, the anisotropic GGX specular lobe,
+//!   and legacy Phong / Blinn-Phong.
+//! - [`sheen`]: the Charlie and velvet sheen distributions, the cloth visibility and the
+//!   composed lobes.
+//! - [`clearcoat`]: GTR1, Kelemen's visibility, the layer's Fresnel and the composed lobe.
+//! - [`multiscatter`]: the directional and average albedo of the GGX lobe by numerical
+//!   integration ([`quad`]), and the energy-compensation terms built on them.
+//! - [`envbrdf`]: the split-sum environment BRDF's scale and bias, integrated, and a
+//!   published analytic fit.
+//! - [`encoding`]: sRGB transfer, octahedral unit-vector encoding, a filmic tone curve.
 //!
 //! The rest of the tool reaches the models by name through the registry, [`models`] and
 //! [`find`]: a suite file names a model, the sweep binds its parameters by
@@ -22,7 +32,9 @@
 //! `tools/refgen/refgen.py`; `tests/reference/mitsuba.rs` against tables from the Mitsuba 3
 //! renderer's own implementations; `tests/reference/identities.rs` checks normalisation,
 //! masking consistency, reciprocity and energy by numerical integration;
-//! `tests/reference/handbook.rs` checks handbook facts. The measured specular albedo table
+//! `tests/reference/handbook.rs` checks handbook facts; `tests/reference/integrated.rs`
+//! checks the integrated models against scipy integrals over a different variable, closed
+//! forms and identities (white furnace, round trips). The measured specular albedo table
 //! is in [`brdf`] and in `harness/reference/ALBEDO.md`.
 //!
 //! Measured agreement (largest relative error over every row of every table, as the tests
@@ -39,11 +51,17 @@
 //! it**; the comparison layer brings the two together.
 
 pub mod brdf;
+pub mod clearcoat;
 pub mod diffuse;
+pub mod encoding;
+pub mod envbrdf;
 pub mod fresnel;
 pub mod masking;
 pub mod material;
+pub mod multiscatter;
 pub mod ndf;
+pub mod quad;
+pub mod sheen;
 pub mod vec3;
 
 use std::fmt::Write as _;
@@ -93,7 +111,8 @@ pub struct ParamSpec {
 pub struct Model {
     /// Unique name, e.g. `ggx_ndf`, `smith_ggx_v_height_correlated`, `cook_torrance_rgb`.
     pub name: &'static str,
-    /// `ndf`, `masking`, `fresnel`, `diffuse`, `material` or `brdf`.
+    /// `ndf`, `masking`, `fresnel`, `diffuse`, `material`, `brdf`, `sheen`, `clearcoat`,
+    /// `multiscatter`, `envbrdf` or `encoding`.
     pub family: &'static str,
     /// One line.
     pub summary: &'static str,
@@ -101,7 +120,7 @@ pub struct Model {
     pub citation: &'static str,
     /// The parameters, in argument order.
     pub params: &'static [ParamSpec],
-    /// Number of f64 outputs (1 or 3).
+    /// Number of f64 outputs (1, 2 or 3).
     pub outputs: usize,
     /// Evaluates the model: `args` flattened (a `Vec3` parameter takes 3 consecutive
     /// scalars), `out` of length [`Model::outputs`].
@@ -151,7 +170,11 @@ pub fn listing() -> String {
             family = m.family;
             let _ = writeln!(s, "{family}:");
         }
-        let out = if m.outputs == 1 { "scalar" } else { "rgb" };
+        let out = match m.outputs {
+            1 => "scalar",
+            2 => "vec2",
+            _ => "rgb",
+        };
         let _ = writeln!(s, "  {} -> {}: {}", m.name, out, m.summary);
         for p in m.params {
             let kind = match p.kind {
@@ -240,43 +263,115 @@ const DIFFUSE_COLOR: ParamSpec = vector("diffuse_color", "diffuse colour", 0.0, 
 const SPECULAR_COLOR: ParamSpec = vector("specular_color", "specular colour", 0.0, 1.0);
 const SHININESS: ParamSpec = scalar("shininess", "specular exponent", 0.0, 1.0e4);
 
+const T_DOT_V: ParamSpec = scalar("t_dot_v", "view direction along the tangent", -1.0, 1.0);
+const B_DOT_V: ParamSpec = scalar("b_dot_v", "view direction along the bitangent", -1.0, 1.0);
+const T_DOT_L: ParamSpec = scalar("t_dot_l", "light direction along the tangent", -1.0, 1.0);
+const B_DOT_L: ParamSpec = scalar("b_dot_l", "light direction along the bitangent", -1.0, 1.0);
+const COS_PHI: ParamSpec = scalar(
+    "cos_phi",
+    "cosine of the azimuth between the projected view and light",
+    -1.0,
+    1.0,
+);
+const SIGMA_ON: ParamSpec = scalar("sigma", "facet slope deviation (radians)", 0.0, 1.5);
+const RHO: ParamSpec = scalar("rho", "diffuse albedo", 0.0, 1.0);
+const L_DOT_V: ParamSpec = scalar("l_dot_v", "cosine between light and view", -1.0, 1.0);
+const SHEEN_ALPHA: ParamSpec = scalar("alpha", "sheen roughness", 0.01, 1.0);
+const VELVET_SIGMA: ParamSpec = scalar("sigma", "velvet width", 0.01, 1.0);
+const CC_ALPHA: ParamSpec = scalar("alpha", "clearcoat width", 0.001, 1.0);
+const GLOSS: ParamSpec = scalar("gloss", "clearcoat gloss", 0.0, 1.0);
+const MS_ALPHA: ParamSpec = scalar("alpha", "microfacet width (roughness squared)", 0.0, 1.0);
+const F_AVG: ParamSpec = scalar("f_avg", "hemispherical average Fresnel", 0.0, 1.0);
+const E_AVG: ParamSpec = scalar("e_avg", "hemispherical average albedo", 0.0, 1.0);
+const X_LINEAR: ParamSpec = scalar("x", "linear value", 0.0, 1.0);
+const X_SIGNAL: ParamSpec = scalar("x", "sRGB-encoded value", 0.0, 1.0);
+const X_HDR: ParamSpec = scalar("x", "scene-referred linear value", 0.0, 1.0e3);
+const OCT_U: ParamSpec = scalar("u", "first octahedral coordinate", -1.0, 1.0);
+const OCT_V: ParamSpec = scalar("v", "second octahedral coordinate", -1.0, 1.0);
+const UNIT: ParamSpec = vector("n", "unit vector to encode", -1.0, 1.0);
+
 const WALTER: &str = "B. Walter, S. R. Marschner, H. Li, K. E. Torrance, \
-    \"Microfacet Models for Refraction through Rough Surfaces\", 2007";
+    \"Microfacet Models for Refraction through Rough Surfaces\", Eurographics Symposium on \
+    Rendering, 2007";
 const HEITZ: &str = "E. Heitz, \"Understanding the Masking-Shadowing Function in \
-    Microfacet-Based BRDFs\", 2014";
+    Microfacet-Based BRDFs\", Journal of Computer Graphics Techniques 3(2), 2014";
 const GGX_CITE: &str = "T. S. Trowbridge, K. P. Reitz, \"Average irregularity representation \
-    of a rough surface for ray reflection\", 1975; B. Walter, S. R. Marschner, H. Li, \
-    K. E. Torrance, \"Microfacet Models for Refraction through Rough Surfaces\", 2007";
+    of a rough surface for ray reflection\", Journal of the Optical Society of America, 1975; \
+    B. Walter, S. R. Marschner, H. Li, K. E. Torrance, \"Microfacet Models for Refraction \
+    through Rough Surfaces\", Eurographics Symposium on Rendering, 2007";
 const BECKMANN_CITE: &str = "P. Beckmann, A. Spizzichino, \"The Scattering of Electromagnetic \
     Waves from Rough Surfaces\", 1963; B. Walter et al., \"Microfacet Models for Refraction \
-    through Rough Surfaces\", 2007";
+    through Rough Surfaces\", Eurographics Symposium on Rendering, 2007";
 const BLINN_CITE: &str = "J. F. Blinn, \"Models of Light Reflection for Computer Synthesized \
-    Pictures\", 1977; normalisation from B. Walter et al., \"Microfacet Models for \
-    Refraction through Rough Surfaces\", 2007";
-const FROSTBITE: &str = "E. Heitz, \"Understanding the Masking-Shadowing Function in \
-    Microfacet-Based BRDFs\", 2014; S. Lagarde, C. de Rousiers, \"Moving Frostbite to \
-    Physically Based Rendering 3.0\", 2014";
-const FILAMENT: &str = "R. Guy, M. Agopian, \"Physically Based Rendering in Filament\", 2018";
+    Pictures\", SIGGRAPH 1977; normalisation from B. Walter et al., \"Microfacet Models for \
+    Refraction through Rough Surfaces\", Eurographics Symposium on Rendering, 2007";
+const HEITZ_LAGARDE: &str = "E. Heitz, \"Understanding the Masking-Shadowing Function in \
+    Microfacet-Based BRDFs\", Journal of Computer Graphics Techniques 3(2), 2014; in this form \
+    S. Lagarde, C. de Rousiers, course notes, SIGGRAPH 2014 course \"Physically Based Shading \
+    in Theory and Practice\"";
+const GUY_AGOPIAN: &str = "R. Guy, M. Agopian, design documentation of an open-source \
+    real-time physically based renderer, 2018 (common practice; quoted from memory)";
 const HAMMON: &str = "E. Hammon Jr., \"PBR Diffuse Lighting for GGX+Smith Microsurfaces\", \
     Game Developers Conference, 2017";
-const KARIS: &str = "C. Schlick, \"An Inexpensive BRDF Model for Physically-based \
-    Rendering\", 1994; B. Karis, \"Real Shading in Unreal Engine 4\", 2013";
+const SCHLICK_KARIS: &str = "C. Schlick, \"An Inexpensive BRDF Model for Physically-based \
+    Rendering\", Computer Graphics Forum (Eurographics), 1994; B. Karis, course notes, \
+    SIGGRAPH 2013 course \"Physically Based Shading in Theory and Practice\"";
 const SCHLICK: &str = "C. Schlick, \"An Inexpensive BRDF Model for Physically-based \
-    Rendering\", 1994";
+    Rendering\", Computer Graphics Forum (Eurographics), 1994";
 const SCHLICK_F90: &str = "C. Schlick, \"An Inexpensive BRDF Model for Physically-based \
-    Rendering\", 1994; F90 from R. Guy, M. Agopian, \"Physically Based Rendering in \
-    Filament\", 2018, after C. Schüler, \"An Efficient and Physically Plausible Real-Time \
-    Shading Model\", 2009";
+    Rendering\", Computer Graphics Forum (Eurographics), 1994; F90 from R. Guy, M. Agopian, \
+    design documentation of an open-source real-time renderer, 2018, after C. Schüler, \
+    \"An Efficient and Physically Plausible Real-Time Shading Model\", ShaderX7, 2009 \
+    (common practice; attribution from memory)";
 const BORN_WOLF: &str = "A. Fresnel, 1823, as given by M. Born, E. Wolf, \"Principles of \
     Optics\", 1959";
 const LAMBERT: &str = "J. H. Lambert, \"Photometria\", 1760";
-const BURLEY: &str = "B. Burley, \"Physically-Based Shading at Disney\", 2012";
-const METALLIC_CITE: &str = "B. Burley, \"Physically-Based Shading at Disney\", 2012; \
-    B. Karis, \"Real Shading in Unreal Engine 4\", 2013";
+const BURLEY: &str = "B. Burley, course notes, SIGGRAPH 2012 course \"Practical Physically \
+    Based Shading in Film and Game Production\"";
+const BURLEY_KARIS: &str = "B. Burley, course notes, SIGGRAPH 2012 course \"Practical \
+    Physically Based Shading in Film and Game Production\"; B. Karis, course notes, \
+    SIGGRAPH 2013 course \"Physically Based Shading in Theory and Practice\"";
 const COOK_TORRANCE: &str = "R. L. Cook, K. E. Torrance, \"A Reflectance Model for Computer \
-    Graphics\", 1982; B. Walter et al., \"Microfacet Models for Refraction through Rough \
-    Surfaces\", 2007";
-const PHONG: &str = "B. T. Phong, \"Illumination for Computer Generated Pictures\", 1975";
+    Graphics\", ACM Transactions on Graphics, 1982; B. Walter et al., \"Microfacet Models \
+    for Refraction through Rough Surfaces\", Eurographics Symposium on Rendering, 2007";
+const PHONG: &str = "B. T. Phong, \"Illumination for Computer Generated Pictures\", \
+    Communications of the ACM, 1975";
+
+const OREN_NAYAR: &str = "M. Oren, S. K. Nayar, \"Generalization of Lambert's Reflectance \
+    Model\", SIGGRAPH 1994";
+const CHARLIE: &str = "A. Conty Estevez, C. Kulla, \"Production Friendly Microfacet Sheen \
+    BRDF\", technical report, 2017; visibility from M. Ashikhmin, S. Premoze, \
+    \"Distribution-based BRDFs\", technical report, 2007, as used by D. Neubelt, \
+    M. Pettineo, course notes, SIGGRAPH 2013 course \"Physically Based Shading in Theory and \
+    Practice\"";
+const VELVET: &str = "M. Ashikhmin, S. Premoze, \"Distribution-based BRDFs\", technical \
+    report, 2007";
+const NEUBELT: &str = "M. Ashikhmin, S. Premoze, \"Distribution-based BRDFs\", technical \
+    report, 2007; D. Neubelt, M. Pettineo, course notes, SIGGRAPH 2013 course \"Physically \
+    Based Shading in Theory and Practice\"";
+const GTR1: &str = "B. Burley, course notes, SIGGRAPH 2012 course \"Practical Physically \
+    Based Shading in Film and Game Production\"; E. M. Berry, \"Diffuse reflection of light \
+    from a matt surface\", Journal of the Optical Society of America, 1923";
+const KELEMEN: &str = "C. Kelemen, L. Szirmay-Kalos, \"A Microfacet Based Coupled \
+    Specular-Matte BRDF Model with Importance Sampling\", Eurographics 2001 short \
+    presentations";
+const CLEARCOAT: &str = "B. Burley, course notes, SIGGRAPH 2012 course \"Practical \
+    Physically Based Shading in Film and Game Production\"; C. Kelemen, L. Szirmay-Kalos, \
+    Eurographics 2001 short presentations; C. Schlick, Computer Graphics Forum, 1994";
+const KULLA_CONTY: &str = "C. Kulla, A. Conty, course notes, SIGGRAPH 2017 course \
+    \"Physically Based Shading in Theory and Practice\"; integrated numerically";
+const TURQUIN: &str = "E. Turquin, \"Practical multiple scattering compensation for \
+    microfacet models\", technical report, 2019; E integrated numerically";
+const SPLIT_SUM: &str = "B. Karis, course notes, SIGGRAPH 2013 course \"Physically Based \
+    Shading in Theory and Practice\"; integrated numerically with height-correlated Smith";
+const SPLIT_SUM_FIT: &str = "B. Karis, \"Physically Based Shading on Mobile\", web article, \
+    2014 (coefficients quoted from memory: common practice)";
+const SRGB: &str = "IEC 61966-2-1:1999, default RGB colour space sRGB";
+const OCTAHEDRAL: &str = "Z. H. Cigolle, S. Donow, D. Evangelakos, M. Mara, M. McGuire, \
+    Q. Meyer, \"A Survey of Efficient Representations for Independent Unit Vectors\", \
+    Journal of Computer Graphics Techniques 3(2), 2014";
+const FILMIC: &str = "K. Narkowicz, web article on a fitted filmic tone-mapping curve, 2015 \
+    (coefficients quoted from memory: common practice)";
 
 /// Typical unit vectors for the examples: a normal, a view and a light direction.
 const EX_N: [f64; 3] = [0.0, 0.0, 1.0];
@@ -296,6 +391,22 @@ const fn cat<const A: usize, const B: usize, const C: usize>(a: [f64; A], b: [f6
     }
     out
 }
+
+/// An example view in the tangent frame `(t, b, n)` and the anisotropic pair's parameters.
+const EX_ANISO_V: [f64; 5] = [0.9327379053088815, 0.3, 0.2, 0.2, 0.5];
+const EX_ANISO_PAIR: [f64; 8] = [
+    0.9327379053088815,
+    0.3,
+    0.2,
+    0.9110433579144299,
+    -0.4,
+    0.1,
+    0.2,
+    0.5,
+];
+const ANISO_PAIR: [ParamSpec; 8] = [
+    N_DOT_V, T_DOT_V, B_DOT_V, N_DOT_L, T_DOT_L, B_DOT_L, ALPHA_X, ALPHA_Y,
+];
 
 const EX_NVL: [f64; 9] = cat::<6, 3, 9>(cat::<3, 3, 6>(EX_N, EX_V), EX_L);
 const EX_BRDF: [f64; 14] = cat::<9, 5, 14>(EX_NVL, [0.8, 0.5, 0.3, 0.25, 0.6]);
@@ -455,7 +566,7 @@ static MODELS: &[Model] = &[
         name: "smith_ggx_v_height_correlated",
         family: "masking",
         summary: "visibility G2/(4 n_dot_l n_dot_v), height-correlated Smith GGX",
-        citation: FROSTBITE,
+        citation: HEITZ_LAGARDE,
         params: &[N_DOT_V, N_DOT_L, ALPHA],
         outputs: 1,
         eval: |a, o| o[0] = masking::ggx_v_height_correlated(a[0], a[1], a[2]),
@@ -465,7 +576,7 @@ static MODELS: &[Model] = &[
         name: "smith_ggx_v_height_correlated_fast",
         family: "masking",
         summary: "height-correlated GGX visibility without square roots (approximation)",
-        citation: FILAMENT,
+        citation: GUY_AGOPIAN,
         params: &[N_DOT_V, N_DOT_L, ALPHA],
         outputs: 1,
         eval: |a, o| o[0] = masking::ggx_v_height_correlated_fast(a[0], a[1], a[2]),
@@ -486,7 +597,7 @@ static MODELS: &[Model] = &[
         name: "smith_schlick_ggx_g1",
         family: "masking",
         summary: "Schlick's G1 n_dot_v/(n_dot_v (1-k) + k)",
-        citation: KARIS,
+        citation: SCHLICK_KARIS,
         params: &[N_DOT_V, K],
         outputs: 1,
         eval: |a, o| o[0] = masking::schlick_ggx_g1(a[0], a[1]),
@@ -496,7 +607,7 @@ static MODELS: &[Model] = &[
         name: "smith_schlick_ggx_v",
         family: "masking",
         summary: "visibility of the separable Schlick G2",
-        citation: KARIS,
+        citation: SCHLICK_KARIS,
         params: &[N_DOT_V, N_DOT_L, K],
         outputs: 1,
         eval: |a, o| o[0] = masking::schlick_ggx_v(a[0], a[1], a[2]),
@@ -506,7 +617,7 @@ static MODELS: &[Model] = &[
         name: "smith_schlick_k_from_alpha",
         family: "masking",
         summary: "Schlick k = alpha/2, fitted to Smith GGX",
-        citation: KARIS,
+        citation: SCHLICK_KARIS,
         params: &[ALPHA],
         outputs: 1,
         eval: |a, o| o[0] = masking::schlick_k_from_alpha(a[0]),
@@ -516,7 +627,7 @@ static MODELS: &[Model] = &[
         name: "smith_schlick_k_analytic_light",
         family: "masking",
         summary: "Schlick k = (roughness + 1)^2 / 8 for analytic lights",
-        citation: KARIS,
+        citation: SCHLICK_KARIS,
         params: &[ROUGHNESS],
         outputs: 1,
         eval: |a, o| o[0] = masking::schlick_k_analytic_light(a[0]),
@@ -749,7 +860,7 @@ static MODELS: &[Model] = &[
         name: "material_diffuse_color",
         family: "material",
         summary: "metallic workflow diffuse colour (1 - metallic) base_color",
-        citation: METALLIC_CITE,
+        citation: BURLEY_KARIS,
         params: &[BASE_COLOR, METALLIC],
         outputs: 3,
         eval: |a, o| put3(o, material::diffuse_color(v3(a, 0), a[3])),
@@ -759,7 +870,7 @@ static MODELS: &[Model] = &[
         name: "material_f0",
         family: "material",
         summary: "metallic workflow F0 = mix(0.04, base_color, metallic)",
-        citation: METALLIC_CITE,
+        citation: BURLEY_KARIS,
         params: &[BASE_COLOR, METALLIC],
         outputs: 3,
         eval: |a, o| put3(o, material::f0_metallic(v3(a, 0), a[3])),
@@ -769,7 +880,7 @@ static MODELS: &[Model] = &[
         name: "f0_from_reflectance",
         family: "material",
         summary: "dielectric F0 = 0.16 reflectance^2",
-        citation: FILAMENT,
+        citation: GUY_AGOPIAN,
         params: &[REFLECTANCE],
         outputs: 1,
         eval: |a, o| o[0] = material::f0_from_reflectance(a[0]),
@@ -779,7 +890,7 @@ static MODELS: &[Model] = &[
         name: "material_f0_reflectance",
         family: "material",
         summary: "F0 = 0.16 reflectance^2 (1 - metallic) + base_color metallic",
-        citation: FILAMENT,
+        citation: GUY_AGOPIAN,
         params: &[BASE_COLOR, METALLIC, REFLECTANCE],
         outputs: 3,
         eval: |a, o| put3(o, material::f0_metallic_reflectance(v3(a, 0), a[3], a[4])),
@@ -941,6 +1052,422 @@ static MODELS: &[Model] = &[
         },
         example: &EX_LEGACY,
     },
+    // ---- anisotropic masking (family masking) ----
+    Model {
+        name: "smith_ggx_aniso_lambda",
+        family: "masking",
+        summary: "Smith Lambda for anisotropic GGX, from the view's tangent-frame components",
+        citation: HEITZ,
+        params: &[N_DOT_V, T_DOT_V, B_DOT_V, ALPHA_X, ALPHA_Y],
+        outputs: 1,
+        eval: |a, o| o[0] = masking::ggx_aniso_lambda(a[0], a[1], a[2], a[3], a[4]),
+        example: &EX_ANISO_V,
+    },
+    Model {
+        name: "smith_ggx_aniso_g1",
+        family: "masking",
+        summary: "Smith G1 for anisotropic GGX",
+        citation: HEITZ,
+        params: &[N_DOT_V, T_DOT_V, B_DOT_V, ALPHA_X, ALPHA_Y],
+        outputs: 1,
+        eval: |a, o| o[0] = masking::ggx_aniso_g1(a[0], a[1], a[2], a[3], a[4]),
+        example: &EX_ANISO_V,
+    },
+    Model {
+        name: "smith_ggx_aniso_g2_separable",
+        family: "masking",
+        summary: "separable Smith G2 for anisotropic GGX",
+        citation: HEITZ,
+        params: &ANISO_PAIR,
+        outputs: 1,
+        eval: |a, o| {
+            o[0] = masking::ggx_aniso_g2_separable(a[0], a[1], a[2], a[3], a[4], a[5], a[6], a[7])
+        },
+        example: &EX_ANISO_PAIR,
+    },
+    Model {
+        name: "smith_ggx_aniso_g2_height_correlated",
+        family: "masking",
+        summary: "height-correlated Smith G2 for anisotropic GGX",
+        citation: HEITZ,
+        params: &ANISO_PAIR,
+        outputs: 1,
+        eval: |a, o| {
+            o[0] = masking::ggx_aniso_g2_height_correlated(
+                a[0], a[1], a[2], a[3], a[4], a[5], a[6], a[7],
+            )
+        },
+        example: &EX_ANISO_PAIR,
+    },
+    Model {
+        name: "smith_ggx_aniso_v_separable",
+        family: "masking",
+        summary: "visibility G2/(4 n_dot_l n_dot_v), separable Smith, anisotropic GGX",
+        citation: HEITZ,
+        params: &ANISO_PAIR,
+        outputs: 1,
+        eval: |a, o| {
+            o[0] = masking::ggx_aniso_v_separable(a[0], a[1], a[2], a[3], a[4], a[5], a[6], a[7])
+        },
+        example: &EX_ANISO_PAIR,
+    },
+    Model {
+        name: "smith_ggx_aniso_v_height_correlated",
+        family: "masking",
+        summary: "visibility G2/(4 n_dot_l n_dot_v), height-correlated Smith, anisotropic GGX",
+        citation: HEITZ,
+        params: &ANISO_PAIR,
+        outputs: 1,
+        eval: |a, o| {
+            o[0] = masking::ggx_aniso_v_height_correlated(
+                a[0], a[1], a[2], a[3], a[4], a[5], a[6], a[7],
+            )
+        },
+        example: &EX_ANISO_PAIR,
+    },
+    // ---- more diffuse ----
+    Model {
+        name: "oren_nayar_diffuse",
+        family: "diffuse",
+        summary: "Oren-Nayar, full model with the interreflection term, albedo rho",
+        citation: OREN_NAYAR,
+        params: &[N_DOT_V, N_DOT_L, COS_PHI, SIGMA_ON, RHO],
+        outputs: 1,
+        eval: |a, o| o[0] = diffuse::oren_nayar(a[0], a[1], a[2], a[3], a[4]),
+        example: &[0.6, 0.8, 0.3, 0.4, 0.7],
+    },
+    Model {
+        name: "oren_nayar_qualitative",
+        family: "diffuse",
+        summary: "Oren-Nayar qualitative model (A + B max(0, cos_phi) sin a tan b)/pi",
+        citation: OREN_NAYAR,
+        params: &[N_DOT_V, N_DOT_L, COS_PHI, SIGMA_ON],
+        outputs: 1,
+        eval: |a, o| o[0] = diffuse::oren_nayar_qualitative(a[0], a[1], a[2], a[3]),
+        example: &[0.6, 0.8, 0.3, 0.4],
+    },
+    Model {
+        name: "hammon_diffuse",
+        family: "diffuse",
+        summary: "Hammon's GGX+Smith diffuse approximation, albedo rho",
+        citation: HAMMON,
+        params: &[N_DOT_V, N_DOT_L, N_DOT_H, L_DOT_V, ALPHA, RHO],
+        outputs: 1,
+        eval: |a, o| o[0] = diffuse::hammon(a[0], a[1], a[2], a[3], a[4], a[5]),
+        example: &[0.6, 0.8, 0.9, 0.5, 0.3, 0.7],
+    },
+    // ---- anisotropic lobe (family brdf) ----
+    Model {
+        name: "ggx_aniso_specular",
+        family: "brdf",
+        summary: "anisotropic GGX D times height-correlated anisotropic Smith V, F = 1",
+        citation: HEITZ,
+        params: &[N, T, B, V, L, ALPHA_X, ALPHA_Y],
+        outputs: 1,
+        eval: |a, o| {
+            o[0] = brdf::ggx_aniso_specular(
+                v3(a, 0),
+                v3(a, 3),
+                v3(a, 6),
+                v3(a, 9),
+                v3(a, 12),
+                a[15],
+                a[16],
+            )
+        },
+        example: &[
+            0.0,
+            0.0,
+            1.0,
+            1.0,
+            0.0,
+            0.0,
+            0.0,
+            1.0,
+            0.0,
+            0.3,
+            0.0,
+            0.9539392014169457,
+            -0.5,
+            0.2,
+            0.8426149773176358,
+            0.2,
+            0.5,
+        ],
+    },
+    // ---- sheen ----
+    Model {
+        name: "charlie_sheen_ndf",
+        family: "sheen",
+        summary: "Charlie sheen D = (2 + 1/alpha) sin^(1/alpha) / (2 pi)",
+        citation: CHARLIE,
+        params: &[N_DOT_H, SHEEN_ALPHA],
+        outputs: 1,
+        eval: |a, o| o[0] = sheen::charlie_ndf(a[0], a[1]),
+        example: &[0.6, 0.3],
+    },
+    Model {
+        name: "ashikhmin_velvet_ndf",
+        family: "sheen",
+        summary: "velvet D = (1 + 4 exp(-cot^2/sigma^2)/sin^4) / (pi (1 + 4 sigma^2))",
+        citation: VELVET,
+        params: &[N_DOT_H, VELVET_SIGMA],
+        outputs: 1,
+        eval: |a, o| o[0] = sheen::ashikhmin_velvet_ndf(a[0], a[1]),
+        example: &[0.6, 0.5],
+    },
+    Model {
+        name: "sheen_visibility",
+        family: "sheen",
+        summary: "cloth visibility 1 / (4 (n_dot_l + n_dot_v - n_dot_l n_dot_v))",
+        citation: NEUBELT,
+        params: &[N_DOT_V, N_DOT_L],
+        outputs: 1,
+        eval: |a, o| o[0] = sheen::neubelt_visibility(a[0], a[1]),
+        example: &[0.5, 0.7],
+    },
+    Model {
+        name: "sheen_charlie_lobe",
+        family: "sheen",
+        summary: "Charlie D times the cloth visibility (sheen colour 1)",
+        citation: CHARLIE,
+        params: &[N_DOT_H, N_DOT_V, N_DOT_L, SHEEN_ALPHA],
+        outputs: 1,
+        eval: |a, o| o[0] = sheen::sheen_charlie_lobe(a[0], a[1], a[2], a[3]),
+        example: &[0.9, 0.5, 0.7, 0.3],
+    },
+    Model {
+        name: "sheen_velvet_lobe",
+        family: "sheen",
+        summary: "velvet D times the cloth visibility",
+        citation: VELVET,
+        params: &[N_DOT_H, N_DOT_V, N_DOT_L, VELVET_SIGMA],
+        outputs: 1,
+        eval: |a, o| o[0] = sheen::sheen_velvet_lobe(a[0], a[1], a[2], a[3]),
+        example: &[0.9, 0.5, 0.7, 0.5],
+    },
+    // ---- clearcoat ----
+    Model {
+        name: "gtr1_ndf",
+        family: "clearcoat",
+        summary: "GTR1 (Berry) D = (a^2 - 1) / (pi ln(a^2) (1 + (a^2 - 1) cos^2))",
+        citation: GTR1,
+        params: &[N_DOT_H, CC_ALPHA],
+        outputs: 1,
+        eval: |a, o| o[0] = clearcoat::gtr1_ndf(a[0], a[1]),
+        example: &[0.95, 0.05],
+    },
+    Model {
+        name: "clearcoat_alpha_from_gloss",
+        family: "clearcoat",
+        summary: "alpha = mix(0.1, 0.001, gloss)",
+        citation: BURLEY,
+        params: &[GLOSS],
+        outputs: 1,
+        eval: |a, o| o[0] = clearcoat::clearcoat_alpha_from_gloss(a[0]),
+        example: &[0.5],
+    },
+    Model {
+        name: "kelemen_visibility",
+        family: "clearcoat",
+        summary: "Kelemen V = 1 / (4 l_dot_h^2)",
+        citation: KELEMEN,
+        params: &[L_DOT_H],
+        outputs: 1,
+        eval: |a, o| o[0] = clearcoat::kelemen_visibility(a[0]),
+        example: &[0.8],
+    },
+    Model {
+        name: "clearcoat_fresnel",
+        family: "clearcoat",
+        summary: "Schlick Fresnel at the layer's fixed IOR 1.5 (F0 = 0.04)",
+        citation: SCHLICK,
+        params: &[V_DOT_H],
+        outputs: 1,
+        eval: |a, o| o[0] = clearcoat::clearcoat_fresnel(a[0]),
+        example: &[0.8],
+    },
+    Model {
+        name: "clearcoat_lobe",
+        family: "clearcoat",
+        summary: "GTR1 D times Kelemen V times Schlick F at IOR 1.5",
+        citation: CLEARCOAT,
+        params: &[N_DOT_H, L_DOT_H, CC_ALPHA],
+        outputs: 1,
+        eval: |a, o| o[0] = clearcoat::clearcoat_lobe(a[0], a[1], a[2]),
+        example: &[0.95, 0.8, 0.05],
+    },
+    // ---- multiscatter ----
+    Model {
+        name: "ggx_albedo",
+        family: "multiscatter",
+        summary:
+            "directional albedo E of the GGX lobe (height-correlated Smith, F = 1), integrated",
+        citation: KULLA_CONTY,
+        params: &[N_DOT_V, MS_ALPHA],
+        outputs: 1,
+        eval: |a, o| o[0] = multiscatter::ggx_albedo(a[0], a[1]),
+        example: &[0.5, 0.3],
+    },
+    Model {
+        name: "ggx_albedo_average",
+        family: "multiscatter",
+        summary: "hemispherical average E_avg = 2 int E(mu) mu dmu, integrated",
+        citation: KULLA_CONTY,
+        params: &[MS_ALPHA],
+        outputs: 1,
+        eval: |a, o| o[0] = multiscatter::ggx_albedo_average(a[0]),
+        example: &[0.3],
+    },
+    Model {
+        name: "kulla_conty_ms",
+        family: "multiscatter",
+        summary: "multiple-scattering lobe (1 - E(v))(1 - E(l)) / (pi (1 - E_avg)), F = 1",
+        citation: KULLA_CONTY,
+        params: &[N_DOT_V, N_DOT_L, MS_ALPHA],
+        outputs: 1,
+        eval: |a, o| o[0] = multiscatter::kulla_conty_ms(a[0], a[1], a[2]),
+        example: &[0.5, 0.7, 0.3],
+    },
+    Model {
+        name: "kulla_conty_fresnel_factor",
+        family: "multiscatter",
+        summary: "F_avg^2 E_avg / (1 - F_avg (1 - E_avg))",
+        citation: KULLA_CONTY,
+        params: &[F_AVG, E_AVG],
+        outputs: 1,
+        eval: |a, o| o[0] = multiscatter::kulla_conty_fresnel_factor(a[0], a[1]),
+        example: &[0.5, 0.8],
+    },
+    Model {
+        name: "schlick_fresnel_average",
+        family: "multiscatter",
+        summary: "average of Schlick's Fresnel, F0 + (1 - F0)/21",
+        citation: KULLA_CONTY,
+        params: &[F0],
+        outputs: 1,
+        eval: |a, o| o[0] = multiscatter::schlick_fresnel_average(a[0]),
+        example: &[0.04],
+    },
+    Model {
+        name: "kulla_conty_ms_fresnel",
+        family: "multiscatter",
+        summary: "multiple-scattering lobe times its Fresnel factor, Schlick F_avg from f0",
+        citation: KULLA_CONTY,
+        params: &[N_DOT_V, N_DOT_L, MS_ALPHA, F0],
+        outputs: 1,
+        eval: |a, o| o[0] = multiscatter::kulla_conty_ms_fresnel(a[0], a[1], a[2], a[3]),
+        example: &[0.5, 0.7, 0.3, 0.9],
+    },
+    Model {
+        name: "turquin_compensation",
+        family: "multiscatter",
+        summary: "energy-compensation factor 1 + F0 (1 - E(v)) / E(v)",
+        citation: TURQUIN,
+        params: &[N_DOT_V, MS_ALPHA, F0],
+        outputs: 1,
+        eval: |a, o| o[0] = multiscatter::turquin_compensation(a[0], a[1], a[2]),
+        example: &[0.5, 0.3, 0.9],
+    },
+    // ---- envbrdf ----
+    Model {
+        name: "split_sum",
+        family: "envbrdf",
+        summary: "split-sum (scale, bias) of the GGX lobe, integrated",
+        citation: SPLIT_SUM,
+        params: &[N_DOT_V, ROUGHNESS],
+        outputs: 2,
+        eval: |a, o| {
+            o[0] = envbrdf::split_sum_scale(a[0], a[1]);
+            o[1] = envbrdf::split_sum_bias(a[0], a[1]);
+        },
+        example: &[0.5, 0.5],
+    },
+    Model {
+        name: "split_sum_scale",
+        family: "envbrdf",
+        summary: "split-sum scale (factor of F0), integrated",
+        citation: SPLIT_SUM,
+        params: &[N_DOT_V, ROUGHNESS],
+        outputs: 1,
+        eval: |a, o| o[0] = envbrdf::split_sum_scale(a[0], a[1]),
+        example: &[0.5, 0.5],
+    },
+    Model {
+        name: "split_sum_bias",
+        family: "envbrdf",
+        summary: "split-sum bias, integrated",
+        citation: SPLIT_SUM,
+        params: &[N_DOT_V, ROUGHNESS],
+        outputs: 1,
+        eval: |a, o| o[0] = envbrdf::split_sum_bias(a[0], a[1]),
+        example: &[0.5, 0.5],
+    },
+    Model {
+        name: "split_sum_fit",
+        family: "envbrdf",
+        summary: "published analytic fit of the split-sum (scale, bias)",
+        citation: SPLIT_SUM_FIT,
+        params: &[N_DOT_V, ROUGHNESS],
+        outputs: 2,
+        eval: |a, o| {
+            let (s, b) = envbrdf::split_sum_fit(a[0], a[1]);
+            o[0] = s;
+            o[1] = b;
+        },
+        example: &[0.5, 0.5],
+    },
+    // ---- encoding ----
+    Model {
+        name: "srgb_encode",
+        family: "encoding",
+        summary: "sRGB transfer, linear to encoded",
+        citation: SRGB,
+        params: &[X_LINEAR],
+        outputs: 1,
+        eval: |a, o| o[0] = encoding::srgb_encode(a[0]),
+        example: &[0.2],
+    },
+    Model {
+        name: "srgb_decode",
+        family: "encoding",
+        summary: "sRGB transfer, encoded to linear",
+        citation: SRGB,
+        params: &[X_SIGNAL],
+        outputs: 1,
+        eval: |a, o| o[0] = encoding::srgb_decode(a[0]),
+        example: &[0.5],
+    },
+    Model {
+        name: "octahedral_encode",
+        family: "encoding",
+        summary: "octahedral encoding of a unit vector into [-1, 1]^2",
+        citation: OCTAHEDRAL,
+        params: &[UNIT],
+        outputs: 2,
+        eval: |a, o| o[..2].copy_from_slice(&encoding::octahedral_encode(v3(a, 0))),
+        example: &[0.48, -0.6, -0.64],
+    },
+    Model {
+        name: "octahedral_decode",
+        family: "encoding",
+        summary: "octahedral decoding of [-1, 1]^2 to a unit vector",
+        citation: OCTAHEDRAL,
+        params: &[OCT_U, OCT_V],
+        outputs: 3,
+        eval: |a, o| put3(o, encoding::octahedral_decode(a[0], a[1])),
+        example: &[0.3, -0.9],
+    },
+    Model {
+        name: "filmic_tonemap",
+        family: "encoding",
+        summary: "fitted filmic curve saturate(x (2.51 x + 0.03) / (x (2.43 x + 0.59) + 0.14))",
+        citation: FILMIC,
+        params: &[X_HDR],
+        outputs: 1,
+        eval: |a, o| o[0] = encoding::filmic_narkowicz(a[0]),
+        example: &[0.8],
+    },
 ];
 
 fn eval_cook_torrance(m: &brdf::CookTorrance, a: &[f64], o: &mut [f64]) {
@@ -992,7 +1519,19 @@ mod tests {
 
     #[test]
     fn families_and_outputs_are_known() {
-        let families = ["ndf", "masking", "fresnel", "diffuse", "material", "brdf"];
+        let families = [
+            "ndf",
+            "masking",
+            "fresnel",
+            "diffuse",
+            "material",
+            "brdf",
+            "sheen",
+            "clearcoat",
+            "multiscatter",
+            "envbrdf",
+            "encoding",
+        ];
         for m in models() {
             assert!(
                 families.contains(&m.family),
@@ -1000,7 +1539,7 @@ mod tests {
                 m.name,
                 m.family
             );
-            assert!(m.outputs == 1 || m.outputs == 3, "{}", m.name);
+            assert!((1..=3).contains(&m.outputs), "{}", m.name);
             assert!(
                 !m.citation.is_empty() && !m.summary.is_empty(),
                 "{}",

@@ -66,8 +66,9 @@ pub fn ggx(n_dot_h: f64, alpha: f64) -> f64 {
 ///
 /// Source: E. Heitz, "Understanding the Masking-Shadowing Function in Microfacet-Based
 /// BRDFs", 2014 (its anisotropic form); the isotropic form is Walter et al. 2007; the
-/// parameterisation with a tangent frame is also given by B. Burley, "Physically-Based
-/// Shading at Disney", 2012, appendix B.
+/// parameterisation with a tangent frame is also given by B. Burley, course notes of the
+/// SIGGRAPH 2012 course "Practical Physically Based Shading in Film and Game Production",
+/// 2012, appendix B.
 pub fn ggx_aniso(n_dot_h: f64, t_dot_h: f64, b_dot_h: f64, alpha_x: f64, alpha_y: f64) -> f64 {
     if n_dot_h <= 0.0 {
         return 0.0;

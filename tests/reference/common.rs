@@ -11,6 +11,22 @@ use shadegate::reference::{find, ParamKind};
 /// Returns the largest relative error seen.
 #[track_caller]
 pub fn check_table(dir: &str, source: &str, model: &str, rel_tol: f64, positive: bool) -> f64 {
+    check_table_with(dir, source, model, rel_tol, 0.0, positive)
+}
+
+/// As [`check_table`], with an absolute floor: a row passes when
+/// `|got - expected| ≤ abs_tol + rel_tol |expected|` (for tables of integrals, whose
+/// quadrature error is absolute). Returns the largest absolute error seen when `abs_tol`
+/// is not 0, else the largest relative error.
+#[track_caller]
+pub fn check_table_with(
+    dir: &str,
+    source: &str,
+    model: &str,
+    rel_tol: f64,
+    abs_tol: f64,
+    positive: bool,
+) -> f64 {
     let m = find(model).unwrap_or_else(|| panic!("no registered model {model}"));
     let path = format!(
         "{}/tests/data/reference/{dir}/{model}.csv",
@@ -65,6 +81,17 @@ pub fn check_table(dir: &str, source: &str, model: &str, rel_tol: f64, positive:
             );
         }
         let got = m.call(args)[0];
+        if abs_tol > 0.0 {
+            let err = (got - expected).abs();
+            if err.is_nan() || err > abs_tol + rel_tol * expected.abs() {
+                failures.push(format!(
+                    "  {args:?}: got {got:e}, {source} {expected:e}, abs {err:.2e}"
+                ));
+            }
+            worst = worst.max(err);
+            rows += 1;
+            continue;
+        }
         let rel = if expected == 0.0 {
             if got == 0.0 {
                 0.0
@@ -83,10 +110,15 @@ pub fn check_table(dir: &str, source: &str, model: &str, rel_tol: f64, positive:
         rows += 1;
     }
     assert!(rows > 50, "{path}: only {rows} rows");
-    println!("{model}: {rows} rows, max relative error {worst:.3e}");
+    let what = if abs_tol > 0.0 {
+        "absolute"
+    } else {
+        "relative"
+    };
+    println!("{model}: {rows} rows, max {what} error {worst:.3e}");
     assert!(
         failures.is_empty(),
-        "{model}: {} of {rows} rows differ from {source} by more than {rel_tol:e}:\n{}",
+        "{model}: {} of {rows} rows differ from {source} by more than {rel_tol:e} relative + {abs_tol:e}:\n{}",
         failures.len(),
         failures
             .iter()

@@ -3,5 +3,6 @@
 mod common;
 mod handbook;
 mod identities;
+mod integrated;
 mod mitsuba;
 mod mpmath;

@@ -42,6 +42,29 @@ const TABLES: &[&str] = &[
     "fresnel_dielectric",
     "fresnel_conductor",
     "burley_diffuse",
+    "smith_ggx_aniso_lambda",
+    "smith_ggx_aniso_g1",
+    "smith_ggx_aniso_g2_separable",
+    "smith_ggx_aniso_g2_height_correlated",
+    "smith_ggx_aniso_v_separable",
+    "smith_ggx_aniso_v_height_correlated",
+    "oren_nayar_diffuse",
+    "oren_nayar_qualitative",
+    "hammon_diffuse",
+    "charlie_sheen_ndf",
+    "ashikhmin_velvet_ndf",
+    "sheen_visibility",
+    "sheen_charlie_lobe",
+    "sheen_velvet_lobe",
+    "gtr1_ndf",
+    "kelemen_visibility",
+    "clearcoat_fresnel",
+    "clearcoat_lobe",
+    "schlick_fresnel_average",
+    "kulla_conty_fresnel_factor",
+    "srgb_encode",
+    "srgb_decode",
+    "filmic_tonemap",
 ];
 
 #[test]
@@ -113,6 +136,45 @@ fn fresnel_conductor() {
 fn burley_diffuse() {
     check("burley_diffuse");
 }
+
+/// One test per table of the models added for the wider library (each table's header names
+/// its paper; the formulas are transcribed in `tools/refgen/refgen.py`).
+macro_rules! table_tests {
+    ($($name:ident),* $(,)?) => {
+        $(
+            #[test]
+            fn $name() {
+                check(stringify!($name));
+            }
+        )*
+    };
+}
+
+table_tests!(
+    smith_ggx_aniso_lambda,
+    smith_ggx_aniso_g1,
+    smith_ggx_aniso_g2_separable,
+    smith_ggx_aniso_g2_height_correlated,
+    smith_ggx_aniso_v_separable,
+    smith_ggx_aniso_v_height_correlated,
+    oren_nayar_diffuse,
+    oren_nayar_qualitative,
+    hammon_diffuse,
+    charlie_sheen_ndf,
+    ashikhmin_velvet_ndf,
+    sheen_visibility,
+    sheen_charlie_lobe,
+    sheen_velvet_lobe,
+    gtr1_ndf,
+    kelemen_visibility,
+    clearcoat_fresnel,
+    clearcoat_lobe,
+    schlick_fresnel_average,
+    kulla_conty_fresnel_factor,
+    srgb_encode,
+    srgb_decode,
+    filmic_tonemap,
+);
 
 #[test]
 fn every_table_on_disk_has_a_test() {
