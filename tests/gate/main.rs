@@ -3,6 +3,7 @@
 mod cli;
 mod demo;
 mod golden;
+mod hardening;
 mod planted;
 mod report_formats;
 mod runner;
