@@ -348,6 +348,10 @@ pub fn parse_with(path: &Path, text: &str, options: Options) -> Result<Suite, Di
     // A golden may not name the suite file or a shader of the suite: record
     // would replace that file with CSV.
     let suite_name = path.file_name().map(PathBuf::from);
+    let mut shaders: std::collections::HashMap<PathBuf, &str> = Default::default();
+    for c in &checks {
+        shaders.entry(normalize(&c.shader)).or_insert(&c.name);
+    }
     for c in &checks {
         let (Some(g), Some(at)) = (&c.golden, &c.golden_at) else {
             continue;
@@ -356,10 +360,9 @@ pub fn parse_with(path: &Path, text: &str, options: Options) -> Result<Suite, Di
         let clash = if Some(&g) == suite_name.as_ref() {
             Some("the suite file itself".to_string())
         } else {
-            checks
-                .iter()
-                .find(|o| normalize(&o.shader) == g)
-                .map(|o| format!("the shader of check `{}`", o.name))
+            shaders
+                .get(&g)
+                .map(|name| format!("the shader of check `{name}`"))
         };
         if let Some(what) = clash {
             return Err(cx.err(
