@@ -16,9 +16,7 @@ fuzz_target!(|data: &[u8]| {
     match golden::parse(path, text) {
         Ok(g) => {
             let back = golden::parse(path, &golden::render(&g)).expect("rendered golden parses");
-            assert_eq!(back.header, g.header);
-            assert_eq!(back.inputs, g.inputs);
-            assert_eq!(back.outputs, g.outputs);
+            assert_eq!(back, g);
         }
         Err(d) => assert!(d.line >= 1, "golden error without a line: {}", d.rendered),
     }

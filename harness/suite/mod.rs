@@ -375,10 +375,7 @@ pub fn parse_with(path: &Path, text: &str, options: Options) -> Result<Suite, Di
         }
     }
     if checks.is_empty() {
-        return Err(Diagnostic::without_position(
-            path,
-            "the suite has no `[[check]]` entries",
-        ));
+        return Err(cx.err(0..0, "the suite has no `[[check]]` entries"));
     }
     let root = path.parent().map(Path::to_path_buf).unwrap_or_default();
     Ok(Suite {
@@ -539,7 +536,6 @@ fn convert(
     let random = match rc.random {
         None => None,
         Some(r) => {
-            let at = r.span();
             let r = r.into_inner();
             if *r.count.get_ref() > limits.points_per_check {
                 return Err(cx.err(
@@ -550,7 +546,6 @@ fn convert(
                     ),
                 ));
             }
-            let _ = at;
             Some(Random {
                 count: *r.count.get_ref() as usize,
                 seed: r.seed,
@@ -573,6 +568,12 @@ fn convert(
     // Every domain's count is within the limit (checked above), but their
     // product may not be, or may not even fit in 64 bits.
     match sweep.checked_len() {
+        Some(0) => {
+            return Err(cx.err(
+                sweep_span,
+                format!("check `{name}`: the sweep has no points (a check of nothing would pass)"),
+            ))
+        }
         Some(n) if n <= limits.points_per_check => {}
         n => {
             let count = n.map_or_else(|| "more than 2^64".to_string(), |n| n.to_string());

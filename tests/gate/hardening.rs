@@ -573,3 +573,18 @@ fn the_readme_lists_every_limit_with_its_default() {
         );
     }
 }
+
+#[test]
+fn a_sweep_of_zero_points_is_a_located_error() {
+    let text = sweep_suite(
+        "",
+        "n_dot_h = { linear = [0.0, 1.0, 0] }\nroughness = { list = [0.5] }",
+    ) + "\n[check.random]\ncount = 0\nseed = 1\n";
+    refused(&text, 7, &["no points"]);
+}
+
+#[test]
+fn a_suite_without_checks_is_an_error_at_line_one() {
+    let d = suite::parse(Path::new("s.toml"), "# nothing\n").unwrap_err();
+    assert_eq!(d.line, 1, "{}", d.rendered);
+}
