@@ -200,16 +200,16 @@ fn front_end(path: &Path, source: &str) -> Result<(naga::Module, ModuleInfo), Di
             // naga reports its parser's recursion limit without a position:
             // point at the most deeply nested place instead.
             let (line, column, length) = e
-                .location(&source)
+                .location(source)
                 .map(|l| (l.line_number, l.line_position, l.length))
                 .unwrap_or_else(|| {
-                    let at = deepest(&source);
-                    let (l, c) = line_col_of(&source, at);
+                    let at = deepest(source);
+                    let (l, c) = line_col_of(source, at);
                     (l, c, 1)
                 });
-            let mut d = Diagnostic::at_location(&path, &source, line, column, length, e.message());
+            let mut d = Diagnostic::at_location(path, source, line, column, length, e.message());
             // naga's own rendering carries its labels and notes; keep it below ours.
-            d.rendered = e.emit_to_string_with_path(&source, &path.display().to_string());
+            d.rendered = e.emit_to_string_with_path(source, &path.display().to_string());
             d.rendered = format!("{}:{}:{}: {}", path.display(), line, column, d.rendered);
             d
         })?;
@@ -232,12 +232,12 @@ fn front_end(path: &Path, source: &str) -> Result<(naga::Module, ModuleInfo), Di
                     src = next;
                 }
                 let mut d = Diagnostic::at_span(
-                    &path,
-                    &source,
+                    path,
+                    source,
                     span,
                     format!("validation failed: {message}"),
                 );
-                let naga_text = e.emit_to_string_with_path(&source, &path.display().to_string());
+                let naga_text = e.emit_to_string_with_path(source, &path.display().to_string());
                 d.rendered = format!("{}\n{}", d.rendered, naga_text);
                 d
             })?;
@@ -367,10 +367,8 @@ fn scan(source: &str, mut visit: impl FnMut(usize, u32)) {
                 total += 1;
                 visit(i, total);
             }
-            b')' | b']' => {
-                if levels.len() > 1 {
-                    total -= 1 + levels.pop().unwrap_or(0);
-                }
+            b')' | b']' if levels.len() > 1 => {
+                total -= 1 + levels.pop().unwrap_or(0);
             }
             b',' => {
                 let top = levels.last_mut().expect("level 0 stays");
