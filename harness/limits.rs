@@ -47,6 +47,33 @@ impl Default for Limits {
     }
 }
 
+impl Limits {
+    /// Set one limit (from the suite's `[limits]` table); refuses zero and
+    /// values above [`Limit::ceiling`].
+    pub fn set(&mut self, limit: Limit, value: u64) -> Result<(), String> {
+        if value == 0 {
+            return Err("a limit must be positive".into());
+        }
+        if let Some(c) = limit.ceiling() {
+            if value > c {
+                return Err(format!("{value} is above the ceiling of {c} for `{limit}`"));
+            }
+        }
+        match limit {
+            Limit::PointsPerCheck => self.points_per_check = value,
+            Limit::ProgramOps => self.program_ops = value,
+            Limit::StepsPerPoint => self.steps_per_point = value,
+            Limit::ProgramSlots => self.program_slots = value,
+            Limit::ExpressionDepth => {
+                self.expression_depth = u32::try_from(value).map_err(|_| "too large".to_string())?
+            }
+            Limit::GoldenBytes => self.golden_bytes = value,
+            Limit::ChecksPerSuite => self.checks_per_suite = value,
+        }
+        Ok(())
+    }
+}
+
 /// Names one limit, for errors and for the suite's `[limits]` table.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Limit {
@@ -97,6 +124,16 @@ impl Limit {
         }
     }
 
+    /// The largest value this limit may be raised to, where one exists:
+    /// expression nesting is walked recursively (on a thread with a fixed,
+    /// large stack for WGSL), so its depth has a ceiling.
+    pub fn ceiling(self) -> Option<u64> {
+        match self {
+            Limit::ExpressionDepth => Some(1024),
+            _ => None,
+        }
+    }
+
     /// The sentence an error ends with: how a user raises this limit.
     pub fn how_to_raise(self) -> String {
         format!(
@@ -124,5 +161,19 @@ mod tests {
         keys.dedup();
         assert_eq!(keys.len(), Limit::ALL.len());
         assert!(Limit::ALL.iter().all(|l| l.value(&d) > 0));
+    }
+
+    #[test]
+    fn set_round_trips_and_refuses_zero_and_above_the_ceiling() {
+        for l in Limit::ALL {
+            let mut m = Limits::default();
+            m.set(l, 7).unwrap();
+            assert_eq!(l.value(&m), 7);
+            assert!(m.set(l, 0).is_err());
+            if let Some(c) = l.ceiling() {
+                assert!(m.set(l, c + 1).is_err());
+                assert!(c >= l.value(&Limits::default()));
+            }
+        }
     }
 }

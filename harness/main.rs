@@ -23,7 +23,14 @@ use shadegate::{reference, report};
 struct Cli {
     #[command(subcommand)]
     command: Command,
+    /// Allow golden paths outside the suite's folder (absolute, or climbing
+    /// out with `..`); by default a golden is read and written only inside it.
+    #[arg(long, global = true)]
+    golden_outside: bool,
 }
+
+/// `--golden-outside`, read by `load_suite`.
+static GOLDEN_OUTSIDE: std::sync::atomic::AtomicBool = std::sync::atomic::AtomicBool::new(false);
 
 #[derive(Clone, Copy, ValueEnum)]
 enum Format {
@@ -151,6 +158,7 @@ impl<T: std::fmt::Display> From<T> for Bad {
 
 fn main() -> ExitCode {
     let cli = Cli::parse();
+    GOLDEN_OUTSIDE.store(cli.golden_outside, std::sync::atomic::Ordering::Relaxed);
     match dispatch(cli.command) {
         Ok(code) => ExitCode::from(code),
         Err(Bad(msg)) => {
@@ -161,7 +169,8 @@ fn main() -> ExitCode {
 }
 
 fn load_suite(path: &Path) -> Result<Suite, Bad> {
-    suite::load(path).map_err(|d| Bad(d.rendered))
+    let golden_outside = GOLDEN_OUTSIDE.load(std::sync::atomic::Ordering::Relaxed);
+    suite::load_with(path, suite::Options { golden_outside }).map_err(|d| Bad(d.rendered))
 }
 
 fn emit(text: &str, output: Option<&Path>) -> Result<(), Bad> {

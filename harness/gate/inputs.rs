@@ -36,7 +36,7 @@ pub fn build_of(suite: &Suite, check: &Check, shader_path: Option<&Path>) -> Res
     let path: PathBuf = shader_path
         .map(Path::to_path_buf)
         .unwrap_or_else(|| suite.resolve(&check.shader));
-    let shader = Shader::load(&path).map_err(|d| d.rendered)?;
+    let shader = Shader::load_with(&path, &suite.limits).map_err(|d| d.rendered)?;
     Ok(Build {
         shader,
         function: check.function.clone(),
@@ -190,6 +190,9 @@ pub fn evaluate(
 ) -> Result<Evaluated, String> {
     let build = build_of(suite, check, shader_path)?;
     let program = build.program()?;
+    suite
+        .check_args(check, program.params().iter().map(|(n, _)| n.as_str()))
+        .map_err(|d| d.rendered)?;
     let points = points_of(check);
     let mut bound = Vec::new();
     let mut kinds = Vec::new();

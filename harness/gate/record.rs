@@ -18,7 +18,6 @@ pub fn record(suite: &Suite, check: &Check) -> Result<PathBuf, String> {
         return Err("refusing to record goldens because the CI environment variable is set; record them locally and commit them".into());
     }
     let ev = evaluate(suite, check, None)?;
-    let path = suite.resolve(gpath);
     let g = Golden {
         header: Header {
             check: check.name.clone(),
@@ -33,6 +32,5 @@ pub fn record(suite: &Suite, check: &Check) -> Result<PathBuf, String> {
         input_columns: ev.input_columns,
         output_columns: ev.output_columns,
     };
-    golden::write(&path, &g)?;
-    Ok(path)
+    golden::write_in(&suite.root, gpath, &g, suite.golden_outside)
 }

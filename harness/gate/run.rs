@@ -238,7 +238,7 @@ fn run_inner(
             got.len(),
         )?;
         let path = suite.resolve(gpath);
-        let g = golden::read(&path).map_err(|d| d.rendered)?;
+        let g = golden::read_with(&path, &suite.limits).map_err(|d| d.rendered)?;
         let shader = check.shader.display().to_string();
         let sweep = check.sweep.to_string();
         golden::check_identity(

@@ -25,6 +25,7 @@ use std::io::Write as _;
 use std::path::{Path, PathBuf};
 
 use crate::eval::ScalarKind;
+use crate::limits::{Limit, Limits};
 use crate::wgsl::Diagnostic;
 
 const MAGIC: &str = "# shadegate golden dataset, format 1";
@@ -78,8 +79,15 @@ fn fmt_value(k: ScalarKind, bits: u32) -> String {
 fn parse_value(k: ScalarKind, s: &str) -> Result<u32, String> {
     let bad = || format!("`{s}` is not a valid {} value", k.wgsl());
     if let Some(hex) = s.strip_prefix("nan:0x") {
+        // Only a NaN of the column's own width is written this way; anything
+        // else would not read back as what `render` writes.
         let b = u32::from_str_radix(hex, 16).map_err(|_| bad())?;
-        return Ok(b);
+        let nan = match k {
+            ScalarKind::F32 => f32::from_bits(b).is_nan(),
+            ScalarKind::F16 => b <= 0xffff && half::f16::from_bits(b as u16).is_nan(),
+            _ => false,
+        };
+        return if nan { Ok(b) } else { Err(bad()) };
     }
     Ok(match k {
         ScalarKind::F32 => s.parse::<f32>().map_err(|_| bad())?.to_bits(),
@@ -140,7 +148,13 @@ pub fn render(g: &Golden) -> String {
     text
 }
 
-/// Write a golden dataset atomically (temporary file, then rename).
+/// The prefix of temporary files: outside the golden pattern (`*.csv`) and
+/// ignored by the repository's `.gitignore`, so neither `git add goldens/*.csv`
+/// nor `git add goldens/` picks up what a killed `record` left behind.
+pub const TMP_PREFIX: &str = ".shadegate-tmp-";
+
+/// Write a golden dataset atomically (temporary file, then rename), with no
+/// check of where `path` lies; see [`write_in`] for the one `record` uses.
 pub fn write(path: &Path, g: &Golden) -> Result<(), String> {
     if refused_in_ci() {
         return Err(format!(
@@ -152,39 +166,256 @@ pub fn write(path: &Path, g: &Golden) -> Result<(), String> {
         std::fs::create_dir_all(dir)
             .map_err(|e| format!("{}: cannot create folder: {e}", dir.display()))?;
     }
-    let text = render(g);
+    replace(path, &render(g))
+}
+
+/// Write the golden of check `g.header.check` to `root.join(rel)`, where
+/// `root` is the suite's folder. Refuses (with the path and the reason):
+/// under `CI`; a path that leaves `root` through `..`, an absolute path or a
+/// symbolic link unless `outside` is set; an existing file that is not a
+/// golden of this same check (the suite file, a shader, another check's
+/// golden, anything else). The file is replaced only by a rename of a
+/// complete temporary file, so a failed or killed write leaves the old
+/// golden intact.
+pub fn write_in(root: &Path, rel: &Path, g: &Golden, outside: bool) -> Result<PathBuf, String> {
+    let path = if rel.is_absolute() {
+        rel.to_path_buf()
+    } else {
+        root.join(rel)
+    };
+    if refused_in_ci() {
+        return Err(format!(
+            "{}: refusing to record goldens because the CI environment variable is set; record them locally and commit them",
+            path.display()
+        ));
+    }
+    if !outside {
+        inside(root, rel)?;
+    }
+    if let Some(dir) = path.parent() {
+        std::fs::create_dir_all(dir)
+            .map_err(|e| format!("{}: cannot create folder: {e}", dir.display()))?;
+        if !outside {
+            // The folders exist now: resolve links and look again.
+            inside(root, rel)?;
+        }
+    }
+    match std::fs::symlink_metadata(&path) {
+        Ok(m) if m.file_type().is_symlink() => {
+            return Err(format!(
+                "{}: refusing to record over a symbolic link",
+                path.display()
+            ))
+        }
+        Ok(m) if !m.is_file() => {
+            return Err(format!("{}: exists and is not a file", path.display()))
+        }
+        Ok(_) => own_golden(&path, &g.header.check)?,
+        Err(_) => {}
+    }
+    clear_stale(&path);
+    replace(&path, &render(g))?;
+    Ok(path)
+}
+
+/// `root.join(rel)` lies inside `root`: `rel` is relative without `..`, and
+/// the deepest existing folder on its way resolves (links followed) inside
+/// the resolved `root`.
+fn inside(root: &Path, rel: &Path) -> Result<(), String> {
+    use std::path::Component;
+    let shown = root.join(rel);
+    if rel
+        .components()
+        .any(|c| !matches!(c, Component::Normal(_) | Component::CurDir))
+    {
+        return Err(format!(
+            "{}: refusing to record a golden outside the suite's folder (pass --golden-outside to allow it)",
+            shown.display()
+        ));
+    }
+    let base = if root.as_os_str().is_empty() {
+        Path::new(".")
+    } else {
+        root
+    };
+    let real_root = base
+        .canonicalize()
+        .map_err(|e| format!("{}: cannot resolve the suite's folder: {e}", base.display()))?;
+    let mut deepest = base.to_path_buf();
+    let parent = rel.parent().unwrap_or(Path::new(""));
+    for c in parent.components() {
+        let next = deepest.join(c);
+        if !next.exists() {
+            break;
+        }
+        deepest = next;
+    }
+    let real = deepest
+        .canonicalize()
+        .map_err(|e| format!("{}: cannot resolve: {e}", deepest.display()))?;
+    if !real.starts_with(&real_root) {
+        return Err(format!(
+            "{}: refusing to record a golden outside the suite's folder: `{}` leads to {} (pass --golden-outside to allow it)",
+            shown.display(),
+            deepest.display(),
+            real.display()
+        ));
+    }
+    Ok(())
+}
+
+/// An existing file at `path` may be replaced only when it is a golden of
+/// the same check: its first line is the format line and its `# check:`
+/// line names `check`. Only the first two lines are read.
+fn own_golden(path: &Path, check: &str) -> Result<(), String> {
+    use std::io::{BufRead, Read};
+    let f = std::fs::File::open(path)
+        .map_err(|e| format!("{}: cannot read the existing file: {e}", path.display()))?;
+    let mut head = String::new();
+    let mut r = std::io::BufReader::new(f.take(4096));
+    let mut ok = false;
+    if r.read_line(&mut head).is_ok() && head.trim_end() == MAGIC {
+        head.clear();
+        ok = r.read_line(&mut head).is_ok() && head.trim_end() == format!("# check: {check}");
+    }
+    if ok {
+        Ok(())
+    } else {
+        Err(format!(
+            "{}: refusing to replace a file that is not the golden of check `{check}`; choose another `golden` path",
+            path.display()
+        ))
+    }
+}
+
+/// Remove temporary files of this golden left by a killed `record`.
+fn clear_stale(path: &Path) {
+    let (Some(dir), Some(name)) = (path.parent(), path.file_name()) else {
+        return;
+    };
+    let prefix = format!("{TMP_PREFIX}{}-", name.to_string_lossy());
+    let dir = if dir.as_os_str().is_empty() {
+        Path::new(".")
+    } else {
+        dir
+    };
+    if let Ok(entries) = std::fs::read_dir(dir) {
+        for e in entries.flatten() {
+            let n = e.file_name();
+            let n = n.to_string_lossy();
+            if n.strip_prefix(&prefix)
+                .is_some_and(|pid| pid.bytes().all(|b| b.is_ascii_digit()))
+            {
+                let _ = std::fs::remove_file(e.path());
+            }
+        }
+    }
+}
+
+/// Removes the temporary file when dropped, unless it was renamed into
+/// place: every failure path (including a panic) cleans up.
+struct TmpGuard(Option<PathBuf>);
+
+impl Drop for TmpGuard {
+    fn drop(&mut self) {
+        if let Some(p) = self.0.take() {
+            let _ = std::fs::remove_file(p);
+        }
+    }
+}
+
+/// Replace `path` with `text` through a temporary file in the same folder.
+fn replace(path: &Path, text: &str) -> Result<(), String> {
     let tmp = tmp_path(path);
-    let mut f =
-        std::fs::File::create(&tmp).map_err(|e| format!("{}: cannot write: {e}", tmp.display()))?;
+    let mut guard = TmpGuard(Some(tmp.clone()));
+    let mut f = std::fs::OpenOptions::new()
+        .write(true)
+        .create_new(true)
+        .open(&tmp)
+        .map_err(|e| format!("{}: cannot write: {e}", tmp.display()))?;
     f.write_all(text.as_bytes())
         .and_then(|_| f.sync_all())
         .map_err(|e| format!("{}: cannot write: {e}", tmp.display()))?;
+    drop(f);
     std::fs::rename(&tmp, path)
-        .map_err(|e| format!("{}: cannot rename into place: {e}", path.display()))
+        .map_err(|e| format!("{}: cannot rename into place: {e}", path.display()))?;
+    guard.0 = None;
+    Ok(())
 }
 
-fn tmp_path(path: &Path) -> PathBuf {
-    let mut name = path
+/// `<folder>/.shadegate-tmp-<file name>-<pid>`: a hidden name that never
+/// ends in `.csv`.
+pub fn tmp_path(path: &Path) -> PathBuf {
+    let name = path
         .file_name()
-        .map(|n| n.to_os_string())
+        .map(|n| n.to_string_lossy().into_owned())
         .unwrap_or_default();
-    name.push(format!(".tmp{}", std::process::id()));
-    path.with_file_name(name)
+    path.with_file_name(format!("{TMP_PREFIX}{name}-{}", std::process::id()))
 }
 
-/// Read a golden dataset; every problem names the file and line.
+/// Read a golden dataset under the default limits; see [`read_with`].
 pub fn read(path: &Path) -> Result<Golden, Diagnostic> {
-    let text = std::fs::read_to_string(path).map_err(|e| {
+    read_with(path, &Limits::default())
+}
+
+/// Read a golden dataset; every problem names the file and line. A file
+/// larger than the `golden_bytes` limit is refused after reading at most
+/// one byte more than the limit.
+pub fn read_with(path: &Path, limits: &Limits) -> Result<Golden, Diagnostic> {
+    use std::io::Read;
+    let cannot = |e: std::io::Error| {
         Diagnostic::without_position(
             path,
             format!("cannot read golden dataset: {e} (record it with `shadegate record`)"),
         )
+    };
+    let f = std::fs::File::open(path).map_err(cannot)?;
+    let mut bytes = Vec::new();
+    f.take(limits.golden_bytes.saturating_add(1))
+        .read_to_end(&mut bytes)
+        .map_err(cannot)?;
+    if bytes.len() as u64 > limits.golden_bytes {
+        let first = bytes.split(|&b| b == b'\n').next().unwrap_or(&[]);
+        let first = String::from_utf8_lossy(first);
+        let l = Limit::GoldenBytes;
+        return Err(Diagnostic::at_location(
+            path,
+            &first,
+            1,
+            1,
+            1,
+            format!(
+                "the golden dataset is larger than the `{l}` limit of {} bytes; {}",
+                limits.golden_bytes,
+                l.how_to_raise()
+            ),
+        ));
+    }
+    let text = String::from_utf8(bytes).map_err(|e| {
+        let good = &e.as_bytes()[..e.utf8_error().valid_up_to()];
+        let line = good.iter().filter(|&&b| b == b'\n').count() as u32 + 1;
+        let text = String::from_utf8_lossy(e.as_bytes());
+        Diagnostic::at_location(
+            path,
+            &text,
+            line,
+            1,
+            1,
+            "the golden dataset is not UTF-8 text",
+        )
     })?;
-    parse(path, &text)
+    parse_with(path, &text, limits)
 }
 
-/// Parse golden text (see [`read`]).
+/// Parse golden text under the default limits; see [`parse_with`].
 pub fn parse(path: &Path, text: &str) -> Result<Golden, Diagnostic> {
+    parse_with(path, text, &Limits::default())
+}
+
+/// Parse golden text (see [`read_with`]). The header's point count is
+/// checked against the `points_per_check` limit and never used to reserve
+/// more memory than the text's own lines justify.
+pub fn parse_with(path: &Path, text: &str, limits: &Limits) -> Result<Golden, Diagnostic> {
     let err =
         |line: usize, msg: String| Diagnostic::at_location(path, text, line as u32, 1, 1, msg);
     let lines: Vec<&str> = text.lines().collect();
@@ -218,9 +449,21 @@ pub fn parse(path: &Path, text: &str) -> Result<Golden, Diagnostic> {
             }
         }
     }
-    let points: usize = fields[5]
+    let points: u64 = fields[5]
         .parse()
         .map_err(|_| err(7, format!("`{}` is not a point count", fields[5])))?;
+    if points > limits.points_per_check {
+        let l = Limit::PointsPerCheck;
+        return Err(err(
+            7,
+            format!(
+                "the header claims {points} points, more than the `{l}` limit of {}; {}",
+                limits.points_per_check,
+                l.how_to_raise()
+            ),
+        ));
+    }
+    let points = points as usize;
     let header = Header {
         check: fields[0].clone(),
         shader: fields[1].clone(),
@@ -245,7 +488,12 @@ pub fn parse(path: &Path, text: &str) -> Result<Golden, Diagnostic> {
     let Some(split) = split else {
         return Err(err(8, "no `result` column".into()));
     };
-    let mut columns: Vec<Vec<u32>> = vec![Vec::with_capacity(points); cols.len()];
+    // Reserve no more rows than the file has lines: the header's count is a
+    // claim, the lines are the evidence.
+    let rows = points
+        .min(lines.len().saturating_sub(8))
+        .min(text.len() / cols.len().max(1));
+    let mut columns: Vec<Vec<u32>> = vec![Vec::with_capacity(rows); cols.len()];
     let mut row = 0;
     let mut ended = false;
     for (i, line) in lines.iter().enumerate().skip(8) {

@@ -37,6 +37,7 @@ use serde::Deserialize;
 use toml::Spanned;
 
 use crate::compare::{NanPolicy, Tolerance};
+use crate::limits::{Limit, Limits};
 use crate::sweep::{Domain, Expr, Random, Sweep};
 use crate::wgsl::Diagnostic;
 
@@ -58,12 +59,18 @@ pub struct Check {
     pub args: BTreeMap<String, Expr>,
     pub reference: Option<&'static crate::reference::Model>,
     pub reference_args: BTreeMap<String, Expr>,
-    /// Path of the golden dataset, relative to the suite's folder.
+    /// Path of the golden dataset, relative to the suite's folder (inside
+    /// it unless [`Options::golden_outside`] allowed otherwise).
     pub golden: Option<PathBuf>,
     pub tolerance: Tolerance,
     pub golden_tolerance: Tolerance,
     /// Line of the check in the suite file (for messages).
     pub line: u32,
+    /// Byte span of each `args` entry in the suite text (for
+    /// [`Suite::check_args`]).
+    pub args_at: BTreeMap<String, std::ops::Range<usize>>,
+    /// Byte span of the `golden` key's value in the suite text.
+    pub golden_at: Option<std::ops::Range<usize>>,
 }
 
 /// A parsed suite file.
@@ -73,9 +80,60 @@ pub struct Suite {
     /// Folder the relative paths of the suite are resolved against.
     pub root: PathBuf,
     pub checks: Vec<Check>,
+    /// The limits of this run: the defaults, raised or lowered by the
+    /// suite's `[limits]` table.
+    pub limits: Limits,
+    /// Whether golden paths may leave the suite's folder.
+    pub golden_outside: bool,
+    /// The suite text, for located errors found after parsing.
+    pub text: String,
+}
+
+/// How a suite is read.
+#[derive(Clone, Copy, Debug, Default)]
+pub struct Options {
+    /// Allow golden paths that are absolute or climb out of the suite's
+    /// folder with `..` (the CLI's `--golden-outside`). Off by default: a
+    /// golden is written only inside the project.
+    pub golden_outside: bool,
 }
 
 impl Suite {
+    /// A located error about the suite text at byte span `span`.
+    pub fn error_at(&self, span: std::ops::Range<usize>, msg: impl Into<String>) -> Diagnostic {
+        let lines = LineIndex::new(&self.text);
+        Ctx {
+            path: &self.path,
+            text: &self.text,
+            lines: &lines,
+        }
+        .err(span, msg)
+    }
+
+    /// Every `args` key of `check` must name a parameter of its function
+    /// (`params`): a typo such as `roughnes` would otherwise be ignored and
+    /// the argument silently fed from the sweep.
+    pub fn check_args<'a>(
+        &self,
+        check: &Check,
+        params: impl IntoIterator<Item = &'a str> + Clone,
+    ) -> Result<(), Diagnostic> {
+        for (arg, span) in &check.args_at {
+            if !params.clone().into_iter().any(|p| p == arg) {
+                let have: Vec<&str> = params.clone().into_iter().collect();
+                return Err(self.error_at(
+                    span.clone(),
+                    format!(
+                        "key `args.{arg}`: `{}` has no parameter `{arg}` (has: {})",
+                        check.function,
+                        have.join(", ")
+                    ),
+                ));
+            }
+        }
+        Ok(())
+    }
+
     /// A path of the suite resolved against its folder.
     pub fn resolve(&self, p: &Path) -> PathBuf {
         if p.is_absolute() {
@@ -91,6 +149,7 @@ impl Suite {
 struct RawSuite {
     #[serde(default)]
     check: Vec<Spanned<RawCheck>>,
+    limits: Option<Spanned<toml::Table>>,
 }
 
 #[derive(Deserialize)]
@@ -106,11 +165,11 @@ struct RawCheck {
     reference: Option<Spanned<String>>,
     golden: Option<Spanned<toml::Value>>,
     #[serde(default)]
-    args: BTreeMap<String, Spanned<String>>,
+    args: BTreeMap<Spanned<String>, Spanned<String>>,
     #[serde(default)]
-    reference_args: BTreeMap<String, Spanned<String>>,
+    reference_args: BTreeMap<Spanned<String>, Spanned<String>>,
     sweep: Spanned<toml::Table>,
-    random: Option<RawRandom>,
+    random: Option<Spanned<RawRandom>>,
     tolerance: Option<Spanned<RawTolerance>>,
     golden_tolerance: Option<Spanned<RawTolerance>>,
 }
@@ -118,7 +177,7 @@ struct RawCheck {
 #[derive(Deserialize)]
 #[serde(deny_unknown_fields)]
 struct RawRandom {
-    count: usize,
+    count: Spanned<u64>,
     seed: u64,
 }
 
@@ -150,70 +209,222 @@ impl OneOrMany {
 
 /// Line and column (1-based) of byte `offset` in `text`.
 pub fn line_col(text: &str, offset: usize) -> (u32, u32) {
-    let before = &text[..offset.min(text.len())];
-    let line = before.matches('\n').count() as u32 + 1;
-    let col = before.len() - before.rfind('\n').map_or(0, |i| i + 1) + 1;
-    (line, col as u32)
+    LineIndex::new(text).line_col(text, offset)
+}
+
+/// The start of every line of a text, so a byte offset finds its line by
+/// binary search: locating every check of a large suite stays linear.
+struct LineIndex {
+    starts: Vec<usize>,
+}
+
+impl LineIndex {
+    fn new(text: &str) -> LineIndex {
+        let mut starts = vec![0];
+        starts.extend(text.match_indices('\n').map(|(i, _)| i + 1));
+        LineIndex { starts }
+    }
+
+    fn line_col(&self, text: &str, offset: usize) -> (u32, u32) {
+        let offset = offset.min(text.len());
+        let line = self.starts.partition_point(|&s| s <= offset);
+        let col = offset - self.starts[line - 1] + 1;
+        (line as u32, col as u32)
+    }
+
+    /// Byte offset of the start of 1-based `line`.
+    fn start(&self, line: u32) -> usize {
+        self.starts[(line.max(1) as usize - 1).min(self.starts.len() - 1)]
+    }
 }
 
 struct Ctx<'a> {
     path: &'a Path,
     text: &'a str,
+    lines: &'a LineIndex,
 }
 
 impl Ctx<'_> {
     fn err(&self, span: std::ops::Range<usize>, msg: impl Into<String>) -> Diagnostic {
-        let (line, col) = line_col(self.text, span.start);
-        let len = self.text[span.start.min(self.text.len())..span.end.min(self.text.len())]
+        let mut start = span.start.min(self.text.len());
+        while !self.text.is_char_boundary(start) {
+            start -= 1;
+        }
+        let mut end = span.end.clamp(start, self.text.len());
+        while !self.text.is_char_boundary(end) {
+            end -= 1;
+        }
+        let (line, col) = self.lines.line_col(self.text, start);
+        let len = self.text[start..end]
             .lines()
             .next()
             .map_or(1, |l| l.len().max(1));
         Diagnostic::at_location(self.path, self.text, line, col, len as u32, msg)
     }
+
+    fn line(&self, offset: usize) -> u32 {
+        self.lines.line_col(self.text, offset).0
+    }
 }
 
 /// Read and validate a suite file.
 pub fn load(path: &Path) -> Result<Suite, Diagnostic> {
+    load_with(path, Options::default())
+}
+
+/// [`load`] with options.
+pub fn load_with(path: &Path, options: Options) -> Result<Suite, Diagnostic> {
     let text = std::fs::read_to_string(path)
         .map_err(|e| Diagnostic::without_position(path, format!("cannot read suite file: {e}")))?;
-    parse(path, &text)
+    parse_with(path, &text, options)
 }
 
 /// Parse and validate suite text; `path` names it in diagnostics and anchors
 /// its relative paths.
 pub fn parse(path: &Path, text: &str) -> Result<Suite, Diagnostic> {
-    let cx = Ctx { path, text };
+    parse_with(path, text, Options::default())
+}
+
+/// [`parse`] with options.
+pub fn parse_with(path: &Path, text: &str, options: Options) -> Result<Suite, Diagnostic> {
+    let lines = LineIndex::new(text);
+    let cx = Ctx {
+        path,
+        text,
+        lines: &lines,
+    };
     let raw: RawSuite = toml::from_str(text).map_err(|e| {
         let span = e.span().unwrap_or(0..0);
         cx.err(span, e.message().trim().to_string())
     })?;
-    let mut checks = Vec::new();
+    let limits = match &raw.limits {
+        Some(t) => limits_of(&cx, t)?,
+        None => Limits::default(),
+    };
+    if raw.check.len() as u64 > limits.checks_per_suite {
+        let l = Limit::ChecksPerSuite;
+        let over = &raw.check[limits.checks_per_suite as usize];
+        return Err(cx.err(
+            over.span().start..over.span().start,
+            format!(
+                "the suite has {} checks, more than the `{l}` limit of {}; {}",
+                raw.check.len(),
+                limits.checks_per_suite,
+                l.how_to_raise()
+            ),
+        ));
+    }
+    let mut checks: Vec<Check> = Vec::new();
+    let mut by_name: std::collections::HashMap<String, u32> = Default::default();
+    let mut by_golden: std::collections::HashMap<PathBuf, u32> = Default::default();
     for rc in raw.check {
         let span = rc.span();
-        let check = convert(&cx, rc.into_inner(), span)?;
-        if let Some(prev) = checks.iter().find(|c: &&Check| c.name == check.name) {
+        let check = convert(&cx, rc.into_inner(), span, &limits, options)?;
+        if let Some(prev) = by_name.get(&check.name) {
             return Err(cx.err(
-                span_of_line(text, check.line),
+                lines.start(check.line)..lines.start(check.line),
                 format!(
-                    "duplicate check name `{}` (first defined on line {})",
-                    check.name, prev.line
+                    "duplicate check name `{}` (first defined on line {prev})",
+                    check.name
                 ),
             ));
         }
+        by_name.insert(check.name.clone(), check.line);
+        if let (Some(g), Some(at)) = (&check.golden, &check.golden_at) {
+            let key = normalize(g);
+            if let Some(prev) = by_golden.get(&key) {
+                return Err(cx.err(
+                    at.clone(),
+                    format!(
+                        "key `golden`: `{}` is also the golden of the check on line {prev}; each check records its own",
+                        g.display()
+                    ),
+                ));
+            }
+            by_golden.insert(key, check.line);
+        }
         checks.push(check);
     }
+    // A golden may not name the suite file or a shader of the suite: record
+    // would replace that file with CSV.
+    let suite_name = path.file_name().map(PathBuf::from);
+    let mut shaders: std::collections::HashMap<PathBuf, &str> = Default::default();
+    for c in &checks {
+        shaders.entry(normalize(&c.shader)).or_insert(&c.name);
+    }
+    for c in &checks {
+        let (Some(g), Some(at)) = (&c.golden, &c.golden_at) else {
+            continue;
+        };
+        let g = normalize(g);
+        let clash = if Some(&g) == suite_name.as_ref() {
+            Some("the suite file itself".to_string())
+        } else {
+            shaders
+                .get(&g)
+                .map(|name| format!("the shader of check `{name}`"))
+        };
+        if let Some(what) = clash {
+            return Err(cx.err(
+                at.clone(),
+                format!(
+                    "key `golden`: `{}` is {what}; recording would replace it with CSV",
+                    g.display()
+                ),
+            ));
+        }
+    }
     if checks.is_empty() {
-        return Err(Diagnostic::without_position(
-            path,
-            "the suite has no `[[check]]` entries",
-        ));
+        return Err(cx.err(0..0, "the suite has no `[[check]]` entries"));
     }
     let root = path.parent().map(Path::to_path_buf).unwrap_or_default();
     Ok(Suite {
         path: path.to_path_buf(),
         root,
         checks,
+        limits,
+        golden_outside: options.golden_outside,
+        text: text.to_string(),
     })
+}
+
+/// A path with `.` components dropped (lexically; `..` is kept).
+fn normalize(p: &Path) -> PathBuf {
+    p.components()
+        .filter(|c| !matches!(c, std::path::Component::CurDir))
+        .collect()
+}
+
+/// The `[limits]` table: each key a [`Limit::key`], each value a positive
+/// whole number.
+fn limits_of(cx: &Ctx, t: &Spanned<toml::Table>) -> Result<Limits, Diagnostic> {
+    let mut limits = Limits::default();
+    for (key, value) in t.get_ref() {
+        let at = key_in(cx.text, t.span(), key);
+        let Some(l) = Limit::ALL.iter().copied().find(|l| l.key() == key) else {
+            let keys: Vec<_> = Limit::ALL.iter().map(|l| l.key()).collect();
+            return Err(cx.err(
+                at,
+                format!(
+                    "key `limits.{key}`: no such limit (limits: {})",
+                    keys.join(", ")
+                ),
+            ));
+        };
+        let v = match value {
+            toml::Value::Integer(i) if *i > 0 => *i as u64,
+            other => {
+                return Err(cx.err(
+                    at,
+                    format!("key `limits.{key}`: expected a positive whole number, found {other}"),
+                ))
+            }
+        };
+        limits
+            .set(l, v)
+            .map_err(|m| cx.err(at, format!("key `limits.{key}`: {m}")))?;
+    }
+    Ok(limits)
 }
 
 /// The span of the line inside `table` (a byte range of `text`) that defines `key`
@@ -239,17 +450,14 @@ fn key_in(text: &str, table: std::ops::Range<usize>, key: &str) -> std::ops::Ran
     table
 }
 
-fn span_of_line(text: &str, line: u32) -> std::ops::Range<usize> {
-    let start: usize = text
-        .split_inclusive('\n')
-        .take(line.saturating_sub(1) as usize)
-        .map(str::len)
-        .sum();
-    start..start
-}
-
-fn convert(cx: &Ctx, rc: RawCheck, span: std::ops::Range<usize>) -> Result<Check, Diagnostic> {
-    let line = line_col(cx.text, rc.name.span().start).0;
+fn convert(
+    cx: &Ctx,
+    rc: RawCheck,
+    span: std::ops::Range<usize>,
+    limits: &Limits,
+    options: Options,
+) -> Result<Check, Diagnostic> {
+    let line = cx.line(rc.name.span().start);
     let name = rc.name.get_ref().clone();
     if name.is_empty()
         || !name
@@ -296,7 +504,11 @@ fn convert(cx: &Ctx, rc: RawCheck, span: std::ops::Range<usize>) -> Result<Check
         Some(g) => match g.get_ref() {
             toml::Value::Boolean(true) => Some(PathBuf::from(format!("goldens/{name}.csv"))),
             toml::Value::Boolean(false) => None,
-            toml::Value::String(p) => Some(PathBuf::from(p)),
+            toml::Value::String(p) => {
+                golden_path_ok(p, options)
+                    .map_err(|m| cx.err(g.span(), format!("key `golden`: {m}")))?;
+                Some(PathBuf::from(p))
+            }
             _ => {
                 return Err(cx.err(
                     g.span(),
@@ -305,6 +517,7 @@ fn convert(cx: &Ctx, rc: RawCheck, span: std::ops::Range<usize>) -> Result<Check
             }
         },
     };
+    let golden_at = golden.as_ref().and(rc.golden.as_ref()).map(|g| g.span());
     if reference.is_none() && golden.is_none() {
         return Err(cx.err(
             span.start..span.start,
@@ -317,13 +530,28 @@ fn convert(cx: &Ctx, rc: RawCheck, span: std::ops::Range<usize>) -> Result<Check
         // The table keeps the file's order (toml's `preserve_order`), which the grid and
         // golden headers depend on; its values carry no spans, so find the key's line.
         let at = key_in(cx.text, sweep_span.clone(), key);
-        let d = domain(value).map_err(|m| cx.err(at, format!("key `sweep.{key}`: {m}")))?;
+        let d = domain(value, limits).map_err(|m| cx.err(at, format!("key `sweep.{key}`: {m}")))?;
         params.push((key.clone(), d));
     }
-    let random = rc.random.map(|r| Random {
-        count: r.count,
-        seed: r.seed,
-    });
+    let random = match rc.random {
+        None => None,
+        Some(r) => {
+            let r = r.into_inner();
+            if *r.count.get_ref() > limits.points_per_check {
+                return Err(cx.err(
+                    r.count.span(),
+                    format!(
+                        "key `random.count`: {}",
+                        too_many(*r.count.get_ref(), limits)
+                    ),
+                ));
+            }
+            Some(Random {
+                count: *r.count.get_ref() as usize,
+                seed: r.seed,
+            })
+        }
+    };
     if params.is_empty() {
         return Err(cx.err(
             sweep_span,
@@ -337,13 +565,35 @@ fn convert(cx: &Ctx, rc: RawCheck, span: std::ops::Range<usize>) -> Result<Check
         ));
     }
     let sweep = Sweep { params, random };
+    // Every domain's count is within the limit (checked above), but their
+    // product may not be, or may not even fit in 64 bits.
+    match sweep.checked_len() {
+        Some(0) => {
+            return Err(cx.err(
+                sweep_span,
+                format!("check `{name}`: the sweep has no points (a check of nothing would pass)"),
+            ))
+        }
+        Some(n) if n <= limits.points_per_check => {}
+        n => {
+            let count = n.map_or_else(|| "more than 2^64".to_string(), |n| n.to_string());
+            return Err(cx.err(
+                sweep_span,
+                format!(
+                    "check `{name}`: the sweep has {count} points, {}",
+                    over_points(limits)
+                ),
+            ));
+        }
+    }
     let names: Vec<String> = sweep.params.iter().map(|(n, _)| n.clone()).collect();
-    let exprs = |table: &BTreeMap<String, Spanned<String>>,
+    let exprs = |table: &BTreeMap<Spanned<String>, Spanned<String>>,
                  key: &str|
      -> Result<BTreeMap<String, Expr>, Diagnostic> {
         let mut out = BTreeMap::new();
         for (arg, text) in table {
-            let e = Expr::parse(text.get_ref()).map_err(|e| {
+            let arg = arg.get_ref();
+            let e = Expr::parse_with(text.get_ref(), limits.expression_depth).map_err(|e| {
                 let s = text.span();
                 cx.err(
                     s.start + 1 + e.offset..s.end,
@@ -364,6 +614,11 @@ fn convert(cx: &Ctx, rc: RawCheck, span: std::ops::Range<usize>) -> Result<Check
         Ok(out)
     };
     let args = exprs(&rc.args, "args")?;
+    let args_at = rc
+        .args
+        .keys()
+        .map(|k| (k.get_ref().clone(), k.span()))
+        .collect();
     let reference_args = exprs(&rc.reference_args, "reference_args")?;
     if let Some(m) = reference {
         for p in m.params {
@@ -417,7 +672,57 @@ fn convert(cx: &Ctx, rc: RawCheck, span: std::ops::Range<usize>) -> Result<Check
         tolerance,
         golden_tolerance,
         line,
+        args_at,
+        golden_at,
     })
+}
+
+/// The end of the message of a sweep over the points limit.
+fn over_points(limits: &Limits) -> String {
+    let l = Limit::PointsPerCheck;
+    format!(
+        "more than the `{l}` limit of {}; {}",
+        limits.points_per_check,
+        l.how_to_raise()
+    )
+}
+
+fn too_many(n: u64, limits: &Limits) -> String {
+    format!("{n} points is {}", over_points(limits))
+}
+
+/// A golden path written in the suite must stay inside the suite's folder
+/// (relative, no `..`) unless `options` allow otherwise, and must be a
+/// `.csv` file, so `record` can never replace the suite, a shader or a file
+/// outside the project.
+fn golden_path_ok(p: &str, options: Options) -> Result<(), String> {
+    use std::path::Component;
+    let path = Path::new(p);
+    if p.is_empty() || path.file_name().is_none() {
+        return Err(format!("`{p}` is not a file path"));
+    }
+    if path.extension().and_then(|e| e.to_str()) != Some("csv") {
+        return Err(format!(
+            "`{p}` does not end in `.csv`; goldens are CSV files"
+        ));
+    }
+    if !options.golden_outside {
+        if path.is_absolute()
+            || path
+                .components()
+                .any(|c| matches!(c, Component::Prefix(_) | Component::RootDir))
+        {
+            return Err(format!(
+                "`{p}` is an absolute path; goldens live inside the suite's folder (pass --golden-outside to allow it)"
+            ));
+        }
+        if path.components().any(|c| matches!(c, Component::ParentDir)) {
+            return Err(format!(
+                "`{p}` climbs out with `..`; goldens live inside the suite's folder (pass --golden-outside to allow it)"
+            ));
+        }
+    }
+    Ok(())
 }
 
 fn tolerance_of(cx: &Ctx, t: Spanned<RawTolerance>, key: &str) -> Result<Tolerance, Diagnostic> {
@@ -494,7 +799,7 @@ fn nums(v: &toml::Value, n: Option<usize>, what: &str) -> Result<Vec<f64>, Strin
     a.iter().map(num).collect()
 }
 
-fn domain(v: &toml::Value) -> Result<Domain, String> {
+fn domain(v: &toml::Value, limits: &Limits) -> Result<Domain, String> {
     let toml::Value::Table(t) = v else {
         return Err("expected a table such as { linear = [0.0, 1.0, 64] }".into());
     };
@@ -502,16 +807,28 @@ fn domain(v: &toml::Value) -> Result<Domain, String> {
         return Err("expected exactly one of `linear`, `log`, `list`, `edges`, `direction`".into());
     }
     let (kind, val) = t.iter().next().expect("one entry");
+    // Checked before anything is allocated: a count of 1e30 is an error,
+    // not a saturated cast.
     let count = |x: f64| -> Result<usize, String> {
-        if x >= 0.0 && x.fract() == 0.0 {
-            Ok(x as usize)
-        } else {
+        if !(x >= 0.0 && x.fract() == 0.0) {
             Err(format!("the point count must be a whole number, found {x}"))
+        } else if x > limits.points_per_check as f64 {
+            Err(format!("a count of {x} is {}", over_points(limits)))
+        } else {
+            Ok(x as usize)
+        }
+    };
+    // Bounds must be finite: NaN or infinite bounds make every point NaN.
+    let finite = |a: &[f64], what: &str| -> Result<(), String> {
+        match a.iter().find(|x| !x.is_finite()) {
+            Some(x) => Err(format!("`{what}` needs finite bounds, found {x}")),
+            None => Ok(()),
         }
     };
     Ok(match kind.as_str() {
         "linear" => {
             let a = nums(val, Some(3), "linear = [low, high, count]")?;
+            finite(&a[..2], "linear")?;
             Domain::Linear {
                 lo: a[0],
                 hi: a[1],
@@ -520,6 +837,7 @@ fn domain(v: &toml::Value) -> Result<Domain, String> {
         }
         "log" => {
             let a = nums(val, Some(3), "log = [low, high, count]")?;
+            finite(&a[..2], "log")?;
             if !(a[0] > 0.0 && a[1] > 0.0) {
                 return Err("`log` needs positive bounds".into());
             }
@@ -534,10 +852,18 @@ fn domain(v: &toml::Value) -> Result<Domain, String> {
             if a.is_empty() {
                 return Err("`list` is empty".into());
             }
+            if a.len() as u64 > limits.points_per_check {
+                return Err(format!(
+                    "a list of {} values is {}",
+                    a.len(),
+                    over_points(limits)
+                ));
+            }
             Domain::List(a)
         }
         "edges" => {
             let a = nums(val, Some(2), "edges = [low, high]")?;
+            finite(&a, "edges")?;
             if a[0] >= a[1] {
                 return Err("`edges` needs low < high".into());
             }
@@ -556,7 +882,7 @@ fn domain(v: &toml::Value) -> Result<Domain, String> {
                 let v = d
                     .get(k)
                     .ok_or(format!("`direction` needs `{k}` (degrees)"))?;
-                let inner = domain(v).map_err(|m| format!("{k}: {m}"))?;
+                let inner = domain(v, limits).map_err(|m| format!("{k}: {m}"))?;
                 if inner.width() != 1 {
                     return Err(format!("{k}: must be a scalar domain"));
                 }

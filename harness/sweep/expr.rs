@@ -75,7 +75,17 @@ pub struct Expr {
 struct Parser<'a> {
     s: &'a [u8],
     i: usize,
+    /// Open nesting levels (parentheses, calls, unary minus, `^`) right now:
+    /// bounds the parser's recursion.
+    nest: u32,
+    /// The `expression_depth` limit: bounds both `nest` and the height of the
+    /// tree (a chain `x + x + …` is built in a loop but is as tall as it is
+    /// long, and every later walk of the tree recurses).
+    limit: u32,
 }
+
+/// A parsed node and the height of its tree.
+type Parsed = (Node, u32);
 
 const FUNCTIONS: &[(&str, usize)] = &[
     ("sqrt", 1),
@@ -132,48 +142,80 @@ impl<'a> Parser<'a> {
         }
     }
 
-    fn expr(&mut self) -> Result<Node, ExprError> {
-        let mut l = self.term()?;
+    /// The error of an expression nested deeper than the limit.
+    fn too_deep<T>(&self) -> Result<T, ExprError> {
+        let l = crate::limits::Limit::ExpressionDepth;
+        self.err(format!(
+            "the expression is nested deeper than {} levels (the `{l}` limit); {}",
+            self.limit,
+            l.how_to_raise()
+        ))
+    }
+
+    /// Open one nesting level (checked before recursing).
+    fn open(&mut self) -> Result<(), ExprError> {
+        self.nest += 1;
+        if self.nest > self.limit {
+            return self.too_deep();
+        }
+        Ok(())
+    }
+
+    /// A node whose tree is `h` high, refused above the limit.
+    fn node(&self, n: Node, h: u32) -> Result<Parsed, ExprError> {
+        if h > self.limit {
+            return self.too_deep();
+        }
+        Ok((n, h))
+    }
+
+    fn expr(&mut self) -> Result<Parsed, ExprError> {
+        let (mut l, mut h) = self.term()?;
         loop {
             match self.peek() {
                 Some(c @ (b'+' | b'-')) => {
                     self.i += 1;
-                    let r = self.term()?;
-                    l = Node::Bin(c as char, l.into(), r.into());
+                    let (r, rh) = self.term()?;
+                    (l, h) = self.node(Node::Bin(c as char, l.into(), r.into()), h.max(rh) + 1)?;
                 }
-                _ => return Ok(l),
+                _ => return Ok((l, h)),
             }
         }
     }
 
-    fn term(&mut self) -> Result<Node, ExprError> {
-        let mut l = self.unary()?;
+    fn term(&mut self) -> Result<Parsed, ExprError> {
+        let (mut l, mut h) = self.unary()?;
         loop {
             match self.peek() {
                 Some(c @ (b'*' | b'/')) => {
                     self.i += 1;
-                    let r = self.unary()?;
-                    l = Node::Bin(c as char, l.into(), r.into());
+                    let (r, rh) = self.unary()?;
+                    (l, h) = self.node(Node::Bin(c as char, l.into(), r.into()), h.max(rh) + 1)?;
                 }
-                _ => return Ok(l),
+                _ => return Ok((l, h)),
             }
         }
     }
 
-    fn unary(&mut self) -> Result<Node, ExprError> {
+    fn unary(&mut self) -> Result<Parsed, ExprError> {
         if self.eat(b'-') {
-            return Ok(Node::Neg(self.unary()?.into()));
+            self.open()?;
+            let (a, h) = self.unary()?;
+            self.nest -= 1;
+            return self.node(Node::Neg(a.into()), h + 1);
         }
-        let base = self.postfix()?;
+        let (base, bh) = self.postfix()?;
         if self.eat(b'^') {
-            let e = self.unary()?;
-            return Ok(Node::Bin('^', base.into(), e.into()));
+            self.open()?;
+            let (e, eh) = self.unary()?;
+            self.nest -= 1;
+            return self.node(Node::Bin('^', base.into(), e.into()), bh.max(eh) + 1);
         }
-        Ok(base)
+        Ok((base, bh))
     }
 
-    fn postfix(&mut self) -> Result<Node, ExprError> {
-        let mut n = self.primary()?;
+    fn postfix(&mut self) -> Result<Parsed, ExprError> {
+        let (mut n, mut h) = self.primary()?;
         while self.eat(b'.') {
             let at = self.i;
             let name = self.ident();
@@ -190,9 +232,9 @@ impl<'a> Parser<'a> {
                     })
                 }
             };
-            n = Node::Member(n.into(), k);
+            (n, h) = self.node(Node::Member(n.into(), k), h + 1)?;
         }
-        Ok(n)
+        Ok((n, h))
     }
 
     fn ident(&mut self) -> String {
@@ -206,11 +248,13 @@ impl<'a> Parser<'a> {
         String::from_utf8_lossy(&self.s[start..self.i]).into_owned()
     }
 
-    fn primary(&mut self) -> Result<Node, ExprError> {
+    fn primary(&mut self) -> Result<Parsed, ExprError> {
         match self.peek() {
             Some(b'(') => {
                 self.i += 1;
+                self.open()?;
                 let e = self.expr()?;
+                self.nest -= 1;
                 if !self.eat(b')') {
                     return self.err("expected `)`");
                 }
@@ -233,10 +277,12 @@ impl<'a> Parser<'a> {
                     }
                 }
                 let text = String::from_utf8_lossy(&self.s[start..self.i]);
-                text.parse::<f64>().map(Node::Num).map_err(|_| ExprError {
-                    offset: start,
-                    message: format!("`{text}` is not a number"),
-                })
+                text.parse::<f64>()
+                    .map(|x| (Node::Num(x), 1))
+                    .map_err(|_| ExprError {
+                        offset: start,
+                        message: format!("`{text}` is not a number"),
+                    })
             }
             Some(c) if c.is_ascii_alphabetic() || c == b'_' => {
                 let at = self.i;
@@ -253,9 +299,13 @@ impl<'a> Parser<'a> {
                         });
                     };
                     let mut args = Vec::new();
+                    let mut h = 0;
+                    self.open()?;
                     if !self.eat(b')') {
                         loop {
-                            args.push(self.expr()?);
+                            let (a, ah) = self.expr()?;
+                            h = h.max(ah);
+                            args.push(a);
                             if self.eat(b')') {
                                 break;
                             }
@@ -264,6 +314,7 @@ impl<'a> Parser<'a> {
                             }
                         }
                     }
+                    self.nest -= 1;
                     if args.len() != arity {
                         return Err(ExprError {
                             offset: at,
@@ -273,11 +324,11 @@ impl<'a> Parser<'a> {
                             ),
                         });
                     }
-                    Ok(Node::Call(name, args))
+                    self.node(Node::Call(name, args), h + 1)
                 } else if name == "pi" {
-                    Ok(Node::Num(std::f64::consts::PI))
+                    Ok((Node::Num(std::f64::consts::PI), 1))
                 } else {
-                    Ok(Node::Var(name))
+                    Ok((Node::Var(name), 1))
                 }
             }
             Some(c) => self.err(format!("unexpected `{}`", c as char)),
@@ -287,13 +338,22 @@ impl<'a> Parser<'a> {
 }
 
 impl Expr {
-    /// Parse `text`.
+    /// Parse `text` under the default `expression_depth` limit.
     pub fn parse(text: &str) -> Result<Expr, ExprError> {
+        Self::parse_with(text, crate::limits::Limits::default().expression_depth)
+    }
+
+    /// Parse `text`, refusing nesting (parentheses, calls, unary operators,
+    /// operator chains) deeper than `depth_limit` levels with an error, so
+    /// neither the parser nor a later walk of the tree can overflow the stack.
+    pub fn parse_with(text: &str, depth_limit: u32) -> Result<Expr, ExprError> {
         let mut p = Parser {
             s: text.as_bytes(),
             i: 0,
+            nest: 0,
+            limit: depth_limit,
         };
-        let root = p.expr()?;
+        let (root, _) = p.expr()?;
         if p.peek().is_some() {
             return p.err("unexpected text after the expression");
         }

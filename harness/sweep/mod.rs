@@ -163,11 +163,22 @@ impl Domain {
         }
     }
 
-    /// Number of grid values.
+    /// Number of grid values (without generating them).
     pub fn count(&self) -> usize {
+        self.checked_count()
+            .and_then(|n| usize::try_from(n).ok())
+            .unwrap_or(usize::MAX)
+    }
+
+    /// Number of grid values, `None` when it does not fit in 64 bits.
+    pub fn checked_count(&self) -> Option<u64> {
         match self {
-            Domain::Direction { theta, phi } => theta.count() * phi.count(),
-            d => d.values().len(),
+            Domain::Linear { n, .. } | Domain::Log { n, .. } => Some(*n as u64),
+            Domain::List(v) => Some(v.len() as u64),
+            Domain::Direction { theta, phi } => {
+                theta.checked_count()?.checked_mul(phi.checked_count()?)
+            }
+            d @ Domain::Edges { .. } => Some(d.values().len() as u64),
         }
     }
 
@@ -232,6 +243,18 @@ impl Rng {
 }
 
 impl Sweep {
+    /// Number of points (grid size plus random points), `None` when the
+    /// product of the domains' counts does not fit in 64 bits. The suite
+    /// checks this against the `points_per_check` limit before any point is
+    /// generated.
+    pub fn checked_len(&self) -> Option<u64> {
+        let mut grid: u64 = if self.params.is_empty() { 0 } else { 1 };
+        for (_, d) in &self.params {
+            grid = grid.checked_mul(d.checked_count()?)?;
+        }
+        grid.checked_add(self.random.map_or(0, |r| r.count as u64))
+    }
+
     /// Number of points: grid size plus random points.
     pub fn len(&self) -> usize {
         let grid: usize = if self.params.is_empty() {

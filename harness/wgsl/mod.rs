@@ -6,6 +6,8 @@ use std::path::{Path, PathBuf};
 
 use naga::valid::{Capabilities, ModuleInfo, ValidationFlags, Validator};
 
+use crate::limits::{Limit, Limits};
+
 /// A problem located in a source file, rendered the way a compiler shows it.
 #[derive(Debug, Clone)]
 pub struct Diagnostic {
@@ -119,25 +121,95 @@ impl fmt::Debug for Shader {
 }
 
 impl Shader {
-    /// Read, parse and validate a WGSL file.
+    /// Read, parse and validate a WGSL file under the default limits.
     pub fn load(path: &Path) -> Result<Shader, Diagnostic> {
+        Self::load_with(path, &Limits::default())
+    }
+
+    /// Read, parse and validate a WGSL file under `limits`.
+    pub fn load_with(path: &Path, limits: &Limits) -> Result<Shader, Diagnostic> {
         let source = std::fs::read_to_string(path).map_err(|e| {
             Diagnostic::without_position(path, format!("cannot read WGSL file: {e}"))
         })?;
-        Self::from_source(path, source)
+        Self::from_source_with(path, source, limits)
     }
 
-    /// Parse and validate WGSL source text; `path` is used in diagnostics only.
+    /// Parse and validate WGSL source text under the default limits; `path`
+    /// is used in diagnostics only.
     pub fn from_source(path: impl Into<PathBuf>, source: String) -> Result<Shader, Diagnostic> {
+        Self::from_source_with(path, source, &Limits::default())
+    }
+
+    /// Parse and validate WGSL source text. Expressions nested deeper than
+    /// the `expression_depth` limit (see [`nesting`]) are refused with a
+    /// located error first; naga then runs on a thread with a fixed
+    /// [`FRONT_END_STACK`] stack, which that limit's ceiling keeps far from
+    /// full.
+    pub fn from_source_with(
+        path: impl Into<PathBuf>,
+        source: String,
+        limits: &Limits,
+    ) -> Result<Shader, Diagnostic> {
         let path = path.into();
-        let module = naga::front::wgsl::parse_str(&source).map_err(|e| {
+        if let Some(deep) = nesting(&source, limits.expression_depth) {
+            let (line, col) = line_col_of(&source, deep.offset);
+            let l = Limit::ExpressionDepth;
+            return Err(Diagnostic::at_location(
+                &path,
+                &source,
+                line,
+                col,
+                1,
+                format!(
+                    "this expression is nested deeper than {} levels (operators chained in one expression count as levels too; the `{l}` limit); split it into `let` steps, or {}",
+                    limits.expression_depth,
+                    l.how_to_raise()
+                ),
+            ));
+        }
+        let (module, info) = std::thread::scope(|scope| {
+            std::thread::Builder::new()
+                .name("naga front end".into())
+                .stack_size(FRONT_END_STACK)
+                .spawn_scoped(scope, || front_end(&path, &source))
+                .map_err(|e| {
+                    Diagnostic::without_position(
+                        &path,
+                        format!("cannot start the WGSL front end: {e}"),
+                    )
+                })?
+                .join()
+                .unwrap_or_else(|panic| std::panic::resume_unwind(panic))
+        })?;
+        Ok(Shader {
+            path,
+            source,
+            module,
+            info,
+        })
+    }
+}
+
+/// Stack of the thread naga's parser and validator run on.
+pub const FRONT_END_STACK: usize = 256 << 20;
+
+/// Parse and validate with naga, every problem a located diagnostic.
+fn front_end(path: &Path, source: &str) -> Result<(naga::Module, ModuleInfo), Diagnostic> {
+    {
+        let module = naga::front::wgsl::parse_str(source).map_err(|e| {
+            // naga reports its parser's recursion limit without a position:
+            // point at the most deeply nested place instead.
             let (line, column, length) = e
-                .location(&source)
+                .location(source)
                 .map(|l| (l.line_number, l.line_position, l.length))
-                .unwrap_or((0, 0, 0));
-            let mut d = Diagnostic::at_location(&path, &source, line, column, length, e.message());
+                .unwrap_or_else(|| {
+                    let at = deepest(source);
+                    let (l, c) = line_col_of(source, at);
+                    (l, c, 1)
+                });
+            let mut d = Diagnostic::at_location(path, source, line, column, length, e.message());
             // naga's own rendering carries its labels and notes; keep it below ours.
-            d.rendered = e.emit_to_string_with_path(&source, &path.display().to_string());
+            d.rendered = e.emit_to_string_with_path(source, &path.display().to_string());
             d.rendered = format!("{}:{}:{}: {}", path.display(), line, column, d.rendered);
             d
         })?;
@@ -160,23 +232,20 @@ impl Shader {
                     src = next;
                 }
                 let mut d = Diagnostic::at_span(
-                    &path,
-                    &source,
+                    path,
+                    source,
                     span,
                     format!("validation failed: {message}"),
                 );
-                let naga_text = e.emit_to_string_with_path(&source, &path.display().to_string());
+                let naga_text = e.emit_to_string_with_path(source, &path.display().to_string());
                 d.rendered = format!("{}\n{}", d.rendered, naga_text);
                 d
             })?;
-        Ok(Shader {
-            path,
-            source,
-            module,
-            info,
-        })
+        Ok((module, info))
     }
+}
 
+impl Shader {
     /// Hex digest (FNV-1a, 64 bit) of the source text: a cheap identity for
     /// golden-file headers, not a security measure.
     pub fn content_hash(&self) -> String {
@@ -207,6 +276,132 @@ impl Shader {
     /// A diagnostic at `span` of this shader.
     pub fn diagnostic(&self, span: naga::Span, message: impl Into<String>) -> Diagnostic {
         Diagnostic::at_span(&self.path, &self.source, span, message)
+    }
+}
+
+/// 1-based line and byte column of `offset` in `text`.
+fn line_col_of(text: &str, offset: usize) -> (u32, u32) {
+    let before = &text.as_bytes()[..offset.min(text.len())];
+    let line = before.iter().filter(|&&b| b == b'\n').count() as u32 + 1;
+    let col = before.len()
+        - before
+            .iter()
+            .rposition(|&b| b == b'\n')
+            .map_or(0, |i| i + 1)
+        + 1;
+    (line, col as u32)
+}
+
+/// Where an expression of WGSL source nests too deeply.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct TooDeep {
+    /// Byte offset of the token that went past the limit.
+    pub offset: usize,
+}
+
+/// One linear pass over WGSL text that bounds the height of every
+/// expression tree before naga builds it: each open bracket is a level, and
+/// so is each operator in a chain (`x + x + x` is a tree as tall as it is
+/// long). The count of a bracket level restarts at `,` (a sibling
+/// argument) and every bracket level restarts at `;`, `{` and `}`. The
+/// estimate is an upper bound on the real height (it may overcount, e.g.
+/// `<` of a type); the first place where it passes `limit` is returned.
+/// Comments are skipped.
+pub fn nesting(source: &str, limit: u32) -> Option<TooDeep> {
+    let mut over = None;
+    scan(source, |offset, depth| {
+        if depth > limit && over.is_none() {
+            over = Some(TooDeep { offset });
+        }
+    });
+    over
+}
+
+/// Byte offset of the most deeply nested place (by [`nesting`]'s measure).
+fn deepest(source: &str) -> usize {
+    let (mut best, mut at) = (0, 0);
+    scan(source, |offset, depth| {
+        if depth > best {
+            (best, at) = (depth, offset);
+        }
+    });
+    at
+}
+
+fn scan(source: &str, mut visit: impl FnMut(usize, u32)) {
+    let b = source.as_bytes();
+    // Per open bracket level: operators counted since the level's last `,`.
+    let mut levels: Vec<u32> = vec![0];
+    let mut total: u32 = 0;
+    let mut i = 0;
+    while i < b.len() {
+        let c = b[i];
+        match c {
+            b'/' if b.get(i + 1) == Some(&b'/') => {
+                while i < b.len() && b[i] != b'\n' {
+                    i += 1;
+                }
+                continue;
+            }
+            b'/' if b.get(i + 1) == Some(&b'*') => {
+                // Block comments nest in WGSL.
+                let mut open = 0u32;
+                while i < b.len() {
+                    if b[i] == b'/' && b.get(i + 1) == Some(&b'*') {
+                        open += 1;
+                        i += 2;
+                    } else if b[i] == b'*' && b.get(i + 1) == Some(&b'/') {
+                        open -= 1;
+                        i += 2;
+                        if open == 0 {
+                            break;
+                        }
+                    } else {
+                        i += 1;
+                    }
+                }
+                continue;
+            }
+            b'(' | b'[' => {
+                levels.push(0);
+                total += 1;
+                visit(i, total);
+            }
+            b')' | b']' if levels.len() > 1 => {
+                total -= 1 + levels.pop().unwrap_or(0);
+            }
+            b',' => {
+                let top = levels.last_mut().expect("level 0 stays");
+                total -= *top;
+                *top = 0;
+            }
+            b';' | b'{' | b'}' => {
+                levels.truncate(1);
+                levels[0] = 0;
+                total = 0;
+            }
+            b'+' | b'-' | b'*' | b'/' | b'%' | b'&' | b'|' | b'^' | b'<' | b'>' | b'!' | b'~'
+            | b'=' => {
+                // A compound operator (`<=`, `&&`, `>>`) counts once.
+                let prev = if i > 0 { b[i - 1] } else { b' ' };
+                let compound = matches!(
+                    (prev, c),
+                    (b'<', b'<' | b'=')
+                        | (b'>', b'>' | b'=')
+                        | (b'&', b'&')
+                        | (b'|', b'|')
+                        | (b'=' | b'!', b'=')
+                        | (b'-', b'>')
+                );
+                if !compound && c != b'=' {
+                    *levels.last_mut().expect("level 0 stays") += 1;
+                    total += 1;
+                    visit(i, total);
+                }
+            }
+            _ => {}
+        }
+        i += 1;
     }
 }
 

@@ -5,6 +5,7 @@ mod cli_extra;
 mod demo;
 mod diagnose;
 mod golden;
+mod hardening;
 mod html;
 mod planted;
 mod plots;
