@@ -15,7 +15,7 @@ use naga::{
     Statement as S, TypeInner,
 };
 
-use super::exec::{Case, Op, Site, Slot};
+use super::ir::{Case, Code, Kernel, Op, Site, Slot};
 use super::lanes::*;
 use super::perturb::{Bound, Perturb};
 use super::ty::{ScalarKind as K, Ty};
@@ -67,19 +67,6 @@ struct Frame<'m> {
     root: Slot,
 }
 
-pub struct Compiled {
-    pub ops: Vec<Op>,
-    pub slot_count: usize,
-    pub sites: Vec<Site>,
-    pub params: Vec<(String, Ty)>,
-    pub input_slots: Vec<Slot>,
-    pub result: Option<Ty>,
-    pub output_slots: Vec<Slot>,
-    pub root_mask: Slot,
-    /// Constant slots and their bit patterns, written once per machine.
-    pub consts: Vec<(Slot, u32)>,
-}
-
 type R<T> = Result<T, Diagnostic>;
 
 pub struct Compiler<'m> {
@@ -118,7 +105,7 @@ impl<'m> Compiler<'m> {
         name: &str,
         overrides: &'m BTreeMap<String, f64>,
         spec_bounds: bool,
-    ) -> R<Compiled> {
+    ) -> R<Code> {
         let module = &shader.module;
         // A plain function, or an entry point (its `@location`/`@builtin`
         // parameters become ordinary inputs).
@@ -246,9 +233,17 @@ impl<'m> Compiler<'m> {
         c.block(&mut frame, &func.body, &mut body)?;
         c.masks.pop();
         let mut ops = std::mem::take(&mut c.prologue);
+        let output_slots = match c.direct_result[0].take() {
+            Some(direct) => direct,
+            None => {
+                // Returns copy into the result under their masks: start it
+                // from zero so no lane reads what an earlier batch left.
+                ops.extend(output_slots.iter().map(|&dst| Op::Fill { dst, bits: 0 }));
+                output_slots
+            }
+        };
         ops.extend(body);
-        let output_slots = c.direct_result[0].take().unwrap_or(output_slots);
-        Ok(Compiled {
+        Ok(Code {
             consts: std::mem::take(&mut c.consts),
             ops,
             slot_count: c.next as usize,
@@ -309,26 +304,34 @@ impl<'m> Compiler<'m> {
     fn k1(&mut self, out: &mut Vec<Op>, k: K1, a: Slot, what: &str) -> Slot {
         let dst = self.slot();
         let at = self.site(what);
-        out.push(Op::U { k, dst, a, at });
+        out.push(Op::Kernel {
+            kernel: Kernel::Unary(k),
+            dst,
+            args: [a, 0, 0, 0],
+            at,
+        });
         dst
     }
 
     fn k2(&mut self, out: &mut Vec<Op>, k: K2, a: Slot, b: Slot, what: &str) -> Slot {
         let dst = self.slot();
         let at = self.site(what);
-        out.push(Op::B { k, dst, a, b, at });
+        out.push(Op::Kernel {
+            kernel: Kernel::Binary(k),
+            dst,
+            args: [a, b, 0, 0],
+            at,
+        });
         dst
     }
 
     fn k3(&mut self, out: &mut Vec<Op>, k: K3, a: Slot, b: Slot, c: Slot, what: &str) -> Slot {
         let dst = self.slot();
         let at = self.site(what);
-        out.push(Op::T {
-            k,
+        out.push(Op::Kernel {
+            kernel: Kernel::Ternary(k),
             dst,
-            a,
-            b,
-            c,
+            args: [a, b, c, 0],
             at,
         });
         dst
@@ -845,9 +848,9 @@ impl<'m> Compiler<'m> {
             None => None,
         };
         let root = self.slot();
-        out.push(Op::Copy {
-            dst: root,
-            src: self.current(),
+        out.push(Op::Enter {
+            mask: root,
+            parent: self.current(),
         });
         let mut frame = Frame {
             func,
@@ -864,10 +867,19 @@ impl<'m> Compiler<'m> {
         let saved_span = self.span;
         self.exits.push(0);
         self.direct_result.push(None);
+        let entry = out.len();
         self.init_locals(&mut frame, out)?;
         self.block(&mut frame, &func.body, out)?;
         self.exits.pop();
         let direct = self.direct_result.pop().flatten();
+        if let (None, Some(result)) = (&direct, &result) {
+            // Returns copy into the result under their masks: start it from
+            // zero so no lane reads what an earlier batch left.
+            out.splice(
+                entry..entry,
+                result.iter().map(|&dst| Op::Fill { dst, bits: 0 }),
+            );
+        }
         self.masks = saved_masks;
         self.outer_masks.truncate(outer_len);
         self.span = saved_span;
@@ -1788,13 +1800,17 @@ impl<'m> Compiler<'m> {
                 let _ = dst;
                 for i in 0..n {
                     let d = self.slot();
-                    out.push(Op::Q {
-                        k: run4::<UInsert>,
+                    let at = self.site("");
+                    out.push(Op::Kernel {
+                        kernel: Kernel::Quaternary(run4::<UInsert>),
                         dst: d,
-                        a: pick(&args[0], i),
-                        b: pick(&args[1], i),
-                        c: args[2].slots[0],
-                        d: args[3].slots[0],
+                        args: [
+                            pick(&args[0], i),
+                            pick(&args[1], i),
+                            args[2].slots[0],
+                            args[3].slots[0],
+                        ],
+                        at,
                     });
                     slots.push(d);
                 }
@@ -1991,7 +2007,7 @@ impl<'m> Compiler<'m> {
                         o[0] = f.to_bits();
                         o[1] = e as u32;
                     }
-                    let f: super::exec::LaneFn = if fun == MF::Modf { modf32 } else { frexp32 };
+                    let f: super::ir::LaneFn = if fun == MF::Modf { modf32 } else { frexp32 };
                     out.push(Op::PerLane {
                         f,
                         dst: dst.clone().into(),
@@ -2015,7 +2031,7 @@ impl<'m> Compiler<'m> {
             | MF::Pack4xU8
             | MF::Pack4xI8Clamp
             | MF::Pack4xU8Clamp => {
-                let f: super::exec::LaneFn = match fun {
+                let f: super::ir::LaneFn = match fun {
                     MF::Pack4x8snorm => |i, o| {
                         o[0] = arith::pack4x8snorm(std::array::from_fn(|j| f32::from_bits(i[j])))
                     },
@@ -2055,7 +2071,7 @@ impl<'m> Compiler<'m> {
             | MF::Unpack2x16float
             | MF::Unpack4xI8
             | MF::Unpack4xU8 => {
-                let f: super::exec::LaneFn = match fun {
+                let f: super::ir::LaneFn = match fun {
                     MF::Unpack4x8snorm => |i, o| put_f32(o, &arith::unpack4x8snorm(i[0])),
                     MF::Unpack4x8unorm => |i, o| put_f32(o, &arith::unpack4x8unorm(i[0])),
                     MF::Unpack2x16snorm => |i, o| put_f32(o, &arith::unpack2x16snorm(i[0])),

@@ -27,7 +27,7 @@
 //! A move by k ULP from a correctly rounded result r stays within k + 0.5 ULP
 //! of the exact value, so a bound of B ULP allows |k| ≤ ⌊B − 0.5⌋.
 
-use super::exec::Slot;
+use super::ir::Slot;
 
 /// Which bound an operation's result may move within.
 #[derive(Clone, Copy, Debug, PartialEq)]

@@ -276,14 +276,21 @@ fn step_budget_in_a_callee_abandons_the_point_in_the_caller_too() {
 }
 
 #[test]
-fn step_budget_counts_each_loop_separately() {
-    // 30 x 30 nested iterations: each loop runs 30 times per entry, within a
-    // budget of 31, though 900 steps are taken in all.
+fn step_budget_counts_every_loop_of_a_point_together() {
+    // One budget per point over all its loops: n = 30 takes 30 outer and
+    // 900 inner iterations (930 steps), within 1000; n = 32 takes
+    // 32 + 1024 = 1056, past it, though each loop alone stays within.
     let mut p = program(LOOPS, "nested_loops");
-    p.set_step_budget(31);
+    p.set_step_budget(1000);
     let (out, issues) = run(&p, &[vec![30.0], vec![32.0]]);
     assert_eq!(out[0][0], 900.0);
     assert_eq!(points(&issues), [1]);
+    assert_eq!(issues[0].kind, IssueKind::StepBudget);
+    assert!(
+        issues[0].message.contains("steps_per_point"),
+        "{}",
+        issues[0].message
+    );
 }
 
 const NONFINITE: &str = r#"
@@ -425,4 +432,49 @@ fn issues_name_global_point_indices_across_batches_and_threads() {
     for k in [1usize, 5, 129, 5000, 10_005] {
         assert_eq!(out[0][k], 1.0 + (k % 4) as f64, "point {k}");
     }
+}
+
+const ABANDONED_AND_INFINITE: &str = r#"
+fn spin(x: i32) -> i32 { var i = 0; while i != x { i++; } return i; }
+fn spin_then_divide(x: i32, y: f32) -> f32 {
+    return f32(spin(x)) / y;
+}
+"#;
+
+/// Regression: one point of a batch runs past the step budget inside a
+/// called function while another divides by zero. The abandoned point must
+/// come back as NaN with a step-budget issue, never as a number, whether the
+/// batch is full (outputs written in place in the caller's column) or ragged.
+#[track_caller]
+fn check_abandoned_point_is_never_a_number(points: usize) {
+    let mut p = program(ABANDONED_AND_INFINITE, "spin_then_divide");
+    p.set_step_budget(200);
+    // Point 0 never finishes (x = -1); point 1 divides 1 by 0; the rest are
+    // ordinary (x = 3, y = 2 → 1.5).
+    let mut rows = vec![vec![-1.0, 1.0], vec![1.0, 0.0]];
+    rows.resize(points, vec![3.0, 2.0]);
+    let (out, issues) = run(&p, &rows);
+    assert!(
+        out[0][0].is_nan(),
+        "abandoned point came back as {} ({points} points)",
+        out[0][0]
+    );
+    assert_eq!(out[0][1], f64::INFINITY);
+    assert!(out[0][2..].iter().all(|&v| v == 1.5));
+    let kinds: Vec<_> = issues.iter().map(|i| (i.point, i.kind)).collect();
+    assert_eq!(
+        kinds,
+        [(0, IssueKind::StepBudget), (1, IssueKind::NonFinite)],
+        "{issues:#?}"
+    );
+}
+
+#[test]
+fn abandoned_point_is_never_a_number_in_a_full_batch() {
+    check_abandoned_point_is_never_a_number(shadegate::eval::LANES);
+}
+
+#[test]
+fn abandoned_point_is_never_a_number_in_a_ragged_batch() {
+    check_abandoned_point_is_never_a_number(2);
 }
