@@ -20,6 +20,7 @@ use super::lanes::*;
 use super::perturb::{Bound, Perturb};
 use super::ty::{ScalarKind as K, Ty};
 use crate::arith;
+use crate::limits::{Limit, Limits};
 use crate::wgsl::{Diagnostic, Shader};
 
 /// A compiled value: its type and one slot per leaf.
@@ -97,6 +98,12 @@ pub struct Compiler<'m> {
     depth: usize,
     /// Whether inexact operations get `Op::Perturb` after them.
     spec_bounds: bool,
+    /// Program size and variable limits (`program_ops`, `program_slots`).
+    limits: &'m Limits,
+    /// Operations emitted so far (inlined calls included).
+    op_count: u64,
+    /// Leaves of arguments, results and variables allocated so far.
+    variable_leaves: u64,
 }
 
 impl<'m> Compiler<'m> {
@@ -105,6 +112,7 @@ impl<'m> Compiler<'m> {
         name: &str,
         overrides: &'m BTreeMap<String, f64>,
         spec_bounds: bool,
+        limits: &'m Limits,
     ) -> R<Code> {
         let module = &shader.module;
         // A plain function, or an entry point (its `@location`/`@builtin`
@@ -152,6 +160,9 @@ impl<'m> Compiler<'m> {
             outer_masks: Vec::new(),
             span: fspan,
             depth: 0,
+            limits,
+            op_count: 0,
+            variable_leaves: 0,
         };
         for key in overrides.keys() {
             // A pipeline constant is keyed by the override's name or by its
@@ -181,7 +192,7 @@ impl<'m> Compiler<'m> {
         for (i, a) in func.arguments.iter().enumerate() {
             let span = fspan;
             let ty = c.ty_of_handle(a.ty, span)?;
-            let slots = c.slots(ty.leaf_count());
+            let slots = c.variable_slots(ty.leaf_count(), "this argument")?;
             input_slots.extend(&slots);
             params.push((
                 a.name.clone().unwrap_or_else(|| format!("arg{i}")),
@@ -193,32 +204,36 @@ impl<'m> Compiler<'m> {
             Some(r) => Some(c.ty_of_handle(r.ty, fspan)?),
             None => None,
         };
-        let output_slots = result
-            .as_ref()
-            .map(|t| c.slots(t.leaf_count()))
-            .unwrap_or_default();
+        let output_slots = match &result {
+            Some(t) => c.variable_slots(t.leaf_count(), "the result")?,
+            None => Vec::new(),
+        };
         let mut body = Vec::new();
         // Private variables are per invocation: initialise them for every batch.
         for (gh, g) in module.global_variables.iter() {
             if g.space == naga::AddressSpace::Private {
-                let ty = c.ty_of_handle(g.ty, module.global_variables.get_span(gh))?;
-                let slots: Rc<[Slot]> = c.slots(ty.leaf_count()).into();
+                c.span = module.global_variables.get_span(gh);
+                let ty = c.ty_of_handle(g.ty, c.span)?;
+                let slots: Rc<[Slot]> = c
+                    .variable_slots(ty.leaf_count(), "this private variable")?
+                    .into();
                 let init = match g.init {
                     Some(e) => Some(c.global_expr(e)?),
                     None => None,
                 };
                 for (i, &s) in slots.iter().enumerate() {
                     match &init {
-                        Some(v) => c.prologue.push(Op::Copy {
+                        Some(v) => c.emit_prologue(Op::Copy {
                             dst: s,
                             src: v.slots[i],
                         }),
-                        None => c.prologue.push(Op::Fill { dst: s, bits: 0 }),
+                        None => c.emit_prologue(Op::Fill { dst: s, bits: 0 }),
                     }
                 }
                 c.privates.insert(gh, slots);
             }
         }
+        c.span = fspan;
         let mut frame = Frame {
             func,
             info,
@@ -268,6 +283,50 @@ impl<'m> Compiler<'m> {
         (0..n).map(|_| self.slot()).collect()
     }
 
+    /// Slots for the leaves of an argument, result or variable, refused
+    /// before anything is allocated when they would pass `program_slots`.
+    fn variable_slots(&mut self, n: usize, what: &str) -> R<Vec<Slot>> {
+        let limit = self.limits.program_slots;
+        let total = self.variable_leaves.saturating_add(n as u64);
+        if total > limit {
+            return Err(self.err(format!(
+                "{what} needs {n} scalar slots, which with the {} already used passes the \
+                 limit of {limit} (`{}`); {}",
+                self.variable_leaves,
+                Limit::ProgramSlots,
+                Limit::ProgramSlots.how_to_raise()
+            )));
+        }
+        self.variable_leaves = total;
+        Ok(self.slots(n))
+    }
+
+    /// Append `op` to `out`, counting it against `program_ops`.
+    fn emit(&mut self, out: &mut Vec<Op>, op: Op) {
+        self.op_count += 1;
+        out.push(op);
+    }
+
+    fn emit_prologue(&mut self, op: Op) {
+        self.op_count += 1;
+        self.prologue.push(op);
+    }
+
+    /// Refuse to go on once the program has passed `program_ops` (checked
+    /// per statement and per inlined call, before the program grows further).
+    fn check_size(&self) -> R<()> {
+        let limit = self.limits.program_ops;
+        if self.op_count > limit {
+            return Err(self.err(format!(
+                "the program grows past {limit} operations here once every call is inlined \
+                 (limit `{}`); {}",
+                Limit::ProgramOps,
+                Limit::ProgramOps.how_to_raise()
+            )));
+        }
+        Ok(())
+    }
+
     fn err(&self, msg: impl Into<String>) -> Diagnostic {
         self.shader.diagnostic(self.span, msg)
     }
@@ -304,36 +363,45 @@ impl<'m> Compiler<'m> {
     fn k1(&mut self, out: &mut Vec<Op>, k: K1, a: Slot, what: &str) -> Slot {
         let dst = self.slot();
         let at = self.site(what);
-        out.push(Op::Kernel {
-            kernel: Kernel::Unary(k),
-            dst,
-            args: [a, 0, 0, 0],
-            at,
-        });
+        self.emit(
+            out,
+            Op::Kernel {
+                kernel: Kernel::Unary(k),
+                dst,
+                args: [a, 0, 0, 0],
+                at,
+            },
+        );
         dst
     }
 
     fn k2(&mut self, out: &mut Vec<Op>, k: K2, a: Slot, b: Slot, what: &str) -> Slot {
         let dst = self.slot();
         let at = self.site(what);
-        out.push(Op::Kernel {
-            kernel: Kernel::Binary(k),
-            dst,
-            args: [a, b, 0, 0],
-            at,
-        });
+        self.emit(
+            out,
+            Op::Kernel {
+                kernel: Kernel::Binary(k),
+                dst,
+                args: [a, b, 0, 0],
+                at,
+            },
+        );
         dst
     }
 
     fn k3(&mut self, out: &mut Vec<Op>, k: K3, a: Slot, b: Slot, c: Slot, what: &str) -> Slot {
         let dst = self.slot();
         let at = self.site(what);
-        out.push(Op::Kernel {
-            kernel: Kernel::Ternary(k),
-            dst,
-            args: [a, b, c, 0],
-            at,
-        });
+        self.emit(
+            out,
+            Op::Kernel {
+                kernel: Kernel::Ternary(k),
+                dst,
+                args: [a, b, c, 0],
+                at,
+            },
+        );
         dst
     }
 
@@ -353,13 +421,16 @@ impl<'m> Compiler<'m> {
         for (i, &d) in dst.iter().enumerate() {
             let site = self.sites.len() as u32;
             let arg = if args.len() == 1 { args[0] } else { args[i] };
-            out.push(Op::Perturb(Perturb {
-                dst: d,
-                arg,
-                bound,
-                half,
-                site,
-            }));
+            self.emit(
+                out,
+                Op::Perturb(Perturb {
+                    dst: d,
+                    arg,
+                    bound,
+                    half,
+                    site,
+                }),
+            );
             let (line, column) = self.shader.line_col(self.span);
             self.sites.push(Site {
                 line,
@@ -565,18 +636,23 @@ impl<'m> Compiler<'m> {
         for (lh, l) in frame.func.local_variables.iter() {
             self.span = frame.func.local_variables.get_span(lh);
             let ty = self.ty_of_handle(l.ty, self.span)?;
-            let slots: Rc<[Slot]> = self.slots(ty.leaf_count()).into();
+            let slots: Rc<[Slot]> = self
+                .variable_slots(ty.leaf_count(), "this local variable")?
+                .into();
             let init = match l.init {
                 Some(e) => Some(self.value(frame, e, out)?),
                 None => None,
             };
             for (i, &s) in slots.iter().enumerate() {
                 match &init {
-                    Some(v) => out.push(Op::Copy {
-                        dst: s,
-                        src: v.slots[i],
-                    }),
-                    None => out.push(Op::Fill { dst: s, bits: 0 }),
+                    Some(v) => self.emit(
+                        out,
+                        Op::Copy {
+                            dst: s,
+                            src: v.slots[i],
+                        },
+                    ),
+                    None => self.emit(out, Op::Fill { dst: s, bits: 0 }),
                 }
             }
             frame.locals.insert(lh, slots);
@@ -601,14 +677,20 @@ impl<'m> Compiler<'m> {
             if target.contains(&role) {
                 // Snapshot the exiting lanes: `current` is cleared too.
                 let snap = self.slot();
-                out.push(Op::Copy {
-                    dst: snap,
-                    src: current,
-                });
-                out.push(Op::Exit {
-                    current: snap,
-                    masks: masks.into(),
-                });
+                self.emit(
+                    out,
+                    Op::Copy {
+                        dst: snap,
+                        src: current,
+                    },
+                );
+                self.emit(
+                    out,
+                    Op::Exit {
+                        current: snap,
+                        masks: masks.into(),
+                    },
+                );
                 return Ok(());
             }
         }
@@ -616,6 +698,7 @@ impl<'m> Compiler<'m> {
     }
 
     fn statement(&mut self, frame: &mut Frame<'m>, stmt: &'m S, out: &mut Vec<Op>) -> R<()> {
+        self.check_size()?;
         match stmt {
             S::Emit(range) => {
                 for h in range.clone() {
@@ -643,14 +726,17 @@ impl<'m> Compiler<'m> {
                 self.masks.push((Role::Branch, else_mask));
                 self.block(frame, reject, &mut r)?;
                 self.masks.pop();
-                out.push(Op::If {
-                    cond,
-                    parent,
-                    then_mask,
-                    else_mask,
-                    accept: a,
-                    reject: r,
-                });
+                self.emit(
+                    out,
+                    Op::If {
+                        cond,
+                        parent,
+                        then_mask,
+                        else_mask,
+                        accept: a,
+                        reject: r,
+                    },
+                );
             }
             S::Switch { selector, cases } => {
                 let sel = self.value(frame, *selector, out)?.slots[0];
@@ -678,12 +764,15 @@ impl<'m> Compiler<'m> {
                     });
                 }
                 self.masks.pop();
-                out.push(Op::Switch {
-                    sel,
-                    parent,
-                    smask,
-                    cases: cs,
-                });
+                self.emit(
+                    out,
+                    Op::Switch {
+                        sel,
+                        parent,
+                        smask,
+                        cases: cs,
+                    },
+                );
             }
             S::Loop {
                 body,
@@ -715,16 +804,19 @@ impl<'m> Compiler<'m> {
                     None => None,
                 };
                 self.masks.pop();
-                out.push(Op::Loop {
-                    parent,
-                    lmask,
-                    imask,
-                    body: b,
-                    continuing: c,
-                    break_if,
-                    kill,
-                    at,
-                });
+                self.emit(
+                    out,
+                    Op::Loop {
+                        parent,
+                        lmask,
+                        imask,
+                        body: b,
+                        continuing: c,
+                        break_if,
+                        kill,
+                        at,
+                    },
+                );
             }
             S::Break => self.exit_to(out, &[Role::Loop, Role::Switch], "break")?,
             S::Continue => self.exit_to(out, &[Role::Iter], "continue")?,
@@ -749,7 +841,7 @@ impl<'m> Compiler<'m> {
                         .iter()
                         .zip(&v.slots)
                     {
-                        out.push(Op::MaskedCopy { dst, src, mask });
+                        self.emit(out, Op::MaskedCopy { dst, src, mask });
                     }
                 }
                 self.exit_to(out, &[Role::Root], "return")?;
@@ -819,12 +911,15 @@ impl<'m> Compiler<'m> {
                     });
                 }
             }
-            Some(offset) => out.push(Op::Scatter {
-                dst: region.into(),
-                src: v.slots.clone().into(),
-                offset,
-                mask,
-            }),
+            Some(offset) => self.emit(
+                out,
+                Op::Scatter {
+                    dst: region.into(),
+                    src: v.slots.clone().into(),
+                    offset,
+                    mask,
+                },
+            ),
         }
     }
 
@@ -834,6 +929,7 @@ impl<'m> Compiler<'m> {
         args: Vec<Item>,
         out: &mut Vec<Op>,
     ) -> R<Option<Vec<Slot>>> {
+        self.check_size()?;
         self.depth += 1;
         if self.depth > 64 {
             return Err(self.err("calls nested more than 64 deep"));
@@ -843,15 +939,18 @@ impl<'m> Compiler<'m> {
         let result = match &func.result {
             Some(r) => {
                 let ty = self.ty_of_handle(r.ty, self.span)?;
-                Some(self.slots(ty.leaf_count()))
+                Some(self.variable_slots(ty.leaf_count(), "this call's result")?)
             }
             None => None,
         };
         let root = self.slot();
-        out.push(Op::Enter {
-            mask: root,
-            parent: self.current(),
-        });
+        self.emit(
+            out,
+            Op::Enter {
+                mask: root,
+                parent: self.current(),
+            },
+        );
         let mut frame = Frame {
             func,
             info,
@@ -1056,11 +1155,14 @@ impl<'m> Compiler<'m> {
                         let n = ety.leaf_count();
                         let off = self.dynamic_offset(out, idx, len, n, None);
                         let dst = self.slots(n);
-                        out.push(Op::Gather {
-                            dst: dst.clone().into(),
-                            src: b.slots.clone().into(),
-                            offset: off,
-                        });
+                        self.emit(
+                            out,
+                            Op::Gather {
+                                dst: dst.clone().into(),
+                                src: b.slots.clone().into(),
+                                offset: off,
+                            },
+                        );
                         Val {
                             ty: ety,
                             slots: dst,
@@ -1169,17 +1271,23 @@ impl<'m> Compiler<'m> {
         match p.dynamic {
             None => {
                 for (i, &d) in dst.iter().enumerate() {
-                    out.push(Op::Copy {
-                        dst: d,
-                        src: region[i],
-                    });
+                    self.emit(
+                        out,
+                        Op::Copy {
+                            dst: d,
+                            src: region[i],
+                        },
+                    );
                 }
             }
-            Some(offset) => out.push(Op::Gather {
-                dst: dst.clone().into(),
-                src: region.into(),
-                offset,
-            }),
+            Some(offset) => self.emit(
+                out,
+                Op::Gather {
+                    dst: dst.clone().into(),
+                    src: region.into(),
+                    offset,
+                },
+            ),
         }
         Val {
             ty: p.ty.clone(),
@@ -1199,13 +1307,16 @@ impl<'m> Compiler<'m> {
         let at = self.site("");
         let mask = self.current();
         let checked = self.slot();
-        out.push(Op::CheckIndex {
-            dst: checked,
-            idx,
-            len,
-            mask,
-            at,
-        });
+        self.emit(
+            out,
+            Op::CheckIndex {
+                dst: checked,
+                idx,
+                len,
+                mask,
+                at,
+            },
+        );
         let scaled = if stride == 1 {
             checked
         } else {
@@ -1602,11 +1713,14 @@ impl<'m> Compiler<'m> {
                     o[0] = u32::from(arith::f16_bits(f32::from_bits(a[0])))
                         | (u32::from(arith::f16_bits(f32::from_bits(a[1]))) << 16);
                 }
-                out.push(Op::PerLane {
-                    f: pack,
-                    dst: vec![dst].into(),
-                    args: pair.into(),
-                });
+                self.emit(
+                    out,
+                    Op::PerLane {
+                        f: pack,
+                        dst: vec![dst].into(),
+                        args: pair.into(),
+                    },
+                );
                 slots.push(dst);
             }
         } else {
@@ -1616,11 +1730,14 @@ impl<'m> Compiler<'m> {
                     o[0] = arith::f16_from_bits(a[0] as u16).to_bits();
                     o[1] = arith::f16_from_bits((a[0] >> 16) as u16).to_bits();
                 }
-                out.push(Op::PerLane {
-                    f: unpack,
-                    dst: dst.clone().into(),
-                    args: vec![s].into(),
-                });
+                self.emit(
+                    out,
+                    Op::PerLane {
+                        f: unpack,
+                        dst: dst.clone().into(),
+                        args: vec![s].into(),
+                    },
+                );
                 slots.extend(dst);
             }
         }
@@ -1801,17 +1918,20 @@ impl<'m> Compiler<'m> {
                 for i in 0..n {
                     let d = self.slot();
                     let at = self.site("");
-                    out.push(Op::Kernel {
-                        kernel: Kernel::Quaternary(run4::<UInsert>),
-                        dst: d,
-                        args: [
-                            pick(&args[0], i),
-                            pick(&args[1], i),
-                            args[2].slots[0],
-                            args[3].slots[0],
-                        ],
-                        at,
-                    });
+                    self.emit(
+                        out,
+                        Op::Kernel {
+                            kernel: Kernel::Quaternary(run4::<UInsert>),
+                            dst: d,
+                            args: [
+                                pick(&args[0], i),
+                                pick(&args[1], i),
+                                args[2].slots[0],
+                                args[3].slots[0],
+                            ],
+                            at,
+                        },
+                    );
                     slots.push(d);
                 }
                 Val {
@@ -2008,11 +2128,14 @@ impl<'m> Compiler<'m> {
                         o[1] = e as u32;
                     }
                     let f: super::ir::LaneFn = if fun == MF::Modf { modf32 } else { frexp32 };
-                    out.push(Op::PerLane {
-                        f,
-                        dst: dst.clone().into(),
-                        args: vec![s].into(),
-                    });
+                    self.emit(
+                        out,
+                        Op::PerLane {
+                            f,
+                            dst: dst.clone().into(),
+                            args: vec![s].into(),
+                        },
+                    );
                     a.push(dst[0]);
                     b.push(dst[1]);
                 }
@@ -2057,11 +2180,14 @@ impl<'m> Compiler<'m> {
                     _ => |i, o| o[0] = arith::pack4xu8_clamp(std::array::from_fn(|j| i[j])),
                 };
                 let dst = self.slot();
-                out.push(Op::PerLane {
-                    f,
-                    dst: vec![dst].into(),
-                    args: args[0].slots.clone().into(),
-                });
+                self.emit(
+                    out,
+                    Op::PerLane {
+                        f,
+                        dst: vec![dst].into(),
+                        args: args[0].slots.clone().into(),
+                    },
+                );
                 scalar(dst)
             }
             MF::Unpack4x8snorm
@@ -2085,11 +2211,14 @@ impl<'m> Compiler<'m> {
                     _ => |i, o| o.copy_from_slice(&arith::unpack4xu8(i[0])),
                 };
                 let dst = self.slots(ty.leaf_count());
-                out.push(Op::PerLane {
-                    f,
-                    dst: dst.clone().into(),
-                    args: vec![args[0].slots[0]].into(),
-                });
+                self.emit(
+                    out,
+                    Op::PerLane {
+                        f,
+                        dst: dst.clone().into(),
+                        args: vec![args[0].slots[0]].into(),
+                    },
+                );
                 Val {
                     ty: ty.clone(),
                     slots: dst,

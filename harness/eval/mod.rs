@@ -107,11 +107,26 @@ impl Program {
         overrides: &BTreeMap<String, f64>,
         arithmetic: Arithmetic,
     ) -> Result<Program, Diagnostic> {
+        Self::compile_limited(shader, function, overrides, arithmetic, &Limits::default())
+    }
+
+    /// [`Program::compile_with`] under `limits`: a program that would pass
+    /// `program_ops` once every call is inlined, or whose arguments, result
+    /// and variables need more than `program_slots` scalar slots, is refused
+    /// with a located error; each point may run `steps_per_point` loop
+    /// iterations in all.
+    pub fn compile_limited(
+        shader: &Shader,
+        function: &str,
+        overrides: &BTreeMap<String, f64>,
+        arithmetic: Arithmetic,
+        limits: &Limits,
+    ) -> Result<Program, Diagnostic> {
         let (spec_bounds, seed) = match arithmetic {
             Arithmetic::Exact => (false, 0),
             Arithmetic::SpecBounds { seed } => (true, seed),
         };
-        let code = compile::Compiler::compile(shader, function, overrides, spec_bounds)?;
+        let code = compile::Compiler::compile(shader, function, overrides, spec_bounds, limits)?;
         let code = Verified::new(code).map_err(|e| {
             Diagnostic::without_position(
                 &shader.path,
@@ -137,7 +152,7 @@ impl Program {
             own_output,
             path: shader.path.clone(),
             function: function.to_string(),
-            step_budget: Limits::default().steps_per_point,
+            step_budget: limits.steps_per_point,
             seed,
         })
     }
