@@ -143,7 +143,9 @@ pub fn allowed(bound: Bound, r: f32, x: f32, half: bool) -> f64 {
     }
 }
 
-/// Largest move in representable steps for result `r` of argument `x`.
+/// Largest move in representable steps for result `r` of argument `x`
+/// (used by the tests of the bound table).
+#[cfg(test)]
 pub fn max_steps(bound: Bound, r: f32, x: f32, half: bool) -> i64 {
     (allowed(bound, r, x, half) / ulp(r, half))
         .floor()
