@@ -113,6 +113,7 @@ impl Program {
                 ));
             }
 
+            let any_abandoned = abandoned.iter().any(|&a| a);
             // Mark abandoned points and copy out: after this nothing writes
             // this batch's range of the output columns.
             for (j, (&slot, &k)) in code.output_slots.iter().zip(&out_kinds).enumerate() {
@@ -127,6 +128,9 @@ impl Program {
                         // SAFETY: as above; `lane < len`.
                         unsafe { *dst.add(lane) = to_external(k, b) };
                     }
+                }
+                if !any_abandoned {
+                    continue;
                 }
                 let none = if k.is_float() {
                     to_external(k, f32::NAN.to_bits())

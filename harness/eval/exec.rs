@@ -98,6 +98,8 @@ pub(crate) struct Machine {
     /// Loop iterations each lane has run in this batch, over every loop and
     /// inlined call.
     steps: [u64; LANES],
+    /// Whether any loop ran since `steps` was last cleared.
+    stepped: bool,
     pub step_budget: u64,
     /// Seed of the spec-bound number model (unused by exact programs).
     pub seed: u64,
@@ -123,6 +125,7 @@ impl Machine {
             arena,
             issues: Vec::new(),
             steps: [0; LANES],
+            stepped: false,
             step_budget,
             seed: 0,
             trace: None,
@@ -175,7 +178,10 @@ impl Machine {
             code.slot_count, self.arena.len,
             "a machine runs the code it was built for"
         );
-        self.steps = [0; LANES];
+        if self.stepped {
+            self.steps = [0; LANES];
+            self.stepped = false;
+        }
         self.exec(&code.sites, &code.ops);
     }
 
@@ -349,6 +355,7 @@ impl Machine {
                     at,
                 } => {
                     *col(lmask) = *col(parent);
+                    self.stepped = true;
                     while self.any(lmask) {
                         // Each live lane pays one step per iteration, from
                         // one budget for all loops and calls of its point.
