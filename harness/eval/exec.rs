@@ -361,9 +361,9 @@ impl Machine {
                         // one budget for all loops and calls of its point.
                         let live = *col(lmask);
                         let mut over = 0u32;
-                        for i in 0..LANES {
-                            self.steps[i] += u64::from(live[i]);
-                            over |= u32::from(self.steps[i] > self.step_budget);
+                        for (s, &l) in self.steps.iter_mut().zip(&live) {
+                            *s += u64::from(l);
+                            over |= u32::from(*s > self.step_budget);
                         }
                         if over != 0 {
                             let mut out = [0u32; LANES];

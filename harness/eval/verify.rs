@@ -226,7 +226,7 @@ impl Verifier<'_> {
         Ok(())
     }
 
-    fn block(&mut self, ops: &[Op], defined: &mut Vec<bool>) -> Result<(), VerifyError> {
+    fn block(&mut self, ops: &[Op], defined: &mut [bool]) -> Result<(), VerifyError> {
         for (i, op) in ops.iter().enumerate() {
             self.path.push(i);
             self.op(op, defined)?;
@@ -237,7 +237,7 @@ impl Verifier<'_> {
 
     /// Check one op given the slots `defined` before it; update `defined` to
     /// the slots written after it on every path.
-    fn op(&mut self, op: &Op, defined: &mut Vec<bool>) -> Result<(), VerifyError> {
+    fn op(&mut self, op: &Op, defined: &mut [bool]) -> Result<(), VerifyError> {
         match op {
             Op::Fill { dst, .. } => self.write(*dst, &[], defined)?,
             Op::Enter { mask, parent } => {
@@ -362,11 +362,11 @@ impl Verifier<'_> {
                 self.write_mask(*else_mask, defined)?;
                 // Either side may be skipped: what it writes is defined only
                 // inside it.
-                let mut inner = defined.clone();
+                let mut inner = defined.to_vec();
                 self.path.push(0);
                 self.block(accept, &mut inner)?;
                 self.path.pop();
-                let mut inner = defined.clone();
+                let mut inner = defined.to_vec();
                 self.path.push(1);
                 self.block(reject, &mut inner)?;
                 self.path.pop();
@@ -395,7 +395,7 @@ impl Verifier<'_> {
                 }
                 self.write_mask(*lmask, defined)?;
                 self.write_mask(*imask, defined)?;
-                let mut inner = defined.clone();
+                let mut inner = defined.to_vec();
                 self.path.push(0);
                 self.block(body, &mut inner)?;
                 self.path.pop();
@@ -419,7 +419,7 @@ impl Verifier<'_> {
                     self.write_mask(c.mask, defined)?;
                 }
                 for (j, c) in cases.iter().enumerate() {
-                    let mut inner = defined.clone();
+                    let mut inner = defined.to_vec();
                     self.path.push(j);
                     self.block(&c.body, &mut inner)?;
                     self.path.pop();
