@@ -15,11 +15,12 @@ use naga::{
     Statement as S, TypeInner,
 };
 
-use super::exec::{Case, Op, Site, Slot};
+use super::ir::{Case, Code, Kernel, Op, Site, Slot};
 use super::lanes::*;
 use super::perturb::{Bound, Perturb};
 use super::ty::{ScalarKind as K, Ty};
 use crate::arith;
+use crate::limits::{Limit, Limits};
 use crate::wgsl::{Diagnostic, Shader};
 
 /// A compiled value: its type and one slot per leaf.
@@ -67,19 +68,6 @@ struct Frame<'m> {
     root: Slot,
 }
 
-pub struct Compiled {
-    pub ops: Vec<Op>,
-    pub slot_count: usize,
-    pub sites: Vec<Site>,
-    pub params: Vec<(String, Ty)>,
-    pub input_slots: Vec<Slot>,
-    pub result: Option<Ty>,
-    pub output_slots: Vec<Slot>,
-    pub root_mask: Slot,
-    /// Constant slots and their bit patterns, written once per machine.
-    pub consts: Vec<(Slot, u32)>,
-}
-
 type R<T> = Result<T, Diagnostic>;
 
 pub struct Compiler<'m> {
@@ -110,6 +98,12 @@ pub struct Compiler<'m> {
     depth: usize,
     /// Whether inexact operations get `Op::Perturb` after them.
     spec_bounds: bool,
+    /// Program size and variable limits (`program_ops`, `program_slots`).
+    limits: &'m Limits,
+    /// Operations emitted so far (inlined calls included).
+    op_count: u64,
+    /// Leaves of arguments, results and variables allocated so far.
+    variable_leaves: u64,
 }
 
 impl<'m> Compiler<'m> {
@@ -118,7 +112,8 @@ impl<'m> Compiler<'m> {
         name: &str,
         overrides: &'m BTreeMap<String, f64>,
         spec_bounds: bool,
-    ) -> R<Compiled> {
+        limits: &'m Limits,
+    ) -> R<Code> {
         let module = &shader.module;
         // A plain function, or an entry point (its `@location`/`@builtin`
         // parameters become ordinary inputs).
@@ -165,6 +160,9 @@ impl<'m> Compiler<'m> {
             outer_masks: Vec::new(),
             span: fspan,
             depth: 0,
+            limits,
+            op_count: 0,
+            variable_leaves: 0,
         };
         for key in overrides.keys() {
             // A pipeline constant is keyed by the override's name or by its
@@ -194,7 +192,7 @@ impl<'m> Compiler<'m> {
         for (i, a) in func.arguments.iter().enumerate() {
             let span = fspan;
             let ty = c.ty_of_handle(a.ty, span)?;
-            let slots = c.slots(ty.leaf_count());
+            let slots = c.variable_slots(ty.leaf_count(), "this argument")?;
             input_slots.extend(&slots);
             params.push((
                 a.name.clone().unwrap_or_else(|| format!("arg{i}")),
@@ -206,32 +204,36 @@ impl<'m> Compiler<'m> {
             Some(r) => Some(c.ty_of_handle(r.ty, fspan)?),
             None => None,
         };
-        let output_slots = result
-            .as_ref()
-            .map(|t| c.slots(t.leaf_count()))
-            .unwrap_or_default();
+        let output_slots = match &result {
+            Some(t) => c.variable_slots(t.leaf_count(), "the result")?,
+            None => Vec::new(),
+        };
         let mut body = Vec::new();
         // Private variables are per invocation: initialise them for every batch.
         for (gh, g) in module.global_variables.iter() {
             if g.space == naga::AddressSpace::Private {
-                let ty = c.ty_of_handle(g.ty, module.global_variables.get_span(gh))?;
-                let slots: Rc<[Slot]> = c.slots(ty.leaf_count()).into();
+                c.span = module.global_variables.get_span(gh);
+                let ty = c.ty_of_handle(g.ty, c.span)?;
+                let slots: Rc<[Slot]> = c
+                    .variable_slots(ty.leaf_count(), "this private variable")?
+                    .into();
                 let init = match g.init {
                     Some(e) => Some(c.global_expr(e)?),
                     None => None,
                 };
                 for (i, &s) in slots.iter().enumerate() {
                     match &init {
-                        Some(v) => c.prologue.push(Op::Copy {
+                        Some(v) => c.emit_prologue(Op::Copy {
                             dst: s,
                             src: v.slots[i],
                         }),
-                        None => c.prologue.push(Op::Fill { dst: s, bits: 0 }),
+                        None => c.emit_prologue(Op::Fill { dst: s, bits: 0 }),
                     }
                 }
                 c.privates.insert(gh, slots);
             }
         }
+        c.span = fspan;
         let mut frame = Frame {
             func,
             info,
@@ -246,9 +248,17 @@ impl<'m> Compiler<'m> {
         c.block(&mut frame, &func.body, &mut body)?;
         c.masks.pop();
         let mut ops = std::mem::take(&mut c.prologue);
+        let output_slots = match c.direct_result[0].take() {
+            Some(direct) => direct,
+            None => {
+                // Returns copy into the result under their masks: start it
+                // from zero so no lane reads what an earlier batch left.
+                ops.extend(output_slots.iter().map(|&dst| Op::Fill { dst, bits: 0 }));
+                output_slots
+            }
+        };
         ops.extend(body);
-        let output_slots = c.direct_result[0].take().unwrap_or(output_slots);
-        Ok(Compiled {
+        Ok(Code {
             consts: std::mem::take(&mut c.consts),
             ops,
             slot_count: c.next as usize,
@@ -271,6 +281,50 @@ impl<'m> Compiler<'m> {
 
     fn slots(&mut self, n: usize) -> Vec<Slot> {
         (0..n).map(|_| self.slot()).collect()
+    }
+
+    /// Slots for the leaves of an argument, result or variable, refused
+    /// before anything is allocated when they would pass `program_slots`.
+    fn variable_slots(&mut self, n: usize, what: &str) -> R<Vec<Slot>> {
+        let limit = self.limits.program_slots;
+        let total = self.variable_leaves.saturating_add(n as u64);
+        if total > limit {
+            return Err(self.err(format!(
+                "{what} needs {n} scalar slots, which with the {} already used passes the \
+                 limit of {limit} (`{}`); {}",
+                self.variable_leaves,
+                Limit::ProgramSlots,
+                Limit::ProgramSlots.how_to_raise()
+            )));
+        }
+        self.variable_leaves = total;
+        Ok(self.slots(n))
+    }
+
+    /// Append `op` to `out`, counting it against `program_ops`.
+    fn emit(&mut self, out: &mut Vec<Op>, op: Op) {
+        self.op_count += 1;
+        out.push(op);
+    }
+
+    fn emit_prologue(&mut self, op: Op) {
+        self.op_count += 1;
+        self.prologue.push(op);
+    }
+
+    /// Refuse to go on once the program has passed `program_ops` (checked
+    /// per statement and per inlined call, before the program grows further).
+    fn check_size(&self) -> R<()> {
+        let limit = self.limits.program_ops;
+        if self.op_count > limit {
+            return Err(self.err(format!(
+                "the program grows past {limit} operations here once every call is inlined \
+                 (limit `{}`); {}",
+                Limit::ProgramOps,
+                Limit::ProgramOps.how_to_raise()
+            )));
+        }
+        Ok(())
     }
 
     fn err(&self, msg: impl Into<String>) -> Diagnostic {
@@ -309,28 +363,45 @@ impl<'m> Compiler<'m> {
     fn k1(&mut self, out: &mut Vec<Op>, k: K1, a: Slot, what: &str) -> Slot {
         let dst = self.slot();
         let at = self.site(what);
-        out.push(Op::U { k, dst, a, at });
+        self.emit(
+            out,
+            Op::Kernel {
+                kernel: Kernel::Unary(k),
+                dst,
+                args: [a, 0, 0, 0],
+                at,
+            },
+        );
         dst
     }
 
     fn k2(&mut self, out: &mut Vec<Op>, k: K2, a: Slot, b: Slot, what: &str) -> Slot {
         let dst = self.slot();
         let at = self.site(what);
-        out.push(Op::B { k, dst, a, b, at });
+        self.emit(
+            out,
+            Op::Kernel {
+                kernel: Kernel::Binary(k),
+                dst,
+                args: [a, b, 0, 0],
+                at,
+            },
+        );
         dst
     }
 
     fn k3(&mut self, out: &mut Vec<Op>, k: K3, a: Slot, b: Slot, c: Slot, what: &str) -> Slot {
         let dst = self.slot();
         let at = self.site(what);
-        out.push(Op::T {
-            k,
-            dst,
-            a,
-            b,
-            c,
-            at,
-        });
+        self.emit(
+            out,
+            Op::Kernel {
+                kernel: Kernel::Ternary(k),
+                dst,
+                args: [a, b, c, 0],
+                at,
+            },
+        );
         dst
     }
 
@@ -350,13 +421,16 @@ impl<'m> Compiler<'m> {
         for (i, &d) in dst.iter().enumerate() {
             let site = self.sites.len() as u32;
             let arg = if args.len() == 1 { args[0] } else { args[i] };
-            out.push(Op::Perturb(Perturb {
-                dst: d,
-                arg,
-                bound,
-                half,
-                site,
-            }));
+            self.emit(
+                out,
+                Op::Perturb(Perturb {
+                    dst: d,
+                    arg,
+                    bound,
+                    half,
+                    site,
+                }),
+            );
             let (line, column) = self.shader.line_col(self.span);
             self.sites.push(Site {
                 line,
@@ -562,18 +636,23 @@ impl<'m> Compiler<'m> {
         for (lh, l) in frame.func.local_variables.iter() {
             self.span = frame.func.local_variables.get_span(lh);
             let ty = self.ty_of_handle(l.ty, self.span)?;
-            let slots: Rc<[Slot]> = self.slots(ty.leaf_count()).into();
+            let slots: Rc<[Slot]> = self
+                .variable_slots(ty.leaf_count(), "this local variable")?
+                .into();
             let init = match l.init {
                 Some(e) => Some(self.value(frame, e, out)?),
                 None => None,
             };
             for (i, &s) in slots.iter().enumerate() {
                 match &init {
-                    Some(v) => out.push(Op::Copy {
-                        dst: s,
-                        src: v.slots[i],
-                    }),
-                    None => out.push(Op::Fill { dst: s, bits: 0 }),
+                    Some(v) => self.emit(
+                        out,
+                        Op::Copy {
+                            dst: s,
+                            src: v.slots[i],
+                        },
+                    ),
+                    None => self.emit(out, Op::Fill { dst: s, bits: 0 }),
                 }
             }
             frame.locals.insert(lh, slots);
@@ -598,14 +677,20 @@ impl<'m> Compiler<'m> {
             if target.contains(&role) {
                 // Snapshot the exiting lanes: `current` is cleared too.
                 let snap = self.slot();
-                out.push(Op::Copy {
-                    dst: snap,
-                    src: current,
-                });
-                out.push(Op::Exit {
-                    current: snap,
-                    masks: masks.into(),
-                });
+                self.emit(
+                    out,
+                    Op::Copy {
+                        dst: snap,
+                        src: current,
+                    },
+                );
+                self.emit(
+                    out,
+                    Op::Exit {
+                        current: snap,
+                        masks: masks.into(),
+                    },
+                );
                 return Ok(());
             }
         }
@@ -613,6 +698,7 @@ impl<'m> Compiler<'m> {
     }
 
     fn statement(&mut self, frame: &mut Frame<'m>, stmt: &'m S, out: &mut Vec<Op>) -> R<()> {
+        self.check_size()?;
         match stmt {
             S::Emit(range) => {
                 for h in range.clone() {
@@ -640,14 +726,17 @@ impl<'m> Compiler<'m> {
                 self.masks.push((Role::Branch, else_mask));
                 self.block(frame, reject, &mut r)?;
                 self.masks.pop();
-                out.push(Op::If {
-                    cond,
-                    parent,
-                    then_mask,
-                    else_mask,
-                    accept: a,
-                    reject: r,
-                });
+                self.emit(
+                    out,
+                    Op::If {
+                        cond,
+                        parent,
+                        then_mask,
+                        else_mask,
+                        accept: a,
+                        reject: r,
+                    },
+                );
             }
             S::Switch { selector, cases } => {
                 let sel = self.value(frame, *selector, out)?.slots[0];
@@ -675,12 +764,15 @@ impl<'m> Compiler<'m> {
                     });
                 }
                 self.masks.pop();
-                out.push(Op::Switch {
-                    sel,
-                    parent,
-                    smask,
-                    cases: cs,
-                });
+                self.emit(
+                    out,
+                    Op::Switch {
+                        sel,
+                        parent,
+                        smask,
+                        cases: cs,
+                    },
+                );
             }
             S::Loop {
                 body,
@@ -712,16 +804,19 @@ impl<'m> Compiler<'m> {
                     None => None,
                 };
                 self.masks.pop();
-                out.push(Op::Loop {
-                    parent,
-                    lmask,
-                    imask,
-                    body: b,
-                    continuing: c,
-                    break_if,
-                    kill,
-                    at,
-                });
+                self.emit(
+                    out,
+                    Op::Loop {
+                        parent,
+                        lmask,
+                        imask,
+                        body: b,
+                        continuing: c,
+                        break_if,
+                        kill,
+                        at,
+                    },
+                );
             }
             S::Break => self.exit_to(out, &[Role::Loop, Role::Switch], "break")?,
             S::Continue => self.exit_to(out, &[Role::Iter], "continue")?,
@@ -746,7 +841,7 @@ impl<'m> Compiler<'m> {
                         .iter()
                         .zip(&v.slots)
                     {
-                        out.push(Op::MaskedCopy { dst, src, mask });
+                        self.emit(out, Op::MaskedCopy { dst, src, mask });
                     }
                 }
                 self.exit_to(out, &[Role::Root], "return")?;
@@ -816,12 +911,15 @@ impl<'m> Compiler<'m> {
                     });
                 }
             }
-            Some(offset) => out.push(Op::Scatter {
-                dst: region.into(),
-                src: v.slots.clone().into(),
-                offset,
-                mask,
-            }),
+            Some(offset) => self.emit(
+                out,
+                Op::Scatter {
+                    dst: region.into(),
+                    src: v.slots.clone().into(),
+                    offset,
+                    mask,
+                },
+            ),
         }
     }
 
@@ -831,6 +929,7 @@ impl<'m> Compiler<'m> {
         args: Vec<Item>,
         out: &mut Vec<Op>,
     ) -> R<Option<Vec<Slot>>> {
+        self.check_size()?;
         self.depth += 1;
         if self.depth > 64 {
             return Err(self.err("calls nested more than 64 deep"));
@@ -840,15 +939,18 @@ impl<'m> Compiler<'m> {
         let result = match &func.result {
             Some(r) => {
                 let ty = self.ty_of_handle(r.ty, self.span)?;
-                Some(self.slots(ty.leaf_count()))
+                Some(self.variable_slots(ty.leaf_count(), "this call's result")?)
             }
             None => None,
         };
         let root = self.slot();
-        out.push(Op::Copy {
-            dst: root,
-            src: self.current(),
-        });
+        self.emit(
+            out,
+            Op::Enter {
+                mask: root,
+                parent: self.current(),
+            },
+        );
         let mut frame = Frame {
             func,
             info,
@@ -864,10 +966,19 @@ impl<'m> Compiler<'m> {
         let saved_span = self.span;
         self.exits.push(0);
         self.direct_result.push(None);
+        let entry = out.len();
         self.init_locals(&mut frame, out)?;
         self.block(&mut frame, &func.body, out)?;
         self.exits.pop();
         let direct = self.direct_result.pop().flatten();
+        if let (None, Some(result)) = (&direct, &result) {
+            // Returns copy into the result under their masks: start it from
+            // zero so no lane reads what an earlier batch left.
+            out.splice(
+                entry..entry,
+                result.iter().map(|&dst| Op::Fill { dst, bits: 0 }),
+            );
+        }
         self.masks = saved_masks;
         self.outer_masks.truncate(outer_len);
         self.span = saved_span;
@@ -1044,11 +1155,14 @@ impl<'m> Compiler<'m> {
                         let n = ety.leaf_count();
                         let off = self.dynamic_offset(out, idx, len, n, None);
                         let dst = self.slots(n);
-                        out.push(Op::Gather {
-                            dst: dst.clone().into(),
-                            src: b.slots.clone().into(),
-                            offset: off,
-                        });
+                        self.emit(
+                            out,
+                            Op::Gather {
+                                dst: dst.clone().into(),
+                                src: b.slots.clone().into(),
+                                offset: off,
+                            },
+                        );
                         Val {
                             ty: ety,
                             slots: dst,
@@ -1157,17 +1271,23 @@ impl<'m> Compiler<'m> {
         match p.dynamic {
             None => {
                 for (i, &d) in dst.iter().enumerate() {
-                    out.push(Op::Copy {
-                        dst: d,
-                        src: region[i],
-                    });
+                    self.emit(
+                        out,
+                        Op::Copy {
+                            dst: d,
+                            src: region[i],
+                        },
+                    );
                 }
             }
-            Some(offset) => out.push(Op::Gather {
-                dst: dst.clone().into(),
-                src: region.into(),
-                offset,
-            }),
+            Some(offset) => self.emit(
+                out,
+                Op::Gather {
+                    dst: dst.clone().into(),
+                    src: region.into(),
+                    offset,
+                },
+            ),
         }
         Val {
             ty: p.ty.clone(),
@@ -1187,13 +1307,16 @@ impl<'m> Compiler<'m> {
         let at = self.site("");
         let mask = self.current();
         let checked = self.slot();
-        out.push(Op::CheckIndex {
-            dst: checked,
-            idx,
-            len,
-            mask,
-            at,
-        });
+        self.emit(
+            out,
+            Op::CheckIndex {
+                dst: checked,
+                idx,
+                len,
+                mask,
+                at,
+            },
+        );
         let scaled = if stride == 1 {
             checked
         } else {
@@ -1590,11 +1713,14 @@ impl<'m> Compiler<'m> {
                     o[0] = u32::from(arith::f16_bits(f32::from_bits(a[0])))
                         | (u32::from(arith::f16_bits(f32::from_bits(a[1]))) << 16);
                 }
-                out.push(Op::PerLane {
-                    f: pack,
-                    dst: vec![dst].into(),
-                    args: pair.into(),
-                });
+                self.emit(
+                    out,
+                    Op::PerLane {
+                        f: pack,
+                        dst: vec![dst].into(),
+                        args: pair.into(),
+                    },
+                );
                 slots.push(dst);
             }
         } else {
@@ -1604,11 +1730,14 @@ impl<'m> Compiler<'m> {
                     o[0] = arith::f16_from_bits(a[0] as u16).to_bits();
                     o[1] = arith::f16_from_bits((a[0] >> 16) as u16).to_bits();
                 }
-                out.push(Op::PerLane {
-                    f: unpack,
-                    dst: dst.clone().into(),
-                    args: vec![s].into(),
-                });
+                self.emit(
+                    out,
+                    Op::PerLane {
+                        f: unpack,
+                        dst: dst.clone().into(),
+                        args: vec![s].into(),
+                    },
+                );
                 slots.extend(dst);
             }
         }
@@ -1788,14 +1917,21 @@ impl<'m> Compiler<'m> {
                 let _ = dst;
                 for i in 0..n {
                     let d = self.slot();
-                    out.push(Op::Q {
-                        k: run4::<UInsert>,
-                        dst: d,
-                        a: pick(&args[0], i),
-                        b: pick(&args[1], i),
-                        c: args[2].slots[0],
-                        d: args[3].slots[0],
-                    });
+                    let at = self.site("");
+                    self.emit(
+                        out,
+                        Op::Kernel {
+                            kernel: Kernel::Quaternary(run4::<UInsert>),
+                            dst: d,
+                            args: [
+                                pick(&args[0], i),
+                                pick(&args[1], i),
+                                args[2].slots[0],
+                                args[3].slots[0],
+                            ],
+                            at,
+                        },
+                    );
                     slots.push(d);
                 }
                 Val {
@@ -1991,12 +2127,15 @@ impl<'m> Compiler<'m> {
                         o[0] = f.to_bits();
                         o[1] = e as u32;
                     }
-                    let f: super::exec::LaneFn = if fun == MF::Modf { modf32 } else { frexp32 };
-                    out.push(Op::PerLane {
-                        f,
-                        dst: dst.clone().into(),
-                        args: vec![s].into(),
-                    });
+                    let f: super::ir::LaneFn = if fun == MF::Modf { modf32 } else { frexp32 };
+                    self.emit(
+                        out,
+                        Op::PerLane {
+                            f,
+                            dst: dst.clone().into(),
+                            args: vec![s].into(),
+                        },
+                    );
                     a.push(dst[0]);
                     b.push(dst[1]);
                 }
@@ -2015,7 +2154,7 @@ impl<'m> Compiler<'m> {
             | MF::Pack4xU8
             | MF::Pack4xI8Clamp
             | MF::Pack4xU8Clamp => {
-                let f: super::exec::LaneFn = match fun {
+                let f: super::ir::LaneFn = match fun {
                     MF::Pack4x8snorm => |i, o| {
                         o[0] = arith::pack4x8snorm(std::array::from_fn(|j| f32::from_bits(i[j])))
                     },
@@ -2041,11 +2180,14 @@ impl<'m> Compiler<'m> {
                     _ => |i, o| o[0] = arith::pack4xu8_clamp(std::array::from_fn(|j| i[j])),
                 };
                 let dst = self.slot();
-                out.push(Op::PerLane {
-                    f,
-                    dst: vec![dst].into(),
-                    args: args[0].slots.clone().into(),
-                });
+                self.emit(
+                    out,
+                    Op::PerLane {
+                        f,
+                        dst: vec![dst].into(),
+                        args: args[0].slots.clone().into(),
+                    },
+                );
                 scalar(dst)
             }
             MF::Unpack4x8snorm
@@ -2055,7 +2197,7 @@ impl<'m> Compiler<'m> {
             | MF::Unpack2x16float
             | MF::Unpack4xI8
             | MF::Unpack4xU8 => {
-                let f: super::exec::LaneFn = match fun {
+                let f: super::ir::LaneFn = match fun {
                     MF::Unpack4x8snorm => |i, o| put_f32(o, &arith::unpack4x8snorm(i[0])),
                     MF::Unpack4x8unorm => |i, o| put_f32(o, &arith::unpack4x8unorm(i[0])),
                     MF::Unpack2x16snorm => |i, o| put_f32(o, &arith::unpack2x16snorm(i[0])),
@@ -2069,11 +2211,14 @@ impl<'m> Compiler<'m> {
                     _ => |i, o| o.copy_from_slice(&arith::unpack4xu8(i[0])),
                 };
                 let dst = self.slots(ty.leaf_count());
-                out.push(Op::PerLane {
-                    f,
-                    dst: dst.clone().into(),
-                    args: vec![args[0].slots[0]].into(),
-                });
+                self.emit(
+                    out,
+                    Op::PerLane {
+                        f,
+                        dst: dst.clone().into(),
+                        args: vec![args[0].slots[0]].into(),
+                    },
+                );
                 Val {
                     ty: ty.clone(),
                     slots: dst,

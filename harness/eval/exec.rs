@@ -1,221 +1,169 @@
-//! The compiled program and its executor.
+//! The executor: runs verified [`Code`] over one batch of [`LANES`] points.
 //!
-//! A program is a tree of [`Op`]s over numbered slots; each slot is one column
-//! of [`LANES`] 32-bit patterns. Straight-line operations run for every lane
-//! (they are pure, and WGSL gives every integer and float operation a value, so
-//! nothing traps); control flow keeps a boolean *mask* slot per construct and
-//! only masked operations (stores, returns, checks) look at it. A construct
-//! whose mask is empty is skipped.
+//! Slot memory is one [`Arena`]: a single allocation whose every pointer is
+//! derived from one base pointer, plus a table saying where each slot's lanes
+//! live (its own column in the arena, or a caller's column *bound* for one
+//! batch so full batches of inputs and outputs need no copy). Nothing takes a
+//! reference to the arena as a whole, so a `&mut` to one slot never
+//! invalidates the pointers to the others.
+//!
+//! The `unsafe` blocks rely on two things only: what the verifier proved of
+//! the code ([`Verified`]), and the binding contract of [`Machine::bind`].
 
-use super::lanes::{Lanes, K1, K2, K3, K4, LANES};
+use super::ir::{At, Code, Kernel, Op, Site, Slot, PER_LANE_MAX};
+use super::lanes::{Lanes, LANES};
+use super::verify::{verify, VerifyError};
 
-pub type Slot = u32;
+/// Code the verifier accepted. Only [`Verified::new`] makes one, so a machine
+/// never runs code whose slot numbers, destinations and masks were not
+/// checked.
+pub(crate) struct Verified(Code);
 
-/// Index into the compiled program's site table: where in the source an
-/// operation came from.
-pub type At = u32;
-
-/// A source position attached to operations that can report per-lane issues.
-#[derive(Clone, Debug)]
-pub struct Site {
-    pub line: u32,
-    pub column: u32,
-    /// What happens there, e.g. "sqrt", "division", "index".
-    pub what: String,
-    /// The mask slot active where the operation runs (for NaN tracing).
-    pub mask: Slot,
+impl Verified {
+    pub fn new(code: Code) -> Result<Verified, VerifyError> {
+        verify(&code)?;
+        Ok(Verified(code))
+    }
 }
 
-/// Per-lane kernel that reads and writes several slots (packing built-ins,
-/// frexp, modf): `f(args, outs)` for one lane.
-pub type LaneFn = fn(&[u32], &mut [u32]);
-
-#[derive(Clone)]
-pub enum Op {
-    Fill {
-        dst: Slot,
-        bits: u32,
-    },
-    Copy {
-        dst: Slot,
-        src: Slot,
-    },
-    U {
-        k: K1,
-        dst: Slot,
-        a: Slot,
-        at: At,
-    },
-    B {
-        k: K2,
-        dst: Slot,
-        a: Slot,
-        b: Slot,
-        at: At,
-    },
-    T {
-        k: K3,
-        dst: Slot,
-        a: Slot,
-        b: Slot,
-        c: Slot,
-        at: At,
-    },
-    Q {
-        k: K4,
-        dst: Slot,
-        a: Slot,
-        b: Slot,
-        c: Slot,
-        d: Slot,
-    },
-    PerLane {
-        f: LaneFn,
-        dst: Box<[Slot]>,
-        args: Box<[Slot]>,
-    },
-    /// `dst = mask ? src : dst` per lane.
-    MaskedCopy {
-        dst: Slot,
-        src: Slot,
-        mask: Slot,
-    },
-    /// `dst[j] = src[offset + j]` per lane; `offset` counts leaves and is in range.
-    Gather {
-        dst: Box<[Slot]>,
-        src: Box<[Slot]>,
-        offset: Slot,
-    },
-    /// `dst[offset + j] = src[j]` for lanes in `mask`.
-    Scatter {
-        dst: Box<[Slot]>,
-        src: Box<[Slot]>,
-        offset: Slot,
-        mask: Slot,
-    },
-    /// `dst = idx` where `idx < len` (as u32), else 0 with an issue for lanes in `mask`.
-    CheckIndex {
-        dst: Slot,
-        idx: Slot,
-        len: u32,
-        mask: Slot,
-        at: At,
-    },
-    If {
-        cond: Slot,
-        parent: Slot,
-        then_mask: Slot,
-        else_mask: Slot,
-        accept: Vec<Op>,
-        reject: Vec<Op>,
-    },
-    Loop {
-        parent: Slot,
-        lmask: Slot,
-        imask: Slot,
-        body: Vec<Op>,
-        continuing: Vec<Op>,
-        break_if: Option<Slot>,
-        /// Every mask a lane must leave when it runs out of iterations.
-        kill: Box<[Slot]>,
-        at: At,
-    },
-    Switch {
-        sel: Slot,
-        parent: Slot,
-        smask: Slot,
-        cases: Vec<Case>,
-    },
-    /// Lanes in `current` leave every mask in `masks` (break, continue, return).
-    Exit {
-        current: Slot,
-        masks: Box<[Slot]>,
-    },
-    /// Spec-bound number model only: move a result within its accuracy bound.
-    Perturb(super::perturb::Perturb),
+impl std::ops::Deref for Verified {
+    type Target = Code;
+    fn deref(&self) -> &Code {
+        &self.0
+    }
 }
 
-#[derive(Clone)]
-pub struct Case {
-    pub values: Vec<u32>,
-    pub default: bool,
-    pub fall_through: bool,
-    pub mask: Slot,
-    pub body: Vec<Op>,
+/// The slot memory of one machine.
+struct Arena {
+    /// Start of the machine's own columns (`len` of them), from
+    /// `Box::into_raw`; freed in `drop`.
+    base: *mut Lanes,
+    len: usize,
+    /// Where each slot's lanes live: `base + slot`, or a bound column.
+    ptrs: Box<[*mut Lanes]>,
+}
+
+impl Arena {
+    fn new(len: usize) -> Arena {
+        let own: Box<[Lanes]> = vec![[0; LANES]; len].into_boxed_slice();
+        let base = Box::into_raw(own) as *mut Lanes;
+        // SAFETY: `base` points to `len` columns; `base + i` for i < len is
+        // in bounds.
+        let ptrs = (0..len).map(|i| unsafe { base.add(i) }).collect();
+        Arena { base, len, ptrs }
+    }
+
+    /// The machine's own column of slot `s` (whether or not `s` is bound).
+    fn own(&self, s: Slot) -> *mut Lanes {
+        assert!((s as usize) < self.len, "slot {s} out of range");
+        // SAFETY: just checked to be within the allocation.
+        unsafe { self.base.add(s as usize) }
+    }
+}
+
+impl Drop for Arena {
+    fn drop(&mut self) {
+        // SAFETY: `base` and `len` came from `Box::into_raw` of a boxed
+        // slice of `len` columns, and this is the only place that frees it.
+        unsafe {
+            drop(Box::from_raw(std::ptr::slice_from_raw_parts_mut(
+                self.base, self.len,
+            )))
+        };
+    }
+}
+
+/// Why a lane was reported while running.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub(crate) enum RawKind {
+    OutOfBounds,
+    /// The lane was abandoned: it has no result.
+    StepBudget,
 }
 
 /// One per-lane problem found while running.
 #[derive(Clone, Debug, PartialEq, Eq)]
-pub struct RawIssue {
+pub(crate) struct RawIssue {
     pub lane: usize,
     pub at: At,
+    pub kind: RawKind,
     pub detail: String,
 }
 
-/// Scratch state of one thread: the slot memory and the issue log.
-pub struct Machine {
-    slots: Vec<Lanes>,
-    /// Where each slot's lanes live: normally `slots[i]`, or a bound column.
-    ptrs: Vec<*mut Lanes>,
+/// Scratch state of one thread: the slot arena, per-lane step counts and the
+/// issue log.
+pub(crate) struct Machine {
+    arena: Arena,
     pub issues: Vec<RawIssue>,
-    pub step_budget: u32,
+    /// Loop iterations each lane has run in this batch, over every loop and
+    /// inlined call.
+    steps: [u64; LANES],
+    /// Whether any loop ran since `steps` was last cleared.
+    stepped: bool,
+    pub step_budget: u64,
     /// Seed of the spec-bound number model (unused by exact programs).
     pub seed: u64,
     /// When set, the first operation per lane that turned non-NaN operands
     /// into a NaN or infinity is recorded (slower; used to explain failures).
     pub trace: Option<Vec<Option<At>>>,
-    pub sites: *const [Site],
 }
 
+// SAFETY: the raw pointers point into the machine's own arena or into
+// columns bound for one batch by the thread that owns the machine.
+unsafe impl Send for Machine {}
+
 impl Machine {
-    pub fn new(slot_count: usize, step_budget: u32, consts: &[(Slot, u32)]) -> Machine {
-        let mut slots = vec![[0; LANES]; slot_count];
-        for &(s, bits) in consts {
-            slots[s as usize] = [bits; LANES];
+    /// A machine for `code`, its constant slots written.
+    pub fn new(code: &Verified, step_budget: u64) -> Machine {
+        let arena = Arena::new(code.slot_count);
+        for &(s, bits) in &code.consts {
+            // SAFETY: the column is the arena's own and nothing else refers
+            // to it yet.
+            unsafe { *arena.own(s) = [bits; LANES] };
         }
-        let ptrs = slots.iter_mut().map(|s| s as *mut Lanes).collect();
         Machine {
-            slots,
-            ptrs,
+            arena,
             issues: Vec::new(),
+            steps: [0; LANES],
+            stepped: false,
             step_budget,
             seed: 0,
             trace: None,
-            sites: &[] as *const [Site],
         }
     }
 
-    #[inline(always)]
-    fn ptr(&mut self) -> *const *mut Lanes {
-        self.ptrs.as_ptr()
-    }
-
-    /// The lanes of slot `s` (which may live in a caller's column).
+    /// The lanes of slot `s` (which may live in a bound column).
     #[inline(always)]
     pub fn lanes(&self, s: Slot) -> &Lanes {
-        // SAFETY: every pointer in `ptrs` is valid for the machine's current
-        // batch: either into `slots` or into a column bound by `bind`.
-        unsafe { &*self.ptrs[s as usize] }
+        // SAFETY: every pointer in the table is valid for reads: the arena's
+        // own column or a column bound under `bind`'s contract; writes go
+        // through `&mut self`, so none happens while this borrow lives.
+        unsafe { &*self.arena.ptrs[s as usize] }
     }
 
-    #[inline(always)]
-    pub fn lanes_mut(&mut self, s: Slot) -> &mut Lanes {
-        // SAFETY: as in `lanes`; `&mut self` makes the borrow unique.
-        unsafe { &mut *self.ptrs[s as usize] }
+    /// The machine's own column of `s`, for loading inputs that are not
+    /// bound.
+    pub fn own_mut(&mut self, s: Slot) -> &mut Lanes {
+        // SAFETY: the arena's own column; `&mut self` makes the borrow unique
+        // and no bound pointer points into the arena.
+        unsafe { &mut *self.arena.own(s) }
     }
 
-    /// Let slot `s` read and write `col` directly for this batch (saves the
-    /// copy of full batches of inputs and outputs).
+    /// Let slot `s` read (and, for an output, write) `col` directly for this
+    /// batch.
     ///
     /// # Safety
-    /// `col` must stay valid and otherwise unused until [`Machine::unbind`].
+    /// `col` must be valid for reads of one column, and for writes too if
+    /// the code writes `s` (the verifier proves that input slots are never
+    /// written); it must not be accessed other than through this machine
+    /// until [`Machine::unbind`] or the machine is dropped.
     pub unsafe fn bind(&mut self, s: Slot, col: *mut Lanes) {
-        self.ptrs[s as usize] = col;
+        self.arena.ptrs[s as usize] = col;
     }
 
-    /// Point slot `s` back at the machine's own memory.
+    /// Point slot `s` back at the machine's own column.
     pub fn unbind(&mut self, s: Slot) {
-        self.ptrs[s as usize] = &mut self.slots[s as usize] as *mut Lanes;
+        self.arena.ptrs[s as usize] = self.arena.own(s);
     }
 
     #[inline(always)]
@@ -223,101 +171,101 @@ impl Machine {
         self.lanes(m).iter().fold(0, |a, &x| a | x) != 0
     }
 
-    pub fn run(&mut self, ops: &[Op]) {
+    /// Run `code` once over the current batch (inputs loaded or bound, root
+    /// mask set). Step counts start from zero.
+    pub fn run(&mut self, code: &Verified) {
+        assert_eq!(
+            code.slot_count, self.arena.len,
+            "a machine runs the code it was built for"
+        );
+        if self.stepped {
+            self.steps = [0; LANES];
+            self.stepped = false;
+        }
+        self.exec(&code.sites, &code.ops);
+    }
+
+    fn exec(&mut self, sites: &[Site], ops: &[Op]) {
         for op in ops {
-            self.step(op);
+            self.step(sites, op);
         }
     }
 
-    fn step(&mut self, op: &Op) {
-        let p = self.ptr();
-        // SAFETY: the compiler allocates a fresh destination slot for every
-        // kernel, so a destination never aliases an operand; all slot numbers
-        // are below `slots.len()` (checked when the program is built).
+    fn step(&mut self, sites: &[Site], op: &Op) {
+        let p = self.arena.ptrs.as_ptr();
+        // The column of slot `s`, as a raw pointer.
+        // SAFETY (of every `col` call below): the verifier proved every slot
+        // an op names is below `slot_count` (rule 1), the table's length.
+        let col = |s: Slot| unsafe { *p.add(s as usize) };
+        // SAFETY (of every dereference below): columns are valid (`bind`'s
+        // contract); a `&mut` to a destination never aliases a `&` to an
+        // operand because the verifier proved no destination is among its
+        // operands (rule 2), and input columns, which may be read-only
+        // memory, are never written (rule 4). Masks are whole-column values
+        // copied out before lanes are written (rule 3 keeps them distinct).
         unsafe {
             match *op {
-                Op::Fill { dst, bits } => (**p.add(dst as usize)).fill(bits),
-                Op::Copy { dst, src } => **p.add(dst as usize) = **p.add(src as usize),
-                Op::U { k, dst, a, at } => {
-                    k(&mut **p.add(dst as usize), &**p.add(a as usize));
-                    if self.trace.is_some() {
-                        self.trace_nan(dst, &[a], at);
-                    }
-                }
-                Op::B { k, dst, a, b, at } => {
-                    k(
-                        &mut **p.add(dst as usize),
-                        &**p.add(a as usize),
-                        &**p.add(b as usize),
-                    );
-                    if self.trace.is_some() {
-                        self.trace_nan(dst, &[a, b], at);
-                    }
-                }
-                Op::T {
-                    k,
+                Op::Fill { dst, bits } => (*col(dst)).fill(bits),
+                Op::Copy { dst, src } => *col(dst) = *col(src),
+                Op::Enter { mask, parent } => *col(mask) = *col(parent),
+                Op::Kernel {
+                    kernel,
                     dst,
-                    a,
-                    b,
-                    c,
+                    args: [a, b, c, d],
                     at,
                 } => {
-                    k(
-                        &mut **p.add(dst as usize),
-                        &**p.add(a as usize),
-                        &**p.add(b as usize),
-                        &**p.add(c as usize),
-                    );
+                    match kernel {
+                        Kernel::Unary(k) => k(&mut *col(dst), &*col(a)),
+                        Kernel::Binary(k) => k(&mut *col(dst), &*col(a), &*col(b)),
+                        Kernel::Ternary(k) => k(&mut *col(dst), &*col(a), &*col(b), &*col(c)),
+                        Kernel::Quaternary(k) => {
+                            k(&mut *col(dst), &*col(a), &*col(b), &*col(c), &*col(d))
+                        }
+                    }
                     if self.trace.is_some() {
-                        self.trace_nan(dst, &[a, b, c], at);
+                        self.trace_nan(sites, dst, &[a, b, c, d][..kernel.arity()], at);
                     }
                 }
-                Op::Q { k, dst, a, b, c, d } => k(
-                    &mut **p.add(dst as usize),
-                    &**p.add(a as usize),
-                    &**p.add(b as usize),
-                    &**p.add(c as usize),
-                    &**p.add(d as usize),
-                ),
                 Op::PerLane {
                     f,
                     ref dst,
                     ref args,
                 } => {
-                    let mut a = [0u32; 8];
-                    let mut o = [0u32; 8];
+                    let mut a = [0u32; PER_LANE_MAX];
+                    let mut o = [0u32; PER_LANE_MAX];
                     for lane in 0..LANES {
                         for (i, &s) in args.iter().enumerate() {
-                            a[i] = (**p.add(s as usize))[lane];
+                            a[i] = (*col(s))[lane];
                         }
                         f(&a[..args.len()], &mut o[..dst.len()]);
                         for (i, &s) in dst.iter().enumerate() {
-                            (**p.add(s as usize))[lane] = o[i];
+                            (*col(s))[lane] = o[i];
                         }
                     }
                 }
                 Op::MaskedCopy { dst, src, mask } => {
-                    let d = &mut **p.add(dst as usize);
-                    let s = &**p.add(src as usize);
-                    let m = &**p.add(mask as usize);
+                    let d = &mut *col(dst);
+                    let s = &*col(src);
+                    let m = &*col(mask);
                     for i in 0..LANES {
                         // Branch-free blend; masks are 0 or 1.
                         let all = 0u32.wrapping_sub(m[i]);
                         d[i] = (s[i] & all) | (d[i] & !all);
                     }
                 }
-                #[allow(clippy::manual_memcpy)] // the source slot varies per lane
                 Op::Gather {
                     ref dst,
                     ref src,
                     offset,
                 } => {
-                    let off = **p.add(offset as usize);
+                    let off = *col(offset);
                     for (j, &d) in dst.iter().enumerate() {
-                        let d = &mut **p.add(d as usize);
+                        let d = col(d);
                         for lane in 0..LANES {
+                            // `src[..]` is bounds-checked: the offset came
+                            // from a `CheckIndex`, but a panic beats trust.
                             let s = src[off[lane] as usize + j];
-                            d[lane] = (**p.add(s as usize))[lane];
+                            (*d)[lane] = (*col(s))[lane];
                         }
                     }
                 }
@@ -327,14 +275,17 @@ impl Machine {
                     offset,
                     mask,
                 } => {
-                    let off = **p.add(offset as usize);
-                    let m = **p.add(mask as usize);
+                    let off = *col(offset);
+                    let m = *col(mask);
                     for (j, &s) in src.iter().enumerate() {
-                        let s = &**p.add(s as usize);
                         for lane in 0..LANES {
                             if m[lane] != 0 {
+                                // The value may be leaves of the same
+                                // region: read the lane, then write it,
+                                // through raw places only.
+                                let v = (*col(s))[lane];
                                 let d = dst[off[lane] as usize + j];
-                                (**p.add(d as usize))[lane] = s[lane];
+                                (*col(d))[lane] = v;
                             }
                         }
                     }
@@ -346,9 +297,9 @@ impl Machine {
                     mask,
                     at,
                 } => {
-                    let ix = **p.add(idx as usize);
-                    let m = **p.add(mask as usize);
-                    let d = &mut **p.add(dst as usize);
+                    let ix = *col(idx);
+                    let m = *col(mask);
+                    let d = &mut *col(dst);
                     for lane in 0..LANES {
                         if ix[lane] < len {
                             d[lane] = ix[lane];
@@ -358,6 +309,7 @@ impl Machine {
                                 self.issues.push(RawIssue {
                                     lane,
                                     at,
+                                    kind: RawKind::OutOfBounds,
                                     detail: format!(
                                         "index {} is out of bounds for length {len}",
                                         ix[lane] as i32
@@ -375,23 +327,21 @@ impl Machine {
                     ref accept,
                     ref reject,
                 } => {
-                    {
-                        let c = **p.add(cond as usize);
-                        let pm = **p.add(parent as usize);
-                        let t = &mut **p.add(then_mask as usize);
-                        for i in 0..LANES {
-                            t[i] = pm[i] & c[i];
-                        }
-                        let e = &mut **p.add(else_mask as usize);
-                        for i in 0..LANES {
-                            e[i] = pm[i] & (c[i] ^ 1);
-                        }
+                    let c = *col(cond);
+                    let pm = *col(parent);
+                    let t = &mut *col(then_mask);
+                    for i in 0..LANES {
+                        t[i] = pm[i] & c[i];
+                    }
+                    let e = &mut *col(else_mask);
+                    for i in 0..LANES {
+                        e[i] = pm[i] & (c[i] ^ 1);
                     }
                     if self.any(then_mask) {
-                        self.run(accept);
+                        self.exec(sites, accept);
                     }
                     if self.any(else_mask) {
-                        self.run(reject);
+                        self.exec(sites, reject);
                     }
                 }
                 Op::Loop {
@@ -404,39 +354,55 @@ impl Machine {
                     ref kill,
                     at,
                 } => {
-                    **p.add(lmask as usize) = **p.add(parent as usize);
-                    let mut iterations: u32 = 0;
+                    *col(lmask) = *col(parent);
+                    self.stepped = true;
                     while self.any(lmask) {
-                        if iterations >= self.step_budget {
-                            let live = **p.add(lmask as usize);
-                            for (lane, &l) in live.iter().enumerate() {
-                                if l != 0 {
+                        // Each live lane pays one step per iteration, from
+                        // one budget for all loops and calls of its point.
+                        let live = *col(lmask);
+                        let mut over = 0u32;
+                        for (s, &l) in self.steps.iter_mut().zip(&live) {
+                            *s += u64::from(l);
+                            over |= u32::from(*s > self.step_budget);
+                        }
+                        if over != 0 {
+                            let mut out = [0u32; LANES];
+                            for (lane, o) in out.iter_mut().enumerate() {
+                                if live[lane] != 0 && self.steps[lane] > self.step_budget {
+                                    *o = 1;
                                     self.issues.push(RawIssue {
                                         lane,
                                         at,
+                                        kind: RawKind::StepBudget,
                                         detail: format!(
-                                            "loop ran more than {} iterations (step budget)",
-                                            self.step_budget
+                                            "the point ran more than {} loop iterations in \
+                                             all (step budget `{}`); {}",
+                                            self.step_budget,
+                                            crate::limits::Limit::StepsPerPoint,
+                                            crate::limits::Limit::StepsPerPoint.how_to_raise()
                                         ),
                                     });
                                 }
                             }
+                            // An abandoned lane leaves every construct it is
+                            // in, so nothing goes on computing with it.
                             for &m in kill.iter() {
-                                let mm = &mut **p.add(m as usize);
+                                let mm = &mut *col(m);
                                 for i in 0..LANES {
-                                    mm[i] &= live[i] ^ 1;
+                                    mm[i] &= out[i] ^ 1;
                                 }
                             }
-                            break;
+                            if !self.any(lmask) {
+                                break;
+                            }
                         }
-                        iterations += 1;
-                        **p.add(imask as usize) = **p.add(lmask as usize);
-                        self.run(body);
+                        *col(imask) = *col(lmask);
+                        self.exec(sites, body);
                         if self.any(lmask) {
-                            self.run(continuing);
+                            self.exec(sites, continuing);
                             if let Some(b) = break_if {
-                                let c = **p.add(b as usize);
-                                let l = &mut **p.add(lmask as usize);
+                                let c = *col(b);
+                                let l = &mut *col(lmask);
                                 for i in 0..LANES {
                                     l[i] &= c[i] ^ 1;
                                 }
@@ -450,12 +416,12 @@ impl Machine {
                     smask,
                     ref cases,
                 } => {
-                    **p.add(smask as usize) = **p.add(parent as usize);
-                    let s = **p.add(sel as usize);
+                    *col(smask) = *col(parent);
+                    let s = *col(sel);
                     let mut carried = [0u32; LANES];
                     for case in cases {
-                        let sm = **p.add(smask as usize);
-                        let cm = &mut **p.add(case.mask as usize);
+                        let sm = *col(smask);
+                        let cm = &mut *col(case.mask);
                         for i in 0..LANES {
                             let hit = if case.default {
                                 !cases.iter().any(|c| !c.default && c.values.contains(&s[i]))
@@ -470,18 +436,18 @@ impl Machine {
                             carried = [0; LANES];
                         }
                         if self.any(case.mask) {
-                            self.run(&case.body);
+                            self.exec(sites, &case.body);
                         }
                     }
                 }
                 Op::Perturb(ref pt) => {
-                    let a = **p.add(pt.arg as usize);
-                    pt.apply(&mut **p.add(pt.dst as usize), &a, self.seed);
+                    let a = *col(pt.arg);
+                    pt.apply(&mut *col(pt.dst), &a, self.seed);
                 }
                 Op::Exit { current, ref masks } => {
-                    let cur = **p.add(current as usize);
+                    let cur = *col(current);
                     for &m in masks.iter() {
-                        let mm = &mut **p.add(m as usize);
+                        let mm = &mut *col(m);
                         for i in 0..LANES {
                             mm[i] &= cur[i] ^ 1;
                         }
@@ -492,25 +458,24 @@ impl Machine {
     }
 
     /// Record lanes where `dst` became NaN/∞ although every operand was finite.
-    fn trace_nan(&mut self, dst: Slot, args: &[Slot], at: At) {
-        // SAFETY: `sites` points into the program that owns this run.
-        let site = unsafe { &(*self.sites)[at as usize] };
+    fn trace_nan(&mut self, sites: &[Site], dst: Slot, args: &[Slot], at: At) {
+        let site = &sites[at as usize];
         if site.what.is_empty() {
             return;
         }
         let mask = *self.lanes(site.mask);
         let d = *self.lanes(dst);
+        let mut first = [false; LANES];
+        for lane in 0..LANES {
+            first[lane] = mask[lane] != 0
+                && !f32::from_bits(d[lane]).is_finite()
+                && args
+                    .iter()
+                    .all(|&a| f32::from_bits(self.lanes(a)[lane]).is_finite());
+        }
         let trace = self.trace.as_mut().expect("tracing");
         for lane in 0..LANES {
-            if mask[lane] == 0 || trace[lane].is_some() || f32::from_bits(d[lane]).is_finite() {
-                continue;
-            }
-            let finite_in = args.iter().all(|&a| {
-                // SAFETY: as in `lanes` (a field-disjoint borrow of `ptrs`).
-                let col = unsafe { &*self.ptrs[a as usize] };
-                f32::from_bits(col[lane]).is_finite()
-            });
-            if finite_in {
+            if first[lane] && trace[lane].is_none() {
                 trace[lane] = Some(at);
             }
         }

@@ -9,12 +9,17 @@
 //! half, i32 two's complement, bool 0 or 1. [`f64_to_bits`] and
 //! [`bits_to_f64`] convert.
 
-pub mod compile;
-pub mod exec;
-pub mod lanes;
-pub mod perturb;
+mod batch;
+pub(crate) mod compile;
+pub(crate) mod exec;
+pub(crate) mod ir;
+pub(crate) mod lanes;
+pub(crate) mod perturb;
 pub mod text;
+#[cfg(test)]
+mod tests;
 pub mod ty;
+pub(crate) mod verify;
 
 use std::collections::BTreeMap;
 use std::path::PathBuf;
@@ -24,9 +29,16 @@ pub use text::{format_value, parse_value};
 pub use ty::{bits_to_f64, f64_to_bits, ScalarKind, Ty};
 
 use crate::arith;
+use crate::limits::Limits;
 use crate::wgsl::{Diagnostic, Shader};
-use exec::{Machine, Site};
-use lanes::Lanes;
+use batch::OutCol;
+use exec::{Machine, Verified};
+
+/// Test hook: use only the baseline kernels, not the AVX2 ones (tests prove
+/// both give the same bits). Process-wide; off by default.
+pub fn set_baseline_only(on: bool) {
+    lanes::set_baseline_only(on);
+}
 
 /// What went wrong for one point.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, serde::Serialize)]
@@ -69,17 +81,12 @@ pub enum Arithmetic {
 
 pub struct Program {
     seed: u64,
-    code: compile::Compiled,
+    code: Verified,
     own_output: Vec<bool>,
     path: PathBuf,
     function: String,
-    step_budget: u32,
+    step_budget: u64,
 }
-
-// SAFETY: `Program` holds only plain data and function pointers; the raw
-// pointer inside `Machine` is created per run and never stored here.
-unsafe impl Sync for Program {}
-unsafe impl Send for Program {}
 
 /// Points per parallel work item (several batches, so scheduling is cheap).
 const CHUNK: usize = LANES * 32;
@@ -102,11 +109,32 @@ impl Program {
         overrides: &BTreeMap<String, f64>,
         arithmetic: Arithmetic,
     ) -> Result<Program, Diagnostic> {
+        Self::compile_limited(shader, function, overrides, arithmetic, &Limits::default())
+    }
+
+    /// [`Program::compile_with`] under `limits`: a program that would pass
+    /// `program_ops` once every call is inlined, or whose arguments, result
+    /// and variables need more than `program_slots` scalar slots, is refused
+    /// with a located error; each point may run `steps_per_point` loop
+    /// iterations in all.
+    pub fn compile_limited(
+        shader: &Shader,
+        function: &str,
+        overrides: &BTreeMap<String, f64>,
+        arithmetic: Arithmetic,
+        limits: &Limits,
+    ) -> Result<Program, Diagnostic> {
         let (spec_bounds, seed) = match arithmetic {
             Arithmetic::Exact => (false, 0),
             Arithmetic::SpecBounds { seed } => (true, seed),
         };
-        let code = compile::Compiler::compile(shader, function, overrides, spec_bounds)?;
+        let code = compile::Compiler::compile(shader, function, overrides, spec_bounds, limits)?;
+        let code = Verified::new(code).map_err(|e| {
+            Diagnostic::without_position(
+                &shader.path,
+                format!("internal error lowering `{function}`: {e}"),
+            )
+        })?;
         // An output slot may be written straight into the output column when
         // it belongs to no input, constant or other output.
         let out_kinds = code.result.as_ref().map(|t| t.leaves()).unwrap_or_default();
@@ -126,14 +154,15 @@ impl Program {
             own_output,
             path: shader.path.clone(),
             function: function.to_string(),
-            step_budget: 1 << 16,
+            step_budget: limits.steps_per_point,
             seed,
         })
     }
 
-    /// Maximum iterations of any one loop per point before the point is
-    /// abandoned with a [`IssueKind::StepBudget`] issue.
-    pub fn set_step_budget(&mut self, budget: u32) {
+    /// Maximum loop iterations per point, summed over every loop and inlined
+    /// call, before the point is abandoned with a [`IssueKind::StepBudget`]
+    /// issue (default: [`Limits::steps_per_point`]).
+    pub fn set_step_budget(&mut self, budget: u64) {
         self.step_budget = budget;
     }
 
@@ -186,10 +215,9 @@ impl Program {
     /// [`Program::try_eval`] for inputs that come from users.
     pub fn eval(&self, inputs: &[&[u32]], outputs: &mut Vec<Vec<u32>>) -> Vec<LaneIssue> {
         let n = self.prepare(inputs, outputs);
-        let out_ptrs: Vec<SendPtr> = outputs
-            .iter_mut()
-            .map(|c| SendPtr(c.as_mut_ptr()))
-            .collect();
+        // One raw pointer per output column, taken once: the only way any
+        // thread reaches the columns until the evaluation ends.
+        let out_ptrs: Vec<OutCol> = outputs.iter_mut().map(|c| OutCol(c.as_mut_ptr())).collect();
         let chunks = n.div_ceil(CHUNK);
         // One machine per worker thread; workers take chunks from a shared
         // counter until none are left (balances points that loop longer).
@@ -209,14 +237,15 @@ impl Program {
                         let start = c * CHUNK;
                         let len = CHUNK.min(n - start);
                         // SAFETY: each chunk index is taken once, so chunks
-                        // cover disjoint ranges of every output column.
-                        let mut outs: Vec<&mut [u32]> = out_ptrs
+                        // cover disjoint ranges of every output column, each
+                        // `len` long from `start`.
+                        let outs: Vec<OutCol> = out_ptrs
                             .iter()
-                            .map(|p| unsafe { std::slice::from_raw_parts_mut(p.0.add(start), len) })
+                            .map(|p| OutCol(unsafe { p.0.add(start) }))
                             .collect();
                         let ins: Vec<&[u32]> =
                             inputs.iter().map(|c| &c[start..start + len]).collect();
-                        mine.extend(self.run_range(&mut m, &ins, &mut outs, start));
+                        mine.extend(self.run_range(&mut m, &ins, &outs, len, start));
                     }
                     found.lock().expect("issue list").extend(mine);
                 });
@@ -232,9 +261,8 @@ impl Program {
     pub fn eval_serial(&self, inputs: &[&[u32]], outputs: &mut Vec<Vec<u32>>) -> Vec<LaneIssue> {
         let n = self.prepare(inputs, outputs);
         let mut m = self.machine();
-        let mut outs: Vec<&mut [u32]> = outputs.iter_mut().map(|c| &mut c[..]).collect();
-        let _ = n;
-        let mut issues = self.run_range(&mut m, inputs, &mut outs, 0);
+        let outs: Vec<OutCol> = outputs.iter_mut().map(|c| OutCol(c.as_mut_ptr())).collect();
+        let mut issues = self.run_range(&mut m, inputs, &outs, n, 0);
         // Within a batch, index and budget issues come before the non-finite
         // ones; sort by point (stably) as `eval` does.
         issues.sort_by_key(|i| i.point);
@@ -242,7 +270,7 @@ impl Program {
     }
 
     fn machine(&self) -> Machine {
-        let mut m = Machine::new(self.code.slot_count, self.step_budget, &self.code.consts);
+        let mut m = Machine::new(&self.code, self.step_budget);
         m.seed = self.seed;
         m
     }
@@ -264,251 +292,6 @@ impl Program {
             c.resize(n, 0);
         }
         n
-    }
-
-    /// Run consecutive batches over `ins` (all the same length), writing `outs`.
-    fn run_range(
-        &self,
-        m: &mut Machine,
-        ins: &[&[u32]],
-        outs: &mut [&mut [u32]],
-        first_point: usize,
-    ) -> Vec<LaneIssue> {
-        let n = ins
-            .first()
-            .map_or(outs.first().map_or(0, |o| o.len()), |c| c.len());
-        let in_kinds: Vec<ScalarKind> = self
-            .code
-            .params
-            .iter()
-            .flat_map(|(_, t)| t.leaves())
-            .collect();
-        let out_kinds: Vec<ScalarKind> = self
-            .code
-            .result
-            .as_ref()
-            .map(|t| t.leaves())
-            .unwrap_or_default();
-        let mut issues = Vec::new();
-        m.sites = &self.code.sites[..] as *const [Site];
-        let mut start = 0;
-        while start < n {
-            let len = LANES.min(n - start);
-            // Full batches of 32-bit leaves are read and written in place.
-            let bound = len == LANES;
-            for (i, (&slot, &k)) in self.code.input_slots.iter().zip(&in_kinds).enumerate() {
-                if bound && in_place(k) {
-                    // SAFETY: input slots are never written (arguments are
-                    // values), and `ins[i]` outlives this batch.
-                    unsafe { m.bind(slot, ins[i][start..].as_ptr() as *mut Lanes) };
-                } else {
-                    m.unbind(slot);
-                }
-            }
-            for (j, &slot) in self.code.output_slots.iter().enumerate() {
-                if bound && self.own_output[j] {
-                    // SAFETY: the slot is written only by this program's ops
-                    // during this batch, and the column range is this chunk's.
-                    unsafe { m.bind(slot, outs[j][start..].as_mut_ptr() as *mut Lanes) };
-                } else if self.own_output[j] {
-                    m.unbind(slot);
-                }
-            }
-            self.load_batch(m, ins, &in_kinds, start, len, bound);
-            m.issues.clear();
-            m.run(&self.code.ops);
-            let mut flagged = [false; LANES];
-            let any_flagged = !m.issues.is_empty();
-            for raw in m.issues.drain(..) {
-                if raw.lane < len {
-                    flagged[raw.lane] = true;
-                    let site = &self.code.sites[raw.at as usize];
-                    let kind = if raw.detail.contains("step budget") {
-                        IssueKind::StepBudget
-                    } else {
-                        IssueKind::OutOfBounds
-                    };
-                    issues.push(LaneIssue {
-                        point: first_point + start + raw.lane,
-                        kind,
-                        message: raw.detail,
-                        line: site.line,
-                        column: site.column,
-                        inputs: self.describe_point(ins, start + raw.lane),
-                    });
-                }
-            }
-            // Results of abandoned points are NaN (floats) or 0.
-            let abandoned = |lane: usize| {
-                flagged[lane]
-                    && issues.iter().rev().any(|i: &LaneIssue| {
-                        i.kind == IssueKind::StepBudget && i.point == first_point + start + lane
-                    })
-            };
-            for (j, (&slot, &k)) in self.code.output_slots.iter().zip(&out_kinds).enumerate() {
-                let col = &m.lanes(slot)[..len];
-                let dst = &mut outs[j][start..start + len];
-                if bound && self.own_output[j] {
-                    // already in place
-                } else if k == ScalarKind::F16 {
-                    for (d, &b) in dst.iter_mut().zip(col) {
-                        *d = to_external(k, b);
-                    }
-                } else {
-                    dst.copy_from_slice(col);
-                }
-                if any_flagged {
-                    for (lane, d) in dst.iter_mut().enumerate() {
-                        if abandoned(lane) {
-                            *d = if k.is_float() {
-                                to_external(k, f32::NAN.to_bits())
-                            } else {
-                                0
-                            };
-                        }
-                    }
-                }
-            }
-            if let Some(suspicious) = self.nonfinite_lanes(m, &in_kinds, &out_kinds, len, &flagged)
-            {
-                issues.extend(self.trace_batch(
-                    m,
-                    ins,
-                    &in_kinds,
-                    start,
-                    len,
-                    &suspicious,
-                    first_point,
-                ));
-            }
-            start += len;
-        }
-        for &slot in self.code.input_slots.iter().chain(&self.code.output_slots) {
-            m.unbind(slot);
-        }
-        m.sites = &[] as *const [Site];
-        issues
-    }
-
-    fn load_batch(
-        &self,
-        m: &mut Machine,
-        ins: &[&[u32]],
-        kinds: &[ScalarKind],
-        start: usize,
-        len: usize,
-        bound: bool,
-    ) {
-        for (i, (&slot, &k)) in self.code.input_slots.iter().zip(kinds).enumerate() {
-            if bound && in_place(k) {
-                continue;
-            }
-            let col = &ins[i][start..start + len];
-            let dst = m.lanes_mut(slot);
-            match k {
-                ScalarKind::F32 | ScalarKind::I32 | ScalarKind::U32 => {
-                    dst[..len].copy_from_slice(col)
-                }
-                _ => {
-                    for (d, &b) in dst.iter_mut().zip(col) {
-                        *d = to_lane(k, b);
-                    }
-                }
-            }
-            // Padding lanes repeat the first point so they compute nothing odd.
-            let first = dst[0];
-            dst[len..].fill(first);
-        }
-        let root = m.lanes_mut(self.code.root_mask);
-        root[..len].fill(1);
-        root[len..].fill(0);
-    }
-
-    fn nonfinite_lanes(
-        &self,
-        m: &Machine,
-        in_kinds: &[ScalarKind],
-        out_kinds: &[ScalarKind],
-        len: usize,
-        flagged: &[bool; LANES],
-    ) -> Option<[bool; LANES]> {
-        // An exponent of all ones marks NaN and infinity (IEEE 754 binary32);
-        // f16 lives in lanes as f32, so the same test serves both.
-        const EXP: u32 = 0x7f80_0000;
-        let mut bad = [0u32; LANES];
-        for (&o, k) in self.code.output_slots.iter().zip(out_kinds) {
-            if k.is_float() {
-                let col = m.lanes(o);
-                for i in 0..LANES {
-                    bad[i] |= u32::from(col[i] & EXP == EXP);
-                }
-            }
-        }
-        // Branch-free OR over the batch: the common case is "all finite".
-        if bad[..len].iter().fold(0, |a, &b| a | b) == 0 {
-            return None;
-        }
-        let mut s = [false; LANES];
-        for lane in 0..len {
-            if bad[lane] == 0 || flagged[lane] {
-                continue;
-            }
-            s[lane] = self
-                .code
-                .input_slots
-                .iter()
-                .zip(in_kinds)
-                .all(|(&i, k)| !k.is_float() || m.lanes(i)[lane] & EXP != EXP);
-        }
-        s.iter().any(|&x| x).then_some(s)
-    }
-
-    #[allow(clippy::too_many_arguments)]
-    fn trace_batch(
-        &self,
-        m: &mut Machine,
-        ins: &[&[u32]],
-        in_kinds: &[ScalarKind],
-        start: usize,
-        len: usize,
-        suspicious: &[bool; LANES],
-        first_point: usize,
-    ) -> Vec<LaneIssue> {
-        self.load_batch(m, ins, in_kinds, start, len, len == LANES);
-        m.trace = Some(vec![None; LANES]);
-        m.run(&self.code.ops);
-        m.issues.clear();
-        let trace = m.trace.take().expect("trace");
-        let mut out = Vec::new();
-        for lane in 0..len {
-            if !suspicious[lane] {
-                continue;
-            }
-            let (message, line, column) = match trace[lane] {
-                Some(at) => {
-                    let site = &self.code.sites[at as usize];
-                    (
-                        format!("result is not finite although every input is; first NaN/Inf produced by {}", site.what),
-                        site.line,
-                        site.column,
-                    )
-                }
-                None => (
-                    "result is not finite although every input is".to_string(),
-                    0,
-                    0,
-                ),
-            };
-            out.push(LaneIssue {
-                point: first_point + start + lane,
-                kind: IssueKind::NonFinite,
-                message,
-                line,
-                column,
-                inputs: self.describe_point(ins, start + lane),
-            });
-        }
-        out
     }
 
     /// `name=value, ...` for point `i` of `ins`.
@@ -564,12 +347,6 @@ impl Program {
         &self.path
     }
 }
-
-#[derive(Clone, Copy)]
-struct SendPtr(*mut u32);
-// SAFETY: used only to hand disjoint output ranges to worker threads.
-unsafe impl Send for SendPtr {}
-unsafe impl Sync for SendPtr {}
 
 /// Leaves whose column encoding equals their lane encoding.
 fn in_place(k: ScalarKind) -> bool {

@@ -27,7 +27,7 @@
 //! A move by k ULP from a correctly rounded result r stays within k + 0.5 ULP
 //! of the exact value, so a bound of B ULP allows |k| ≤ ⌊B − 0.5⌋.
 
-use super::exec::Slot;
+use super::ir::Slot;
 
 /// Which bound an operation's result may move within.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -143,7 +143,9 @@ pub fn allowed(bound: Bound, r: f32, x: f32, half: bool) -> f64 {
     }
 }
 
-/// Largest move in representable steps for result `r` of argument `x`.
+/// Largest move in representable steps for result `r` of argument `x`
+/// (used by the tests of the bound table).
+#[cfg(test)]
 pub fn max_steps(bound: Bound, r: f32, x: f32, half: bool) -> i64 {
     (allowed(bound, r, x, half) / ulp(r, half))
         .floor()

@@ -67,8 +67,12 @@ impl Ty {
             Ty::Scalar(_) => 1,
             Ty::Vector(n, _) => *n as usize,
             Ty::Matrix { columns, rows, .. } => *columns as usize * *rows as usize,
-            Ty::Array(t, n) => t.leaf_count() * *n as usize,
-            Ty::Struct { members, .. } => members.iter().map(|(_, t)| t.leaf_count()).sum(),
+            // Saturating: a nest of huge arrays is refused by the slot limit,
+            // never wrapped around to a small count.
+            Ty::Array(t, n) => t.leaf_count().saturating_mul(*n as usize),
+            Ty::Struct { members, .. } => members
+                .iter()
+                .fold(0usize, |a, (_, t)| a.saturating_add(t.leaf_count())),
         }
     }
 

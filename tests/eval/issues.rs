@@ -12,7 +12,8 @@
 
 use std::collections::BTreeMap;
 
-use shadegate::eval::{f64_to_bits, IssueKind, LaneIssue, Program};
+use shadegate::eval::{f64_to_bits, Arithmetic, IssueKind, LaneIssue, Program};
+use shadegate::limits::Limits;
 use shadegate::wgsl::Shader;
 
 /// 1-based line and byte column of the first occurrence of `needle`.
@@ -276,14 +277,21 @@ fn step_budget_in_a_callee_abandons_the_point_in_the_caller_too() {
 }
 
 #[test]
-fn step_budget_counts_each_loop_separately() {
-    // 30 x 30 nested iterations: each loop runs 30 times per entry, within a
-    // budget of 31, though 900 steps are taken in all.
+fn step_budget_counts_every_loop_of_a_point_together() {
+    // One budget per point over all its loops: n = 30 takes 30 outer and
+    // 900 inner iterations (930 steps), within 1000; n = 32 takes
+    // 32 + 1024 = 1056, past it, though each loop alone stays within.
     let mut p = program(LOOPS, "nested_loops");
-    p.set_step_budget(31);
+    p.set_step_budget(1000);
     let (out, issues) = run(&p, &[vec![30.0], vec![32.0]]);
     assert_eq!(out[0][0], 900.0);
     assert_eq!(points(&issues), [1]);
+    assert_eq!(issues[0].kind, IssueKind::StepBudget);
+    assert!(
+        issues[0].message.contains("steps_per_point"),
+        "{}",
+        issues[0].message
+    );
 }
 
 const NONFINITE: &str = r#"
@@ -425,4 +433,131 @@ fn issues_name_global_point_indices_across_batches_and_threads() {
     for k in [1usize, 5, 129, 5000, 10_005] {
         assert_eq!(out[0][k], 1.0 + (k % 4) as f64, "point {k}");
     }
+}
+
+const ABANDONED_AND_INFINITE: &str = r#"
+fn spin(x: i32) -> i32 { var i = 0; while i != x { i++; } return i; }
+fn spin_then_divide(x: i32, y: f32) -> f32 {
+    return f32(spin(x)) / y;
+}
+"#;
+
+/// Regression: one point of a batch runs past the step budget inside a
+/// called function while another divides by zero. The abandoned point must
+/// come back as NaN with a step-budget issue, never as a number, whether the
+/// batch is full (outputs written in place in the caller's column) or ragged.
+#[track_caller]
+fn check_abandoned_point_is_never_a_number(points: usize) {
+    let mut p = program(ABANDONED_AND_INFINITE, "spin_then_divide");
+    p.set_step_budget(200);
+    // Point 0 never finishes (x = -1); point 1 divides 1 by 0; the rest are
+    // ordinary (x = 3, y = 2 → 1.5).
+    let mut rows = vec![vec![-1.0, 1.0], vec![1.0, 0.0]];
+    rows.resize(points, vec![3.0, 2.0]);
+    let (out, issues) = run(&p, &rows);
+    assert!(
+        out[0][0].is_nan(),
+        "abandoned point came back as {} ({points} points)",
+        out[0][0]
+    );
+    assert_eq!(out[0][1], f64::INFINITY);
+    assert!(out[0][2..].iter().all(|&v| v == 1.5));
+    let kinds: Vec<_> = issues.iter().map(|i| (i.point, i.kind)).collect();
+    assert_eq!(
+        kinds,
+        [(0, IssueKind::StepBudget), (1, IssueKind::NonFinite)],
+        "{issues:#?}"
+    );
+}
+
+#[test]
+fn abandoned_point_is_never_a_number_in_a_full_batch() {
+    check_abandoned_point_is_never_a_number(shadegate::eval::LANES);
+}
+
+#[test]
+fn abandoned_point_is_never_a_number_in_a_ragged_batch() {
+    check_abandoned_point_is_never_a_number(2);
+}
+
+fn program_limited(src: &str, f: &str, limits: &Limits) -> Result<Program, String> {
+    let sh = Shader::from_source("limits.wgsl", src.to_string()).unwrap_or_else(|e| panic!("{e}"));
+    Program::compile_limited(&sh, f, &BTreeMap::new(), Arithmetic::Exact, limits)
+        .map_err(|e| e.to_string())
+}
+
+#[test]
+fn three_nested_long_loops_end_with_a_step_budget_issue() {
+    // 60,000³ iterations would never finish; the budget is per point over
+    // all loops, so the point is abandoned after `steps_per_point` of them.
+    let src = r#"
+fn deep(n: i32) -> f32 {
+    var c = 0.0;
+    for (var i = 0; i < n; i++) {
+        for (var j = 0; j < n; j++) {
+            for (var k = 0; k < n; k++) { c += 1.0; }
+        }
+    }
+    return c;
+}
+"#;
+    let limits = Limits {
+        steps_per_point: 50_000,
+        ..Limits::default()
+    };
+    let p = program_limited(src, "deep", &limits).unwrap();
+    let (out, issues) = run(&p, &[vec![60_000.0], vec![3.0]]);
+    assert_eq!(points(&issues), [0], "{issues:#?}");
+    assert_eq!(issues[0].kind, IssueKind::StepBudget);
+    assert!(issues[0].message.contains("50000"), "{}", issues[0].message);
+    assert!(out[0][0].is_nan());
+    assert_eq!(out[0][1], 27.0);
+}
+
+#[test]
+fn a_huge_local_or_private_array_is_refused_at_compile_time() {
+    for (src, needle) in [
+        (
+            "fn f(i: i32) -> f32 {\n    var a: array<f32, 100000000>;\n    return a[i];\n}\n",
+            "var a",
+        ),
+        (
+            "var<private> big: array<array<f32, 10000>, 10000>;\nfn f(i: i32) -> f32 {\n    return big[i][i];\n}\n",
+            "var<private> big",
+        ),
+    ] {
+        let err = program_limited(src, "f", &Limits::default()).err().expect("refused");
+        let (line, _) = pos(src, needle);
+        assert!(err.starts_with(&format!("limits.wgsl:{line}:")), "{err}");
+        assert!(err.contains("program_slots"), "{err}");
+        assert!(err.contains("[limits]"), "{err}");
+    }
+}
+
+#[test]
+fn inlining_past_the_program_size_limit_is_refused_while_inlining() {
+    // f0 calls f1 twice, f1 calls f2 twice, ... 24 levels: 2^24 inlined
+    // calls. Refused once the program passes `program_ops`, long before.
+    let mut src = String::from("fn f24(x: f32) -> f32 { return x * 1.5; }\n");
+    for i in (0..24).rev() {
+        src.push_str(&format!(
+            "fn f{i}(x: f32) -> f32 {{ return f{n}(x) + f{n}(x + 1.0); }}\n",
+            n = i + 1
+        ));
+    }
+    let limits = Limits {
+        program_ops: 20_000,
+        ..Limits::default()
+    };
+    let err = program_limited(&src, "f0", &limits).err().expect("refused");
+    assert!(err.starts_with("limits.wgsl:"), "{err}");
+    assert!(!err.starts_with("limits.wgsl:0:"), "{err}");
+    assert!(
+        err.contains("program_ops") && err.contains("20000"),
+        "{err}"
+    );
+    assert!(err.contains("[limits]"), "{err}");
+    // The same shader with 10 levels fits.
+    let p = program_limited(&src, "f14", &limits).unwrap();
+    assert_eq!(p.function(), "f14");
 }

@@ -8,7 +8,7 @@
 
 use std::path::Path;
 
-use shadegate::eval::lanes;
+use shadegate::eval as lanes;
 use shadegate::gate;
 
 #[test]

@@ -1,0 +1,282 @@
+//! The batch driver: runs a [`Program`] over a range of points, one batch of
+//! [`LANES`] at a time, on one machine.
+//!
+//! Every batch goes through the same fixed order: bind or load the inputs and
+//! bind the outputs, **run**, **trace** (re-run with NaN tracing when a
+//! result is not finite although its inputs are), **mark** the abandoned
+//! points (those that ran out of steps), **copy out** (the outputs not bound,
+//! then NaN or 0 over every abandoned point). Nothing writes an output column
+//! after the abandoned points are marked, so an abandoned point never comes
+//! back as a number.
+//!
+//! Output columns are reached only through raw pointers ([`OutCol`]) derived
+//! from one `as_mut_ptr` per column per evaluation: the machine writes bound
+//! ones, the copy-out writes the others, and no `&mut` to a column is alive
+//! while the machine holds a pointer into it.
+
+use super::exec::{Machine, RawKind};
+use super::lanes::{Lanes, LANES};
+use super::{in_place, to_external, to_lane, IssueKind, LaneIssue, Program, ScalarKind};
+
+/// The start of one output column's range, valid for writes of the range's
+/// length and written by nothing else while the range runs.
+#[derive(Clone, Copy)]
+pub(crate) struct OutCol(pub *mut u32);
+
+// SAFETY: worker threads receive disjoint ranges of the columns (one chunk
+// index is taken once), so an `OutCol` moved to another thread is the only
+// writer of its range.
+unsafe impl Send for OutCol {}
+unsafe impl Sync for OutCol {}
+
+impl Program {
+    /// Run consecutive batches over `ins` (all `n` long), writing `outs`
+    /// (each valid for `n` writes). `first_point` numbers the issues.
+    pub(crate) fn run_range(
+        &self,
+        m: &mut Machine,
+        ins: &[&[u32]],
+        outs: &[OutCol],
+        n: usize,
+        first_point: usize,
+    ) -> Vec<LaneIssue> {
+        let code = &self.code;
+        let in_kinds = self.input_kinds();
+        let out_kinds = self.output_kinds();
+        let mut issues = Vec::new();
+        let mut start = 0;
+        while start < n {
+            let len = LANES.min(n - start);
+            // Full batches of 32-bit leaves are read and written in place.
+            let bound = len == LANES;
+            for (i, (&slot, &k)) in code.input_slots.iter().zip(&in_kinds).enumerate() {
+                if bound && in_place(k) {
+                    // SAFETY: the verifier proved input slots are never
+                    // written, so a read-only column may be bound; `ins[i]`
+                    // has `LANES` values from `start` and outlives the batch.
+                    unsafe { m.bind(slot, ins[i][start..].as_ptr() as *mut Lanes) };
+                } else {
+                    m.unbind(slot);
+                }
+            }
+            for (j, &slot) in code.output_slots.iter().enumerate() {
+                if bound && self.own_output[j] {
+                    // SAFETY: `outs[j]` is valid for `n` writes and reached
+                    // by nothing but this machine until the copy-out below,
+                    // which uses the same raw pointer; `start + LANES <= n`.
+                    unsafe { m.bind(slot, outs[j].0.add(start) as *mut Lanes) };
+                } else if self.own_output[j] {
+                    m.unbind(slot);
+                }
+            }
+
+            // Run.
+            self.load_batch(m, ins, &in_kinds, start, len, bound);
+            m.issues.clear();
+            m.run(code);
+            let mut abandoned = [false; LANES];
+            let mut flagged = [false; LANES];
+            for raw in m.issues.drain(..) {
+                if raw.lane >= len {
+                    continue;
+                }
+                flagged[raw.lane] = true;
+                let kind = match raw.kind {
+                    RawKind::StepBudget => {
+                        abandoned[raw.lane] = true;
+                        IssueKind::StepBudget
+                    }
+                    RawKind::OutOfBounds => IssueKind::OutOfBounds,
+                };
+                let site = &code.sites[raw.at as usize];
+                issues.push(LaneIssue {
+                    point: first_point + start + raw.lane,
+                    kind,
+                    message: raw.detail,
+                    line: site.line,
+                    column: site.column,
+                    inputs: self.describe_point(ins, start + raw.lane),
+                });
+            }
+
+            // Trace (re-runs the batch; it computes the same bits).
+            if let Some(suspicious) = self.nonfinite_lanes(m, &in_kinds, &out_kinds, len, &flagged)
+            {
+                issues.extend(self.trace_batch(
+                    m,
+                    ins,
+                    &in_kinds,
+                    start,
+                    len,
+                    &suspicious,
+                    first_point,
+                ));
+            }
+
+            let any_abandoned = abandoned.iter().any(|&a| a);
+            // Mark abandoned points and copy out: after this nothing writes
+            // this batch's range of the output columns.
+            for (j, (&slot, &k)) in code.output_slots.iter().zip(&out_kinds).enumerate() {
+                // SAFETY: the range `start..start + len` of column `j` is
+                // valid for writes (`outs` contract); the machine is done
+                // with it for this batch and every write goes through the
+                // same raw pointer the machine was bound to.
+                let dst = unsafe { outs[j].0.add(start) };
+                if !(bound && self.own_output[j]) {
+                    let col = m.lanes(slot);
+                    for (lane, &b) in col[..len].iter().enumerate() {
+                        // SAFETY: as above; `lane < len`.
+                        unsafe { *dst.add(lane) = to_external(k, b) };
+                    }
+                }
+                if !any_abandoned {
+                    continue;
+                }
+                let none = if k.is_float() {
+                    to_external(k, f32::NAN.to_bits())
+                } else {
+                    0
+                };
+                for (lane, _) in abandoned[..len].iter().enumerate().filter(|(_, &a)| a) {
+                    // SAFETY: as above; `lane < len`.
+                    unsafe { *dst.add(lane) = none };
+                }
+            }
+            start += len;
+        }
+        for &slot in code.input_slots.iter().chain(&code.output_slots) {
+            m.unbind(slot);
+        }
+        issues
+    }
+
+    fn input_kinds(&self) -> Vec<ScalarKind> {
+        self.code
+            .params
+            .iter()
+            .flat_map(|(_, t)| t.leaves())
+            .collect()
+    }
+
+    fn output_kinds(&self) -> Vec<ScalarKind> {
+        self.code
+            .result
+            .as_ref()
+            .map(|t| t.leaves())
+            .unwrap_or_default()
+    }
+
+    fn load_batch(
+        &self,
+        m: &mut Machine,
+        ins: &[&[u32]],
+        kinds: &[ScalarKind],
+        start: usize,
+        len: usize,
+        bound: bool,
+    ) {
+        for (i, (&slot, &k)) in self.code.input_slots.iter().zip(kinds).enumerate() {
+            if bound && in_place(k) {
+                continue;
+            }
+            let col = &ins[i][start..start + len];
+            let dst = m.own_mut(slot);
+            for (d, &b) in dst.iter_mut().zip(col) {
+                *d = to_lane(k, b);
+            }
+            // Padding lanes repeat the first point so they compute nothing odd.
+            let first = dst[0];
+            dst[len..].fill(first);
+        }
+        let root = m.own_mut(self.code.root_mask);
+        root[..len].fill(1);
+        root[len..].fill(0);
+    }
+
+    fn nonfinite_lanes(
+        &self,
+        m: &Machine,
+        in_kinds: &[ScalarKind],
+        out_kinds: &[ScalarKind],
+        len: usize,
+        flagged: &[bool; LANES],
+    ) -> Option<[bool; LANES]> {
+        // An exponent of all ones marks NaN and infinity (IEEE 754 binary32);
+        // f16 lives in lanes as f32, so the same test serves both.
+        const EXP: u32 = 0x7f80_0000;
+        let mut bad = [0u32; LANES];
+        for (&o, k) in self.code.output_slots.iter().zip(out_kinds) {
+            if k.is_float() {
+                let col = m.lanes(o);
+                for i in 0..LANES {
+                    bad[i] |= u32::from(col[i] & EXP == EXP);
+                }
+            }
+        }
+        // Branch-free OR over the batch: the common case is "all finite".
+        if bad[..len].iter().fold(0, |a, &b| a | b) == 0 {
+            return None;
+        }
+        let mut s = [false; LANES];
+        for lane in 0..len {
+            if bad[lane] == 0 || flagged[lane] {
+                continue;
+            }
+            s[lane] = self
+                .code
+                .input_slots
+                .iter()
+                .zip(in_kinds)
+                .all(|(&i, k)| !k.is_float() || m.lanes(i)[lane] & EXP != EXP);
+        }
+        s.iter().any(|&x| x).then_some(s)
+    }
+
+    #[allow(clippy::too_many_arguments)]
+    fn trace_batch(
+        &self,
+        m: &mut Machine,
+        ins: &[&[u32]],
+        in_kinds: &[ScalarKind],
+        start: usize,
+        len: usize,
+        suspicious: &[bool; LANES],
+        first_point: usize,
+    ) -> Vec<LaneIssue> {
+        self.load_batch(m, ins, in_kinds, start, len, len == LANES);
+        m.trace = Some(vec![None; LANES]);
+        m.run(&self.code);
+        m.issues.clear();
+        let trace = m.trace.take().expect("trace");
+        let mut out = Vec::new();
+        for lane in 0..len {
+            if !suspicious[lane] {
+                continue;
+            }
+            let (message, line, column) = match trace[lane] {
+                Some(at) => {
+                    let site = &self.code.sites[at as usize];
+                    (
+                        format!("result is not finite although every input is; first NaN/Inf produced by {}", site.what),
+                        site.line,
+                        site.column,
+                    )
+                }
+                None => (
+                    "result is not finite although every input is".to_string(),
+                    0,
+                    0,
+                ),
+            };
+            out.push(LaneIssue {
+                point: first_point + start + lane,
+                kind: IssueKind::NonFinite,
+                message,
+                line,
+                column,
+                inputs: self.describe_point(ins, start + lane),
+            });
+        }
+        out
+    }
+}
