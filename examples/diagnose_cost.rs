@@ -10,7 +10,7 @@
 //! It then runs the failing checks of the planted suite
 //! (shaders/brackenfold-planted/shadegate.toml) through the gate twice, in one run: with every
 //! explainer and without the diagnosis (`gate::explain::WITHOUT_DIAGNOSIS`: no hypothesis
-//! search, no call-graph attribution), best of 3 each, and prints the time the diagnosis adds
+//! search, no call-graph attribution), best of 5 each, and prints the time the diagnosis adds
 //! as a ratio to the check without it.
 //!
 //! Run: `cargo run --release --example diagnose_cost`. It prints one table per mistake.
@@ -70,12 +70,13 @@ fn gate_cost() {
     let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
         .join("shaders/brackenfold-planted/shadegate.toml");
     let suite = shadegate::suite::load(&path).unwrap_or_else(|d| panic!("{d}"));
-    println!("gate, planted suite: check with the diagnosis vs without (best of 3, one run)");
+    println!("gate, planted suite: check with the diagnosis vs without (best of 5, one run)");
     println!(
         "{:<18} {:>8} {:>12} {:>12} {:>8}",
         "check", "points", "without ms", "with ms", "ratio"
     );
-    let best = |f: &dyn Fn() -> f64| (0..3).map(|_| f()).fold(f64::INFINITY, f64::min);
+    let best = |f: &dyn Fn() -> f64| (0..5).map(|_| f()).fold(f64::INFINITY, f64::min);
+    let (mut total_without, mut total_with) = (0.0, 0.0);
     for c in &suite.checks {
         let time = |table: &[&dyn explain::Explainer]| {
             let t = Instant::now();
@@ -88,6 +89,8 @@ fn gate_cost() {
         }
         let without = best(&|| time(explain::WITHOUT_DIAGNOSIS).0);
         let with = best(&|| time(explain::EXPLAINERS).0);
+        total_without += without;
+        total_with += with;
         println!(
             "{:<18} {:>8} {:>12.1} {:>12.1} {:>7.2}x",
             c.name,
@@ -97,6 +100,14 @@ fn gate_cost() {
             with / without
         );
     }
+    println!(
+        "{:<18} {:>8} {:>12.1} {:>12.1} {:>7.2}x",
+        "all failing",
+        "",
+        total_without,
+        total_with,
+        total_with / total_without
+    );
 }
 
 fn main() {

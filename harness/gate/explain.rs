@@ -121,7 +121,8 @@ pub fn explain_with(
             )
         });
     }
-    // So does it when one hypothesis explains every failing point.
+    // So does it when one hypothesis explains every failing point; and the
+    // remap probe only repeats what the search names.
     if out.iter().any(|f| {
         matches!(f.kind, FindingKind::BehavesLike { explained, kept, .. }
             if explained == 1.0 && kept == 1.0)
@@ -132,7 +133,7 @@ pub fn explain_with(
                 FindingKind::Confined {
                     which: Confined::LargestErrors,
                     ..
-                }
+                } | FindingKind::Remap { .. }
             )
         });
     }
@@ -401,9 +402,8 @@ impl Explainer for HypothesisSearch {
         };
         let a: Vec<&[f64]> = args.iter().map(Vec::as_slice).collect();
         let g: Vec<&[f64]> = ev.got.iter().map(Vec::as_slice).collect();
-        let pass = |_: usize, got: &[f64], want: &[f64]| {
-            passes_at(got, want, ev.tolerance, ev.half)
-        };
+        let pass =
+            |_: usize, got: &[f64], want: &[f64]| passes_at(got, want, ev.tolerance, ev.half);
         let Ok(fits) = diagnose::search(
             model.name,
             &a,
@@ -414,7 +414,12 @@ impl Explainer for HypothesisSearch {
         ) else {
             return Vec::new();
         };
+        // A full fit leaves nothing for partial ones to explain: report the
+        // fits tied with it; without one, the best partial fits.
+        let best = fits.first().map_or(0.0, diagnose::Fit::score);
+        let full = fits.first().is_some_and(diagnose::Fit::is_full);
         fits.iter()
+            .filter(|f| !full || f.score() == best)
             .take(MAX_FITS)
             .map(|f| {
                 finding(

@@ -6,8 +6,7 @@ use std::path::Path;
 use std::time::Instant;
 
 use super::explain::{
-    self, backend_agreement, failing_points, group_issues, Context, Evidence, Explainer,
-    Reevaluate,
+    self, backend_agreement, failing_points, group_issues, Context, Evidence, Explainer, Reevaluate,
 };
 use super::inputs::{as_f64, evaluate, reference_arg_columns, reference_columns, Build};
 use super::result::{
