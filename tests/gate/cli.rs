@@ -119,11 +119,29 @@ fn json_and_junit_reports_parse_back() {
         .find(|c| c["name"] == "lambert_diffuse")
         .unwrap();
     assert_eq!(lambert["verdict"], "fail");
+    // The diagnosis is typed in JSON, beside its sentence.
+    let teak = checks.iter().find(|c| c["name"] == "brdf_teak").unwrap();
+    let f = &teak["findings"][0];
+    assert_eq!(f["kind"], "behaves_like", "{f}");
+    assert_eq!(f["hypothesis"], "ndf_pi_3_14", "{f}");
+    assert_eq!(f["term"], "constant", "{f}");
+    assert_eq!(f["explained"], 1.0, "{f}");
+    assert!(
+        f["message"]
+            .as_str()
+            .unwrap()
+            .contains("behaves like cook_torrance_rgb with π written as 3.14"),
+        "{f}"
+    );
 
     let xml = shadegate(&["run", "--suite", suite, "--format", "junit"], &root());
     assert_eq!(code(&xml), 1);
     let body = text(&xml.stdout);
     let doc = roxmltree::Document::parse(&body).expect("valid XML");
+    assert!(
+        body.contains("behaves like cook_torrance_rgb with the metallic blend inverted"),
+        "the JUnit failure text names the diagnosis"
+    );
     let cases: Vec<_> = doc
         .descendants()
         .filter(|n| n.has_tag_name("testcase"))
