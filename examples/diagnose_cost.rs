@@ -7,6 +7,12 @@
 //! point, the reference over every point, the pass/fail judgement, and the search with its
 //! default sampling (up to 2,000 failing and 2,000 passing points) and with no sampling.
 //!
+//! It then runs the failing checks of the planted suite
+//! (shaders/brackenfold-planted/shadegate.toml) through the gate twice, in one run: with every
+//! explainer and without the diagnosis (`gate::explain::WITHOUT_DIAGNOSIS`: no hypothesis
+//! search, no call-graph attribution), best of 5 each, and prints the time the diagnosis adds
+//! as a ratio to the check without it.
+//!
 //! Run: `cargo run --release --example diagnose_cost`. It prints one table per mistake.
 use std::collections::BTreeMap;
 use std::time::Instant;
@@ -58,7 +64,54 @@ fn ms(t: Instant) -> f64 {
     t.elapsed().as_secs_f64() * 1e3
 }
 
+/// The gate on the planted suite's failing checks, with and without the diagnosis.
+fn gate_cost() {
+    use shadegate::gate::{self, explain, Verdict};
+    let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("shaders/brackenfold-planted/shadegate.toml");
+    let suite = shadegate::suite::load(&path).unwrap_or_else(|d| panic!("{d}"));
+    println!("gate, planted suite: check with the diagnosis vs without (best of 5, one run)");
+    println!(
+        "{:<18} {:>8} {:>12} {:>12} {:>8}",
+        "check", "points", "without ms", "with ms", "ratio"
+    );
+    let best = |f: &dyn Fn() -> f64| (0..5).map(|_| f()).fold(f64::INFINITY, f64::min);
+    let (mut total_without, mut total_with) = (0.0, 0.0);
+    for c in &suite.checks {
+        let time = |table: &[&dyn explain::Explainer]| {
+            let t = Instant::now();
+            let r = gate::run_check_explained(&suite, c, None, table);
+            assert_ne!(r.verdict, Verdict::Error, "{:?}", r.error);
+            (ms(t), r.verdict)
+        };
+        if time(explain::WITHOUT_DIAGNOSIS).1 != Verdict::Fail {
+            continue;
+        }
+        let without = best(&|| time(explain::WITHOUT_DIAGNOSIS).0);
+        let with = best(&|| time(explain::EXPLAINERS).0);
+        total_without += without;
+        total_with += with;
+        println!(
+            "{:<18} {:>8} {:>12.1} {:>12.1} {:>7.2}x",
+            c.name,
+            c.sweep.len(),
+            without,
+            with,
+            with / without
+        );
+    }
+    println!(
+        "{:<18} {:>8} {:>12.1} {:>12.1} {:>7.2}x",
+        "all failing",
+        "",
+        total_without,
+        total_with,
+        total_with / total_without
+    );
+}
+
 fn main() {
+    gate_cost();
     let pts = points();
     let model = reference::find("cook_torrance_rgb").unwrap();
     let args: Vec<Vec<f64>> = (0..model.arity())

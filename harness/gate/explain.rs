@@ -3,17 +3,21 @@
 //! through [`Reevaluate`] (never by calling back into the runner).
 //!
 //! Every explainer is one entry of [`EXPLAINERS`]: a value implementing
-//! [`Explainer`]. A hypothesis search or a call-graph attribution plugs in
-//! as another entry; the runner and the renderers do not change.
+//! [`Explainer`]. The hypothesis search ([`HypothesisSearch`], over
+//! `diagnose::CATALOGUE`) and the call-graph attribution ([`CallGraph`]) are
+//! two such entries; the runner and the renderers do not change when one is
+//! added.
 
 use std::collections::BTreeMap;
 use std::path::Path;
 
+use super::inputs::{reference_arg_columns, reference_columns, Evaluated};
 use super::result::{Confined, Finding, FindingKind, IssueGroup, Remap};
 use crate::compare::{self, Stats, Tolerance};
+use crate::diagnose::{self, callgraph};
 use crate::eval::{LaneIssue, ScalarKind};
 use crate::reference::Model;
-use crate::suite::Check;
+use crate::suite::{Check, Suite};
 use crate::sweep::{Expr, Points};
 
 /// What an explainer sees of one comparison.
@@ -35,6 +39,16 @@ pub struct Evidence<'a> {
     pub issues: &'a [IssueGroup],
     /// The reference model, when the comparison is against one.
     pub model: Option<&'static Model>,
+    /// The suite and the check's evaluation, for explainers that evaluate
+    /// other functions of the shader; `None` for goldens and old versions.
+    pub context: Option<Context<'a>>,
+}
+
+/// The suite a check belongs to and its evaluation.
+#[derive(Clone, Copy)]
+pub struct Context<'a> {
+    pub suite: &'a Suite,
+    pub evaluated: &'a Evaluated,
 }
 
 /// Re-evaluations an explainer may ask for.
@@ -45,6 +59,10 @@ pub trait Reevaluate {
         args: &BTreeMap<String, Expr>,
         points: &Points,
     ) -> Result<Vec<Vec<f64>>, String>;
+
+    /// The reference model's flattened argument columns at `points` (a vec3
+    /// parameter is three columns), as the check binds them.
+    fn reference_args(&self, points: &Points) -> Result<Vec<Vec<f64>>, String>;
 }
 
 /// One source of findings.
@@ -52,15 +70,38 @@ pub trait Explainer: Sync {
     fn explain(&self, evidence: &Evidence, reevaluate: &dyn Reevaluate) -> Vec<Finding>;
 }
 
-/// The explainers, run in this order on every failing comparison.
-pub const EXPLAINERS: &[&dyn Explainer] = &[&NonFinite, &ConstantFactor, &Locality, &RemapSearch];
+/// The explainers, run in this order on every failing comparison (ties in
+/// rank keep this order, so a hypothesis that explains every failing point
+/// comes before a locality that covers them all).
+pub const EXPLAINERS: &[&dyn Explainer] = &[
+    &HypothesisSearch,
+    &CallGraph,
+    &NonFinite,
+    &ConstantFactor,
+    &Locality,
+    &RemapSearch,
+];
+
+/// [`EXPLAINERS`] without the diagnosis (hypothesis search and call-graph
+/// attribution), for measuring what the diagnosis costs.
+pub const WITHOUT_DIAGNOSIS: &[&dyn Explainer] =
+    &[&NonFinite, &ConstantFactor, &Locality, &RemapSearch];
 
 /// Explain a failing comparison (nothing for a passing one), ranked.
 pub fn explain(evidence: &Evidence, reevaluate: &dyn Reevaluate) -> Vec<Finding> {
+    explain_with(EXPLAINERS, evidence, reevaluate)
+}
+
+/// [`explain`] with another table of explainers.
+pub fn explain_with(
+    explainers: &[&dyn Explainer],
+    evidence: &Evidence,
+    reevaluate: &dyn Reevaluate,
+) -> Vec<Finding> {
     if evidence.stats.failed == 0 {
         return Vec::new();
     }
-    let mut out: Vec<Finding> = EXPLAINERS
+    let mut out: Vec<Finding> = explainers
         .iter()
         .flat_map(|e| e.explain(evidence, reevaluate))
         .collect();
@@ -77,6 +118,22 @@ pub fn explain(evidence: &Evidence, reevaluate: &dyn Reevaluate) -> Vec<Finding>
                     which: Confined::LargestErrors,
                     ..
                 }
+            )
+        });
+    }
+    // So does it when one hypothesis explains every failing point; and the
+    // remap probe only repeats what the search names.
+    if out.iter().any(|f| {
+        matches!(f.kind, FindingKind::BehavesLike { explained, kept, .. }
+            if explained == 1.0 && kept == 1.0)
+    }) {
+        out.retain(|f| {
+            !matches!(
+                f.kind,
+                FindingKind::Confined {
+                    which: Confined::LargestErrors,
+                    ..
+                } | FindingKind::Remap { .. }
             )
         });
     }
@@ -313,6 +370,223 @@ impl Explainer for RemapSearch {
         }
         out
     }
+}
+
+/// Whether `got` passes `tol` against `want` at one point (one value per
+/// output component).
+fn passes_at(got: &[f64], want: &[f64], tol: &Tolerance, half: bool) -> bool {
+    let g: Vec<Vec<f64>> = got.iter().map(|&x| vec![x]).collect();
+    let w: Vec<Vec<f64>> = want.iter().map(|&x| vec![x]).collect();
+    !compare::assess(&g, &w, 0, tol, half).fails()
+}
+
+/// How many fits of the search a comparison reports at most.
+const MAX_FITS: usize = 3;
+
+/// "Behaves like <reference> with <change>": the hypothesis search of
+/// `diagnose::search` over the catalogue, for a check whose reference model
+/// has a decomposition into terms. Partial fits are reported with their
+/// share; at most [`MAX_FITS`], best first.
+struct HypothesisSearch;
+
+impl Explainer for HypothesisSearch {
+    fn explain(&self, ev: &Evidence, reevaluate: &dyn Reevaluate) -> Vec<Finding> {
+        let Some(model) = ev.model else {
+            return Vec::new();
+        };
+        if diagnose::decomposition(model.name).is_none() {
+            return Vec::new();
+        }
+        let Ok(args) = reevaluate.reference_args(ev.points) else {
+            return Vec::new();
+        };
+        let a: Vec<&[f64]> = args.iter().map(Vec::as_slice).collect();
+        let g: Vec<&[f64]> = ev.got.iter().map(Vec::as_slice).collect();
+        let pass =
+            |_: usize, got: &[f64], want: &[f64]| passes_at(got, want, ev.tolerance, ev.half);
+        let Ok(fits) = diagnose::search(
+            model.name,
+            &a,
+            &g,
+            pass,
+            ev.failing,
+            &diagnose::Options::default(),
+        ) else {
+            return Vec::new();
+        };
+        // A full fit leaves nothing for partial ones to explain: report the
+        // fits tied with it; without one, the best partial fits.
+        let best = fits.first().map_or(0.0, diagnose::Fit::score);
+        let full = fits.first().is_some_and(diagnose::Fit::is_full);
+        fits.iter()
+            .filter(|f| !full || f.score() == best)
+            .take(MAX_FITS)
+            .map(|f| {
+                finding(
+                    ev,
+                    f.explained,
+                    FindingKind::BehavesLike {
+                        reference: model.name.to_string(),
+                        hypothesis: f.hypothesis.id.to_string(),
+                        term: f.hypothesis.term,
+                        change: f.hypothesis.description.to_string(),
+                        explained: f.explained,
+                        kept: f.kept,
+                        failing_tried: f.failing_tried,
+                        passing_tried: f.passing_tried,
+                    },
+                )
+            })
+            .collect()
+    }
+}
+
+/// Call-graph attribution: for every function the failing one calls that
+/// another check of the suite (same shader) binds to a reference, capture
+/// what each call receives and returns at the check's points
+/// (`diagnose::callgraph::capture`) and judge it against the callee's
+/// reference with the callee check's tolerance. A call that deviates on
+/// failing points is reported, with the callee's own mistake when the
+/// search names one at those arguments.
+struct CallGraph;
+
+impl Explainer for CallGraph {
+    fn explain(&self, ev: &Evidence, _: &dyn Reevaluate) -> Vec<Finding> {
+        let Some(cx) = ev.context else {
+            return Vec::new();
+        };
+        let shader = &cx.evaluated.build.shader;
+        let inputs: Vec<&[u32]> = cx
+            .evaluated
+            .input_columns
+            .iter()
+            .map(Vec::as_slice)
+            .collect();
+        let mut out = Vec::new();
+        for other in &cx.suite.checks {
+            if other.function == ev.check.function || other.shader != ev.check.shader {
+                continue;
+            }
+            let Some(model) = other.reference else {
+                continue;
+            };
+            let Ok(sites) = callgraph::call_sites(shader, &ev.check.function, &other.function)
+            else {
+                continue;
+            };
+            for site in sites {
+                if let Some(kind) = attribute_call(ev, other, model, shader, &site, &inputs) {
+                    let explains = match &kind {
+                        FindingKind::CalleeDeviates {
+                            deviating_failing, ..
+                        } => share(*deviating_failing, ev.stats.failed),
+                        _ => 0.0,
+                    };
+                    out.push(finding(ev, explains, kind));
+                }
+            }
+        }
+        out
+    }
+}
+
+/// One call site judged against the callee's check (see [`CallGraph`]);
+/// `None` when it cannot be judged or does not deviate on failing points.
+fn attribute_call(
+    ev: &Evidence,
+    callee_check: &Check,
+    model: &'static Model,
+    shader: &crate::wgsl::Shader,
+    site: &callgraph::CallSite,
+    inputs: &[&[u32]],
+) -> Option<FindingKind> {
+    let cap = callgraph::capture(shader, site, inputs).ok()?;
+    let n = cap.reached.len();
+    // The callee's arguments as points named by its parameters.
+    let mut names: Vec<String> = Vec::new();
+    let mut columns: Vec<Vec<Vec<f64>>> = Vec::new();
+    for (leaf, col) in &cap.args {
+        let param = leaf.split('.').next().unwrap_or(leaf).to_string();
+        match names.iter().position(|x| *x == param) {
+            Some(k) => columns[k].push(col.clone()),
+            None => {
+                names.push(param);
+                columns.push(vec![col.clone()]);
+            }
+        }
+    }
+    let widths: Vec<usize> = columns.iter().map(Vec::len).collect();
+    if widths.iter().any(|&w| w != 1 && w != 3) {
+        return None;
+    }
+    let points = Points {
+        names,
+        widths,
+        columns,
+        len: n,
+    };
+    // The callee check binds its reference over its sweep's names; where a
+    // reference argument is the same expression as a function argument, it
+    // is that argument.
+    let bound: BTreeMap<String, Expr> = callee_check
+        .reference_args
+        .iter()
+        .map(|(k, e)| {
+            let same = callee_check
+                .args
+                .iter()
+                .find(|(_, a)| *a == e)
+                .and_then(|(q, _)| Expr::parse(q).ok());
+            (k.clone(), same.unwrap_or_else(|| e.clone()))
+        })
+        .collect();
+    let want = reference_columns(callee_check, model, &points, &bound).ok()?;
+    let got: Vec<Vec<f64>> = cap.result.iter().map(|(_, c)| c.clone()).collect();
+    if got.len() != want.len() {
+        return None;
+    }
+    let tol = &callee_check.tolerance;
+    let deviating: Vec<usize> = (0..n)
+        .filter(|&i| cap.reached[i] && compare::assess(&got, &want, i, tol, ev.half).fails())
+        .collect();
+    let failing_reached = ev.failing.iter().filter(|&&i| cap.reached[i]).count();
+    let deviating_failing = ev
+        .failing
+        .iter()
+        .filter(|i| deviating.binary_search(i).is_ok())
+        .count();
+    if deviating_failing == 0 {
+        return None;
+    }
+    // Name the callee's mistake at the arguments it received.
+    let behaves_like = reference_arg_columns(callee_check, model, &points, &bound)
+        .ok()
+        .and_then(|args| {
+            let a: Vec<&[f64]> = args.iter().map(Vec::as_slice).collect();
+            let g: Vec<&[f64]> = got.iter().map(Vec::as_slice).collect();
+            let pass = |_: usize, g: &[f64], w: &[f64]| passes_at(g, w, tol, ev.half);
+            let failing: Vec<usize> = deviating.clone();
+            diagnose::search(
+                model.name,
+                &a,
+                &g,
+                pass,
+                &failing,
+                &diagnose::Options::default(),
+            )
+            .ok()
+        })
+        .and_then(|fits| fits.first().map(|f| f.hypothesis.description.to_string()));
+    Some(FindingKind::CalleeDeviates {
+        callee: site.callee.clone(),
+        check: callee_check.name.clone(),
+        reference: model.name.to_string(),
+        line: site.line,
+        column: site.column,
+        failing_reached,
+        deviating_failing,
+        behaves_like,
+    })
 }
 
 /// The evaluator's per-point issues grouped by kind, message and source site.

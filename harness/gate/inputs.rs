@@ -257,23 +257,7 @@ pub fn reference_columns(
     points: &Points,
     ref_args: &BTreeMap<String, Expr>,
 ) -> Result<Vec<Vec<f64>>, String> {
-    let mut bound = Vec::new();
-    for p in model.params {
-        let b = bind_arg(ref_args, p.name, points, "reference parameter")
-            .map_err(|m| format!("check `{}`: {m}", check.name))?;
-        let want = match p.kind {
-            ParamKind::Scalar => 1,
-            ParamKind::Vec3 => 3,
-        };
-        if b.width != want {
-            return Err(format!(
-                "check `{}`: reference parameter `{}` of `{}` takes {want} value(s), its expression gives {}",
-                check.name, p.name, model.name, b.width
-            ));
-        }
-        bound.push(b);
-    }
-    let args = columns(&bound, points)?;
+    let args = reference_arg_columns(check, model, points, ref_args)?;
     let n = points.len;
     let mut out = vec![vec![0.0; n]; model.outputs];
     let results: Vec<Vec<f64>> = (0..n.div_ceil(CHUNK))
@@ -309,4 +293,31 @@ pub fn as_f64(cols: &[Vec<u32>], kinds: &[(String, ScalarKind)]) -> Vec<Vec<f64>
         .zip(kinds.par_iter())
         .map(|(c, (_, k))| c.iter().map(|&b| bits_to_f64(*k, b)).collect())
         .collect()
+}
+
+/// The reference model's flattened argument columns at `points` (a vec3
+/// parameter is three columns), as `ref_args` binds them.
+pub fn reference_arg_columns(
+    check: &Check,
+    model: &Model,
+    points: &Points,
+    ref_args: &BTreeMap<String, Expr>,
+) -> Result<Vec<Vec<f64>>, String> {
+    let mut bound = Vec::new();
+    for p in model.params {
+        let b = bind_arg(ref_args, p.name, points, "reference parameter")
+            .map_err(|m| format!("check `{}`: {m}", check.name))?;
+        let want = match p.kind {
+            ParamKind::Scalar => 1,
+            ParamKind::Vec3 => 3,
+        };
+        if b.width != want {
+            return Err(format!(
+                "check `{}`: reference parameter `{}` of `{}` takes {want} value(s), its expression gives {}",
+                check.name, p.name, model.name, b.width
+            ));
+        }
+        bound.push(b);
+    }
+    columns(&bound, points)
 }

@@ -18,9 +18,14 @@ pub mod result;
 pub mod run;
 pub mod table;
 
-pub use inputs::{as_f64, build_of, evaluate, points_of, reference_columns, Build, Evaluated};
+pub use inputs::{
+    as_f64, build_of, evaluate, points_of, reference_arg_columns, reference_columns, Build,
+    Evaluated,
+};
 pub use record::record;
 pub use result::{
     CheckResult, Comparison, Confined, Finding, FindingKind, IssueGroup, Remap, RunResult, Verdict,
 };
-pub use run::{compare_versions, run, run_check, run_check_on, run_on, Backend};
+pub use run::{
+    compare_versions, run, run_check, run_check_explained, run_check_on, run_on, Backend,
+};

@@ -3,6 +3,7 @@
 use serde::Serialize;
 
 use crate::compare::{Stats, Tolerance};
+use crate::diagnose::Term;
 
 /// Outcome of one check.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize)]
@@ -121,6 +122,44 @@ pub enum FindingKind {
         meaning: Remap,
         /// Share of (sampled) points that pass under the replacement.
         passing: f64,
+    },
+    /// The function behaves like the reference with one change from the
+    /// diagnosis catalogue (`diagnose::CATALOGUE`): under the change, the
+    /// failing points pass and the passing ones still pass.
+    BehavesLike {
+        /// The reference model's name.
+        reference: String,
+        /// The hypothesis's stable id (`schlick_exponent_4`).
+        hypothesis: String,
+        /// The term of the model it blames.
+        term: Term,
+        /// What follows "behaves like <reference> with".
+        change: String,
+        /// Share of the sampled failing points that pass under the change.
+        explained: f64,
+        /// Share of the sampled passing points that still pass under it.
+        kept: f64,
+        failing_tried: usize,
+        passing_tried: usize,
+    },
+    /// The function calls `callee`, which another check of the suite binds to
+    /// `reference`, and the call deviates from that reference at the
+    /// arguments the function passes it.
+    CalleeDeviates {
+        callee: String,
+        /// The check that binds the callee.
+        check: String,
+        reference: String,
+        /// Where the call is in the shader.
+        line: u32,
+        column: u32,
+        /// The function's failing points at which the call ran, and at how
+        /// many of them the callee's result fails its own check's tolerance.
+        failing_reached: usize,
+        deviating_failing: usize,
+        /// The callee's own mistake, when the search names one at those
+        /// arguments (a hypothesis's words).
+        behaves_like: Option<String>,
     },
 }
 

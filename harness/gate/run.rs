@@ -5,8 +5,10 @@ use std::collections::BTreeMap;
 use std::path::Path;
 use std::time::Instant;
 
-use super::explain::{self, backend_agreement, failing_points, group_issues, Evidence, Reevaluate};
-use super::inputs::{as_f64, evaluate, reference_columns, Build};
+use super::explain::{
+    self, backend_agreement, failing_points, group_issues, Context, Evidence, Explainer, Reevaluate,
+};
+use super::inputs::{as_f64, evaluate, reference_arg_columns, reference_columns, Build};
 use super::result::{
     CheckResult, Comparison, Finding, FindingKind, IssueGroup, RunResult, Verdict,
 };
@@ -34,6 +36,17 @@ pub fn run_check(suite: &Suite, check: &Check) -> CheckResult {
 /// golden comparison (a record of the CPU evaluator) is replaced by a
 /// back end versus CPU summary per output leaf.
 pub fn run_check_on(suite: &Suite, check: &Check, backend: Option<Backend>) -> CheckResult {
+    run_check_explained(suite, check, backend, explain::EXPLAINERS)
+}
+
+/// [`run_check_on`] with another table of explainers (to measure what the
+/// diagnosis costs: `explain::WITHOUT_DIAGNOSIS`).
+pub fn run_check_explained(
+    suite: &Suite,
+    check: &Check,
+    backend: Option<Backend>,
+    explainers: &[&dyn Explainer],
+) -> CheckResult {
     let start = Instant::now();
     let mut r = CheckResult {
         name: check.name.clone(),
@@ -47,7 +60,7 @@ pub fn run_check_on(suite: &Suite, check: &Check, backend: Option<Backend>) -> C
         findings: Vec::new(),
         seconds: 0.0,
     };
-    match run_inner(suite, check, &mut r, backend) {
+    match run_inner(suite, check, &mut r, backend, explainers) {
         Ok(()) => {
             let failed = r.comparisons.iter().any(|c| c.stats.failed > 0);
             r.verdict = if failed { Verdict::Fail } else { Verdict::Pass };
@@ -76,6 +89,10 @@ impl Reevaluate for ReferenceOf<'_> {
     ) -> Result<Vec<Vec<f64>>, String> {
         reference_columns(self.check, self.model, points, args)
     }
+
+    fn reference_args(&self, points: &Points) -> Result<Vec<Vec<f64>>, String> {
+        reference_arg_columns(self.check, self.model, points, &self.check.reference_args)
+    }
 }
 
 /// Nothing to re-evaluate (goldens, old versions).
@@ -88,6 +105,10 @@ impl Reevaluate for NoReference {
         _: &Points,
     ) -> Result<Vec<Vec<f64>>, String> {
         Err("no reference model to re-evaluate".into())
+    }
+
+    fn reference_args(&self, _: &Points) -> Result<Vec<Vec<f64>>, String> {
+        Err("no reference model".into())
     }
 }
 
@@ -129,6 +150,8 @@ fn comparison(
     issues: &[IssueGroup],
     model: Option<&'static Model>,
     changed: Option<usize>,
+    context: Option<Context>,
+    explainers: &[&dyn Explainer],
 ) -> (Comparison, Vec<Finding>) {
     let describe = |i: usize| points.describe(i);
     let mut stats = compare::compare(got, want, tolerance, half, &describe);
@@ -150,10 +173,11 @@ fn comparison(
         failing: &failing,
         issues,
         model,
+        context,
     };
     let findings = match model {
-        Some(model) => explain::explain(&evidence, &ReferenceOf { check, model }),
-        None => explain::explain(&evidence, &NoReference),
+        Some(model) => explain::explain_with(explainers, &evidence, &ReferenceOf { check, model }),
+        None => explain::explain_with(explainers, &evidence, &NoReference),
     };
     (
         Comparison {
@@ -170,6 +194,7 @@ fn run_inner(
     check: &Check,
     r: &mut CheckResult,
     backend: Option<Backend>,
+    explainers: &[&dyn Explainer],
 ) -> Result<(), String> {
     let mut ev = evaluate(suite, check, None)?;
     if let Some(b) = backend {
@@ -225,6 +250,11 @@ fn run_inner(
             &r.issues,
             Some(model),
             None,
+            Some(Context {
+                suite,
+                evaluated: &ev,
+            }),
+            explainers,
         );
         r.comparisons.push(c);
         r.findings.extend(findings);
@@ -280,6 +310,8 @@ fn run_inner(
             &r.issues,
             None,
             Some(changed),
+            None,
+            explainers,
         );
         r.comparisons.push(c);
         r.findings.extend(findings);
@@ -328,6 +360,8 @@ pub fn compare_versions(
         &issues,
         None,
         Some(changed),
+        None,
+        explain::EXPLAINERS,
     );
     Finding::rank(&mut findings);
     let verdict = if c.stats.failed > 0 {

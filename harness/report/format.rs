@@ -2,6 +2,8 @@
 //! failure text and the ledger say the same thing the same way.
 
 use crate::compare::{NanPolicy, PointReport, Stats, Tolerance};
+use std::fmt::Write as _;
+
 use crate::gate::{Confined, Finding, FindingKind, Remap};
 use crate::sweep::fmt_num;
 
@@ -320,6 +322,42 @@ pub fn finding(f: &Finding) -> String {
                     "the shader seems to square `{parameter}` once more than the reference (a remap applied twice?)"
                 ),
             }
+        ),
+        FindingKind::BehavesLike {
+            reference,
+            change,
+            explained,
+            kept,
+            ..
+        } => {
+            let mut t = format!("behaves like {reference} with {change}");
+            if *explained < 1.0 || *kept < 1.0 {
+                let _ = write!(
+                    t,
+                    " (partly: {:.1} % of failing points explained, {:.1} % of passing points kept)",
+                    100.0 * explained,
+                    100.0 * kept
+                );
+            }
+            t
+        }
+        FindingKind::CalleeDeviates {
+            callee,
+            check,
+            reference,
+            line,
+            failing_reached,
+            deviating_failing,
+            behaves_like,
+            ..
+        } => format!(
+            "its call to {callee} at line {line} deviates from {reference} (check `{check}`) at the arguments it receives, on {} of {} failing point(s) that reach it{}",
+            count(*deviating_failing),
+            count(*failing_reached),
+            behaves_like
+                .as_ref()
+                .map(|b| format!("; {callee} behaves like {reference} with {b}"))
+                .unwrap_or_default()
         ),
     };
     let against = if f.against.is_empty() {

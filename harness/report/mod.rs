@@ -13,7 +13,7 @@
 //! goes. The one exception is [`Progress`], which the CLI creates to show a long run
 //! advancing; it writes to standard error only when that is a terminal.
 
-mod format;
+pub mod format;
 mod json;
 mod junit;
 mod ledger;

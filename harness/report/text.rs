@@ -302,6 +302,24 @@ fn terminal_safe(run: &RunResult) -> RunResult {
                     clean(parameter);
                     clean(replaced_by);
                 }
+                FindingKind::BehavesLike {
+                    reference, change, ..
+                } => {
+                    clean(reference);
+                    clean(change);
+                }
+                FindingKind::CalleeDeviates {
+                    callee,
+                    check,
+                    reference,
+                    behaves_like,
+                    ..
+                } => {
+                    clean(callee);
+                    clean(check);
+                    clean(reference);
+                    behaves_like.iter_mut().for_each(clean);
+                }
             }
             if let FindingKind::ShaderChanged { current, .. } = &mut f.kind {
                 clean(current);

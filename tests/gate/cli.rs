@@ -109,27 +109,53 @@ fn json_and_junit_reports_parse_back() {
     assert_eq!(code(&json), 1);
     let v: serde_json::Value = serde_json::from_slice(&json.stdout).expect("valid JSON");
     let checks = v["checks"].as_array().expect("checks");
-    assert_eq!(checks.len(), 6);
+    let listed = std::fs::read_to_string(root().join(suite))
+        .unwrap()
+        .matches("[[check]]")
+        .count();
+    assert_eq!(checks.len(), listed);
     let lambert = checks
         .iter()
         .find(|c| c["name"] == "lambert_diffuse")
         .unwrap();
     assert_eq!(lambert["verdict"], "fail");
+    // The diagnosis is typed in JSON, beside its sentence.
+    let teak = checks.iter().find(|c| c["name"] == "brdf_teak").unwrap();
+    let f = &teak["findings"][0];
+    assert_eq!(f["kind"], "behaves_like", "{f}");
+    assert_eq!(f["hypothesis"], "ndf_pi_3_14", "{f}");
+    assert_eq!(f["term"], "constant", "{f}");
+    assert_eq!(f["explained"], 1.0, "{f}");
+    assert!(
+        f["message"]
+            .as_str()
+            .unwrap()
+            .contains("behaves like cook_torrance_rgb with π written as 3.14"),
+        "{f}"
+    );
 
     let xml = shadegate(&["run", "--suite", suite, "--format", "junit"], &root());
     assert_eq!(code(&xml), 1);
     let body = text(&xml.stdout);
     let doc = roxmltree::Document::parse(&body).expect("valid XML");
+    assert!(
+        body.contains("behaves like cook_torrance_rgb with the metallic blend inverted"),
+        "the JUnit failure text names the diagnosis"
+    );
     let cases: Vec<_> = doc
         .descendants()
         .filter(|n| n.has_tag_name("testcase"))
         .collect();
-    assert_eq!(cases.len(), 6);
+    assert_eq!(cases.len(), listed);
     let failures = cases
         .iter()
         .filter(|c| c.children().any(|k| k.has_tag_name("failure")))
         .count();
-    assert_eq!(failures, 5, "five planted mistakes, one untouched function");
+    assert_eq!(
+        failures,
+        listed - 3,
+        "every planted mistake fails; the untouched function and the two refactors pass"
+    );
 }
 
 #[test]

@@ -3,11 +3,14 @@
 //! what moved, where, and the likely cause. The mistakes are the classic ones
 //! of the trade (common practice, no single source): a roughness remap
 //! skipped or applied twice, a missing clamp at grazing angles, a wrong
-//! Schlick exponent, a missing 1/π.
+//! Schlick exponent, a missing 1/π, and one per `brdf_*` copy (π as 3.14,
+//! the metallic blend inverted, ...), each named by the hypothesis search;
+//! a call into a mistaken function is attributed to it; refactors without a
+//! mistake show no finding.
 
 use std::path::Path;
 
-use shadegate::gate::{self, CheckResult, Confined, FindingKind, Remap, Verdict};
+use shadegate::gate::{self, CheckResult, Confined, FindingKind, Verdict};
 
 fn run() -> Vec<CheckResult> {
     let suite = shadegate::suite::load(Path::new(concat!(
@@ -38,12 +41,13 @@ fn every_planted_mistake_fails_and_is_explained() {
     assert!(
         has(
             c,
-            |k| matches!(k, FindingKind::Remap { parameter, replaced_by, meaning: Remap::SquaringSkipped, .. }
-            if parameter == "roughness" && replaced_by == "sqrt(roughness)")
+            |k| matches!(k, FindingKind::BehavesLike { hypothesis, .. } if hypothesis == "remap_none")
         ),
         "{:#?}",
         c.findings
     );
+    // The search names it, so the remap probe's finding is not repeated.
+    assert!(!has(c, |k| matches!(k, FindingKind::Remap { .. })));
 
     // 2. brdf squares the roughness twice (alpha = roughness⁴).
     let c = check(&all, "brdf_full");
@@ -51,8 +55,7 @@ fn every_planted_mistake_fails_and_is_explained() {
     assert!(
         has(
             c,
-            |k| matches!(k, FindingKind::Remap { parameter, replaced_by, meaning: Remap::SquaredTwice, .. }
-            if parameter == "roughness" && replaced_by == "roughness * roughness")
+            |k| matches!(k, FindingKind::BehavesLike { hypothesis, .. } if hypothesis == "remap_twice")
         ),
         "{:#?}",
         c.findings
@@ -100,7 +103,9 @@ fn every_planted_mistake_fails_and_is_explained() {
         "{issue:?}"
     );
 
-    // 4. f_schlick uses exponent 4: wrong almost everywhere, worst at mid angles.
+    // 4. f_schlick uses exponent 4: wrong almost everywhere; the search names
+    // the exponent, so "where the errors are largest" (which only mirrors
+    // where the values are) is not reported.
     let c = check(&all, "schlick_fresnel");
     assert_eq!(c.verdict, Verdict::Fail);
     let s = &c.comparisons[0].stats;
@@ -108,9 +113,19 @@ fn every_planted_mistake_fails_and_is_explained() {
     assert!(
         has(
             c,
-            |k| matches!(k, FindingKind::Confined { which: Confined::LargestErrors, parameter, .. }
-            if parameter == "v_dot_h")
+            |k| matches!(k, FindingKind::BehavesLike { hypothesis, .. } if hypothesis == "schlick_exponent_4")
         ),
+        "{:#?}",
+        c.findings
+    );
+    assert!(
+        !has(c, |k| matches!(
+            k,
+            FindingKind::Confined {
+                which: Confined::LargestErrors,
+                ..
+            }
+        )),
         "{:#?}",
         c.findings
     );
@@ -133,4 +148,105 @@ fn every_planted_mistake_fails_and_is_explained() {
 
     // The untouched function still passes.
     assert_eq!(check(&all, "burley_diffuse").verdict, Verdict::Pass);
+}
+
+/// Each planted mistake, by check, and the catalogue hypothesis that names it
+/// (`diagnose::CATALOGUE`; the mistakes are the common ones of the trade,
+/// common practice, no single source).
+const NAMED: &[(&str, &str)] = &[
+    ("ggx_distribution", "remap_none"),
+    ("brdf_full", "remap_twice"),
+    ("schlick_fresnel", "schlick_exponent_4"),
+    ("lambert_diffuse", "diffuse_inv_pi_missing"),
+    ("brdf_teak", "ndf_pi_3_14"),
+    ("brdf_steel", "metallic_inverted"),
+    ("brdf_ceramic", "dielectric_f0_0_02"),
+    ("brdf_cushion", "metal_diffuse_kept"),
+    ("brdf_parasol", "fresnel_at_ndv"),
+    ("brdf_lantern", "vis_fast"),
+    ("brdf_trellis", "specular_half"),
+    ("brdf_bench", "ndf_at_ndv"),
+];
+
+/// The lines of a check's text report that name its findings.
+fn finding_lines(c: &CheckResult) -> Vec<String> {
+    c.findings
+        .iter()
+        .map(shadegate::report::format::finding)
+        .collect()
+}
+
+#[test]
+fn every_planted_mistake_is_named_by_the_hypothesis_search() {
+    let all = run();
+    let mut wrong = Vec::new();
+    for &(name, id) in NAMED {
+        let c = check(&all, name);
+        if c.verdict != Verdict::Fail {
+            wrong.push(format!("{name}: {:?}, not a failure", c.verdict));
+            continue;
+        }
+        // The hypothesis is a full fit (every sampled failing point
+        // explained, every passing one kept) …
+        let full = c.findings.iter().find(|f| {
+            matches!(&f.kind, FindingKind::BehavesLike { hypothesis, explained, kept, .. }
+                if hypothesis == id && *explained == 1.0 && *kept == 1.0)
+        });
+        // … ranked first among the check's findings (or tied with the first).
+        match full {
+            None => wrong.push(format!(
+                "{name}: {id} not a full fit: {:#?}",
+                finding_lines(c)
+            )),
+            Some(f) if f.explains != c.findings[0].explains => wrong.push(format!(
+                "{name}: {id} not ranked first: {:#?}",
+                finding_lines(c)
+            )),
+            Some(_) => {}
+        }
+        // One line of the report names it.
+        let words = shadegate::diagnose::hypothesis(id).unwrap().description;
+        if !finding_lines(c)
+            .iter()
+            .any(|l| l.contains("behaves like ") && l.contains(words))
+        {
+            wrong.push(format!("{name}: no line names {id}"));
+        }
+    }
+    let distinct: std::collections::HashSet<&str> = NAMED.iter().map(|x| x.1).collect();
+    assert!(distinct.len() >= 12, "{} distinct mistakes", distinct.len());
+    assert!(wrong.is_empty(), "{}", wrong.join("\n"));
+}
+
+#[test]
+fn a_failing_call_is_attributed_to_the_callee_that_deviates() {
+    let all = run();
+    // brdf_frame is correct itself but calls f_schlick, whose exponent is
+    // planted (4 for 5); the suite binds f_schlick to its reference.
+    let c = check(&all, "brdf_frame");
+    assert_eq!(c.verdict, Verdict::Fail);
+    let schlick = shadegate::diagnose::hypothesis("schlick_exponent_4").unwrap();
+    let source = include_str!("../../shaders/brackenfold-planted/materials.wgsl");
+    let start = source.find("fn brdf_frame(").unwrap();
+    let call = start + source[start..].find("f_schlick(v_dot_h, f0)").unwrap();
+    let line = source[..call].lines().count() as u32;
+    assert!(
+        c.findings.iter().any(|f| matches!(&f.kind,
+            FindingKind::CalleeDeviates { callee, check, line: l, deviating_failing, failing_reached, behaves_like: Some(b), .. }
+            if callee == "f_schlick" && check == "schlick_fresnel" && *l == line
+                && *deviating_failing > 0 && deviating_failing == failing_reached
+                && b == schlick.description)),
+        "{:#?}",
+        finding_lines(c)
+    );
+}
+
+#[test]
+fn refactors_without_a_mistake_show_no_finding() {
+    let all = run();
+    for name in ["brdf_renamed", "brdf_equivalent", "burley_diffuse"] {
+        let c = check(&all, name);
+        assert_eq!(c.verdict, Verdict::Pass, "{name}: {:#?}", c.comparisons);
+        assert!(c.findings.is_empty(), "{name}: {:#?}", finding_lines(c));
+    }
 }
