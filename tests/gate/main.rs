@@ -4,6 +4,7 @@ mod cli;
 mod demo;
 mod diagnose;
 mod golden;
+mod oracles;
 mod planted;
 mod report_formats;
 mod runner;
