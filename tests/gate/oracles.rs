@@ -316,3 +316,20 @@ fn malformed_uses_are_located_errors() {
         "{e}"
     );
 }
+
+#[test]
+fn compare_accepts_two_function_names() {
+    let (dir, s) = project("compare-fns", &twin("square", "square_fast", "abs = 1e-3"))
+        .unwrap_or_else(|d| panic!("{}", d.rendered));
+    let lib = dir.join("lib.wgsl");
+    let c = &s.checks[0];
+    let r = gate::compare_functions(&s, c, (&lib, "square"), (&lib, "square")).unwrap();
+    assert_eq!(r.verdict, Verdict::Pass, "{r:#?}");
+    // square_fast against square: 2a - 1 - a² = -(1 - a)², never within a
+    // bit-exact golden tolerance on this sweep.
+    let r = gate::compare_functions(&s, c, (&lib, "square"), (&lib, "square_fast")).unwrap();
+    assert_eq!(r.verdict, Verdict::Fail, "{r:#?}");
+    assert_eq!(r.function, "square → square_fast");
+    assert_eq!(r.comparisons[0].stats.failed, 4);
+    assert!((r.comparisons[0].stats.max_abs - 0.49).abs() < 1e-6);
+}
