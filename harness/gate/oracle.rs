@@ -1,6 +1,6 @@
 //! Oracles that are not reference models: a twin (a second WGSL function
 //! whose result is the expected value) and the properties a function must
-//! keep (a range, finiteness, reciprocity, a round trip). Each gives the
+//! keep (a range, finiteness, reciprocity, isotropy, a round trip). Each gives the
 //! columns of one comparison, which the runner judges and explains like any
 //! other, so the worst point and where the failures lie come from the same
 //! statistics and explainers.
@@ -267,6 +267,64 @@ pub fn property_sides(
             swapped.insert(b.clone(), expr(a));
             let (build, program) = build_other(suite, check, None, &check.function, pc.line)?;
             let other = evaluate_at(check, build, program, &swapped, ev.points.clone())?;
+            Ok(Sides {
+                against,
+                got: got.to_vec(),
+                want: as_f64(&other.output_columns, &other.outputs),
+                half,
+            })
+        }
+        Property::Isotropy {
+            rotate,
+            about,
+            angle,
+        } => {
+            let params = ev.program.params();
+            let names: Vec<&str> = params.iter().map(|(n, _)| n.as_str()).collect();
+            for n in rotate.iter().chain(about) {
+                let Some((_, ty)) = params.iter().find(|(p, _)| p == n) else {
+                    return Err(err(format!(
+                        "key `property.{}`: `{}` has no argument `{n}` (has: {})",
+                        if Some(n) == about.as_ref() {
+                            "about"
+                        } else {
+                            "rotate"
+                        },
+                        check.function,
+                        names.join(", ")
+                    )));
+                };
+                if ty.leaves().len() != 3 {
+                    return Err(err(format!(
+                        "key `property.rotate`: `{n}` is {ty}; only vec3 directions rotate"
+                    )));
+                }
+            }
+            let text = |n: &str| {
+                check
+                    .args
+                    .get(n)
+                    .map_or_else(|| n.to_string(), |e| e.text.clone())
+            };
+            let axis = about.as_ref().map_or_else(
+                || "vec3(0, 0, 1)".to_string(),
+                |a| format!("normalize({})", text(a)),
+            );
+            let (s, c) = angle.to_radians().sin_cos();
+            let mut rotated: BTreeMap<String, Expr> = check.args.clone();
+            for n in rotate {
+                // Rodrigues' rotation formula about the unit axis k.
+                let v = text(n);
+                let e = format!(
+                    "({v}) * ({c}) + cross({axis}, {v}) * ({s}) + {axis} * (dot({axis}, {v}) * ({}))",
+                    1.0 - c
+                );
+                let e =
+                    Expr::parse(&e).map_err(|m| err(format!("rotating `{n}`: {}", m.message)))?;
+                rotated.insert(n.clone(), e);
+            }
+            let (build, program) = build_other(suite, check, None, &check.function, pc.line)?;
+            let other = evaluate_at(check, build, program, &rotated, ev.points.clone())?;
             Ok(Sides {
                 against,
                 got: got.to_vec(),

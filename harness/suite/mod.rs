@@ -103,6 +103,14 @@ pub enum Property {
     Finite,
     /// Swapping the arguments `a` and `b` leaves the result unchanged.
     Reciprocity { a: String, b: String },
+    /// Rotating the `rotate` arguments (directions) by `angle` degrees about
+    /// the argument `about` (the normal; +z when `None`) leaves the result
+    /// unchanged: an isotropic model.
+    Isotropy {
+        rotate: Vec<String>,
+        about: Option<String>,
+        angle: f64,
+    },
     /// The check's function encodes; `decode` (of `shader`, or the check's
     /// shader) applied to its result gives back its arguments.
     RoundTrip {
@@ -125,6 +133,16 @@ impl Property {
             Property::Range { .. } => "result in any range".to_string(),
             Property::Finite => "result finite".to_string(),
             Property::Reciprocity { a, b } => format!("reciprocity {a} <-> {b}"),
+            Property::Isotropy {
+                rotate,
+                about,
+                angle,
+            } => format!(
+                "isotropy: {} rotated {}° about {}",
+                rotate.join(", "),
+                fmt_num(*angle),
+                about.as_deref().unwrap_or("+z")
+            ),
             Property::RoundTrip { decode, .. } => format!("round trip through {decode}"),
         }
     }
@@ -499,7 +517,7 @@ fn convert(cx: &Ctx, rc: RawCheck, span: std::ops::Range<usize>) -> Result<Check
             return Err(cx.err(span.start..span.start, format!("check `{name}`: a check against a reference needs a `[check.tolerance]` with a `reason`")))
         }
         None if twin.is_some() || (property.is_some() && !bounded) => {
-            return Err(cx.err(span.start..span.start, format!("check `{name}`: a twin or a reciprocity or round-trip property needs a `[check.tolerance]` with a `reason`")))
+            return Err(cx.err(span.start..span.start, format!("check `{name}`: a twin or a reciprocity, isotropy or round-trip property needs a `[check.tolerance]` with a `reason`")))
         }
         None if bounded => Tolerance {
             abs: Some(vec![0.0]),
@@ -552,19 +570,20 @@ fn property_of(cx: &Ctx, p: &Spanned<toml::Table>) -> Result<PropertyCheck, Diag
     let kind = string("kind")?.ok_or_else(|| {
         cx.err(
             span.clone(),
-            "key `property.kind` is missing (expected \"range\", \"finite\", \"reciprocity\" or \"round_trip\")",
+            "key `property.kind` is missing (expected \"range\", \"finite\", \"reciprocity\", \"isotropy\" or \"round_trip\")",
         )
     })?;
     let allowed: &[&str] = match kind.as_str() {
         "range" => &["kind", "min", "max"],
         "finite" => &["kind"],
         "reciprocity" => &["kind", "swap"],
+        "isotropy" => &["kind", "rotate", "about", "angle"],
         "round_trip" => &["kind", "decode", "shader"],
         other => {
             return Err(cx.err(
                 at("kind"),
                 format!(
-                    "key `property.kind`: unknown property \"{other}\" (expected \"range\", \"finite\", \"reciprocity\" or \"round_trip\")"
+                    "key `property.kind`: unknown property \"{other}\" (expected \"range\", \"finite\", \"reciprocity\", \"isotropy\" or \"round_trip\")"
                 ),
             ))
         }
@@ -627,6 +646,34 @@ fn property_of(cx: &Ctx, p: &Spanned<toml::Table>) -> Result<PropertyCheck, Diag
             Property::Reciprocity {
                 a: names[0].clone(),
                 b: names[1].clone(),
+            }
+        }
+        "isotropy" => {
+            let rotate: Vec<String> = match t.get("rotate") {
+                Some(toml::Value::Array(a)) if !a.is_empty() && a.iter().all(|v| v.is_str()) => {
+                    a.iter().filter_map(|v| v.as_str().map(str::to_string)).collect()
+                }
+                _ => {
+                    return Err(cx.err(
+                        at("rotate"),
+                        "key `property.rotate`: expected the direction arguments to rotate, e.g. rotate = [\"v\", \"l\"]",
+                    ))
+                }
+            };
+            let angle = match t.get("angle") {
+                None => 30.0,
+                Some(v) => match num(v) {
+                    Ok(x) if x.is_finite() => x,
+                    Ok(_) => {
+                        return Err(cx.err(at("angle"), "key `property.angle`: expected a finite number of degrees"))
+                    }
+                    Err(m) => return Err(cx.err(at("angle"), format!("key `property.angle`: {m}"))),
+                },
+            };
+            Property::Isotropy {
+                rotate,
+                about: string("about")?,
+                angle,
             }
         }
         _ => Property::RoundTrip {

@@ -109,7 +109,7 @@ fn json_and_junit_reports_parse_back() {
     assert_eq!(code(&json), 1);
     let v: serde_json::Value = serde_json::from_slice(&json.stdout).expect("valid JSON");
     let checks = v["checks"].as_array().expect("checks");
-    assert_eq!(checks.len(), 9);
+    assert_eq!(checks.len(), 10);
     let lambert = checks
         .iter()
         .find(|c| c["name"] == "lambert_diffuse")
@@ -124,14 +124,14 @@ fn json_and_junit_reports_parse_back() {
         .descendants()
         .filter(|n| n.has_tag_name("testcase"))
         .collect();
-    assert_eq!(cases.len(), 9);
+    assert_eq!(cases.len(), 10);
     let failures = cases
         .iter()
         .filter(|c| c.children().any(|k| k.has_tag_name("failure")))
         .count();
     assert_eq!(
         failures, 6,
-        "five planted mistakes, the missing clamp also failing its finiteness property; one untouched function, two properties the mistakes keep"
+        "five planted mistakes, the missing clamp also failing its finiteness property; one untouched function, three properties the mistakes keep"
     );
 }
 

@@ -26,6 +26,8 @@ fn inverse(x: f32) -> f32 { return 1.0 / x; }
 
 fn symmetric(v: vec3<f32>, l: vec3<f32>, k: f32) -> f32 { return k * dot(v, l); }
 fn lopsided(v: vec3<f32>, l: vec3<f32>, k: f32) -> f32 { return k * (2.0 * v.z + l.z); }
+fn isotropic(n: vec3<f32>, v: vec3<f32>, l: vec3<f32>) -> f32 { return dot(n, v) * dot(n, l) + dot(v, l); }
+fn anisotropic(n: vec3<f32>, v: vec3<f32>, l: vec3<f32>) -> f32 { return dot(n, v) * dot(n, l) + v.x * l.x; }
 fn two_values(x: f32) -> vec2<f32> { return vec2<f32>(x, x); }
 
 fn srgb_encode(c: f32) -> f32 {
@@ -332,4 +334,48 @@ fn compare_accepts_two_function_names() {
     assert_eq!(r.function, "square → square_fast");
     assert_eq!(r.comparisons[0].stats.failed, 4);
     assert!((r.comparisons[0].stats.max_abs - 0.49).abs() < 1e-6);
+}
+
+fn isotropy(function: &str) -> String {
+    format!(
+        r#"
+[[check]]
+name = "iso"
+shader = "lib.wgsl"
+function = "{function}"
+property = {{ kind = "isotropy", rotate = ["v", "l"], about = "n", angle = 40 }}
+args = {{ n = "vec3(0, 0, 1)" }}
+[check.sweep]
+v = {{ direction = {{ theta = {{ linear = [0, 80, 5] }}, phi = {{ list = [0, 90] }} }} }}
+l = {{ direction = {{ theta = {{ linear = [0, 80, 5] }}, phi = {{ list = [45, 180] }} }} }}
+[check.tolerance]
+abs = 1e-6
+reason = "the rotated directions are rounded to f32"
+"#
+    )
+}
+
+#[test]
+fn isotropy_holds_for_dot_products_and_fails_for_a_model_with_a_preferred_axis() {
+    // Dot products are invariant under rotation (an identity of Euclidean
+    // geometry); v.x l.x is not.
+    let r = run("iso-good", &isotropy("isotropic"));
+    assert_eq!(r.verdict, Verdict::Pass, "{r:#?}");
+    assert_eq!(
+        r.comparisons[0].against,
+        "property isotropy: v, l rotated 40° about n"
+    );
+    let r = run("iso-bad", &isotropy("anisotropic"));
+    assert_eq!(r.verdict, Verdict::Fail, "{r:#?}");
+    // Points with v or l along the normal (theta = 0) keep it.
+    assert!(r.comparisons[0].stats.failed < 100);
+    let r = run(
+        "iso-missing",
+        &isotropy("isotropic").replace("about = \"n\"", "about = \"normal\""),
+    );
+    let e = r.error.unwrap();
+    assert!(
+        e.contains("shadegate.toml:6:") && e.contains("no argument `normal`"),
+        "{e}"
+    );
 }

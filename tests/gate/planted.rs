@@ -79,8 +79,8 @@ fn every_planted_mistake_fails_and_is_explained() {
         "{:#?}",
         c.findings
     );
-    // The planted mistakes keep reciprocity and the Fresnel range.
-    for name in ["brdf_reciprocity", "schlick_in_unit_range"] {
+    // The planted mistakes keep reciprocity, isotropy and the Fresnel range.
+    for name in ["brdf_reciprocity", "brdf_isotropy", "schlick_in_unit_range"] {
         assert_eq!(check(&all, name).verdict, Verdict::Pass, "{name}");
     }
 
