@@ -126,6 +126,11 @@ enum Command {
         /// The check whose function, sweep and arguments to use.
         #[arg(long)]
         check: String,
+        /// Compare two functions instead of the check's one: the first is
+        /// looked up in OLD, the second in NEW (give the same file twice for
+        /// two functions of one file).
+        #[arg(long, num_args = 2, value_names = ["OLD_FUNCTION", "NEW_FUNCTION"])]
+        functions: Option<Vec<String>>,
         #[arg(long, default_value = "shadegate.toml")]
         suite: PathBuf,
         #[arg(long, value_enum, default_value = "text")]
@@ -316,6 +321,7 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
             old,
             new,
             check,
+            functions,
             suite,
             format,
         } => {
@@ -324,7 +330,11 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
                 s.checks.iter().find(|c| c.name == check).ok_or_else(|| {
                     Bad(format!("no check named `{check}` in {}", suite.display()))
                 })?;
-            let r = gate::compare_versions(&s, c, &old, &new).map_err(Bad)?;
+            let r = match functions.as_deref() {
+                Some([a, b]) => gate::compare_functions(&s, c, (&old, a), (&new, b)),
+                _ => gate::compare_versions(&s, c, &old, &new),
+            }
+            .map_err(Bad)?;
             let run = RunResult {
                 suite: s.path.display().to_string(),
                 checks: vec![r],
@@ -356,6 +366,12 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
                             c.golden_tolerance.reason
                         )
                     }))
+                    .chain(c.twin.as_ref().map(|t| format!("twin {}", t.function)))
+                    .chain(
+                        c.property
+                            .as_ref()
+                            .map(|p| format!("property {}", p.property.label())),
+                    )
                     .collect();
                 out.push_str(&format!(
                     "{}  {}::{}  {}  against {}\n",

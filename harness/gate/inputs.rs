@@ -69,6 +69,8 @@ pub struct Evaluated {
     pub input_columns: Vec<Vec<u32>>,
     pub output_columns: Vec<Vec<u32>>,
     pub issues: Vec<LaneIssue>,
+    /// Parameters rounded to `f16` for both sides of a twin check.
+    pub rounded: Option<super::result::FindingKind>,
 }
 
 /// Generate the sweep with every value rounded to f32.
@@ -193,18 +195,33 @@ pub fn evaluate(
     suite
         .check_args(check, program.params().iter().map(|(n, _)| n.as_str()))
         .map_err(|d| d.rendered)?;
-    let points = points_of(check);
+    let (points, rounded) = super::oracle::shared_points(suite, check, &program)?;
+    let mut ev = evaluate_at(check, build, program, &check.args, points)?;
+    ev.rounded = rounded;
+    Ok(ev)
+}
+
+/// Evaluate a built function at `points`, its arguments bound by `args`
+/// (missing ones take the sweep parameter of the same name). [`evaluate`]
+/// for the check's own function; twins and properties for the others.
+pub fn evaluate_at(
+    check: &Check,
+    build: Build,
+    program: Program,
+    args: &BTreeMap<String, Expr>,
+    points: Points,
+) -> Result<Evaluated, String> {
     let mut bound = Vec::new();
     let mut kinds = Vec::new();
     for (name, ty) in program.params() {
-        let b = bind_arg(&check.args, name, &points, "argument")
+        let b = bind_arg(args, name, &points, "argument")
             .map_err(|m| format!("check `{}`: {m}", check.name))?;
         let leaves = ty.leaves();
         let fits = matches!(ty, Ty::Scalar(_) | Ty::Vector(3, _)) && leaves.len() == b.width;
         if !fits {
             return Err(format!(
-                "check `{}`: argument `{name}` has type {ty} but its expression gives {} value(s); only scalars and vec3 can be fed from a sweep",
-                check.name, b.width
+                "check `{}`: argument `{name}` of `{}` has type {ty} but its expression gives {} value(s); only scalars and vec3 can be fed from a sweep",
+                check.name, build.function, b.width
             ));
         }
         kinds.extend(leaves);
@@ -247,6 +264,7 @@ pub fn evaluate(
         input_columns,
         output_columns,
         issues,
+        rounded: None,
     })
 }
 

@@ -7,12 +7,15 @@
 //!   another [`Backend`], and `compare_versions`;
 //! - [`explain`]: typed findings from each comparison, by the explainers of
 //!   its table;
+//! - [`oracle`]: twins and property checks, each the columns of one more
+//!   comparison;
 //! - [`record`]: writing a check's golden dataset;
 //! - [`table`]: the point tables (CSV) of `shadegate eval`;
 //! - [`result`]: the types reports read.
 
 pub mod explain;
 pub mod inputs;
+pub mod oracle;
 pub mod record;
 pub mod result;
 pub mod run;
@@ -27,5 +30,6 @@ pub use result::{
     CheckResult, Comparison, Confined, Finding, FindingKind, IssueGroup, Remap, RunResult, Verdict,
 };
 pub use run::{
-    compare_versions, run, run_check, run_check_explained, run_check_on, run_on, Backend,
+    compare_functions, compare_versions, run, run_check, run_check_explained, run_check_on, run_on,
+    Backend,
 };

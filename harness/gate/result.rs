@@ -88,6 +88,14 @@ pub enum FindingKind {
         /// The sweep parameters of the (first) worst point, when any differs.
         worst_at: Option<String>,
     },
+    /// Sweep parameters rounded to `f16` before either side of a twin check
+    /// saw them (an `f16` argument takes them directly), and `f16`
+    /// arguments computed by an expression, which are rounded after it
+    /// (`roughness of d_ggx_f16`): there the other side sees the unrounded value.
+    InputsRounded {
+        parameters: Vec<String>,
+        computed: Vec<String>,
+    },
     /// The shader file changed since the golden was recorded.
     ShaderChanged { recorded: String, current: String },
     /// Results are NaN or infinite where the expected value is finite.

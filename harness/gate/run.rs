@@ -9,6 +9,7 @@ use super::explain::{
     self, backend_agreement, failing_points, group_issues, Context, Evidence, Explainer, Reevaluate,
 };
 use super::inputs::{as_f64, evaluate, reference_arg_columns, reference_columns, Build};
+use super::oracle;
 use super::result::{
     CheckResult, Comparison, Finding, FindingKind, IssueGroup, RunResult, Verdict,
 };
@@ -259,6 +260,39 @@ fn run_inner(
         r.comparisons.push(c);
         r.findings.extend(findings);
     }
+    if let Some(kind) = ev.rounded.take() {
+        r.findings.push(Finding {
+            against: String::new(),
+            explains: None,
+            kind,
+        });
+    }
+    // Twins and properties: their second evaluations (the twin, the swapped
+    // arguments, the decoder) run on the CPU evaluator.
+    let mut sides = Vec::new();
+    if let Some(twin) = &check.twin {
+        sides.push(oracle::twin_sides(suite, check, twin, &ev, &got)?);
+    }
+    if let Some(pc) = &check.property {
+        sides.push(oracle::property_sides(suite, check, pc, &ev, &got)?);
+    }
+    for s in sides {
+        check_tolerance(suite, check, &check.tolerance, "tolerance", s.got.len())?;
+        let (c, findings) = comparison(
+            check,
+            s.against,
+            &s.got,
+            &s.want,
+            &check.tolerance,
+            s.half,
+            &ev.points,
+            &r.issues,
+            None,
+            None,
+        );
+        r.comparisons.push(c);
+        r.findings.extend(findings);
+    }
     if let (Some(gpath), None) = (&check.golden, backend) {
         check_tolerance(
             suite,
@@ -326,16 +360,41 @@ pub fn compare_versions(
     old: &Path,
     new: &Path,
 ) -> Result<CheckResult, String> {
+    compare_functions(suite, check, (old, &check.function), (new, &check.function))
+}
+
+/// [`compare_versions`] of two functions, each named with its file: an `f16`
+/// port against its `f32` original, a fast form against the exact one. Both
+/// take the check's sweep and argument expressions.
+pub fn compare_functions(
+    suite: &Suite,
+    check: &Check,
+    old: (&Path, &str),
+    new: (&Path, &str),
+) -> Result<CheckResult, String> {
     let start = Instant::now();
-    let a = evaluate(suite, check, Some(old))?;
-    let b = evaluate(suite, check, Some(new))?;
-    if a.outputs != b.outputs {
+    let side = |function: &str| Check {
+        function: function.to_string(),
+        twin: None,
+        property: None,
+        ..check.clone()
+    };
+    let (old_check, new_check) = (side(old.1), side(new.1));
+    let same_function = old.1 == new.1;
+    let (old, new) = (old.0, new.0);
+    let a = evaluate(suite, &old_check, Some(old))?;
+    let b = evaluate(suite, &new_check, Some(new))?;
+    if a.outputs.len() != b.outputs.len() || (same_function && a.outputs != b.outputs) {
         return Err(format!(
             "the two versions return different types ({:?} vs {:?})",
             a.outputs, b.outputs
         ));
     }
-    let half = b.outputs.iter().any(|(_, k)| *k == ScalarKind::F16);
+    let half = a
+        .outputs
+        .iter()
+        .chain(&b.outputs)
+        .any(|(_, k)| *k == ScalarKind::F16);
     let (ga, gb) = (
         as_f64(&a.output_columns, &a.outputs),
         as_f64(&b.output_columns, &b.outputs),
@@ -351,7 +410,11 @@ pub fn compare_versions(
     let changed = compare::changed_bits(&a.output_columns, &b.output_columns);
     let (c, mut findings) = comparison(
         check,
-        format!("old version {}", old.display()),
+        if same_function {
+            format!("old version {}", old.display())
+        } else {
+            format!("{} in {}", old_check.function, old.display())
+        },
         &gb,
         &ga,
         &check.golden_tolerance,
@@ -372,7 +435,11 @@ pub fn compare_versions(
     Ok(CheckResult {
         name: check.name.clone(),
         shader: format!("{} → {}", old.display(), new.display()),
-        function: check.function.clone(),
+        function: if same_function {
+            check.function.clone()
+        } else {
+            format!("{} → {}", old_check.function, new_check.function)
+        },
         points: b.points.len,
         verdict,
         error: None,

@@ -274,6 +274,26 @@ pub fn finding(f: &Finding) -> String {
                 share(*within_2)
             )
         }
+        FindingKind::InputsRounded {
+            parameters,
+            computed,
+        } => {
+            let mut parts = Vec::new();
+            if !parameters.is_empty() {
+                parts.push(format!(
+                    "{} rounded to f16 for both sides (an f16 argument takes {})",
+                    parameters.join(", "),
+                    if parameters.len() == 1 { "it" } else { "them" }
+                ));
+            }
+            if !computed.is_empty() {
+                parts.push(format!(
+                    "f16 argument(s) {} rounded after their expression; the other side sees the unrounded value",
+                    computed.join(", ")
+                ));
+            }
+            parts.join("; ")
+        }
         FindingKind::ShaderChanged { recorded, current } => format!(
             "the shader changed since the golden was recorded (hash {recorded} → {current})"
         ),

@@ -293,6 +293,10 @@ fn terminal_safe(run: &RunResult) -> RunResult {
                     worst_at.iter_mut().for_each(clean);
                 }
                 FindingKind::NonFinite { site, .. } => site.iter_mut().for_each(clean),
+                FindingKind::InputsRounded {
+                    parameters,
+                    computed,
+                } => parameters.iter_mut().chain(computed).for_each(clean),
                 FindingKind::ConstantFactor { named, .. } => named.iter_mut().for_each(clean),
                 FindingKind::Remap {
                     parameter,

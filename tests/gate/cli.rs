@@ -153,8 +153,8 @@ fn json_and_junit_reports_parse_back() {
         .count();
     assert_eq!(
         failures,
-        listed - 3,
-        "every planted mistake fails; the untouched function and the two refactors pass"
+        listed - 6,
+        "every planted mistake fails (the missing clamp also its finiteness property); the untouched function, the two refactors and three properties the mistakes keep pass"
     );
 }
 

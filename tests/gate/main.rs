@@ -7,6 +7,7 @@ mod diagnose;
 mod golden;
 mod hardening;
 mod html;
+mod oracles;
 mod planted;
 mod plots;
 mod report_formats;

@@ -61,6 +61,32 @@ fn every_planted_mistake_fails_and_is_explained() {
         c.findings
     );
 
+    // 3b. The same mistake found with no reference model at all: the
+    // finiteness property over the whole domain, traced to the same division.
+    let c = check(&all, "smith_visibility_finite");
+    assert_eq!(c.verdict, Verdict::Fail);
+    assert_eq!(c.comparisons[0].against, "property result finite");
+    let s = &c.comparisons[0].stats;
+    assert!(
+        s.nonfinite > 0
+            && s.first_nonfinite[0]
+                .params
+                .starts_with("n_dot_v=0, n_dot_l=0")
+    );
+    assert!(
+        has(
+            c,
+            |k| matches!(k, FindingKind::NonFinite { site: Some(site), .. }
+            if site.ends_with("materials.wgsl:51:16"))
+        ),
+        "{:#?}",
+        c.findings
+    );
+    // The planted mistakes keep reciprocity, isotropy and the Fresnel range.
+    for name in ["brdf_reciprocity", "brdf_isotropy", "schlick_in_unit_range"] {
+        assert_eq!(check(&all, name).verdict, Verdict::Pass, "{name}");
+    }
+
     // 3. v_smith_correlated lost its clamp: NaN at n·v = 0, traced to the division.
     let c = check(&all, "smith_visibility");
     assert_eq!(c.verdict, Verdict::Fail);

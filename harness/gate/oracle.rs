@@ -1,0 +1,372 @@
+//! Oracles that are not reference models: a twin (a second WGSL function
+//! whose result is the expected value) and the properties a function must
+//! keep (a range, finiteness, reciprocity, isotropy, a round trip). Each gives the
+//! columns of one comparison, which the runner judges and explains like any
+//! other, so the worst point and where the failures lie come from the same
+//! statistics and explainers.
+//!
+//! Both sides of a twin see the same parameter values: a sweep parameter
+//! that feeds an `f16` argument of either side is rounded to `f16` for both
+//! (see [`shared_points`]), and the check's findings say so.
+
+use std::collections::BTreeMap;
+use std::fmt::Display;
+use std::path::Path;
+
+use super::inputs::{as_f64, bind_arg, evaluate_at, points_of, Build, Evaluated};
+use super::result::FindingKind;
+use crate::eval::{bits_to_f64, f64_to_bits, Program, ScalarKind};
+use crate::suite::{Check, Property, PropertyCheck, Suite, Twin};
+use crate::sweep::{Expr, Points};
+use crate::wgsl::Shader;
+
+/// One comparison's columns, built by an oracle.
+pub struct Sides {
+    /// The comparison's label (`twin d_ggx_f16`, `property result in [0, 1]`).
+    pub against: String,
+    pub got: Vec<Vec<f64>>,
+    pub want: Vec<Vec<f64>>,
+    /// ULPs counted in f16.
+    pub half: bool,
+}
+
+/// `suite:line: check `name`: msg`, for errors of a twin or property key.
+fn located(suite: &Suite, line: u32, check: &Check, msg: impl Display) -> String {
+    format!(
+        "{}:{line}: check `{}`: {msg}",
+        suite.path.display(),
+        check.name
+    )
+}
+
+/// The [`Build`] of another function of a check (a twin, a decoder): the
+/// check's overrides and number model, the function's own shader file.
+pub fn build_other(
+    suite: &Suite,
+    check: &Check,
+    shader: Option<&Path>,
+    function: &str,
+    line: u32,
+) -> Result<(Build, Program), String> {
+    let path = suite.resolve(shader.unwrap_or(&check.shader));
+    let shader = Shader::load(&path).map_err(|d| located(suite, line, check, d.rendered))?;
+    let build = Build {
+        shader,
+        function: function.to_string(),
+        overrides: check.overrides.clone(),
+        arithmetic: check.arithmetic,
+    };
+    let program = build
+        .program()
+        .map_err(|m| located(suite, line, check, format!("`{function}`: {m}")))?;
+    Ok((build, program))
+}
+
+/// The check's points, with every sweep parameter that feeds an `f16`
+/// argument of the check's function or its twin rounded to `f16`, so that
+/// both sides see the values the `f16` side sees. Also the finding that
+/// says which parameters were rounded (`None` when no side takes `f16`).
+pub fn shared_points(
+    suite: &Suite,
+    check: &Check,
+    program: &Program,
+) -> Result<(Points, Option<FindingKind>), String> {
+    let mut points = points_of(check);
+    let Some(twin) = &check.twin else {
+        return Ok((points, None));
+    };
+    let (_, other) = build_other(
+        suite,
+        check,
+        twin.shader.as_deref(),
+        &twin.function,
+        twin.line,
+    )?;
+    let sides = [
+        (program, &check.args, check.function.as_str()),
+        (&other, &twin.args, twin.function.as_str()),
+    ];
+    let mut direct = Vec::new();
+    let mut computed = Vec::new();
+    for (prog, args, function) in sides {
+        for (name, ty) in prog.params() {
+            if !ty.leaves().contains(&ScalarKind::F16) {
+                continue;
+            }
+            // An unbindable argument is reported when the side is evaluated.
+            let Ok(b) = bind_arg(args, name, &points, "argument") else {
+                continue;
+            };
+            match b.var {
+                Some(p) => {
+                    if !direct.contains(&p) {
+                        direct.push(p);
+                    }
+                }
+                None => computed.push(format!("{name} of {function}")),
+            }
+        }
+    }
+    direct.sort_unstable();
+    for &p in &direct {
+        for col in &mut points.columns[p] {
+            for x in col.iter_mut() {
+                *x = bits_to_f64(ScalarKind::F16, f64_to_bits(ScalarKind::F16, *x));
+            }
+        }
+    }
+    let finding =
+        (!direct.is_empty() || !computed.is_empty()).then(|| FindingKind::InputsRounded {
+            parameters: direct.iter().map(|&p| points.names[p].clone()).collect(),
+            computed,
+        });
+    Ok((points, finding))
+}
+
+/// The twin evaluated at the check's points: the expected value.
+pub fn twin_sides(
+    suite: &Suite,
+    check: &Check,
+    twin: &Twin,
+    ev: &Evaluated,
+    got: &[Vec<f64>],
+) -> Result<Sides, String> {
+    let (build, program) = build_other(
+        suite,
+        check,
+        twin.shader.as_deref(),
+        &twin.function,
+        twin.line,
+    )?;
+    let other = evaluate_at(check, build, program, &twin.args, ev.points.clone())
+        .map_err(|m| located(suite, twin.line, check, format!("twin: {m}")))?;
+    if other.outputs.len() != ev.outputs.len() {
+        return Err(located(
+            suite,
+            twin.line,
+            check,
+            format!(
+                "`{}` returns {} value(s) ({}) but its twin `{}` returns {} ({}); a twin must return the same shape",
+                check.function,
+                ev.outputs.len(),
+                kinds(&ev.outputs),
+                twin.function,
+                other.outputs.len(),
+                kinds(&other.outputs)
+            ),
+        ));
+    }
+    let half = ev
+        .outputs
+        .iter()
+        .chain(&other.outputs)
+        .any(|(_, k)| *k == ScalarKind::F16);
+    Ok(Sides {
+        against: format!("twin {}", twin.function),
+        got: got.to_vec(),
+        want: as_f64(&other.output_columns, &other.outputs),
+        half,
+    })
+}
+
+fn kinds(leaves: &[(String, ScalarKind)]) -> String {
+    leaves
+        .iter()
+        .map(|(n, k)| format!("{n}: {k:?}").to_lowercase())
+        .collect::<Vec<_>>()
+        .join(", ")
+}
+
+/// The columns of a property check. `got` is the function's result.
+pub fn property_sides(
+    suite: &Suite,
+    check: &Check,
+    pc: &PropertyCheck,
+    ev: &Evaluated,
+    got: &[Vec<f64>],
+) -> Result<Sides, String> {
+    let against = format!("property {}", pc.property.label());
+    let half = ev.outputs.iter().any(|(_, k)| *k == ScalarKind::F16);
+    let err = |m: String| located(suite, pc.line, check, m);
+    match &pc.property {
+        Property::Range { min, max } => {
+            // The expected value is the nearest point of the range: a result
+            // inside it is its own expected value, one outside is off by its
+            // distance to the bound. NaN lies in no range.
+            let (lo, hi) = (
+                min.unwrap_or(f64::NEG_INFINITY),
+                max.unwrap_or(f64::INFINITY),
+            );
+            let fallback = min.or(*max).unwrap_or(0.0);
+            let want = got
+                .iter()
+                .map(|c| {
+                    c.iter()
+                        .map(|&x| {
+                            if x.is_nan() {
+                                fallback
+                            } else {
+                                x.clamp(lo, hi)
+                            }
+                        })
+                        .collect()
+                })
+                .collect();
+            Ok(Sides {
+                against,
+                got: got.to_vec(),
+                want,
+                half,
+            })
+        }
+        Property::Finite => {
+            let want = got
+                .iter()
+                .map(|c| {
+                    c.iter()
+                        .map(|&x| if x.is_finite() { x } else { 0.0 })
+                        .collect()
+                })
+                .collect();
+            Ok(Sides {
+                against,
+                got: got.to_vec(),
+                want,
+                half,
+            })
+        }
+        Property::Reciprocity { a, b } => {
+            let params = ev.program.params();
+            let names: Vec<&str> = params.iter().map(|(n, _)| n.as_str()).collect();
+            let ty = |n: &str| params.iter().find(|(p, _)| p == n).map(|(_, t)| t.clone());
+            let (ta, tb) = match (ty(a), ty(b)) {
+                (Some(ta), Some(tb)) => (ta, tb),
+                (ta, _) => {
+                    let missing = if ta.is_none() { a } else { b };
+                    return Err(err(format!(
+                        "key `property.swap`: `{}` has no argument `{missing}` (has: {})",
+                        check.function,
+                        names.join(", ")
+                    )));
+                }
+            };
+            if ta != tb {
+                return Err(err(format!(
+                    "key `property.swap`: `{a}` is {ta} but `{b}` is {tb}; only arguments of one type can be swapped"
+                )));
+            }
+            let expr = |n: &str| {
+                check
+                    .args
+                    .get(n)
+                    .cloned()
+                    .unwrap_or_else(|| Expr::parse(n).expect("an argument name parses"))
+            };
+            let mut swapped: BTreeMap<String, Expr> = check.args.clone();
+            swapped.insert(a.clone(), expr(b));
+            swapped.insert(b.clone(), expr(a));
+            let (build, program) = build_other(suite, check, None, &check.function, pc.line)?;
+            let other = evaluate_at(check, build, program, &swapped, ev.points.clone())?;
+            Ok(Sides {
+                against,
+                got: got.to_vec(),
+                want: as_f64(&other.output_columns, &other.outputs),
+                half,
+            })
+        }
+        Property::Isotropy {
+            rotate,
+            about,
+            angle,
+        } => {
+            let params = ev.program.params();
+            let names: Vec<&str> = params.iter().map(|(n, _)| n.as_str()).collect();
+            for n in rotate.iter().chain(about) {
+                let Some((_, ty)) = params.iter().find(|(p, _)| p == n) else {
+                    return Err(err(format!(
+                        "key `property.{}`: `{}` has no argument `{n}` (has: {})",
+                        if Some(n) == about.as_ref() {
+                            "about"
+                        } else {
+                            "rotate"
+                        },
+                        check.function,
+                        names.join(", ")
+                    )));
+                };
+                if ty.leaves().len() != 3 {
+                    return Err(err(format!(
+                        "key `property.rotate`: `{n}` is {ty}; only vec3 directions rotate"
+                    )));
+                }
+            }
+            let text = |n: &str| {
+                check
+                    .args
+                    .get(n)
+                    .map_or_else(|| n.to_string(), |e| e.text.clone())
+            };
+            let axis = about.as_ref().map_or_else(
+                || "vec3(0, 0, 1)".to_string(),
+                |a| format!("normalize({})", text(a)),
+            );
+            let (s, c) = angle.to_radians().sin_cos();
+            let mut rotated: BTreeMap<String, Expr> = check.args.clone();
+            for n in rotate {
+                // Rodrigues' rotation formula about the unit axis k.
+                let v = text(n);
+                let e = format!(
+                    "({v}) * ({c}) + cross({axis}, {v}) * ({s}) + {axis} * (dot({axis}, {v}) * ({}))",
+                    1.0 - c
+                );
+                let e =
+                    Expr::parse(&e).map_err(|m| err(format!("rotating `{n}`: {}", m.message)))?;
+                rotated.insert(n.clone(), e);
+            }
+            let (build, program) = build_other(suite, check, None, &check.function, pc.line)?;
+            let other = evaluate_at(check, build, program, &rotated, ev.points.clone())?;
+            Ok(Sides {
+                against,
+                got: got.to_vec(),
+                want: as_f64(&other.output_columns, &other.outputs),
+                half,
+            })
+        }
+        Property::RoundTrip { decode, shader } => {
+            let (_, program) = build_other(suite, check, shader.as_deref(), decode, pc.line)?;
+            let takes = program.input_leaves();
+            let same = takes.len() == ev.outputs.len()
+                && takes.iter().zip(&ev.outputs).all(|(a, b)| a.1 == b.1);
+            if !same {
+                return Err(err(format!(
+                    "key `property.decode`: `{decode}` takes ({}) but `{}` returns ({}); the decoder must take exactly the encoder's result",
+                    kinds(&takes),
+                    check.function,
+                    kinds(&ev.outputs)
+                )));
+            }
+            let gives = program.output_leaves();
+            if gives.len() != ev.inputs.len() {
+                return Err(err(format!(
+                    "key `property.decode`: `{decode}` returns {} value(s) ({}) but `{}` takes {} ({}); a round trip gives back every argument",
+                    gives.len(),
+                    kinds(&gives),
+                    check.function,
+                    ev.inputs.len(),
+                    kinds(&ev.inputs)
+                )));
+            }
+            let refs: Vec<&[u32]> = ev.output_columns.iter().map(|c| &c[..]).collect();
+            let mut decoded = Vec::new();
+            program
+                .try_eval(&refs, &mut decoded)
+                .map_err(|m| err(format!("`{decode}`: {m}")))?;
+            Ok(Sides {
+                against,
+                got: as_f64(&decoded, &gives),
+                want: as_f64(&ev.input_columns, &ev.inputs),
+                half: gives.iter().any(|(_, k)| *k == ScalarKind::F16),
+            })
+        }
+    }
+}
