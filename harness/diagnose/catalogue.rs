@@ -3,7 +3,7 @@
 //! A [`Hypothesis`] is a small value: a stable id, the [`Term`] it blames, the [`Knob`] of
 //! [`Variant`] it turns (so it is tried only on models that read that knob), the change
 //! itself as a function on a [`Variant`], and the phrase a report puts after "behaves like
-//! <reference> with". To add one, append a row to [`CATALOGUE`] and a planted test (see
+//! &lt;reference&gt; with". To add one, append a row to [`CATALOGUE`] and a planted test (see
 //! `DEVELOPERS.md`, "Adding a hypothesis").
 
 use super::terms::{Clamp, Cos, DiffuseForm, FresnelForm, Knob, NdfForm, Remap, Variant, VisForm};
@@ -37,7 +37,7 @@ pub struct Hypothesis {
     pub knob: Knob,
     /// The change, applied to [`Variant::REFERENCE`].
     pub change: fn(&mut Variant),
-    /// What a report writes after "behaves like <reference> with".
+    /// What a report writes after "behaves like `<reference>` with".
     pub description: &'static str,
 }
 

@@ -5,7 +5,7 @@
 //!   metallic blend, cosines, constant factors), each re-evaluable with one term changed.
 //!   With no change a decomposition is its registry model bit for bit.
 //! - [`catalogue`]: the mistakes shading code makes, one [`Hypothesis`] per row.
-//! - [`search`]: re-evaluates the reference under each hypothesis at the check's points and
+//! - [`search`](mod@search): re-evaluates the reference under each hypothesis at the check's points and
 //!   ranks those under which the failing points pass and the passing ones still pass.
 //! - [`callgraph`]: the arguments a caller passes to a callee, captured by evaluating an
 //!   in-memory wrapper of the caller, so a callee bound to its own reference can be judged

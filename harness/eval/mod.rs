@@ -15,9 +15,9 @@ pub(crate) mod exec;
 pub(crate) mod ir;
 pub(crate) mod lanes;
 pub(crate) mod perturb;
-pub mod text;
 #[cfg(test)]
 mod tests;
+pub mod text;
 pub mod ty;
 pub(crate) mod verify;
 
@@ -75,7 +75,7 @@ pub enum Arithmetic {
     Exact,
     /// Every inexact float operation moved, per point and pseudo-randomly from
     /// `seed`, anywhere within the WGSL spec's accuracy bound (see
-    /// [`perturb`]): what the least accurate conforming GPU may compute.
+    /// `perturb`): what the least accurate conforming GPU may compute.
     SpecBounds { seed: u64 },
 }
 

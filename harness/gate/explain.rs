@@ -3,8 +3,8 @@
 //! through [`Reevaluate`] (never by calling back into the runner).
 //!
 //! Every explainer is one entry of [`EXPLAINERS`]: a value implementing
-//! [`Explainer`]. The hypothesis search ([`HypothesisSearch`], over
-//! `diagnose::CATALOGUE`) and the call-graph attribution ([`CallGraph`]) are
+//! [`Explainer`]. The hypothesis search (`HypothesisSearch`, over
+//! `diagnose::CATALOGUE`) and the call-graph attribution (`CallGraph`) are
 //! two such entries; the runner and the renderers do not change when one is
 //! added.
 

@@ -3,13 +3,13 @@
 //! - [`inputs`]: the sweep's points, the argument columns, the [`Build`] of
 //!   the check (the one place its overrides and number model reach a back
 //!   end), the CPU evaluation and the reference model's columns;
-//! - [`run`]: the comparisons with the reference and the golden, on the CPU or
+//! - [`run`](mod@run): the comparisons with the reference and the golden, on the CPU or
 //!   another [`Backend`], and `compare_versions`;
 //! - [`explain`]: typed findings from each comparison, by the explainers of
 //!   its table;
 //! - [`oracle`]: twins and property checks, each the columns of one more
 //!   comparison;
-//! - [`record`]: writing a check's golden dataset;
+//! - [`record`](mod@record): writing a check's golden dataset;
 //! - [`table`]: the point tables (CSV) of `shadegate eval`;
 //! - [`result`]: the types reports read.
 

@@ -141,7 +141,7 @@ pub enum FindingKind {
         hypothesis: String,
         /// The term of the model it blames.
         term: Term,
-        /// What follows "behaves like <reference> with".
+        /// What follows "behaves like `<reference>` with".
         change: String,
         /// Share of the sampled failing points that pass under the change.
         explained: f64,

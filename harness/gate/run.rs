@@ -289,6 +289,8 @@ fn run_inner(
             &r.issues,
             None,
             None,
+            None,
+            explainers,
         );
         r.comparisons.push(c);
         r.findings.extend(findings);

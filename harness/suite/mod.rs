@@ -264,7 +264,7 @@ struct RawTwin {
     function: Spanned<String>,
     shader: Option<Spanned<String>>,
     #[serde(default)]
-    args: BTreeMap<String, Spanned<String>>,
+    args: BTreeMap<Spanned<String>, Spanned<String>>,
 }
 
 #[derive(Deserialize)]
