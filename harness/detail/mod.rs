@@ -196,13 +196,14 @@ fn columns_f64(cols: &[Vec<u32>], kinds: &[(String, ScalarKind)]) -> Vec<Vec<f64
 /// reference's parameters use, each with its number of values (the factor it multiplies
 /// the point count by). Loads and compiles the shader to learn the function's arguments.
 pub fn unused_parameters(suite: &Suite, check: &Check) -> Result<Vec<(String, usize)>, String> {
-    let shader =
-        crate::wgsl::Shader::load(&suite.resolve(&check.shader)).map_err(|d| d.rendered)?;
-    let program = crate::eval::Program::compile_with(
+    let shader = crate::wgsl::Shader::load_with(&suite.resolve(&check.shader), &suite.limits)
+        .map_err(|d| d.rendered)?;
+    let program = crate::eval::Program::compile_limited(
         &shader,
         &check.function,
         &check.overrides,
         check.arithmetic,
+        &suite.limits,
     )
     .map_err(|d| d.rendered)?;
     let mut used: Vec<String> = Vec::new();

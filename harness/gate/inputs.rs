@@ -15,6 +15,7 @@ use std::path::{Path, PathBuf};
 use rayon::prelude::*;
 
 use crate::eval::{bits_to_f64, f64_to_bits, Arithmetic, LaneIssue, Program, ScalarKind, Ty};
+use crate::limits::Limits;
 use crate::reference::{Model, ParamKind};
 use crate::suite::{Check, Suite};
 use crate::sweep::{expr::BoundExpr, Expr, Points, Value};
@@ -28,6 +29,9 @@ pub struct Build {
     pub function: String,
     pub overrides: BTreeMap<String, f64>,
     pub arithmetic: Arithmetic,
+    /// The run's limits (the suite's `[limits]` table over the defaults):
+    /// program size, slots and the per-point step budget reach the evaluator here.
+    pub limits: Limits,
 }
 
 /// The [`Build`] of a check, with its shader file (or `shader_path` instead,
@@ -42,17 +46,19 @@ pub fn build_of(suite: &Suite, check: &Check, shader_path: Option<&Path>) -> Res
         function: check.function.clone(),
         overrides: check.overrides.clone(),
         arithmetic: check.arithmetic,
+        limits: suite.limits,
     })
 }
 
 impl Build {
     /// Compile the function for the CPU evaluator.
     pub fn program(&self) -> Result<Program, String> {
-        Program::compile_with(
+        Program::compile_limited(
             &self.shader,
             &self.function,
             &self.overrides,
             self.arithmetic,
+            &self.limits,
         )
         .map_err(|d| d.rendered)
     }

@@ -49,12 +49,14 @@ pub fn build_other(
     line: u32,
 ) -> Result<(Build, Program), String> {
     let path = suite.resolve(shader.unwrap_or(&check.shader));
-    let shader = Shader::load(&path).map_err(|d| located(suite, line, check, d.rendered))?;
+    let shader = Shader::load_with(&path, &suite.limits)
+        .map_err(|d| located(suite, line, check, d.rendered))?;
     let build = Build {
         shader,
         function: function.to_string(),
         overrides: check.overrides.clone(),
         arithmetic: check.arithmetic,
+        limits: suite.limits,
     };
     let program = build
         .program()

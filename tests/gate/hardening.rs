@@ -588,3 +588,40 @@ fn a_suite_without_checks_is_an_error_at_line_one() {
     let d = suite::parse(Path::new("s.toml"), "# nothing\n").unwrap_err();
     assert_eq!(d.line, 1, "{}", d.rendered);
 }
+
+// --- the suite's [limits] reach the evaluator --------------------------------
+
+/// A loop of `n` iterations (the function's argument) under a suite whose
+/// `steps_per_point` is 100: the points that loop longer lose their result to
+/// the step budget; the others keep it. Without the limit in the suite the
+/// default budget lets every point finish.
+#[test]
+fn the_suites_step_budget_reaches_the_evaluator() {
+    const LOOPER: &str = "fn count(n: i32) -> f32 {\n    var i = 0;\n    while i < n {\n        i++;\n    }\n    return f32(i);\n}\n";
+    let suite_text = |limits: &str| {
+        format!(
+            "{limits}[[check]]\nname = \"c\"\nshader = \"loop.wgsl\"\nfunction = \"count\"\ngolden = true\n\n[check.sweep]\nn = {{ list = [10, 50, 500, 5000] }}\n"
+        )
+    };
+    let dir = project("steps", "");
+    std::fs::write(dir.join("loop.wgsl"), LOOPER).unwrap();
+    let budget_lost = |text: &str| -> Vec<usize> {
+        let path = dir.join("shadegate.toml");
+        std::fs::write(&path, text).unwrap();
+        let s = suite::load(&path).unwrap_or_else(|d| panic!("{}", d.rendered));
+        let ev = shadegate::gate::evaluate(&s, &s.checks[0], None).unwrap();
+        let mut lost: Vec<usize> = ev
+            .issues
+            .iter()
+            .filter(|i| i.kind == shadegate::eval::IssueKind::StepBudget)
+            .map(|i| i.point)
+            .collect();
+        lost.sort();
+        lost
+    };
+    assert_eq!(
+        budget_lost(&suite_text("[limits]\nsteps_per_point = 100\n\n")),
+        vec![2, 3]
+    );
+    assert!(budget_lost(&suite_text("")).is_empty());
+}
