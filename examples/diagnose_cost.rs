@@ -26,14 +26,8 @@ const N: usize = 100_000;
 const LIBRARY: &str = include_str!("../shaders/brackenfold/materials.wgsl");
 
 fn points() -> Vec<Vec<f64>> {
-    let mut state = 0xb4ac_6e0f_u64;
-    let mut next = || {
-        state = state.wrapping_add(0x9e37_79b9_7f4a_7c15);
-        let mut z = state;
-        z = (z ^ (z >> 30)).wrapping_mul(0xbf58_476d_1ce4_e5b9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94d0_49bb_1331_11eb);
-        ((z ^ (z >> 31)) >> 11) as f64 / (1u64 << 53) as f64
-    };
+    let mut rng = shadegate::sweep::Rng::new(0xb4ac_6e0f_u64);
+    let mut next = || rng.unit();
     let f = |x: f64| f64::from(x as f32);
     (0..N)
         .map(|_| {

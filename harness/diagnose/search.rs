@@ -260,14 +260,8 @@ mod catalogue_tests {
     fn points(m: &reference::Model) -> Vec<Vec<f64>> {
         // A deterministic grid-like walk over each parameter's range (SplitMix64), vectors
         // as directions in the upper hemisphere so the BRDFs are lit.
-        let mut state = 0x0d1a_9005_u64;
-        let mut next = || {
-            state = state.wrapping_add(0x9e37_79b9_7f4a_7c15);
-            let mut z = state;
-            z = (z ^ (z >> 30)).wrapping_mul(0xbf58_476d_1ce4_e5b9);
-            z = (z ^ (z >> 27)).wrapping_mul(0x94d0_49bb_1331_11eb);
-            ((z ^ (z >> 31)) >> 11) as f64 / (1u64 << 53) as f64
-        };
+        let mut rng = crate::sweep::Rng::new(0x0d1a_9005_u64);
+        let mut next = || rng.unit();
         (0..800)
             .map(|_| {
                 let mut p = Vec::new();

@@ -905,14 +905,8 @@ mod tests {
     /// SplitMix64-drawn values; vectors are drawn per component (so unnormalised and
     /// below-horizon directions are included, which the models must also match).
     fn domain_points(m: &reference::Model, count: usize) -> Vec<Vec<f64>> {
-        let mut state = 0x5eed_u64;
-        let mut next = || {
-            state = state.wrapping_add(0x9e37_79b9_7f4a_7c15);
-            let mut z = state;
-            z = (z ^ (z >> 30)).wrapping_mul(0xbf58_476d_1ce4_e5b9);
-            z = (z ^ (z >> 27)).wrapping_mul(0x94d0_49bb_1331_11eb);
-            ((z ^ (z >> 31)) >> 11) as f64 / (1u64 << 53) as f64
-        };
+        let mut rng = crate::sweep::Rng::new(0x5eed_u64);
+        let mut next = || rng.unit();
         let mut points = vec![m.example.to_vec()];
         for k in 0..count {
             let mut p = Vec::new();

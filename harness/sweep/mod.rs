@@ -225,11 +225,17 @@ pub fn direction(theta: f64, phi: f64) -> Value {
 }
 
 /// SplitMix64: a small, well-known generator; the same seed gives the same
-/// points on every platform.
-struct Rng(u64);
+/// points on every platform. Also the deterministic point source of tests and
+/// benchmarks that need repeatable pseudo-random inputs.
+pub struct Rng(u64);
 
 impl Rng {
-    fn next(&mut self) -> u64 {
+    pub fn new(seed: u64) -> Rng {
+        Rng(seed)
+    }
+
+    #[allow(clippy::should_implement_trait)]
+    pub fn next(&mut self) -> u64 {
         self.0 = self.0.wrapping_add(0x9e37_79b9_7f4a_7c15);
         let mut z = self.0;
         z = (z ^ (z >> 30)).wrapping_mul(0xbf58_476d_1ce4_e5b9);
@@ -237,7 +243,8 @@ impl Rng {
         z ^ (z >> 31)
     }
 
-    fn unit(&mut self) -> f64 {
+    /// A uniform value in [0, 1) with 53 random bits.
+    pub fn unit(&mut self) -> f64 {
         (self.next() >> 11) as f64 / (1u64 << 53) as f64
     }
 }
