@@ -9,7 +9,7 @@
 //! own ([`compare::assess`]), so a point fails here exactly when it fails in the run.
 
 use crate::compare::{self, Assessment, Tolerance};
-use crate::eval::{bits_to_f64, format_value, ScalarKind};
+use crate::eval::{format_value, ScalarKind};
 use crate::gate::{self, Evaluated};
 use crate::golden;
 use crate::suite::{Check, Suite};
@@ -46,19 +46,10 @@ impl CheckPoints {
     /// What `check`'s comparisons expect of an evaluation already made.
     pub fn judge(suite: &Suite, check: &Check, ev: Evaluated) -> Result<CheckPoints, String> {
         let half = ev.outputs.iter().any(|(_, k)| *k == ScalarKind::F16);
-        let got = columns_f64(&ev.output_columns, &ev.outputs);
+        let got = gate::as_f64(&ev.output_columns, &ev.outputs);
         let mut expected = Vec::new();
         if let Some(model) = check.reference {
-            if model.outputs != got.len() {
-                return Err(format!(
-                    "check `{}`: `{}` returns {} value(s) but reference `{}` gives {}",
-                    check.name,
-                    check.function,
-                    got.len(),
-                    model.name,
-                    model.outputs
-                ));
-            }
+            gate::reference_fits(check, model, got.len())?;
             expected.push(Expected {
                 kind: "reference",
                 against: format!("reference {}", model.name),
@@ -72,7 +63,7 @@ impl CheckPoints {
                 expected.push(Expected {
                     kind: "golden",
                     against: format!("golden {}", gpath.display()),
-                    want: columns_f64(&g.output_columns, &g.outputs),
+                    want: gate::as_f64(&g.output_columns, &g.outputs),
                     tolerance: check.golden_tolerance.clone(),
                 });
             }
@@ -185,27 +176,11 @@ fn number(x: f64) -> String {
     }
 }
 
-fn columns_f64(cols: &[Vec<u32>], kinds: &[(String, ScalarKind)]) -> Vec<Vec<f64>> {
-    cols.iter()
-        .zip(kinds)
-        .map(|(c, (_, k))| c.iter().map(|&b| bits_to_f64(*k, b)).collect())
-        .collect()
-}
-
 /// The sweep parameters of `check` that neither the function's arguments nor the
 /// reference's parameters use, each with its number of values (the factor it multiplies
 /// the point count by). Loads and compiles the shader to learn the function's arguments.
 pub fn unused_parameters(suite: &Suite, check: &Check) -> Result<Vec<(String, usize)>, String> {
-    let shader = crate::wgsl::Shader::load_with(&suite.resolve(&check.shader), &suite.limits)
-        .map_err(|d| d.rendered)?;
-    let program = crate::eval::Program::compile_limited(
-        &shader,
-        &check.function,
-        &check.overrides,
-        check.arithmetic,
-        &suite.limits,
-    )
-    .map_err(|d| d.rendered)?;
+    let program = gate::build_of(suite, check, None)?.program()?;
     let mut used: Vec<String> = Vec::new();
     let mut use_binding =
         |name: &str, exprs: &std::collections::BTreeMap<String, crate::sweep::Expr>| match exprs

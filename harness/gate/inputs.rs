@@ -311,6 +311,18 @@ pub fn reference_columns(
     Ok(out)
 }
 
+/// A reference model must give as many values as the function returns;
+/// otherwise the check cannot be compared and this says why.
+pub fn reference_fits(check: &Check, model: &Model, outputs: usize) -> Result<(), String> {
+    if model.outputs == outputs {
+        return Ok(());
+    }
+    Err(format!(
+        "check `{}`: `{}` returns {} value(s) but reference `{}` gives {}",
+        check.name, check.function, outputs, model.name, model.outputs
+    ))
+}
+
 /// Output columns in the evaluator's encoding as f64 columns.
 pub fn as_f64(cols: &[Vec<u32>], kinds: &[(String, ScalarKind)]) -> Vec<Vec<f64>> {
     cols.par_iter()

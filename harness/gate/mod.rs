@@ -22,8 +22,8 @@ pub mod run;
 pub mod table;
 
 pub use inputs::{
-    as_f64, build_of, evaluate, points_of, reference_arg_columns, reference_columns, Build,
-    Evaluated,
+    as_f64, build_of, evaluate, points_of, reference_arg_columns, reference_columns,
+    reference_fits, Build, Evaluated,
 };
 pub use record::record;
 pub use result::{

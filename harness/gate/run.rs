@@ -8,7 +8,9 @@ use std::time::Instant;
 use super::explain::{
     self, backend_agreement, failing_points, group_issues, Context, Evidence, Explainer, Reevaluate,
 };
-use super::inputs::{as_f64, evaluate, reference_arg_columns, reference_columns, Build};
+use super::inputs::{
+    as_f64, evaluate, reference_arg_columns, reference_columns, reference_fits, Build,
+};
 use super::oracle;
 use super::result::{
     CheckResult, Comparison, Finding, FindingKind, IssueGroup, RunResult, Verdict,
@@ -228,16 +230,7 @@ fn run_inner(
     let got = as_f64(&ev.output_columns, &ev.outputs);
     r.issues = group_issues(&ev.issues, &check.shader, &ev.points);
     if let Some(model) = check.reference {
-        if model.outputs != got.len() {
-            return Err(format!(
-                "check `{}`: `{}` returns {} value(s) but reference `{}` gives {}",
-                check.name,
-                check.function,
-                got.len(),
-                model.name,
-                model.outputs
-            ));
-        }
+        reference_fits(check, model, got.len())?;
         check_tolerance(suite, check, &check.tolerance, "tolerance", got.len())?;
         let want = reference_columns(check, model, &ev.points, &check.reference_args)?;
         let (c, findings) = comparison(
