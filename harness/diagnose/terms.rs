@@ -678,46 +678,22 @@ static DECOMPOSITIONS: &[Decomposition] = &[
     Decomposition {
         model: "cook_torrance_burley_rgb",
         knobs: CT_BURLEY_KNOBS,
-        eval: |a, v, o| {
-            let m = CookTorrance {
-                diffuse: DiffuseKind::Burley,
-                ..CookTorrance::STANDARD
-            };
-            ct(&m, a, v, o)
-        },
+        eval: |a, v, o| ct(&CookTorrance::BURLEY, a, v, o),
     },
     Decomposition {
         model: "cook_torrance_f90_from_f0_rgb",
         knobs: CT_KNOBS,
-        eval: |a, v, o| {
-            let m = CookTorrance {
-                fresnel: FresnelKind::SchlickF90FromF0,
-                ..CookTorrance::STANDARD
-            };
-            ct(&m, a, v, o)
-        },
+        eval: |a, v, o| ct(&CookTorrance::F90_FROM_F0, a, v, o),
     },
     Decomposition {
         model: "cook_torrance_fast_rgb",
         knobs: CT_KNOBS,
-        eval: |a, v, o| {
-            let m = CookTorrance {
-                masking: MaskingKind::GgxHeightCorrelatedFast,
-                ..CookTorrance::STANDARD
-            };
-            ct(&m, a, v, o)
-        },
+        eval: |a, v, o| ct(&CookTorrance::FAST_VISIBILITY, a, v, o),
     },
     Decomposition {
         model: "cook_torrance_beckmann_rgb",
         knobs: CT_KNOBS,
-        eval: |a, v, o| {
-            let m = CookTorrance {
-                ndf: NdfKind::Beckmann,
-                ..CookTorrance::STANDARD
-            };
-            ct(&m, a, v, o)
-        },
+        eval: |a, v, o| ct(&CookTorrance::BECKMANN, a, v, o),
     },
     Decomposition {
         model: "cook_torrance_specular",

@@ -160,6 +160,30 @@ impl CookTorrance {
         ..CookTorrance::STANDARD
     };
 
+    /// [`CookTorrance::STANDARD`] with Burley's diffuse in place of Lambert's.
+    pub const BURLEY: CookTorrance = CookTorrance {
+        diffuse: DiffuseKind::Burley,
+        ..CookTorrance::STANDARD
+    };
+
+    /// [`CookTorrance::STANDARD`] with Schlick's F90 derived from F0.
+    pub const F90_FROM_F0: CookTorrance = CookTorrance {
+        fresnel: FresnelKind::SchlickF90FromF0,
+        ..CookTorrance::STANDARD
+    };
+
+    /// [`CookTorrance::STANDARD`] with the square-root-free height-correlated visibility.
+    pub const FAST_VISIBILITY: CookTorrance = CookTorrance {
+        masking: MaskingKind::GgxHeightCorrelatedFast,
+        ..CookTorrance::STANDARD
+    };
+
+    /// [`CookTorrance::STANDARD`] with Beckmann's NDF (and its height-correlated Smith).
+    pub const BECKMANN: CookTorrance = CookTorrance {
+        ndf: NdfKind::Beckmann,
+        ..CookTorrance::STANDARD
+    };
+
     /// The chosen NDF at `n·h` and `alpha`.
     pub fn distribution(&self, n_dot_h: f64, alpha: f64) -> f64 {
         match self.ndf {

@@ -934,13 +934,7 @@ static MODELS: &[Model] = &[
         citation: COOK_TORRANCE,
         params: &[N, V, L, BASE_COLOR, METALLIC, ROUGHNESS],
         outputs: 3,
-        eval: |a, o| {
-            let m = brdf::CookTorrance {
-                diffuse: brdf::DiffuseKind::Burley,
-                ..brdf::CookTorrance::STANDARD
-            };
-            eval_cook_torrance(&m, a, o)
-        },
+        eval: |a, o| eval_cook_torrance(&brdf::CookTorrance::BURLEY, a, o),
         example: &EX_BRDF,
     },
     Model {
@@ -950,13 +944,7 @@ static MODELS: &[Model] = &[
         citation: COOK_TORRANCE,
         params: &[N, V, L, BASE_COLOR, METALLIC, ROUGHNESS],
         outputs: 3,
-        eval: |a, o| {
-            let m = brdf::CookTorrance {
-                fresnel: brdf::FresnelKind::SchlickF90FromF0,
-                ..brdf::CookTorrance::STANDARD
-            };
-            eval_cook_torrance(&m, a, o)
-        },
+        eval: |a, o| eval_cook_torrance(&brdf::CookTorrance::F90_FROM_F0, a, o),
         example: &EX_BRDF,
     },
     Model {
@@ -966,13 +954,7 @@ static MODELS: &[Model] = &[
         citation: COOK_TORRANCE,
         params: &[N, V, L, BASE_COLOR, METALLIC, ROUGHNESS],
         outputs: 3,
-        eval: |a, o| {
-            let m = brdf::CookTorrance {
-                masking: brdf::MaskingKind::GgxHeightCorrelatedFast,
-                ..brdf::CookTorrance::STANDARD
-            };
-            eval_cook_torrance(&m, a, o)
-        },
+        eval: |a, o| eval_cook_torrance(&brdf::CookTorrance::FAST_VISIBILITY, a, o),
         example: &EX_BRDF,
     },
     Model {
@@ -982,13 +964,7 @@ static MODELS: &[Model] = &[
         citation: COOK_TORRANCE,
         params: &[N, V, L, BASE_COLOR, METALLIC, ROUGHNESS],
         outputs: 3,
-        eval: |a, o| {
-            let m = brdf::CookTorrance {
-                ndf: brdf::NdfKind::Beckmann,
-                ..brdf::CookTorrance::STANDARD
-            };
-            eval_cook_torrance(&m, a, o)
-        },
+        eval: |a, o| eval_cook_torrance(&brdf::CookTorrance::BECKMANN, a, o),
         example: &EX_BRDF,
     },
     Model {
