@@ -3,21 +3,12 @@
 //! and compared (and refused under CI), and the eval/compare/list/models/ledger
 //! subcommands.
 
-use std::path::{Path, PathBuf};
+use crate::common::shadegate;
+use std::path::PathBuf;
 use std::process::{Command, Output};
 
 fn root() -> PathBuf {
     PathBuf::from(env!("CARGO_MANIFEST_DIR"))
-}
-
-fn shadegate(args: &[&str], dir: &Path) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_shadegate"))
-        .args(args)
-        .current_dir(dir)
-        .env_remove("CI")
-        .env("NO_COLOR", "1")
-        .output()
-        .expect("run shadegate")
 }
 
 fn code(o: &Output) -> i32 {

@@ -12,13 +12,7 @@ fn root() -> PathBuf {
 }
 
 fn shadegate(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_shadegate"))
-        .args(args)
-        .current_dir(root())
-        .env_remove("CI")
-        .env("NO_COLOR", "1")
-        .output()
-        .expect("run shadegate")
+    crate::common::shadegate(args, &root())
 }
 
 fn text(b: &[u8]) -> String {

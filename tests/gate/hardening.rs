@@ -5,8 +5,9 @@
 //! from the defect's description. Limits come from `shadegate::limits`.
 
 use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
+use std::process::Command;
 
+use crate::common::shadegate;
 use shadegate::golden;
 use shadegate::limits::{Limit, Limits};
 use shadegate::suite;
@@ -33,16 +34,6 @@ fn project(test: &str, suite: &str) -> PathBuf {
     std::fs::write(dir.join("lib.wgsl"), SHADER).unwrap();
     std::fs::write(dir.join("shadegate.toml"), suite).unwrap();
     dir
-}
-
-fn shadegate(args: &[&str], dir: &Path) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_shadegate"))
-        .args(args)
-        .current_dir(dir)
-        .env_remove("CI")
-        .env("NO_COLOR", "1")
-        .output()
-        .expect("run shadegate")
 }
 
 /// A golden check of `twice` with the given extra keys.

@@ -2,6 +2,7 @@
 
 mod cli;
 mod cli_extra;
+mod common;
 mod demo;
 mod diagnose;
 mod golden;
