@@ -326,8 +326,8 @@ impl Drop for TmpGuard {
 
 /// Replace `path` with `text` through a temporary file in the same folder:
 /// the file is either the old one or the complete new one, and the temporary
-/// file is removed on every failure. The building block of [`write`] and
-/// [`write_in`], without their refusal under `CI` (which is the record
+/// file is removed on every failure. The building block of [`write()`] and
+/// [`write_in()`], without their refusal under `CI` (which is the record
 /// command's policy, not the file system's).
 pub fn replace(path: &Path, text: &str) -> Result<(), String> {
     let tmp = tmp_path(path);
