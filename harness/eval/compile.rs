@@ -15,8 +15,8 @@ use naga::{
     Statement as S, TypeInner,
 };
 
-use super::ir::{Case, Code, Kernel, Op, Site, Slot};
-use super::lanes::*;
+use super::ir::{Case, Code, Op, Site, Slot};
+use super::lanes::Opcode;
 use super::perturb::{Bound, Perturb};
 use super::ty::{ScalarKind as K, Ty};
 use crate::arith;
@@ -69,6 +69,24 @@ struct Frame<'m> {
 }
 
 type R<T> = Result<T, Diagnostic>;
+
+/// What one [`Op::Kernel`] computes: an opcode and whether its f16 version
+/// (the result rounded to binary16) is meant.
+#[derive(Clone, Copy)]
+struct LaneOp {
+    op: Opcode,
+    half: bool,
+}
+
+/// The f32 (or integer, or boolean) form of `op`.
+fn plain(op: Opcode) -> LaneOp {
+    LaneOp { op, half: false }
+}
+
+/// The f16 version of `op`: computed in f32, the result rounded to binary16.
+fn half(op: Opcode) -> LaneOp {
+    LaneOp { op, half: true }
+}
 
 pub struct Compiler<'m> {
     shader: &'m Shader,
@@ -360,13 +378,15 @@ impl<'m> Compiler<'m> {
         dst
     }
 
-    fn k1(&mut self, out: &mut Vec<Op>, k: K1, a: Slot, what: &str) -> Slot {
+    fn k1(&mut self, out: &mut Vec<Op>, k: LaneOp, a: Slot, what: &str) -> Slot {
+        debug_assert_eq!(k.op.arity(), 1, "{:?}", k.op);
         let dst = self.slot();
         let at = self.site(what);
         self.emit(
             out,
             Op::Kernel {
-                kernel: Kernel::Unary(k),
+                op: k.op,
+                half: k.half,
                 dst,
                 args: [a, 0, 0, 0],
                 at,
@@ -375,13 +395,15 @@ impl<'m> Compiler<'m> {
         dst
     }
 
-    fn k2(&mut self, out: &mut Vec<Op>, k: K2, a: Slot, b: Slot, what: &str) -> Slot {
+    fn k2(&mut self, out: &mut Vec<Op>, k: LaneOp, a: Slot, b: Slot, what: &str) -> Slot {
+        debug_assert_eq!(k.op.arity(), 2, "{:?}", k.op);
         let dst = self.slot();
         let at = self.site(what);
         self.emit(
             out,
             Op::Kernel {
-                kernel: Kernel::Binary(k),
+                op: k.op,
+                half: k.half,
                 dst,
                 args: [a, b, 0, 0],
                 at,
@@ -390,13 +412,15 @@ impl<'m> Compiler<'m> {
         dst
     }
 
-    fn k3(&mut self, out: &mut Vec<Op>, k: K3, a: Slot, b: Slot, c: Slot, what: &str) -> Slot {
+    fn k3(&mut self, out: &mut Vec<Op>, k: LaneOp, a: Slot, b: Slot, c: Slot, what: &str) -> Slot {
+        debug_assert_eq!(k.op.arity(), 3, "{:?}", k.op);
         let dst = self.slot();
         let at = self.site(what);
         self.emit(
             out,
             Op::Kernel {
-                kernel: Kernel::Ternary(k),
+                op: k.op,
+                half: k.half,
                 dst,
                 args: [a, b, c, 0],
                 at,
@@ -1321,11 +1345,11 @@ impl<'m> Compiler<'m> {
             checked
         } else {
             let s = self.fill(out, stride as u32);
-            self.k2(out, run2::<IMul>, checked, s, "")
+            self.k2(out, plain(Opcode::IMul), checked, s, "")
         };
         match prev {
             None => scaled,
-            Some(p) => self.k2(out, run2::<IAdd>, p, scaled, ""),
+            Some(p) => self.k2(out, plain(Opcode::IAdd), p, scaled, ""),
         }
     }
 
@@ -1373,12 +1397,12 @@ impl<'m> Compiler<'m> {
         let k =
             v.ty.scalar_kind()
                 .ok_or_else(|| self.err("unary operator on a composite"))?;
-        let (kern, what): (K1, &str) = match (op, k) {
-            (naga::UnaryOperator::Negate, K::F32) => (run1::<FNeg>, "negation"),
-            (naga::UnaryOperator::Negate, K::F16) => (run1::<FNeg>, "negation"),
-            (naga::UnaryOperator::Negate, K::I32) => (run1::<INeg>, ""),
-            (naga::UnaryOperator::LogicalNot, K::Bool) => (run1::<BNot>, ""),
-            (naga::UnaryOperator::BitwiseNot, K::I32 | K::U32) => (run1::<UNot>, ""),
+        let (kern, what): (LaneOp, &str) = match (op, k) {
+            (naga::UnaryOperator::Negate, K::F32) => (plain(Opcode::FNeg), "negation"),
+            (naga::UnaryOperator::Negate, K::F16) => (plain(Opcode::FNeg), "negation"),
+            (naga::UnaryOperator::Negate, K::I32) => (plain(Opcode::INeg), ""),
+            (naga::UnaryOperator::LogicalNot, K::Bool) => (plain(Opcode::BNot), ""),
+            (naga::UnaryOperator::BitwiseNot, K::I32 | K::U32) => (plain(Opcode::UNot), ""),
             (op, k) => return Err(self.err(format!("unary {op:?} on {}", k.wgsl()))),
         };
         let slots = v
@@ -1392,49 +1416,49 @@ impl<'m> Compiler<'m> {
         })
     }
 
-    fn bin_kernel(&self, op: BO, k: K) -> R<(K2, &'static str)> {
+    fn bin_kernel(&self, op: BO, k: K) -> R<(LaneOp, &'static str)> {
         use K::*;
         Ok(match (op, k) {
-            (BO::Add, F32) => (run2::<FAdd>, "addition"),
-            (BO::Subtract, F32) => (run2::<FSub>, "subtraction"),
-            (BO::Multiply, F32) => (run2::<FMul>, "multiplication"),
-            (BO::Divide, F32) => (run2::<FDiv>, "division"),
-            (BO::Modulo, F32) => (run2::<FRem>, "remainder"),
-            (BO::Add, F16) => (run2::<H<FAdd>>, "addition"),
-            (BO::Subtract, F16) => (run2::<H<FSub>>, "subtraction"),
-            (BO::Multiply, F16) => (run2::<H<FMul>>, "multiplication"),
-            (BO::Divide, F16) => (run2::<H<FDiv>>, "division"),
+            (BO::Add, F32) => (plain(Opcode::FAdd), "addition"),
+            (BO::Subtract, F32) => (plain(Opcode::FSub), "subtraction"),
+            (BO::Multiply, F32) => (plain(Opcode::FMul), "multiplication"),
+            (BO::Divide, F32) => (plain(Opcode::FDiv), "division"),
+            (BO::Modulo, F32) => (plain(Opcode::FRem), "remainder"),
+            (BO::Add, F16) => (half(Opcode::FAdd), "addition"),
+            (BO::Subtract, F16) => (half(Opcode::FSub), "subtraction"),
+            (BO::Multiply, F16) => (half(Opcode::FMul), "multiplication"),
+            (BO::Divide, F16) => (half(Opcode::FDiv), "division"),
             // Inherited from e1 - e2 * trunc(e1 / e2), each step rounded to f16.
-            (BO::Modulo, F16) => (run2::<HRem>, "remainder"),
-            (BO::Equal, F32 | F16) => (run2::<FEq>, ""),
-            (BO::NotEqual, F32 | F16) => (run2::<FNe>, ""),
-            (BO::Less, F32 | F16) => (run2::<FLt>, ""),
-            (BO::LessEqual, F32 | F16) => (run2::<FLe>, ""),
-            (BO::Greater, F32 | F16) => (run2::<FGt>, ""),
-            (BO::GreaterEqual, F32 | F16) => (run2::<FGe>, ""),
-            (BO::Add, I32 | U32) => (run2::<IAdd>, ""),
-            (BO::Subtract, I32 | U32) => (run2::<ISub>, ""),
-            (BO::Multiply, I32 | U32) => (run2::<IMul>, ""),
-            (BO::Divide, I32) => (run2::<SDiv>, ""),
-            (BO::Modulo, I32) => (run2::<SRem>, ""),
-            (BO::Divide, U32) => (run2::<UDiv>, ""),
-            (BO::Modulo, U32) => (run2::<URem>, ""),
-            (BO::Equal, I32 | U32 | Bool) => (run2::<IEq>, ""),
-            (BO::NotEqual, I32 | U32 | Bool) => (run2::<INe>, ""),
-            (BO::Less, I32) => (run2::<SLt>, ""),
-            (BO::LessEqual, I32) => (run2::<SLe>, ""),
-            (BO::Greater, I32) => (run2::<SGt>, ""),
-            (BO::GreaterEqual, I32) => (run2::<SGe>, ""),
-            (BO::Less, U32) => (run2::<ULt>, ""),
-            (BO::LessEqual, U32) => (run2::<ULe>, ""),
-            (BO::Greater, U32) => (run2::<UGt>, ""),
-            (BO::GreaterEqual, U32) => (run2::<UGe>, ""),
-            (BO::And | BO::LogicalAnd, I32 | U32 | Bool) => (run2::<UAnd>, ""),
-            (BO::InclusiveOr | BO::LogicalOr, I32 | U32 | Bool) => (run2::<UOr>, ""),
-            (BO::ExclusiveOr, I32 | U32 | Bool) => (run2::<UXor>, ""),
-            (BO::ShiftLeft, I32 | U32) => (run2::<UShl>, ""),
-            (BO::ShiftRight, U32) => (run2::<UShr>, ""),
-            (BO::ShiftRight, I32) => (run2::<SShr>, ""),
+            (BO::Modulo, F16) => (plain(Opcode::HRem), "remainder"),
+            (BO::Equal, F32 | F16) => (plain(Opcode::FEq), ""),
+            (BO::NotEqual, F32 | F16) => (plain(Opcode::FNe), ""),
+            (BO::Less, F32 | F16) => (plain(Opcode::FLt), ""),
+            (BO::LessEqual, F32 | F16) => (plain(Opcode::FLe), ""),
+            (BO::Greater, F32 | F16) => (plain(Opcode::FGt), ""),
+            (BO::GreaterEqual, F32 | F16) => (plain(Opcode::FGe), ""),
+            (BO::Add, I32 | U32) => (plain(Opcode::IAdd), ""),
+            (BO::Subtract, I32 | U32) => (plain(Opcode::ISub), ""),
+            (BO::Multiply, I32 | U32) => (plain(Opcode::IMul), ""),
+            (BO::Divide, I32) => (plain(Opcode::SDiv), ""),
+            (BO::Modulo, I32) => (plain(Opcode::SRem), ""),
+            (BO::Divide, U32) => (plain(Opcode::UDiv), ""),
+            (BO::Modulo, U32) => (plain(Opcode::URem), ""),
+            (BO::Equal, I32 | U32 | Bool) => (plain(Opcode::IEq), ""),
+            (BO::NotEqual, I32 | U32 | Bool) => (plain(Opcode::INe), ""),
+            (BO::Less, I32) => (plain(Opcode::SLt), ""),
+            (BO::LessEqual, I32) => (plain(Opcode::SLe), ""),
+            (BO::Greater, I32) => (plain(Opcode::SGt), ""),
+            (BO::GreaterEqual, I32) => (plain(Opcode::SGe), ""),
+            (BO::Less, U32) => (plain(Opcode::ULt), ""),
+            (BO::LessEqual, U32) => (plain(Opcode::ULe), ""),
+            (BO::Greater, U32) => (plain(Opcode::UGt), ""),
+            (BO::GreaterEqual, U32) => (plain(Opcode::UGe), ""),
+            (BO::And | BO::LogicalAnd, I32 | U32 | Bool) => (plain(Opcode::UAnd), ""),
+            (BO::InclusiveOr | BO::LogicalOr, I32 | U32 | Bool) => (plain(Opcode::UOr), ""),
+            (BO::ExclusiveOr, I32 | U32 | Bool) => (plain(Opcode::UXor), ""),
+            (BO::ShiftLeft, I32 | U32) => (plain(Opcode::UShl), ""),
+            (BO::ShiftRight, U32) => (plain(Opcode::UShr), ""),
+            (BO::ShiftRight, I32) => (plain(Opcode::SShr), ""),
             (op, k) => return Err(self.err(format!("binary {op:?} on {}", k.wgsl()))),
         })
     }
@@ -1556,8 +1580,8 @@ impl<'m> Compiler<'m> {
     fn sum_products(
         &mut self,
         out: &mut Vec<Op>,
-        mul: K2,
-        add: K2,
+        mul: LaneOp,
+        add: LaneOp,
         terms: &[(Slot, Slot)],
     ) -> Slot {
         let mut acc = self.k2(out, mul, terms[0].0, terms[0].1, "multiplication");
@@ -1576,7 +1600,7 @@ impl<'m> Compiler<'m> {
                 } else {
                     c.slots[i]
                 };
-                self.k3(out, run3::<Select>, r.slots[i], a.slots[i], cs, "")
+                self.k3(out, plain(Opcode::Select), r.slots[i], a.slots[i], cs, "")
             })
             .collect();
         Val {
@@ -1589,10 +1613,10 @@ impl<'m> Compiler<'m> {
         use naga::RelationalFunction as RF;
         let slots = match fun {
             RF::All | RF::Any => {
-                let kern: K2 = if fun == RF::All {
-                    run2::<UAnd>
+                let kern: LaneOp = if fun == RF::All {
+                    plain(Opcode::UAnd)
                 } else {
-                    run2::<UOr>
+                    plain(Opcode::UOr)
                 };
                 let mut acc = v.slots[0];
                 for &s in &v.slots[1..] {
@@ -1606,12 +1630,12 @@ impl<'m> Compiler<'m> {
             RF::IsNan => v
                 .slots
                 .iter()
-                .map(|&s| self.k1(out, run1::<FIsNan>, s, ""))
+                .map(|&s| self.k1(out, plain(Opcode::FIsNan), s, ""))
                 .collect(),
             RF::IsInf => v
                 .slots
                 .iter()
-                .map(|&s| self.k1(out, run1::<FIsInf>, s, ""))
+                .map(|&s| self.k1(out, plain(Opcode::FIsInf), s, ""))
                 .collect(),
         };
         let n = v.slots.len() as u8;
@@ -1656,21 +1680,21 @@ impl<'m> Compiler<'m> {
             _ => return Err(self.unsupported(&format!("conversion to {kind:?}{width}"))),
         };
         use K::*;
-        let kern: Option<K1> = match (from, to) {
+        let kern: Option<LaneOp> = match (from, to) {
             (a, b) if a == b => None,
             (I32, U32) | (U32, I32) => None,
-            (F32, F16) => Some(run1::<FToH>),
+            (F32, F16) => Some(plain(Opcode::FToH)),
             (F16, F32) => None,
-            (F32 | F16, I32) => Some(run1::<FToI>),
-            (F32 | F16, U32) => Some(run1::<FToU>),
-            (F32 | F16, Bool) => Some(run1::<FToB>),
-            (I32, F32) => Some(run1::<IToF>),
-            (U32, F32) => Some(run1::<UToF>),
-            (I32, F16) => Some(run1::<H<IToF>>),
-            (U32, F16) => Some(run1::<H<UToF>>),
-            (Bool, F32 | F16) => Some(run1::<BToF>),
-            (I32 | U32, Bool) => Some(run1::<IToB>),
-            (Bool, I32 | U32) => Some(run1::<BToI>),
+            (F32 | F16, I32) => Some(plain(Opcode::FToI)),
+            (F32 | F16, U32) => Some(plain(Opcode::FToU)),
+            (F32 | F16, Bool) => Some(plain(Opcode::FToB)),
+            (I32, F32) => Some(plain(Opcode::IToF)),
+            (U32, F32) => Some(plain(Opcode::UToF)),
+            (I32, F16) => Some(half(Opcode::IToF)),
+            (U32, F16) => Some(half(Opcode::UToF)),
+            (Bool, F32 | F16) => Some(plain(Opcode::BToF)),
+            (I32 | U32, Bool) => Some(plain(Opcode::IToB)),
+            (Bool, I32 | U32) => Some(plain(Opcode::BToI)),
             _ => {
                 return Err(self.unsupported(&format!(
                     "conversion {} -> {}",
@@ -1767,35 +1791,32 @@ impl<'m> Compiler<'m> {
             }
         };
         macro_rules! fk1 {
-            ($t:ty) => {
-                if f16 {
-                    run1::<H<$t>> as K1
-                } else {
-                    run1::<$t> as K1
+            ($t:ident) => {
+                LaneOp {
+                    op: Opcode::$t,
+                    half: f16,
                 }
             };
         }
         macro_rules! fk2 {
-            ($t:ty) => {
-                if f16 {
-                    run2::<H<$t>> as K2
-                } else {
-                    run2::<$t> as K2
+            ($t:ident) => {
+                LaneOp {
+                    op: Opcode::$t,
+                    half: f16,
                 }
             };
         }
         macro_rules! fk3 {
-            ($t:ty) => {
-                if f16 {
-                    run3::<H<$t>> as K3
-                } else {
-                    run3::<$t> as K3
+            ($t:ident) => {
+                LaneOp {
+                    op: Opcode::$t,
+                    half: f16,
                 }
             };
         }
         let name = wgsl_builtin_name(fun);
         let name = name.as_str();
-        let unary = |c: &mut Self, out: &mut Vec<Op>, kern: K1| -> Val {
+        let unary = |c: &mut Self, out: &mut Vec<Op>, kern: LaneOp| -> Val {
             let what = if k.is_float() { name } else { "" };
             Val {
                 ty: ty.clone(),
@@ -1816,41 +1837,41 @@ impl<'m> Compiler<'m> {
             self.perturb(out, &v.slots, &args[0].slots, spec_bound(fun, f16), f16);
             return Ok(v);
         }
-        let int1: Option<K1> = match (fun, k) {
-            (MF::Abs, K::I32) => Some(run1::<IAbs>),
+        let int1: Option<LaneOp> = match (fun, k) {
+            (MF::Abs, K::I32) => Some(plain(Opcode::IAbs)),
             (MF::Abs, K::U32) => {
                 return Ok(Val {
                     ty: ty.clone(),
                     slots: args[0].slots.clone(),
                 })
             }
-            (MF::Sign, K::I32) => Some(run1::<ISign>),
-            (MF::CountOneBits, K::I32 | K::U32) => Some(run1::<UCountOnes>),
-            (MF::CountLeadingZeros, K::I32 | K::U32) => Some(run1::<UClz>),
-            (MF::CountTrailingZeros, K::I32 | K::U32) => Some(run1::<UCtz>),
-            (MF::ReverseBits, K::I32 | K::U32) => Some(run1::<UReverse>),
-            (MF::FirstLeadingBit, K::U32) => Some(run1::<UFirstLeading>),
-            (MF::FirstLeadingBit, K::I32) => Some(run1::<IFirstLeading>),
-            (MF::FirstTrailingBit, K::I32 | K::U32) => Some(run1::<UFirstTrailing>),
+            (MF::Sign, K::I32) => Some(plain(Opcode::ISign)),
+            (MF::CountOneBits, K::I32 | K::U32) => Some(plain(Opcode::UCountOnes)),
+            (MF::CountLeadingZeros, K::I32 | K::U32) => Some(plain(Opcode::UClz)),
+            (MF::CountTrailingZeros, K::I32 | K::U32) => Some(plain(Opcode::UCtz)),
+            (MF::ReverseBits, K::I32 | K::U32) => Some(plain(Opcode::UReverse)),
+            (MF::FirstLeadingBit, K::U32) => Some(plain(Opcode::UFirstLeading)),
+            (MF::FirstLeadingBit, K::I32) => Some(plain(Opcode::IFirstLeading)),
+            (MF::FirstTrailingBit, K::I32 | K::U32) => Some(plain(Opcode::UFirstTrailing)),
             _ => None,
         };
         if let Some(kern) = int1 {
             return Ok(unary(self, out, kern));
         }
         // Component-wise binary and ternary built-ins (scalars broadcast).
-        let bin: Option<(K2, &str)> = match (fun, k) {
+        let bin: Option<(LaneOp, &str)> = match (fun, k) {
             (MF::Min, K::F32 | K::F16) => Some((fk2!(FMin), "min")),
             (MF::Max, K::F32 | K::F16) => Some((fk2!(FMax), "max")),
-            (MF::Min, K::I32) => Some((run2::<SMin>, "")),
-            (MF::Max, K::I32) => Some((run2::<SMax>, "")),
-            (MF::Min, K::U32) => Some((run2::<UMin>, "")),
-            (MF::Max, K::U32) => Some((run2::<UMax>, "")),
+            (MF::Min, K::I32) => Some((plain(Opcode::SMin), "")),
+            (MF::Max, K::I32) => Some((plain(Opcode::SMax), "")),
+            (MF::Min, K::U32) => Some((plain(Opcode::UMin), "")),
+            (MF::Max, K::U32) => Some((plain(Opcode::UMax), "")),
             (MF::Atan2, K::F32 | K::F16) => Some((fk2!(FAtan2), "atan2")),
             (MF::Pow, K::F32 | K::F16) => Some((fk2!(FPow), "pow")),
             (MF::Step, K::F32 | K::F16) => Some((fk2!(FStep), "")),
             (MF::Ldexp, K::F32 | K::F16) => Some((fk2!(FLdexp), "ldexp")),
-            (MF::Dot4I8Packed, _) => Some((run2::<IDot4I8>, "")),
-            (MF::Dot4U8Packed, _) => Some((run2::<IDot4U8>, "")),
+            (MF::Dot4I8Packed, _) => Some((plain(Opcode::IDot4I8), "")),
+            (MF::Dot4U8Packed, _) => Some((plain(Opcode::IDot4U8), "")),
             _ => None,
         };
         if let Some((kern, what)) = bin {
@@ -1866,19 +1887,19 @@ impl<'m> Compiler<'m> {
                 slots,
             });
         }
-        let tern: Option<(K3, &str)> = match (fun, k) {
+        let tern: Option<(LaneOp, &str)> = match (fun, k) {
             (MF::Clamp, K::F32 | K::F16) => Some((fk3!(FClamp), "clamp")),
-            (MF::Clamp, K::I32) => Some((run3::<SClamp>, "")),
-            (MF::Clamp, K::U32) => Some((run3::<UClamp>, "")),
-            (MF::Mix, K::F32) => Some((run3::<FMix>, "mix")),
-            (MF::SmoothStep, K::F32) => Some((run3::<FSmooth>, "smoothstep")),
+            (MF::Clamp, K::I32) => Some((plain(Opcode::SClamp), "")),
+            (MF::Clamp, K::U32) => Some((plain(Opcode::UClamp), "")),
+            (MF::Mix, K::F32) => Some((plain(Opcode::FMix), "mix")),
+            (MF::SmoothStep, K::F32) => Some((plain(Opcode::FSmooth), "smoothstep")),
             // The f16 forms round after every step of the spec's formula.
-            (MF::Mix, K::F16) => Some((run3::<HMix>, "mix")),
-            (MF::SmoothStep, K::F16) => Some((run3::<HSmooth>, "smoothstep")),
-            (MF::Fma, K::F32) => Some((run3::<FFma>, "fma")),
-            (MF::Fma, K::F16) => Some((run3::<HFma>, "fma")),
-            (MF::ExtractBits, K::U32) => Some((run3::<UExtract>, "")),
-            (MF::ExtractBits, K::I32) => Some((run3::<SExtract>, "")),
+            (MF::Mix, K::F16) => Some((plain(Opcode::HMix), "mix")),
+            (MF::SmoothStep, K::F16) => Some((plain(Opcode::HSmooth), "smoothstep")),
+            (MF::Fma, K::F32) => Some((plain(Opcode::FFma), "fma")),
+            (MF::Fma, K::F16) => Some((plain(Opcode::HFma), "fma")),
+            (MF::ExtractBits, K::U32) => Some((plain(Opcode::UExtract), "")),
+            (MF::ExtractBits, K::I32) => Some((plain(Opcode::SExtract), "")),
             _ => None,
         };
         if let Some((kern, what)) = tern {
@@ -1903,9 +1924,13 @@ impl<'m> Compiler<'m> {
         let (mul, add, sub) = if k.is_float() {
             (fk2!(FMul), fk2!(FAdd), fk2!(FSub))
         } else {
-            (run2::<IMul> as K2, run2::<IAdd> as K2, run2::<ISub> as K2)
+            (
+                plain(Opcode::IMul),
+                plain(Opcode::IAdd),
+                plain(Opcode::ISub),
+            )
         };
-        let (div, sqrt): (K2, K1) = (fk2!(FDiv), fk1!(FSqrt));
+        let (div, sqrt): (LaneOp, LaneOp) = (fk2!(FDiv), fk1!(FSqrt));
         let scalar = |s: Slot| Val {
             ty: ty.clone(),
             slots: vec![s],
@@ -1921,7 +1946,8 @@ impl<'m> Compiler<'m> {
                     self.emit(
                         out,
                         Op::Kernel {
-                            kernel: Kernel::Quaternary(run4::<UInsert>),
+                            op: Opcode::UInsert,
+                            half: false,
                             dst: d,
                             args: [
                                 pick(&args[0], i),
@@ -2009,13 +2035,13 @@ impl<'m> Compiler<'m> {
                     .collect();
                 let d = self.sum_products(out, mul, add, &terms);
                 let zero = self.fill(out, 0);
-                let neg = self.k2(out, run2::<FLt>, d, zero, "");
+                let neg = self.k2(out, plain(Opcode::FLt), d, zero, "");
                 let slots = args[0]
                     .slots
                     .iter()
                     .map(|&e| {
-                        let m = self.k1(out, run1::<FNeg>, e, "");
-                        self.k3(out, run3::<Select>, m, e, neg, "")
+                        let m = self.k1(out, plain(Opcode::FNeg), e, "");
+                        self.k3(out, plain(Opcode::Select), m, e, neg, "")
                     })
                     .collect();
                 Val {
@@ -2057,7 +2083,7 @@ impl<'m> Compiler<'m> {
                 let ee = self.k2(out, mul, eta, eta, "multiplication");
                 let eeo = self.k2(out, mul, ee, omd, "multiplication");
                 let kk = self.k2(out, sub, one, eeo, "subtraction");
-                let neg = self.k2(out, run2::<FLt>, kk, zero, "");
+                let neg = self.k2(out, plain(Opcode::FLt), kk, zero, "");
                 // sqrt(k) only matters where k >= 0; not traced for NaN.
                 let sq = self.k1(out, sqrt, kk, "");
                 let ed = self.k2(out, mul, eta, d, "multiplication");
@@ -2067,7 +2093,7 @@ impl<'m> Compiler<'m> {
                         let a = self.k2(out, mul, eta, args[0].slots[i], "");
                         let b = self.k2(out, mul, coef, args[1].slots[i], "");
                         let r = self.k2(out, sub, a, b, "");
-                        self.k3(out, run3::<Select>, r, zero, neg, "")
+                        self.k3(out, plain(Opcode::Select), r, zero, neg, "")
                     })
                     .collect();
                 Val {
@@ -2237,9 +2263,9 @@ impl<'m> Compiler<'m> {
         m: &[Slot],
         dim: usize,
         rows: Vec<usize>,
-        mul: K2,
-        add: K2,
-        sub: K2,
+        mul: LaneOp,
+        add: LaneOp,
+        sub: LaneOp,
     ) -> Slot {
         let col = dim - rows.len();
         let at = |r: usize, c: usize| m[c * dim + r];
@@ -2325,13 +2351,12 @@ fn wgsl_builtin_name(fun: MF) -> String {
 }
 
 /// Kernel of a one-argument float built-in, f16 variants rounding every result.
-fn float_unary(fun: MF, f16: bool) -> Option<K1> {
+fn float_unary(fun: MF, f16: bool) -> Option<LaneOp> {
     macro_rules! fk {
-        ($t:ty) => {
-            if f16 {
-                run1::<H<$t>> as K1
-            } else {
-                run1::<$t> as K1
+        ($t:ident) => {
+            LaneOp {
+                op: Opcode::$t,
+                half: f16,
             }
         };
     }
@@ -2351,10 +2376,10 @@ fn float_unary(fun: MF, f16: bool) -> Option<K1> {
         MF::Acosh => fk!(FAcosh),
         MF::Atanh => fk!(FAtanh),
         // f16: the spec's constant is itself rounded to f16 (see `arith`).
-        MF::Radians if f16 => run1::<HRadians>,
-        MF::Degrees if f16 => run1::<HDegrees>,
-        MF::Radians => run1::<FRadians>,
-        MF::Degrees => run1::<FDegrees>,
+        MF::Radians if f16 => plain(Opcode::HRadians),
+        MF::Degrees if f16 => plain(Opcode::HDegrees),
+        MF::Radians => plain(Opcode::FRadians),
+        MF::Degrees => plain(Opcode::FDegrees),
         MF::Ceil => fk!(FCeil),
         MF::Floor => fk!(FFloor),
         MF::Round => fk!(FRound),
@@ -2367,7 +2392,7 @@ fn float_unary(fun: MF, f16: bool) -> Option<K1> {
         MF::Sign => fk!(FSign),
         MF::Sqrt => fk!(FSqrt),
         MF::InverseSqrt => fk!(FInvSqrt),
-        MF::QuantizeToF16 => run1::<FQuantize16>,
+        MF::QuantizeToF16 => plain(Opcode::FQuantize16),
         _ => return None,
     })
 }
