@@ -8,7 +8,7 @@ use crate::eval::lanes::Opcode;
 use crate::eval::ty::Ty;
 
 use super::unsupported::{derivative_name, global_name, sample_name};
-use super::{plain, Compiler, Frame, Item, Place, Val, R};
+use super::{plain, Compiler, Frame, Item, Place, Scope, Val, R};
 
 impl<'m> Compiler<'m> {
     pub(super) fn expr_cached(
@@ -32,12 +32,12 @@ impl<'m> Compiler<'m> {
         );
         let item = if constant {
             let mut pro = Vec::new();
-            let item = self.expr(frame, h, &mut pro)?;
+            let item = self.expr(&mut Scope::Function(frame), h, &mut pro)?;
             self.prologue.extend(pro);
             frame.cache.insert(h, item.clone());
             item
         } else {
-            let item = self.expr(frame, h, out)?;
+            let item = self.expr(&mut Scope::Function(frame), h, out)?;
             if matches!(
                 expr,
                 E::FunctionArgument(_) | E::LocalVariable(_) | E::GlobalVariable(_)
@@ -74,34 +74,106 @@ impl<'m> Compiler<'m> {
         }
     }
 
-    pub(super) fn expr(
+    /// The naga expression `h` of `scope`.
+    fn expression(&self, scope: &Scope<'_, 'm>, h: Handle<naga::Expression>) -> &'m E {
+        match scope {
+            Scope::Module => &self.module.global_expressions[h],
+            Scope::Function(frame) => &frame.func.expressions[h],
+        }
+    }
+
+    /// The type of expression `h` of `scope`.
+    fn scope_ty(&self, scope: &Scope<'_, 'm>, h: Handle<naga::Expression>) -> R<Ty> {
+        let resolution = match scope {
+            Scope::Module => &self.shader.info[h],
+            Scope::Function(frame) => &frame.info[h].ty,
+        };
+        match resolution {
+            naga::proc::TypeResolution::Handle(t) => self.ty_of_handle(*t, self.span),
+            naga::proc::TypeResolution::Value(inner) => self.ty_of_inner(inner, self.span),
+        }
+    }
+
+    /// The function an expression belongs to; an error at module scope.
+    fn frame_of<'s>(&self, scope: &'s mut Scope<'_, 'm>) -> R<&'s mut Frame<'m>> {
+        match scope {
+            Scope::Module => Err(self.unsupported("this expression at module scope")),
+            Scope::Function(frame) => Ok(frame),
+        }
+    }
+
+    /// An operand of an expression of `scope`, lowered (or found cached).
+    fn item(
         &mut self,
-        frame: &mut Frame<'m>,
+        scope: &mut Scope<'_, 'm>,
         h: Handle<naga::Expression>,
         out: &mut Vec<Op>,
     ) -> R<Item> {
-        let expr = &frame.func.expressions[h];
+        match scope {
+            Scope::Module => Ok(Item::Value(self.global_expr(h)?)),
+            Scope::Function(frame) => self.expr_cached(frame, h, out),
+        }
+    }
+
+    /// An operand of an expression of `scope` that must be a value.
+    pub(super) fn operand(
+        &mut self,
+        scope: &mut Scope<'_, 'm>,
+        h: Handle<naga::Expression>,
+        out: &mut Vec<Op>,
+    ) -> R<Val> {
+        match scope {
+            Scope::Module => self.global_expr(h),
+            Scope::Function(frame) => self.value(frame, h, out),
+        }
+    }
+
+    /// An operand of an expression of `scope` that must be a pointer.
+    fn place_in(
+        &mut self,
+        scope: &mut Scope<'_, 'm>,
+        h: Handle<naga::Expression>,
+        out: &mut Vec<Op>,
+    ) -> R<Place> {
+        match scope {
+            Scope::Module => Err(self.err("expected a pointer, found a value")),
+            Scope::Function(frame) => self.place(frame, h, out),
+        }
+    }
+
+    /// The one dispatcher over naga expressions, at module scope (constants,
+    /// overrides, private initialisers; `out` is then the prologue) and in
+    /// functions alike. Operands come through [`Compiler::operand`] and
+    /// [`Compiler::item`], which cache per scope; expressions that need a
+    /// function (arguments, locals, loads) are refused at module scope.
+    pub(super) fn expr(
+        &mut self,
+        scope: &mut Scope<'_, 'm>,
+        h: Handle<naga::Expression>,
+        out: &mut Vec<Op>,
+    ) -> R<Item> {
+        let expr = self.expression(scope, h);
         let v = match expr {
             E::Literal(l) => self.literal(out, l)?,
             E::Constant(c) => self.global_expr(self.module.constants[*c].init)?,
             E::Override(o) => self.override_val(*o)?,
             E::ZeroValue(_) => {
-                let ty = self.expr_ty(frame, h)?;
+                let ty = self.scope_ty(scope, h)?;
                 Val {
                     slots: (0..ty.leaf_count()).map(|_| self.fill(out, 0)).collect(),
                     ty,
                 }
             }
             E::Compose { components, .. } => {
-                let ty = self.expr_ty(frame, h)?;
+                let ty = self.scope_ty(scope, h)?;
                 let mut slots = Vec::new();
                 for &c in components {
-                    slots.extend(self.value(frame, c, out)?.slots);
+                    slots.extend(self.operand(scope, c, out)?.slots);
                 }
                 Val { ty, slots }
             }
             E::Splat { size, value } => {
-                let v = self.value(frame, *value, out)?;
+                let v = self.operand(scope, *value, out)?;
                 Val {
                     ty: Ty::Vector(*size as u8, v.ty.scalar_kind().unwrap()),
                     slots: vec![v.slots[0]; *size as usize],
@@ -112,7 +184,7 @@ impl<'m> Compiler<'m> {
                 vector,
                 pattern,
             } => {
-                let v = self.value(frame, *vector, out)?;
+                let v = self.operand(scope, *vector, out)?;
                 let k = v.ty.scalar_kind().unwrap();
                 let slots = pattern[..*size as usize]
                     .iter()
@@ -123,8 +195,9 @@ impl<'m> Compiler<'m> {
                     slots,
                 }
             }
-            E::FunctionArgument(i) => return Ok(frame.args[*i as usize].clone()),
+            E::FunctionArgument(i) => return Ok(self.frame_of(scope)?.args[*i as usize].clone()),
             E::LocalVariable(l) => {
+                let frame = self.frame_of(scope)?;
                 let region = frame.locals[l].clone();
                 let lv = &frame.func.local_variables[*l];
                 let ty = self.ty_of_handle(lv.ty, self.span)?;
@@ -156,10 +229,10 @@ impl<'m> Compiler<'m> {
                 }
             }
             E::Load { pointer } => {
-                let p = self.place(frame, *pointer, out)?;
+                let p = self.place_in(scope, *pointer, out)?;
                 self.load(out, &p)
             }
-            E::AccessIndex { base, index } => match self.expr_cached(frame, *base, out)? {
+            E::AccessIndex { base, index } => match self.item(scope, *base, out)? {
                 Item::Value(b) => self.access_index_val(&b, *index)?,
                 Item::Place(p) => {
                     let (ty, off) = self.member(&p.ty, *index)?;
@@ -171,8 +244,8 @@ impl<'m> Compiler<'m> {
                 }
             },
             E::Access { base, index } => {
-                let idx = self.value(frame, *index, out)?.slots[0];
-                match self.expr_cached(frame, *base, out)? {
+                let idx = self.operand(scope, *index, out)?.slots[0];
+                match self.item(scope, *base, out)? {
                     Item::Value(b) => {
                         let (ety, len) = self.element(&b.ty)?;
                         let n = ety.leaf_count();
@@ -204,14 +277,14 @@ impl<'m> Compiler<'m> {
                 }
             }
             E::Unary { op, expr } => {
-                let v = self.value(frame, *expr, out)?;
+                let v = self.operand(scope, *expr, out)?;
                 self.unary(out, *op, &v)?
             }
             E::Binary { op, left, right } => {
-                let ty = self.expr_ty(frame, h)?;
+                let ty = self.scope_ty(scope, h)?;
                 let (l, r) = (
-                    self.value(frame, *left, out)?,
-                    self.value(frame, *right, out)?,
+                    self.operand(scope, *left, out)?,
+                    self.operand(scope, *right, out)?,
                 );
                 self.binary(out, *op, &l, &r, &ty)?
             }
@@ -220,13 +293,13 @@ impl<'m> Compiler<'m> {
                 accept,
                 reject,
             } => {
-                let c = self.value(frame, *condition, out)?;
-                let a = self.value(frame, *accept, out)?;
-                let r = self.value(frame, *reject, out)?;
+                let c = self.operand(scope, *condition, out)?;
+                let a = self.operand(scope, *accept, out)?;
+                let r = self.operand(scope, *reject, out)?;
                 self.select(out, &c, &a, &r)
             }
             E::Relational { fun, argument } => {
-                let v = self.value(frame, *argument, out)?;
+                let v = self.operand(scope, *argument, out)?;
                 self.relational(out, *fun, &v)?
             }
             E::Math {
@@ -236,10 +309,10 @@ impl<'m> Compiler<'m> {
                 arg2,
                 arg3,
             } => {
-                let ty = self.expr_ty(frame, h)?;
-                let mut args = vec![self.value(frame, *arg, out)?];
+                let ty = self.scope_ty(scope, h)?;
+                let mut args = vec![self.operand(scope, *arg, out)?];
                 for a in [arg1, arg2, arg3].into_iter().flatten() {
-                    args.push(self.value(frame, *a, out)?);
+                    args.push(self.operand(scope, *a, out)?);
                 }
                 self.math(out, *fun, &args, &ty)?
             }
@@ -248,8 +321,8 @@ impl<'m> Compiler<'m> {
                 kind,
                 convert,
             } => {
-                let ty = self.expr_ty(frame, h)?;
-                let v = self.value(frame, *expr, out)?;
+                let ty = self.scope_ty(scope, h)?;
+                let v = self.operand(scope, *expr, out)?;
                 self.convert(out, &v, *kind, *convert, &ty)?
             }
             E::CallResult(_) => return Err(self.err("call result used before the call")),

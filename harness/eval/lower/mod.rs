@@ -58,6 +58,13 @@ enum Item {
     Place(Place),
 }
 
+/// Where an expression lives: module scope (constants, overrides, private
+/// initialisers, lowered once into the prologue) or a function being inlined.
+enum Scope<'f, 'm> {
+    Module,
+    Function(&'f mut Frame<'m>),
+}
+
 #[derive(Clone, Copy, Debug, PartialEq)]
 enum Role {
     Root,

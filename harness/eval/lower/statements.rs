@@ -9,7 +9,7 @@ use naga::{Handle, Statement as S};
 use crate::eval::ir::{Case, Op, Slot};
 
 use super::unsupported::{atomic_name, barrier_name};
-use super::{Compiler, Frame, Item, Place, Role, Val, R};
+use super::{Compiler, Frame, Item, Place, Role, Scope, Val, R};
 
 impl<'m> Compiler<'m> {
     pub(super) fn init_locals(&mut self, frame: &mut Frame<'m>, out: &mut Vec<Op>) -> R<()> {
@@ -94,7 +94,7 @@ impl<'m> Compiler<'m> {
                 for h in range.clone() {
                     let saved = self.span;
                     self.span = frame.func.expressions.get_span(h);
-                    let item = self.expr(frame, h, out)?;
+                    let item = self.expr(&mut Scope::Function(frame), h, out)?;
                     frame.cache.insert(h, item);
                     self.span = saved;
                 }
