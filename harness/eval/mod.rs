@@ -10,10 +10,10 @@
 //! [`bits_to_f64`] convert.
 
 mod batch;
-pub(crate) mod compile;
 pub(crate) mod exec;
 pub(crate) mod ir;
 pub(crate) mod lanes;
+pub(crate) mod lower;
 pub(crate) mod perturb;
 #[cfg(test)]
 mod tests;
@@ -128,7 +128,7 @@ impl Program {
             Arithmetic::Exact => (false, 0),
             Arithmetic::SpecBounds { seed } => (true, seed),
         };
-        let code = compile::Compiler::compile(shader, function, overrides, spec_bounds, limits)?;
+        let code = lower::Compiler::compile(shader, function, overrides, spec_bounds, limits)?;
         let code = Verified::new(code).map_err(|e| {
             Diagnostic::without_position(
                 &shader.path,
