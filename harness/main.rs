@@ -74,6 +74,11 @@ enum Command {
         /// (the default when the CI environment variable is set).
         #[arg(long)]
         deterministic: bool,
+        /// Add a precision analysis of each check's function to the report: which
+        /// lines carry the error, cancellations, hidden overflows, cures (slow:
+        /// one f64 shadow run and one re-run per line).
+        #[arg(long)]
+        precision: bool,
     },
     /// Record the golden datasets of a suite's checks (refused when CI is set).
     Record {
@@ -258,6 +263,7 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
             html,
             failing_points,
             deterministic,
+            precision,
         } => {
             let s = load_suite(&suite)?;
             warn_unused_parameters(&s, filter.as_deref());
@@ -281,6 +287,20 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
             } else {
                 report::Timings::Show
             };
+            let mut run = run;
+            if precision {
+                for r in run.checks.iter_mut().filter(|r| r.error.is_none()) {
+                    let Some(c) = s.checks.iter().find(|c| c.name == r.name) else {
+                        continue;
+                    };
+                    match shadegate::precision::of_check(&s, c) {
+                        Ok(a) => r.precision = Some(a),
+                        Err(e) => {
+                            eprintln!("warning: check `{}`: no precision analysis: {e}", r.name)
+                        }
+                    }
+                }
+            }
             let text = render_with(&run, format, output.is_some(), timings);
             if let Some(dir) = &failing_points {
                 write_failing_points(&s, &run, dir)?;

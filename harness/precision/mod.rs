@@ -49,7 +49,7 @@ use crate::eval::shadow::{self, Event, Mode, Observe};
 use crate::eval::{Program, ScalarKind};
 
 /// What the analysis measured over one sweep.
-#[derive(Clone, Debug, Serialize)]
+#[derive(Clone, Debug, PartialEq, Serialize)]
 pub struct Analysis {
     pub function: String,
     pub points: usize,
@@ -64,12 +64,14 @@ pub struct Analysis {
     /// error exactly.
     pub share_margin: f64,
     pub hints: Vec<Hint>,
+    /// Cancellation (bits) from which an evaluation is counted and reported.
+    pub cancel_bits: f64,
     /// Working values that differed from the normal evaluator's (none, unless
     /// the shadow executor is wrong).
     pub internal_errors: Vec<String>,
 }
 
-#[derive(Clone, Debug, Default, Serialize)]
+#[derive(Clone, Debug, Default, PartialEq, Serialize)]
 pub struct FinalError {
     /// Largest error in ULP of the output's type.
     pub max_ulp: f64,
@@ -86,7 +88,7 @@ pub struct FinalError {
 }
 
 /// One source line's operations and its share of the final error.
-#[derive(Clone, Debug, Serialize)]
+#[derive(Clone, Debug, PartialEq, Serialize)]
 pub struct Line {
     pub line: u32,
     pub text: String,
@@ -99,7 +101,7 @@ pub struct Line {
 
 /// One operation (one site: inlined calls give a site per call) over the
 /// sweep.
-#[derive(Clone, Debug, Serialize)]
+#[derive(Clone, Debug, PartialEq, Serialize)]
 pub struct OpStats {
     pub line: u32,
     pub column: u32,
@@ -113,7 +115,7 @@ pub struct OpStats {
     /// Largest cancellation (bits) and where: add/sub only.
     pub max_cancel_bits: f64,
     pub cancel_point: Option<Worst>,
-    /// Evaluations that cancelled 4 bits or more.
+    /// Evaluations that cancelled [`Analysis::cancel_bits`] bits or more.
     pub cancellations: usize,
     /// Largest relative error carried in the result (working vs f64).
     pub max_carried_rel: f64,
@@ -126,7 +128,7 @@ pub struct OpStats {
 }
 
 /// A point with its inputs and the measured value there.
-#[derive(Clone, Debug, Serialize)]
+#[derive(Clone, Debug, PartialEq, Serialize)]
 pub struct Worst {
     pub point: usize,
     pub inputs: String,
@@ -135,7 +137,7 @@ pub struct Worst {
     pub operands: Vec<f64>,
 }
 
-#[derive(Clone, Debug, Serialize)]
+#[derive(Clone, Debug, PartialEq, Serialize)]
 pub struct Overflow {
     /// Points where the working result overflowed (the f64 one is finite).
     pub count: usize,
@@ -147,7 +149,7 @@ pub struct Overflow {
     pub first: Worst,
 }
 
-#[derive(Clone, Debug, Serialize)]
+#[derive(Clone, Debug, PartialEq, Serialize)]
 pub struct Underflow {
     /// Points where the f64 result is below the smallest normal of the
     /// working type and the working one came out subnormal.
@@ -157,7 +159,7 @@ pub struct Underflow {
     pub first: Worst,
 }
 
-#[derive(Clone, Debug, Serialize)]
+#[derive(Clone, Debug, PartialEq, Serialize)]
 pub struct Amplifier {
     /// `pow with integral exponent n` or `division by a small denominator`.
     pub kind: String,
@@ -169,7 +171,7 @@ pub struct Amplifier {
     pub point: Worst,
 }
 
-#[derive(Clone, Debug, Serialize)]
+#[derive(Clone, Debug, PartialEq, Serialize)]
 pub struct Hint {
     pub line: u32,
     /// The cure, in words.
@@ -224,6 +226,15 @@ fn min_normal(half: bool) -> f64 {
     }
 }
 
+/// Unit roundoff of the working type (half its ULP at 1).
+fn eps(half: bool) -> f64 {
+    if half {
+        2f64.powi(-11)
+    } else {
+        2f64.powi(-24)
+    }
+}
+
 fn precision_bits(half: bool) -> f64 {
     if half {
         11.0
@@ -264,6 +275,7 @@ struct Acc {
 /// Collects events per site over a sweep.
 struct Collector {
     acc: Vec<Acc>,
+    cancel_bits: f64,
     start: usize,
     /// Per lane of the current batch: sites that overflowed, and the first
     /// operation that took an infinite operand to a finite result after.
@@ -306,7 +318,7 @@ impl Observe for Collector {
                 } else {
                     (m / e.w.abs()).log2().max(0.0)
                 };
-                if bits >= 4.0 {
+                if bits >= self.cancel_bits {
                     a.cancellations += 1;
                 }
                 if bits > a.max_cancel {
@@ -489,6 +501,7 @@ pub fn analyse(
 
     let mut col = Collector {
         acc: (0..code.sites.len()).map(|_| Acc::default()).collect(),
+        cancel_bits: opts.cancel_bits,
         start: 0,
         overflowed: vec![Vec::new(); LANES],
         absorbed: vec![None; LANES],
@@ -574,11 +587,20 @@ pub fn analyse(
         .collect();
     line_nums.sort_unstable();
     line_nums.dedup();
-    let all_exact = vec![true; sites.len()];
-    let truth = program.eval_values(inputs, &all_exact);
-    let none_exact = vec![false; sites.len()];
-    let emulated = program.eval_values(inputs, &none_exact);
-    let e_emul = mean(&capped_errors(&emulated, &truth, &kinds, n));
+    // The f64 model; without shares, the shadow stands for it (they differ
+    // only where an f64 comparison would have taken the other branch).
+    let truth = if opts.shares {
+        program.eval_f64(inputs)
+    } else {
+        shadowv.clone()
+    };
+    let e_emul = if opts.shares {
+        let none_exact = vec![false; sites.len()];
+        let emulated = program.eval_values(inputs, &none_exact);
+        mean(&capped_errors(&emulated, &truth, &kinds, n))
+    } else {
+        0.0
+    };
     let mut shares = Vec::new();
     for &ln in &line_nums {
         if !opts.shares || e_emul == 0.0 {
@@ -678,6 +700,7 @@ pub fn analyse(
         emulated_mean_rel: e_emul,
         share_margin: margin,
         hints,
+        cancel_bits: opts.cancel_bits,
         internal_errors: internal,
     })
 }
@@ -800,11 +823,12 @@ fn hints(
                     let from_dot = matches!(defs.get(&x), Some((Opcode::FAdd, _)));
                     let p = a.cancel_at.as_ref().map(|c| c.0).unwrap_or(0);
                     let evidence = format!(
-                        "`1 - x*x` on line {line} cancels up to {:.1} bits (at {}); {} of {} evaluations lose 4 bits or more",
+                        "`1 - x*x` on line {line} cancels up to {:.1} bits (at {}); {} of {} evaluations lose {} bits or more",
                         a.max_cancel,
                         describe(p),
                         a.cancellations,
-                        a.count
+                        a.count,
+                        opts.cancel_bits
                     );
                     if from_dot {
                         push(Hint {
@@ -906,15 +930,22 @@ pub fn text(a: &Analysis) -> String {
         );
         for o in &l.ops {
             let mut notes = Vec::new();
-            if o.max_cancel_bits >= 1.0 {
+            if o.max_cancel_bits >= a.cancel_bits {
                 let at = o
                     .cancel_point
                     .as_ref()
                     .map(|w| format!(" at {} (operands {:?})", w.inputs, w.operands))
                     .unwrap_or_default();
                 notes.push(format!(
-                    "cancels up to {:.1} bits{at}; {} evaluations lose 4 bits or more",
-                    o.max_cancel_bits, o.cancellations
+                    "cancels up to {:.1} bits{at}; {} evaluations lose {} bits or more{}",
+                    o.max_cancel_bits,
+                    o.cancellations,
+                    a.cancel_bits,
+                    if o.max_carried_rel == 0.0 {
+                        " (benign: the operands are exact, so is the difference)"
+                    } else {
+                        ""
+                    }
                 ));
             }
             if let Some(ov) = &o.overflow {
@@ -938,7 +969,11 @@ pub fn text(a: &Analysis) -> String {
                     u.first.value
                 ));
             }
-            if let Some(am) = &o.amplifier {
+            if let Some(am) = o
+                .amplifier
+                .as_ref()
+                .filter(|am| am.worst_rel > 16.0 * eps(o.half))
+            {
                 notes.push(if am.kind.starts_with("pow") {
                     format!(
                         "amplifier: {} multiplies its base's relative error by {}; the result's relative error reaches {:.3e} at {}",
@@ -988,4 +1023,95 @@ pub fn text(a: &Analysis) -> String {
         }
     }
     s
+}
+
+/// The analysis of a suite check's function over the check's sweep (what
+/// `run --precision` adds to each check).
+pub fn of_check(
+    suite: &crate::suite::Suite,
+    check: &crate::suite::Check,
+) -> Result<Analysis, String> {
+    let ev = crate::gate::evaluate(suite, check, None)?;
+    let cols: Vec<&[u32]> = ev.input_columns.iter().map(|c| &c[..]).collect();
+    analyse(
+        &ev.program,
+        &cols,
+        &ev.build.shader.source,
+        None,
+        &Options::default(),
+    )
+}
+
+/// A few report lines: the final error, the `top` lines by share, and every
+/// operation whose cancellation carries error, hidden overflow or underflow,
+/// and the hints.
+pub fn summary(a: &Analysis, top: usize) -> Vec<String> {
+    let fe = &a.final_error;
+    let mut out = vec![format!(
+        "precision: final error max {:.1} ULP, mean {:.2} ULP (mean relative {:.3e}){}",
+        fe.max_ulp,
+        fe.mean_ulp,
+        fe.mean_rel,
+        if fe.nonfinite > 0 {
+            format!("; {} points not finite where f64 is", fe.nonfinite)
+        } else {
+            String::new()
+        }
+    )];
+    out.extend(a.internal_errors.iter().cloned());
+    let mut order: Vec<&Line> = a.lines.iter().filter(|l| l.share.abs() >= 0.005).collect();
+    order.sort_by(|x, y| y.share.total_cmp(&x.share));
+    if !order.is_empty() {
+        out.push(format!(
+            "  lines by share of the error (shares add up to 1 within {:.2}):",
+            a.share_margin
+        ));
+    }
+    for l in order.into_iter().take(top) {
+        out.push(format!(
+            "    line {:>4} {:>6.1} %  {}",
+            l.line,
+            100.0 * l.share,
+            l.text
+        ));
+    }
+    for o in a.lines.iter().flat_map(|l| &l.ops) {
+        if o.max_cancel_bits >= a.cancel_bits && o.max_carried_rel > 16.0 * eps(o.half) {
+            let at = o
+                .cancel_point
+                .as_ref()
+                .map_or(String::new(), |w| format!(" at {}", w.inputs));
+            out.push(format!(
+                "  line {}: {} cancels up to {:.1} bits{at}",
+                o.line, o.op, o.max_cancel_bits
+            ));
+        }
+        if let Some(ov) = &o.overflow {
+            out.push(format!(
+                "  line {}: {} overflows at {} points{} (first at {})",
+                o.line,
+                o.op,
+                ov.count,
+                match &ov.hidden_by {
+                    Some((l, op)) if ov.hidden > 0 =>
+                        format!(", hidden by {op} on line {l} at {}", ov.hidden),
+                    _ => String::new(),
+                },
+                ov.first.inputs
+            ));
+        }
+        if let Some(u) = &o.underflow {
+            out.push(format!(
+                "  line {}: {} underflows at {} points ({} flushed to zero)",
+                o.line,
+                o.op,
+                u.subnormal + u.flushed,
+                u.flushed
+            ));
+        }
+    }
+    for h in &a.hints {
+        out.push(format!("  hint (line {}): {}", h.line, h.cure));
+    }
+    out
 }
