@@ -302,8 +302,8 @@ pub(crate) fn round_to(x: f64, half: bool) -> f64 {
 
 /// The f64 result of `op` on `args` (float operands from `f`, integer ones
 /// from `b`). Integer results come back as `Err(bits)`.
-fn apply(op: Opcode, f: &[f64; 4], b: &[u32; 4]) -> Result<f64, u32> {
-    match sem(op) {
+fn apply(sem: Sem, f: &[f64; 4], b: &[u32; 4]) -> Result<f64, u32> {
+    match sem {
         Sem::F1(g) => Ok(g(f[0])),
         Sem::F2(g) => Ok(g(f[0], f[1])),
         Sem::F3(g) => Ok(g(f[0], f[1], f[2])),
@@ -525,7 +525,7 @@ impl<'a> Shadow<'a> {
                 fs[i] = self.s[a[i]][lane];
                 bs[i] = self.w[a[i]][lane];
             }
-            match apply(op, &fs, &bs) {
+            match apply(sem, &fs, &bs) {
                 Ok(v) => {
                     if shadow_mode {
                         self.s[d][lane] = v;
@@ -534,7 +534,7 @@ impl<'a> Shadow<'a> {
                             for i in 0..arity {
                                 fw[i] = wf(bs[i]);
                             }
-                            let local = apply(op, &fw, &bs).unwrap_or(f64::NAN);
+                            let local = apply(sem, &fw, &bs).unwrap_or(f64::NAN);
                             let e = Event {
                                 at,
                                 op,

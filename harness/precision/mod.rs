@@ -210,12 +210,14 @@ pub fn ulp(x: f64, half: bool) -> f64 {
         (-126, 23, f32::MAX as f64)
     };
     let a = x.abs().min(max);
+    // The binary exponent of `a` from its bits (every value here is far
+    // above f64's subnormal range or clamped to the working type's).
     let e = if a == 0.0 || !a.is_finite() {
         min_exp
     } else {
-        (a.log2().floor() as i32).max(min_exp)
+        (((a.to_bits() >> 52) & 0x7ff) as i32 - 1023).max(min_exp)
     };
-    2f64.powi(e - mant)
+    f64::from_bits(((e - mant + 1023) as u64) << 52)
 }
 
 fn min_normal(half: bool) -> f64 {
@@ -1114,4 +1116,24 @@ pub fn summary(a: &Analysis, top: usize) -> Vec<String> {
         out.push(format!("  hint (line {}): {}", h.line, h.cure));
     }
     out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn ulp_is_the_spacing_of_the_working_type() {
+        // IEEE 754 binary32: 2^-23 at 1, 2^-24 in [0.5, 1), 2^-149 below
+        // 2^-126; binary16: 2^-10 at 1, 2^-24 below 2^-14.
+        assert_eq!(ulp(1.0, false), 2f64.powi(-23));
+        assert_eq!(ulp(-0.75, false), 2f64.powi(-24));
+        assert_eq!(ulp(0.0, false), 2f64.powi(-149));
+        assert_eq!(ulp(1e-40, false), 2f64.powi(-149));
+        assert_eq!(ulp(3.0e38, false), 2f64.powi(127 - 23));
+        assert_eq!(ulp(1.0, true), 2f64.powi(-10));
+        assert_eq!(ulp(1e-6, true), 2f64.powi(-24));
+        assert_eq!(ulp(65504.0, true), 32.0);
+        assert_eq!(ulp(1e9, true), 32.0);
+    }
 }
