@@ -363,3 +363,38 @@ fn f16_inputs_are_the_values_the_function_sees() {
     );
     let _ = ScalarKind::F16;
 }
+
+#[test]
+fn shadow_working_values_equal_the_evaluator_on_every_demo_check() {
+    // The shadow executor computes its working values with the same lane
+    // kernels; `analyse` compares them with `Program::eval` at every point
+    // and reports any difference as an internal error. Every check of the
+    // demo suite, on an evenly strided subset of at most 4,096 points.
+    let path = concat!(env!("CARGO_MANIFEST_DIR"), "/shadegate.toml");
+    let suite = shadegate::suite::load(path.as_ref()).unwrap();
+    let mut analysed = 0;
+    for c in &suite.checks {
+        let Ok(ev) = shadegate::gate::evaluate(&suite, c, None) else {
+            continue;
+        };
+        let n = ev.input_columns.first().map_or(0, Vec::len);
+        if n == 0 {
+            continue;
+        }
+        let stride = n.div_ceil(4096);
+        let cols: Vec<Vec<u32>> = ev
+            .input_columns
+            .iter()
+            .map(|col| col.iter().step_by(stride).copied().collect())
+            .collect();
+        let refs: Vec<&[u32]> = cols.iter().map(|c| &c[..]).collect();
+        let opts = Options {
+            shares: false,
+            ..Options::default()
+        };
+        let a = analyse(&ev.program, &refs, &ev.build.shader.source, None, &opts).unwrap();
+        assert!(a.internal_errors.is_empty(), "{}: {:?}", c.name, a.internal_errors);
+        analysed += 1;
+    }
+    assert!(analysed >= 8, "only {analysed} demo checks analysed");
+}
