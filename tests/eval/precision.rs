@@ -393,7 +393,12 @@ fn shadow_working_values_equal_the_evaluator_on_every_demo_check() {
             ..Options::default()
         };
         let a = analyse(&ev.program, &refs, &ev.build.shader.source, None, &opts).unwrap();
-        assert!(a.internal_errors.is_empty(), "{}: {:?}", c.name, a.internal_errors);
+        assert!(
+            a.internal_errors.is_empty(),
+            "{}: {:?}",
+            c.name,
+            a.internal_errors
+        );
         analysed += 1;
     }
     assert!(analysed >= 8, "only {analysed} demo checks analysed");
