@@ -45,6 +45,7 @@ pub mod golden;
 pub mod gpu;
 pub mod limits;
 pub mod plot;
+pub mod precision;
 pub mod reference;
 pub mod report;
 pub mod suite;

@@ -74,6 +74,11 @@ enum Command {
         /// (the default when the CI environment variable is set).
         #[arg(long)]
         deterministic: bool,
+        /// Add a precision analysis of each check's function to the report: which
+        /// lines carry the error, cancellations, hidden overflows, cures (slow:
+        /// one f64 shadow run and one re-run per line).
+        #[arg(long)]
+        precision: bool,
     },
     /// Record the golden datasets of a suite's checks (refused when CI is set).
     Record {
@@ -118,6 +123,38 @@ enum Command {
         /// golden), the error in ULP and relative, and a pass column per point.
         #[arg(long, requires = "check")]
         judge: bool,
+    },
+    /// Which line of one function loses precision, over a sweep: per line and
+    /// operation the rounding error, cancellation, overflow and underflow,
+    /// amplifiers, each line's share of the final error, and known cures.
+    Precision {
+        /// The WGSL file.
+        shader: PathBuf,
+        /// The function to analyse.
+        function: String,
+        /// A point as `name=value,...` (vectors as `n=0;0;1`); repeatable.
+        #[arg(long = "point")]
+        points: Vec<String>,
+        /// A CSV file with one column per argument leaf.
+        #[arg(long)]
+        input: Option<PathBuf>,
+        /// Use the sweep of this check of the suite.
+        #[arg(long)]
+        check: Option<String>,
+        #[arg(long, default_value = "shadegate.toml")]
+        suite: PathBuf,
+        /// A rewritten form of the function in the same file, taking the same
+        /// arguments: its measured error is shown beside each hint.
+        #[arg(long)]
+        twin: Option<String>,
+        /// Override values as `name=value`; repeatable.
+        #[arg(long = "override")]
+        overrides: Vec<String>,
+        #[arg(long, value_enum, default_value = "text")]
+        format: Format,
+        /// Write the report here instead of standard output.
+        #[arg(long)]
+        output: Option<PathBuf>,
     },
     /// Compare two versions of a WGSL file over a check's sweep.
     Compare {
@@ -226,6 +263,7 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
             html,
             failing_points,
             deterministic,
+            precision,
         } => {
             let s = load_suite(&suite)?;
             warn_unused_parameters(&s, filter.as_deref());
@@ -249,6 +287,20 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
             } else {
                 report::Timings::Show
             };
+            let mut run = run;
+            if precision {
+                for r in run.checks.iter_mut().filter(|r| r.error.is_none()) {
+                    let Some(c) = s.checks.iter().find(|c| c.name == r.name) else {
+                        continue;
+                    };
+                    match shadegate::precision::of_check(&s, c) {
+                        Ok(a) => r.precision = Some(a),
+                        Err(e) => {
+                            eprintln!("warning: check `{}`: no precision analysis: {e}", r.name)
+                        }
+                    }
+                }
+            }
             let text = render_with(&run, format, output.is_some(), timings);
             if let Some(dir) = &failing_points {
                 write_failing_points(&s, &run, dir)?;
@@ -316,6 +368,80 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
             emit(&csv, output.as_deref())?;
             // The CSV is complete either way; exit 1 says some points had issues.
             Ok(u8::from(issues > 0))
+        }
+        Command::Precision {
+            shader,
+            function,
+            points,
+            input,
+            check,
+            suite,
+            twin,
+            overrides,
+            format,
+            output,
+        } => {
+            let ov = table::parse_overrides(&overrides).map_err(Bad)?;
+            let sources = usize::from(!points.is_empty())
+                + usize::from(input.is_some())
+                + usize::from(check.is_some());
+            if sources != 1 {
+                return Err(Bad(
+                    "give the points one way: --point (repeatable), --input FILE.csv or --check NAME"
+                        .into(),
+                ));
+            }
+            let sh = Shader::load(&shader).map_err(|d| Bad(d.rendered))?;
+            let (program, cols) = if let Some(name) = check {
+                let s = load_suite(&suite)?;
+                let c = s.checks.iter().find(|c| c.name == name).ok_or_else(|| {
+                    Bad(format!("no check named `{name}` in {}", suite.display()))
+                })?;
+                let mut c = c.clone();
+                c.function = function.clone();
+                c.overrides.extend(ov.clone());
+                c.arithmetic = Arithmetic::Exact;
+                let ev = gate::evaluate(&s, &c, Some(&shader)).map_err(Bad)?;
+                (ev.program, ev.input_columns)
+            } else {
+                let program = Program::compile_with(&sh, &function, &ov, Arithmetic::Exact)
+                    .map_err(|d| Bad(d.rendered))?;
+                let leaves = program.input_leaves();
+                let cols = match input {
+                    Some(path) => table::read_csv(&path, &leaves).map_err(Bad)?,
+                    None => table::columns_of_points(&program, &points).map_err(Bad)?,
+                };
+                (program, cols)
+            };
+            let twin = match twin {
+                Some(t) => Some(
+                    Program::compile_with(&sh, &t, &ov, Arithmetic::Exact)
+                        .map_err(|d| Bad(d.rendered))?,
+                ),
+                None => None,
+            };
+            let refs: Vec<&[u32]> = cols.iter().map(|c| &c[..]).collect();
+            let a = shadegate::precision::analyse(
+                &program,
+                &refs,
+                &sh.source,
+                twin.as_ref(),
+                &shadegate::precision::Options::default(),
+            )
+            .map_err(|e| Bad(format!("{}: {e}", shader.display())))?;
+            let text = match format {
+                Format::Json => {
+                    serde_json::to_string_pretty(&a).map_err(|e| Bad(e.to_string()))? + "\n"
+                }
+                Format::Text => shadegate::precision::text(&a),
+                Format::Junit => {
+                    return Err(Bad("precision reports are text or json".into()));
+                }
+            };
+            emit(&text, output.as_deref())?;
+            // An internal error (working values that differ from the
+            // evaluator's) is the tool's own failure.
+            Ok(if a.internal_errors.is_empty() { 0 } else { 2 })
         }
         Command::Compare {
             old,

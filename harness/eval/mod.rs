@@ -15,6 +15,7 @@ pub(crate) mod ir;
 pub(crate) mod lanes;
 pub(crate) mod lower;
 pub(crate) mod perturb;
+pub(crate) mod shadow;
 #[cfg(test)]
 mod tests;
 pub mod text;
@@ -295,7 +296,7 @@ impl Program {
     }
 
     /// `name=value, ...` for point `i` of `ins`.
-    fn describe_point(&self, ins: &[&[u32]], i: usize) -> String {
+    pub(crate) fn describe_point(&self, ins: &[&[u32]], i: usize) -> String {
         self.input_leaves()
             .iter()
             .zip(ins)
@@ -340,6 +341,64 @@ impl Program {
     ) -> Result<Vec<LaneIssue>, String> {
         self.check_inputs(inputs)?;
         Ok(self.eval(inputs, outputs))
+    }
+
+    /// Evaluate every point in the `f64` number model: every `f32`/`f16`
+    /// operation and built-in computed in binary64 (see `shadow` for each
+    /// operation's f64 reading; transcendentals from the `libm` crate's f64
+    /// functions). One f64 column per output leaf (integer and boolean
+    /// leaves as their value); a point that ran out of steps is NaN. The
+    /// program's own number model (exact or spec-bound) plays no part.
+    ///
+    /// # Panics
+    /// When the columns do not match [`Program::input_leaves`].
+    pub fn eval_f64(&self, inputs: &[&[u32]]) -> Vec<Vec<f64>> {
+        let exact = vec![true; self.code.sites.len()];
+        self.eval_values(inputs, &exact)
+    }
+
+    /// Every value in f64, the operation at site `s` rounded to its working
+    /// type unless `exact[s]` (the precision analysis' re-runs).
+    pub(crate) fn eval_values(&self, inputs: &[&[u32]], exact: &[bool]) -> Vec<Vec<f64>> {
+        use rayon::prelude::*;
+        let n = self.check_inputs(inputs).unwrap_or_else(|e| panic!("{e}"));
+        let chunks = n.div_ceil(CHUNK);
+        let parts: Vec<Vec<Vec<f64>>> = (0..chunks)
+            .into_par_iter()
+            .map(|c| {
+                let mut m = self.shadow_machine();
+                let (lo, hi) = (c * CHUNK, ((c + 1) * CHUNK).min(n));
+                let mut cols = vec![Vec::with_capacity(hi - lo); self.code.output_slots.len()];
+                let mut start = lo;
+                while start < hi {
+                    let len = LANES.min(hi - start);
+                    let ins: Vec<&[u32]> = inputs.iter().map(|c| &c[start..start + len]).collect();
+                    let out = m.run(&ins, len, shadow::Mode::Values { exact }, &mut shadow::Deaf);
+                    for (c, o) in cols.iter_mut().zip(out.shadow) {
+                        c.extend(o);
+                    }
+                    start += len;
+                }
+                cols
+            })
+            .collect();
+        let mut cols = vec![Vec::with_capacity(n); self.code.output_slots.len()];
+        for part in parts {
+            for (c, p) in cols.iter_mut().zip(part) {
+                c.extend(p);
+            }
+        }
+        cols
+    }
+
+    /// A shadow machine for this program (one thread's).
+    pub(crate) fn shadow_machine(&self) -> shadow::Shadow<'_> {
+        shadow::Shadow::new(&self.code, self.step_budget, self.seed)
+    }
+
+    /// The verified code (for the precision analysis).
+    pub(crate) fn code(&self) -> &Verified {
+        &self.code
     }
 
     /// Path of the shader this program came from.

@@ -163,10 +163,29 @@ pub fn twin_sides(
         .iter()
         .chain(&other.outputs)
         .any(|(_, k)| *k == ScalarKind::F16);
+    // In the f64 number model the twin's own arguments go through it again.
+    let want = if twin.f64 {
+        let cols: Vec<&[u32]> = other.input_columns.iter().map(|c| &c[..]).collect();
+        let mut w = other.program.eval_f64(&cols);
+        // A zero-argument twin gives one value, which stands for every point.
+        let n = got.first().map_or(0, Vec::len);
+        for c in &mut w {
+            if c.len() == 1 && n != 1 {
+                *c = vec![c[0]; n];
+            }
+        }
+        w
+    } else {
+        as_f64(&other.output_columns, &other.outputs)
+    };
     Ok(Sides {
-        against: format!("twin {}", twin.function),
+        against: format!(
+            "twin {}{}",
+            twin.function,
+            if twin.f64 { " in f64" } else { "" }
+        ),
         got: got.to_vec(),
-        want: as_f64(&other.output_columns, &other.outputs),
+        want,
         half,
     })
 }

@@ -52,6 +52,10 @@ pub struct CheckResult {
     pub issues: Vec<IssueGroup>,
     /// What explains the numbers, most explaining first (see [`Finding`]).
     pub findings: Vec<Finding>,
+    /// Per-line precision analysis of the check's function over its sweep
+    /// (`run --precision`; see [`crate::precision`]).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub precision: Option<crate::precision::Analysis>,
     pub seconds: f64,
 }
 

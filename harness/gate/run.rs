@@ -61,6 +61,7 @@ pub fn run_check_explained(
         comparisons: Vec::new(),
         issues: Vec::new(),
         findings: Vec::new(),
+        precision: None,
         seconds: 0.0,
     };
     match run_inner(suite, check, &mut r, backend, explainers) {
@@ -441,6 +442,7 @@ pub fn compare_functions(
         comparisons: vec![c],
         issues,
         findings,
+        precision: None,
         seconds: start.elapsed().as_secs_f64(),
     })
 }

@@ -139,6 +139,9 @@ struct Check<'a> {
     // IssueGroup holds no float: its derived form is already exact.
     issues: &'a [IssueGroup],
     findings: Vec<Found<'a>>,
+    /// Non-finite numbers in it are written as null.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    precision: Option<&'a crate::precision::Analysis>,
 }
 
 impl<'a> From<&'a CheckResult> for Check<'a> {
@@ -153,6 +156,7 @@ impl<'a> From<&'a CheckResult> for Check<'a> {
             seconds: Some(Num(c.seconds)),
             comparisons: c.comparisons.iter().map(Compared::from).collect(),
             issues: &c.issues,
+            precision: c.precision.as_ref(),
             findings: c
                 .findings
                 .iter()

@@ -160,6 +160,11 @@ fn body(out: &mut String, c: &CheckResult, st: Style) {
             }
         }
     }
+    if let Some(a) = &c.precision {
+        for line in crate::precision::summary(a, 5) {
+            let _ = writeln!(out, "{UNDER}{line}");
+        }
+    }
     if !c.findings.is_empty() {
         if c.verdict == Verdict::Pass {
             for f in &c.findings {

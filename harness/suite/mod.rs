@@ -88,6 +88,9 @@ pub struct Twin {
     /// Expression per argument of the twin (missing ones default to the sweep
     /// parameter of the same name).
     pub args: BTreeMap<String, Expr>,
+    /// `arithmetic = "f64"`: the twin is evaluated in the `f64` number model
+    /// (`Program::eval_f64`), an oracle free of rounding.
+    pub f64: bool,
     /// Line of the `twin` key.
     pub line: u32,
 }
@@ -263,6 +266,7 @@ struct RawCheck {
 struct RawTwin {
     function: Spanned<String>,
     shader: Option<Spanned<String>>,
+    arithmetic: Option<Spanned<String>>,
     #[serde(default)]
     args: BTreeMap<Spanned<String>, Spanned<String>>,
 }
@@ -747,10 +751,26 @@ fn convert(
         Some(t) => {
             let line = line_col(cx.text, t.span().start).0;
             let t = t.into_inner();
+            let f64 = match &t.arithmetic {
+                None => false,
+                Some(a) => match a.get_ref().as_str() {
+                    "exact" => false,
+                    "f64" => true,
+                    other => {
+                        return Err(cx.err(
+                            a.span(),
+                            format!(
+                                "key `twin.arithmetic`: expected \"exact\" or \"f64\", found \"{other}\""
+                            ),
+                        ))
+                    }
+                },
+            };
             Some(Twin {
                 shader: t.shader.map(|s| PathBuf::from(s.into_inner())),
                 function: t.function.into_inner(),
                 args: exprs(&t.args, "twin.args")?,
+                f64,
                 line,
             })
         }

@@ -379,3 +379,31 @@ fn isotropy_holds_for_dot_products_and_fails_for_a_model_with_a_preferred_axis()
         "{e}"
     );
 }
+
+#[test]
+fn a_twin_in_f64_is_the_function_without_rounding() {
+    // `square` against itself in the f64 number model: the only difference
+    // is the f32 rounding of a * a, at most half an ULP (IEEE 754 round to
+    // nearest), and 0.3f32² = 0.0900000071525574... is not an f32, so it
+    // shows.
+    let suite = twin("square", "square", "ulp = 0.5").replace(
+        "twin = { function = \"square\",",
+        "twin = { function = \"square\", arithmetic = \"f64\",",
+    );
+    let r = run("twin-f64", &suite);
+    assert_eq!(r.verdict, Verdict::Pass, "{r:#?}");
+    assert_eq!(r.comparisons[0].against, "twin square in f64");
+    assert!(r.comparisons[0].stats.max_abs > 0.0);
+    assert!(r.comparisons[0].stats.max_ulp <= 0.5);
+}
+
+#[test]
+fn a_twin_arithmetic_other_than_exact_or_f64_is_a_located_error() {
+    let suite = twin("square", "square", "ulp = 0.5").replace(
+        "twin = { function = \"square\",",
+        "twin = { function = \"square\", arithmetic = \"f32\",",
+    );
+    let e = project("twin-arith", &suite).unwrap_err();
+    assert!(e.rendered.contains("twin.arithmetic"), "{}", e.rendered);
+    assert!(e.rendered.contains("shadegate.toml:6:"), "{}", e.rendered);
+}

@@ -87,6 +87,7 @@ fn passing() -> CheckResult {
         ],
         issues: vec![],
         findings: vec![],
+        precision: None,
         seconds: 0.041,
     }
 }
@@ -193,6 +194,7 @@ fn failing() -> CheckResult {
                 },
             },
         ],
+        precision: None,
         seconds: 0.012,
     }
 }
@@ -208,6 +210,7 @@ fn broken() -> CheckResult {
         comparisons: vec![],
         issues: vec![],
         findings: vec![],
+        precision: None,
         seconds: 0.001,
     }
 }
