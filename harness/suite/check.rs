@@ -39,17 +39,26 @@ pub(super) fn convert(
         ));
     }
     let arithmetic = arithmetic_of(cx, &rc)?;
-    let reference = match &rc.reference {
-        None => None,
-        Some(r) => Some(crate::reference::find(r.get_ref()).ok_or_else(|| {
-            cx.err(
-                r.span(),
-                format!(
-                    "key `reference`: no reference model named `{}` (see `shadegate models`)",
-                    r.get_ref()
-                ),
-            )
-        })?),
+    // `reference` names one model, or is an expression over models and
+    // sweep parameters (completed below, once the sweep is known).
+    let (reference, reference_text) = match &rc.reference {
+        None => (None, None),
+        Some(r) => match crate::reference::find(r.get_ref()) {
+            Some(m) => (Some(m), None),
+            None => {
+                let e = Expr::parse_reference(r.get_ref(), limits.expression_depth).map_err(|e| {
+                    let s = r.span();
+                    cx.err(
+                        s.start + 1 + e.offset..s.end,
+                        format!(
+                            "key `reference`: {} (a model name of `shadegate models` or an expression)",
+                            e.message
+                        ),
+                    )
+                })?;
+                (None, Some(e))
+            }
+        },
     };
     let golden = match &rc.golden {
         None => None,
@@ -70,7 +79,7 @@ pub(super) fn convert(
         },
     };
     let golden_at = golden.as_ref().and(rc.golden.as_ref()).map(|g| g.span());
-    if reference.is_none() && golden.is_none() && rc.twin.is_none() && rc.property.is_none() {
+    if rc.reference.is_none() && golden.is_none() && rc.twin.is_none() && rc.property.is_none() {
         return Err(cx.err(
             span.start..span.start,
             format!(
@@ -173,33 +182,72 @@ pub(super) fn convert(
         .keys()
         .map(|k| (k.get_ref().clone(), k.span()))
         .collect();
-    let reference_args = exprs(&rc.reference_args, "reference_args")?;
+    let mut reference_args = exprs(&rc.reference_args, "reference_args")?;
+    let reference_arg_at = |k: &str| {
+        rc.reference_args
+            .keys()
+            .find(|x| x.get_ref() == k)
+            .map_or(span.start..span.start, |x| x.span())
+    };
+    // The models whose parameters `reference_args` may name.
+    let models: Vec<&'static crate::reference::Model> = match (&reference, &reference_text) {
+        (Some(m), _) => vec![*m],
+        (None, Some(e)) => e.models(),
+        (None, None) => Vec::new(),
+    };
+    // A model parameter without a `reference_args` entry takes the `args`
+    // entry of the same name, so a vector expression is written once.
+    for m in &models {
+        for p in m.params {
+            if !reference_args.contains_key(p.name) {
+                if let Some(e) = args.get(p.name) {
+                    reference_args.insert(p.name.to_string(), e.clone());
+                }
+            }
+        }
+    }
     if let Some(m) = reference {
         for p in m.params {
             if !reference_args.contains_key(p.name) && !names.iter().any(|n| n == p.name) {
                 return Err(cx.err(
                     span.start..span.start,
                     format!(
-                        "check `{name}`: reference `{}` needs `{}`; add it to `reference_args` or the sweep",
+                        "check `{name}`: reference `{}` needs `{}`; add it to `reference_args`, `args` or the sweep",
                         m.name, p.name
                     ),
                 ));
             }
         }
-        if let Some(k) = reference_args
-            .keys()
-            .find(|k| !m.params.iter().any(|p| p.name == k.as_str()))
-        {
-            let known: Vec<_> = m.params.iter().map(|p| p.name).collect();
-            return Err(cx.err(
-                span.start..span.start,
-                format!(
-                    "key `reference_args.{k}`: `{}` has no parameter `{k}` (has: {})",
-                    m.name,
-                    known.join(", ")
-                ),
-            ));
-        }
+    }
+    let reference_expr = match (&reference_text, &rc.reference) {
+        (Some(e), Some(r)) => Some(reference_expr(cx, e, r, &reference_args, &sweep)?),
+        _ => None,
+    };
+    if let Some(k) = reference_args.keys().find(|k| {
+        !models
+            .iter()
+            .any(|m| m.params.iter().any(|p| p.name == k.as_str()))
+    }) {
+        let known: Vec<_> = models
+            .iter()
+            .flat_map(|m| m.params.iter().map(|p| p.name))
+            .collect();
+        let what = match models.len() {
+            0 => "the reference calls no model".to_string(),
+            _ => format!(
+                "{} has no parameter `{k}` (has: {})",
+                models
+                    .iter()
+                    .map(|m| format!("`{}`", m.name))
+                    .collect::<Vec<_>>()
+                    .join(", "),
+                known.join(", ")
+            ),
+        };
+        return Err(cx.err(
+            reference_arg_at(k),
+            format!("key `reference_args.{k}`: {what}"),
+        ));
     }
     let twin = match rc.twin {
         None => None,
@@ -227,7 +275,7 @@ pub(super) fn convert(
     );
     let tolerance = match rc.tolerance {
         Some(t) => tolerance_of(cx, t, "tolerance")?,
-        None if reference.is_some() => {
+        None if rc.reference.is_some() => {
             return Err(cx.err(span.start..span.start, format!("check `{name}`: a check against a reference needs a `[check.tolerance]` with a `reason`")))
         }
         None if twin.is_some() || (property.is_some() && !bounded) => {
@@ -252,6 +300,7 @@ pub(super) fn convert(
         sweep,
         args,
         reference,
+        reference_expr,
         reference_args,
         golden,
         tolerance,
@@ -262,6 +311,58 @@ pub(super) fn convert(
         args_at,
         golden_at,
     })
+}
+
+/// A reference expression completed: every model call given all its
+/// arguments (from the call, `reference_args` with `args` merged in, or the
+/// sweep parameter of the same name), every variable a sweep parameter, and a
+/// trial evaluation that finds scalar/vec3 mismatches here, located at the
+/// `reference` key.
+fn reference_expr(
+    cx: &Ctx,
+    e: &Expr,
+    r: &Spanned<String>,
+    reference_args: &BTreeMap<String, Expr>,
+    sweep: &Sweep,
+) -> Result<Expr, Diagnostic> {
+    let names: Vec<String> = sweep.params.iter().map(|(n, _)| n.clone()).collect();
+    let default = |p: &str| -> Option<Expr> {
+        reference_args.get(p).cloned().or_else(|| {
+            names
+                .iter()
+                .any(|n| n == p)
+                .then(|| Expr::parse(p).expect("a parameter name parses"))
+        })
+    };
+    let filled = e
+        .fill_models(&default)
+        .map_err(|m| cx.err(r.span(), format!("key `reference`: {m}")))?;
+    if let Some(v) = filled.variables().into_iter().find(|v| !names.contains(v)) {
+        let msg = if e.models().is_empty() && e.text.trim() == v {
+            format!(
+                "key `reference`: no reference model named `{v}` (see `shadegate models`) and no sweep parameter `{v}` (have: {})",
+                names.join(", ")
+            )
+        } else {
+            format!(
+                "key `reference`: `{v}` is neither a reference model nor a sweep parameter (have: {})",
+                names.join(", ")
+            )
+        };
+        return Err(cx.err(r.span(), msg));
+    }
+    let example: Vec<crate::sweep::Value> = sweep
+        .params
+        .iter()
+        .map(|(_, d)| match d.width() {
+            1 => crate::sweep::Value::S(0.5),
+            _ => crate::sweep::Value::V([0.0, 0.6, 0.8]),
+        })
+        .collect();
+    filled
+        .bind(&names, &example)
+        .map_err(|m| cx.err(r.span(), format!("key `reference`: {m}")))?;
+    Ok(filled)
 }
 
 /// The check's number model: the `arithmetic` key (and `seed` for the

@@ -68,7 +68,13 @@ pub struct Check {
     /// Expression per function argument name (missing ones default to the
     /// sweep parameter of the same name).
     pub args: BTreeMap<String, Expr>,
+    /// The reference when `reference` names one model.
     pub reference: Option<&'static crate::reference::Model>,
+    /// The reference when `reference` is an expression (models called with
+    /// every argument filled, variables all sweep parameters).
+    pub reference_expr: Option<Expr>,
+    /// Expressions of the model's parameters: `reference_args` as written,
+    /// plus an `args` entry of the same name where `reference_args` has none.
     pub reference_args: BTreeMap<String, Expr>,
     /// Path of the golden dataset, relative to the suite's folder (inside
     /// it unless [`Options::golden_outside`] allowed otherwise).
@@ -126,6 +132,13 @@ pub struct Options {
     /// folder with `..` (the CLI's `--golden-outside`). Off by default: a
     /// golden is written only inside the project.
     pub golden_outside: bool,
+}
+
+impl Check {
+    /// Whether the check has a reference (a model or an expression).
+    pub fn has_reference(&self) -> bool {
+        self.reference.is_some() || self.reference_expr.is_some()
+    }
 }
 
 impl Suite {
