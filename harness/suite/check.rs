@@ -150,9 +150,41 @@ pub(super) fn convert(
         }
     }
     let names: Vec<String> = sweep.params.iter().map(|(n, _)| n.clone()).collect();
+    let property = match &rc.property {
+        None => None,
+        Some(p) => Some(property_of(cx, p)?),
+    };
+    // A hemisphere property's direction is a name of the function's argument
+    // expressions (the quadrature's variable), never a sweep parameter.
+    let over = match &property {
+        Some(PropertyCheck {
+            property: Property::Hemisphere { over, .. },
+            ..
+        }) => {
+            if names.contains(over) {
+                let at = rc.property.as_ref().map_or(span.clone(), |p| p.span());
+                return Err(cx.err(
+                    key_in(cx.text, at, "over"),
+                    format!(
+                        "key `property.over`: `{over}` is a sweep parameter; the integral runs over it, so leave it out of the sweep"
+                    ),
+                ));
+            }
+            if rc.golden.is_some() || rc.reference.is_some() || rc.twin.is_some() {
+                return Err(cx.err(
+                    span.start..span.start,
+                    format!("check `{name}`: a hemisphere property (albedo, normalisation) is a check of its own; put the reference, golden or twin in another check"),
+                ));
+            }
+            Some(over.clone())
+        }
+        _ => None,
+    };
+    let arg_names: Vec<String> = names.iter().cloned().chain(over).collect();
     let exprs = |table: &BTreeMap<Spanned<String>, Spanned<String>>,
                  key: &str|
      -> Result<BTreeMap<String, Expr>, Diagnostic> {
+        let names = if key == "args" { &arg_names } else { &names };
         let mut out = BTreeMap::new();
         for (arg, text) in table {
             let arg = arg.get_ref();
@@ -261,10 +293,6 @@ pub(super) fn convert(
                 line,
             })
         }
-    };
-    let property = match rc.property {
-        None => None,
-        Some(p) => Some(property_of(cx, &p)?),
     };
     let bounded = matches!(
         property,

@@ -41,6 +41,13 @@ pub enum Property {
         decode: String,
         shader: Option<PathBuf>,
     },
+    /// The integral of the result times cos θ over the hemisphere (about +z)
+    /// of the direction `over`, a name the argument expressions may use and
+    /// the sweep may not: at most 1 per sweep point (`equal = false`: the
+    /// directional albedo, a white furnace) or exactly 1 (`equal = true`: a
+    /// normalised NDF, ∫ D (n·h) dω_h = 1). Computed by quadrature through
+    /// the evaluator (see `gate::oracle::hemisphere_nodes`).
+    Hemisphere { over: String, equal: bool },
 }
 
 impl Property {
@@ -68,6 +75,12 @@ impl Property {
                 about.as_deref().unwrap_or("+z")
             ),
             Property::RoundTrip { decode, .. } => format!("round trip through {decode}"),
+            Property::Hemisphere { over, equal: false } => {
+                format!("albedo: integral of result cos over {over} <= 1")
+            }
+            Property::Hemisphere { over, equal: true } => {
+                format!("normalisation: integral of result cos over {over} = 1")
+            }
         }
     }
 }
@@ -94,7 +107,7 @@ pub(super) fn property_of(cx: &Ctx, p: &Spanned<toml::Table>) -> Result<Property
     let kind = string("kind")?.ok_or_else(|| {
         cx.err(
             span.clone(),
-            "key `property.kind` is missing (expected \"range\", \"finite\", \"reciprocity\", \"isotropy\" or \"round_trip\")",
+            "key `property.kind` is missing (expected \"range\", \"finite\", \"reciprocity\", \"isotropy\", \"round_trip\", \"albedo\" or \"normalisation\")",
         )
     })?;
     let allowed: &[&str] = match kind.as_str() {
@@ -103,11 +116,12 @@ pub(super) fn property_of(cx: &Ctx, p: &Spanned<toml::Table>) -> Result<Property
         "reciprocity" => &["kind", "swap"],
         "isotropy" => &["kind", "rotate", "about", "angle"],
         "round_trip" => &["kind", "decode", "shader"],
+        "albedo" | "normalisation" => &["kind", "over"],
         other => {
             return Err(cx.err(
                 at("kind"),
                 format!(
-                    "key `property.kind`: unknown property \"{other}\" (expected \"range\", \"finite\", \"reciprocity\", \"isotropy\" or \"round_trip\")"
+                    "key `property.kind`: unknown property \"{other}\" (expected \"range\", \"finite\", \"reciprocity\", \"isotropy\", \"round_trip\", \"albedo\" or \"normalisation\")"
                 ),
             ))
         }
@@ -199,6 +213,19 @@ pub(super) fn property_of(cx: &Ctx, p: &Spanned<toml::Table>) -> Result<Property
                 about: string("about")?,
                 angle,
             }
+        }
+        "albedo" | "normalisation" => {
+            let equal = kind == "normalisation";
+            let over = string("over")?.unwrap_or_else(|| if equal { "h" } else { "l" }.to_string());
+            if !over.chars().all(|c| c.is_ascii_alphanumeric() || c == '_')
+                || over.starts_with(|c: char| c.is_ascii_digit())
+            {
+                return Err(cx.err(
+                    at("over"),
+                    format!("key `property.over`: `{over}` is not a name"),
+                ));
+            }
+            Property::Hemisphere { over, equal }
         }
         _ => Property::RoundTrip {
             decode: string("decode")?.ok_or_else(|| {
