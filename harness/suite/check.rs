@@ -297,7 +297,9 @@ pub(super) fn convert(
     let bounded = matches!(
         property,
         Some(PropertyCheck {
-            property: Property::Range { .. } | Property::Finite,
+            property: Property::Range { .. }
+                | Property::Finite
+                | Property::Hemisphere { equal: false, .. },
             ..
         })
     );
@@ -307,7 +309,7 @@ pub(super) fn convert(
             return Err(cx.err(span.start..span.start, format!("check `{name}`: a check against a reference needs a `[check.tolerance]` with a `reason`")))
         }
         None if twin.is_some() || (property.is_some() && !bounded) => {
-            return Err(cx.err(span.start..span.start, format!("check `{name}`: a twin or a reciprocity, isotropy or round-trip property needs a `[check.tolerance]` with a `reason`")))
+            return Err(cx.err(span.start..span.start, format!("check `{name}`: a twin or a reciprocity, isotropy, round-trip or normalisation property needs a `[check.tolerance]` with a `reason`")))
         }
         None if bounded => Tolerance {
             abs: Some(vec![0.0]),

@@ -12,6 +12,7 @@ mod oracles;
 mod planted;
 mod plots;
 mod quadrature;
+mod quillmere;
 mod references;
 mod report_formats;
 mod runner;
