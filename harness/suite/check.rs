@@ -87,9 +87,14 @@ pub(super) fn convert(
             ),
         ));
     }
-    let sweep_span = rc.sweep.span();
+    // No `[check.sweep]`: a function without arguments, evaluated at one point.
+    let sweep_span = rc
+        .sweep
+        .as_ref()
+        .map_or(span.start..span.start, |s| s.span());
+    let empty = toml::Table::new();
     let mut params = Vec::new();
-    for (key, value) in rc.sweep.get_ref() {
+    for (key, value) in rc.sweep.as_ref().map_or(&empty, |s| s.get_ref()) {
         // The table keeps the file's order (toml's `preserve_order`), which the grid and
         // golden headers depend on; its values carry no spans, so find the key's line.
         let at = key_in(cx.text, sweep_span.clone(), key);
@@ -115,10 +120,16 @@ pub(super) fn convert(
             })
         }
     };
-    if params.is_empty() {
+    if params.is_empty() && rc.sweep.is_some() {
         return Err(cx.err(
             sweep_span,
-            format!("check `{name}`: the sweep has no parameters"),
+            format!("check `{name}`: the sweep has no parameters (leave out `[check.sweep]` for a function without arguments)"),
+        ));
+    }
+    if params.is_empty() && random.is_some() {
+        return Err(cx.err(
+            sweep_span,
+            format!("check `{name}`: random points need sweep parameters; a check without `[check.sweep]` has one point"),
         ));
     }
     if random.is_none() && params.iter().any(|(_, d)| d.count() == 0) {

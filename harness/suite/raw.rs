@@ -30,7 +30,8 @@ pub(super) struct RawCheck {
     pub(super) args: BTreeMap<Spanned<String>, Spanned<String>>,
     #[serde(default)]
     pub(super) reference_args: BTreeMap<Spanned<String>, Spanned<String>>,
-    pub(super) sweep: Spanned<toml::Table>,
+    /// Absent for a function without arguments (one point).
+    pub(super) sweep: Option<Spanned<toml::Table>>,
     pub(super) random: Option<Spanned<RawRandom>>,
     pub(super) tolerance: Option<Spanned<RawTolerance>>,
     pub(super) golden_tolerance: Option<Spanned<RawTolerance>>,

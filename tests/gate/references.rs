@@ -36,6 +36,8 @@ fn diffuse_plus_spec(n_dot_h: f32, alpha: f32) -> f32 {
     return 1.0 / PI + d_ggx(n_dot_h, alpha);
 }
 fn same16(a: f16) -> f16 { return a; }
+fn pi_approx() -> f32 { return 3.14159265; }
+fn sky() -> vec3<f32> { return vec3<f32>(0.25, 0.5, 1.0); }
 fn tint(c: vec3<f32>, k: f32) -> vec3<f32> { return c * k / PI; }
 "#;
 
@@ -318,5 +320,50 @@ fn malformed_reference_expressions_are_located_errors() {
     assert!(
         e.contains("returns 1 value(s)") && e.contains("gives 3"),
         "{e}"
+    );
+}
+
+#[test]
+fn a_function_without_arguments_needs_no_sweep() {
+    let text = |function: &str, reference: &str, extra: &str| {
+        format!(
+            r#"
+[[check]]
+name = "z"
+shader = "lib.wgsl"
+function = "{function}"
+reference = "{reference}"
+{extra}
+[check.tolerance]
+rel = 1e-7
+reason = "one f32 rounding of a constant"
+"#
+        )
+    };
+    let r = run("zero", &text("pi_approx", "pi", ""));
+    assert_eq!(r.verdict, Verdict::Pass, "{r:#?}");
+    assert_eq!(r.points, 1);
+    let r = run("zero-vec", &text("sky", "vec3(0.25, 0.5, 1)", ""));
+    assert_eq!(r.verdict, Verdict::Pass, "{r:#?}");
+    let r = run("zero-bad", &text("sky", "vec3(0.25, 0.5, 0.9)", ""));
+    assert_eq!(r.verdict, Verdict::Fail, "{r:#?}");
+    // A function with arguments and no sweep: the missing argument is named.
+    let r = run("zero-args", &text("d_ggx", "1", ""));
+    assert_eq!(r.verdict, Verdict::Error, "{r:#?}");
+    let e = r.error.unwrap();
+    assert!(e.contains("argument `n_dot_h` has no expression"), "{e}");
+    // Random points without a sweep: located.
+    located(
+        "zero-random",
+        &text("pi_approx", "pi", "[check.random]\ncount = 4\nseed = 1"),
+        2,
+        &["random points need sweep parameters"],
+    );
+    // An empty sweep table is still an error.
+    located(
+        "zero-empty",
+        &text("pi_approx", "pi", "[check.sweep]"),
+        7,
+        &["the sweep has no parameters", "leave out `[check.sweep]`"],
     );
 }
