@@ -202,9 +202,30 @@ pub fn evaluate(
         .check_args(check, program.params().iter().map(|(n, _)| n.as_str()))
         .map_err(|d| d.rendered)?;
     let (points, rounded) = super::oracle::shared_points(suite, check, &program)?;
-    let mut ev = evaluate_at(check, build, program, &check.args, points)?;
+    let mut ev = evaluate_at(check, build, program, &main_args(check), points)?;
     ev.rounded = rounded;
     Ok(ev)
+}
+
+/// The argument expressions of a check's own evaluation: `check.args`, except
+/// that a hemisphere property's direction (a quadrature variable, not a sweep
+/// parameter) stands at the normal, +z, there.
+fn main_args(check: &Check) -> std::borrow::Cow<'_, BTreeMap<String, Expr>> {
+    let Some(crate::suite::PropertyCheck {
+        property: crate::suite::Property::Hemisphere { over, .. },
+        ..
+    }) = &check.property
+    else {
+        return std::borrow::Cow::Borrowed(&check.args);
+    };
+    let normal = Expr::parse("vec3(0, 0, 1)").expect("a vector parses");
+    let mut args: BTreeMap<String, Expr> = check
+        .args
+        .iter()
+        .map(|(k, e)| (k.clone(), e.substitute(over, &normal)))
+        .collect();
+    args.entry(over.clone()).or_insert(normal);
+    std::borrow::Cow::Owned(args)
 }
 
 /// Evaluate a built function at `points`, its arguments bound by `args`
@@ -309,6 +330,27 @@ pub fn reference_columns(
         }
     }
     Ok(out)
+}
+
+/// A reference expression evaluated at every point (f64, one column per
+/// component); it must give as many values as the function returns
+/// (`outputs`).
+pub fn reference_expr_columns(
+    check: &Check,
+    expr: &Expr,
+    points: &Points,
+    outputs: usize,
+) -> Result<Vec<Vec<f64>>, String> {
+    let b = expr
+        .bind(&points.names, &example(points))
+        .map_err(|m| format!("check `{}`: reference `{}`: {m}", check.name, expr.text))?;
+    if b.width != outputs {
+        return Err(format!(
+            "check `{}`: `{}` returns {outputs} value(s) but reference `{}` gives {}",
+            check.name, check.function, expr.text, b.width
+        ));
+    }
+    columns(&[b], points)
 }
 
 /// A reference model must give as many values as the function returns;

@@ -5,9 +5,10 @@
 //! other, so the worst point and where the failures lie come from the same
 //! statistics and explainers.
 //!
-//! Both sides of a twin see the same parameter values: a sweep parameter
-//! that feeds an `f16` argument of either side is rounded to `f16` for both
-//! (see [`shared_points`]), and the check's findings say so.
+//! Both sides of a twin, and a function and its reference, see the same
+//! parameter values: a sweep parameter that feeds an `f16` argument of either
+//! side is rounded to `f16` for both (see [`shared_points`]), and the check's
+//! findings say so.
 
 use std::collections::BTreeMap;
 use std::fmt::Display;
@@ -66,7 +67,7 @@ pub fn build_other(
 
 /// The check's points, with every sweep parameter that feeds an `f16`
 /// argument of the check's function or its twin rounded to `f16`, so that
-/// both sides see the values the `f16` side sees. Also the finding that
+/// both sides (the twin or the reference) see the values the `f16` side sees. Also the finding that
 /// says which parameters were rounded (`None` when no side takes `f16`).
 pub fn shared_points(
     suite: &Suite,
@@ -74,20 +75,25 @@ pub fn shared_points(
     program: &Program,
 ) -> Result<(Points, Option<FindingKind>), String> {
     let mut points = points_of(check);
-    let Some(twin) = &check.twin else {
+    // Only a twin or a reference sees the parameters a second time; a golden
+    // records the function's own (already rounded) inputs.
+    if check.twin.is_none() && !check.has_reference() {
         return Ok((points, None));
+    }
+    let other = match &check.twin {
+        Some(twin) => Some(build_other(
+            suite,
+            check,
+            twin.shader.as_deref(),
+            &twin.function,
+            twin.line,
+        )?),
+        None => None,
     };
-    let (_, other) = build_other(
-        suite,
-        check,
-        twin.shader.as_deref(),
-        &twin.function,
-        twin.line,
-    )?;
-    let sides = [
-        (program, &check.args, check.function.as_str()),
-        (&other, &twin.args, twin.function.as_str()),
-    ];
+    let mut sides = vec![(program, &check.args, check.function.as_str())];
+    if let (Some(twin), Some((_, other))) = (&check.twin, &other) {
+        sides.push((other, &twin.args, twin.function.as_str()));
+    }
     let mut direct = Vec::new();
     let mut computed = Vec::new();
     for (prog, args, function) in sides {
@@ -196,6 +202,39 @@ fn kinds(leaves: &[(String, ScalarKind)]) -> String {
         .map(|(n, k)| format!("{n}: {k:?}").to_lowercase())
         .collect::<Vec<_>>()
         .join(", ")
+}
+
+/// Directions over the hemisphere about +z and their weights, for
+/// `∫ f(ω) cos θ dω ≈ Σ w f(ω)` (the weight includes cos θ and the solid
+/// angle): 43,520 directions. In μ = cos θ: the 10-point Gauss-Legendre rule
+/// on 17 panels, graded geometrically towards μ = 1 (1 - μ = 1e-5 … 0.1,
+/// where lobes about the normal peak) and towards the horizon (μ = 0.03,
+/// 0.01); in φ: 256 midpoints, the periodic trapezoidal rule. Exact for
+/// Lambert (to rounding). Measured (tests/gate/quadrature.rs): GGX and
+/// Beckmann normalisation within 1e-5 for α in [0.05, 1]; the GGX lobe's
+/// albedo within 1e-5 of the registry's `ggx_albedo` up to 60° from the
+/// normal, 2e-3 at 80°; at 89° a lobe of α = 0.1 is narrower than the grid
+/// and its integral comes out 9 % low, so a white furnace there can miss a
+/// small gain.
+pub fn hemisphere_nodes() -> Vec<([f64; 3], f64)> {
+    const BREAKS: [f64; 18] = [
+        0.0, 1e-5, 1e-4, 1e-3, 1e-2, 0.03, 0.1, 0.2, 0.3, 0.4, 0.5, 0.6, 0.7, 0.8, 0.9, 0.97, 0.99,
+        1.0,
+    ];
+    const PHI: usize = 256;
+    let mut out = Vec::with_capacity(10 * (BREAKS.len() - 1) * PHI);
+    for pair in BREAKS.windows(2) {
+        for (t, w) in crate::reference::quad::nodes(pair[0], pair[1]) {
+            let mu = 1.0 - t;
+            let s = (1.0 - mu * mu).max(0.0).sqrt();
+            for k in 0..PHI {
+                let phi = (k as f64 + 0.5) * std::f64::consts::TAU / PHI as f64;
+                let d = [s * phi.cos(), s * phi.sin(), mu];
+                out.push((d, w * mu * std::f64::consts::TAU / PHI as f64));
+            }
+        }
+    }
+    out
 }
 
 /// The columns of a property check. `got` is the function's result.
@@ -351,6 +390,84 @@ pub fn property_sides(
                 got: got.to_vec(),
                 want: as_f64(&other.output_columns, &other.outputs),
                 half,
+            })
+        }
+        Property::Hemisphere { over, equal } => {
+            let nodes = hemisphere_nodes();
+            let q = nodes.len();
+            let n = ev.points.len;
+            let total = (n as u64).saturating_mul(q as u64);
+            if total > suite.limits.points_per_check {
+                let l = crate::limits::Limit::PointsPerCheck;
+                return Err(err(format!(
+                    "the quadrature takes {q} directions at each of {n} sweep points ({total} evaluations), more than the `{l}` limit of {}; {}",
+                    suite.limits.points_per_check,
+                    l.how_to_raise()
+                )));
+            }
+            // Every sweep point repeated once per direction (point-major),
+            // with the direction as one more parameter named `over`.
+            let p = &ev.points;
+            let mut columns: Vec<Vec<Vec<f64>>> = p
+                .columns
+                .iter()
+                .map(|cols| {
+                    cols.iter()
+                        .map(|c| c.iter().flat_map(|&x| std::iter::repeat_n(x, q)).collect())
+                        .collect()
+                })
+                .collect();
+            let dir: Vec<Vec<f64>> = (0..3)
+                .map(|k| {
+                    (0..n)
+                        .flat_map(|_| nodes.iter().map(move |(d, _)| d[k]))
+                        .collect()
+                })
+                .collect();
+            columns.push(dir);
+            let qpoints = Points {
+                names: p.names.iter().cloned().chain([over.clone()]).collect(),
+                widths: p.widths.iter().copied().chain([3]).collect(),
+                columns,
+                len: n * q,
+            };
+            let (build, program) = build_other(suite, check, None, &check.function, pc.line)?;
+            let qev = evaluate_at(check, build, program, &check.args, qpoints)
+                .map_err(|m| err(format!("the quadrature over `{over}`: {m}")))?;
+            let values = as_f64(&qev.output_columns, &qev.outputs);
+            let integral: Vec<Vec<f64>> = values
+                .iter()
+                .map(|c| {
+                    (0..n)
+                        .map(|i| {
+                            c[i * q..(i + 1) * q]
+                                .iter()
+                                .zip(&nodes)
+                                .map(|(f, (_, w))| f * w)
+                                .sum()
+                        })
+                        .collect()
+                })
+                .collect();
+            let want = integral
+                .iter()
+                .map(|c| {
+                    c.iter()
+                        .map(|&x: &f64| {
+                            if *equal || x.is_nan() {
+                                1.0
+                            } else {
+                                x.min(1.0)
+                            }
+                        })
+                        .collect()
+                })
+                .collect();
+            Ok(Sides {
+                against,
+                got: integral,
+                want,
+                half: false,
             })
         }
         Property::RoundTrip { decode, shader } => {

@@ -53,6 +53,14 @@ pub fn rule(f: &dyn Fn(f64) -> f64, a: f64, b: f64) -> f64 {
     (0..N).map(|i| w[i] * f(m + h * x[i])).sum::<f64>() * h
 }
 
+/// The nodes and weights of the 10-point Gauss-Legendre rule on `[a, b]`
+/// (for integrands evaluated elsewhere, e.g. in batches through the evaluator).
+pub fn nodes(a: f64, b: f64) -> impl Iterator<Item = (f64, f64)> {
+    let (x, w) = rule_nodes();
+    let (m, h) = ((a + b) / 2.0, (b - a) / 2.0);
+    (0..N).map(move |i| (m + h * x[i], w[i] * h))
+}
+
 /// Adaptive integral of `f` over `[a, b]`, to an absolute tolerance of about `tol`.
 pub fn adaptive(f: &dyn Fn(f64) -> f64, a: f64, b: f64, tol: f64) -> f64 {
     let whole = rule(f, a, b);

@@ -255,7 +255,9 @@ impl Sweep {
     /// checks this against the `points_per_check` limit before any point is
     /// generated.
     pub fn checked_len(&self) -> Option<u64> {
-        let mut grid: u64 = if self.params.is_empty() { 0 } else { 1 };
+        // No parameters: one point (a function without arguments), the
+        // empty product.
+        let mut grid: u64 = 1;
         for (_, d) in &self.params {
             grid = grid.checked_mul(d.checked_count()?)?;
         }
@@ -264,11 +266,7 @@ impl Sweep {
 
     /// Number of points: grid size plus random points.
     pub fn len(&self) -> usize {
-        let grid: usize = if self.params.is_empty() {
-            0
-        } else {
-            self.params.iter().map(|(_, d)| d.count()).product()
-        };
+        let grid: usize = self.params.iter().map(|(_, d)| d.count()).product();
         grid + self.random.map_or(0, |r| r.count)
     }
 
