@@ -23,6 +23,8 @@ use crate::arith;
 use crate::limits::{Limit, Limits};
 use crate::wgsl::{Diagnostic, Shader};
 
+mod texture;
+
 /// A compiled value: its type and one slot per leaf.
 #[derive(Clone, Debug)]
 pub struct Val {
@@ -104,6 +106,9 @@ pub struct Compiler<'m> {
     op_count: u64,
     /// Leaves of arguments, results and variables allocated so far.
     variable_leaves: u64,
+    /// The look-up tables and samplers the check binds to texture and
+    /// sampler variables.
+    bindings: &'m crate::table::Bindings,
 }
 
 impl<'m> Compiler<'m> {
@@ -113,6 +118,7 @@ impl<'m> Compiler<'m> {
         overrides: &'m BTreeMap<String, f64>,
         spec_bounds: bool,
         limits: &'m Limits,
+        bindings: &'m crate::table::Bindings,
     ) -> R<Code> {
         let module = &shader.module;
         // A plain function, or an entry point (its `@location`/`@builtin`
@@ -163,6 +169,7 @@ impl<'m> Compiler<'m> {
             limits,
             op_count: 0,
             variable_leaves: 0,
+            bindings,
         };
         for key in overrides.keys() {
             // A pipeline constant is keyed by the override's name or by its
@@ -1230,18 +1237,8 @@ impl<'m> Compiler<'m> {
                 self.convert(out, &v, *kind, *convert, &ty)?
             }
             E::CallResult(_) => return Err(self.err("call result used before the call")),
-            E::ImageSample {
-                gather,
-                level,
-                depth_ref,
-                clamp_to_edge,
-                ..
-            } => {
-                let name =
-                    sample_name(gather.is_some(), level, depth_ref.is_some(), *clamp_to_edge);
-                return Err(self.unsupported(name));
-            }
-            E::ImageLoad { .. } => return Err(self.unsupported("`textureLoad`")),
+            // Look-up tables bound in place of textures (compile/texture.rs).
+            E::ImageSample { .. } | E::ImageLoad { .. } => return self.texture(frame, expr, out),
             E::ImageQuery { query, .. } => {
                 let name = match query {
                     naga::ImageQuery::Size { .. } => "`textureDimensions`",

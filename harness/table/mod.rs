@@ -17,6 +17,7 @@
 pub mod sample;
 
 use std::path::Path;
+use std::sync::Arc;
 
 use crate::limits::{Limit, Limits};
 use crate::wgsl::Diagnostic;
@@ -117,6 +118,69 @@ impl Table {
             s.push('\n');
         }
         s
+    }
+}
+
+/// The WGSL module-scope variable a binding is for: by name, or by its
+/// `@group(g) @binding(b)` attributes.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub enum Resource {
+    Name(String),
+    Binding { group: u32, binding: u32 },
+}
+
+impl Resource {
+    /// Whether this names the variable `name` declared with `binding`.
+    pub fn matches(&self, name: Option<&str>, binding: Option<(u32, u32)>) -> bool {
+        match self {
+            Resource::Name(n) => name == Some(n.as_str()),
+            Resource::Binding { group, binding: b } => binding == Some((*group, *b)),
+        }
+    }
+}
+
+impl std::fmt::Display for Resource {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            Resource::Name(n) => write!(f, "`{n}`"),
+            Resource::Binding { group, binding } => {
+                write!(f, "`@group({group}) @binding({binding})`")
+            }
+        }
+    }
+}
+
+/// What a texture or sampler variable is bound to.
+#[derive(Clone, Debug, PartialEq)]
+pub enum Bound {
+    Table(Arc<Table>),
+    Sampler(Sampler),
+}
+
+/// The tables and samplers a check binds to a shader's `texture_2d<f32>` and
+/// `sampler` variables; what the evaluator reads where WGSL samples or loads.
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct Bindings {
+    pub entries: Vec<(Resource, Bound)>,
+}
+
+impl Bindings {
+    /// No bindings: every texture access is refused as not supported.
+    pub const NONE: Bindings = Bindings {
+        entries: Vec::new(),
+    };
+
+    /// The binding of the variable `name` declared with `binding` (the first
+    /// entry that names it).
+    pub fn find(&self, name: Option<&str>, binding: Option<(u32, u32)>) -> Option<&Bound> {
+        self.entries
+            .iter()
+            .find(|(r, _)| r.matches(name, binding))
+            .map(|(_, b)| b)
+    }
+
+    pub fn is_empty(&self) -> bool {
+        self.entries.is_empty()
     }
 }
 

@@ -8,3 +8,4 @@ mod issues;
 mod semantics;
 mod spec_bounds;
 mod straightforward;
+mod textures;
