@@ -41,6 +41,9 @@ use crate::limits::{Limit, Limits};
 use crate::sweep::{Domain, Expr, Random, Sweep};
 use crate::wgsl::Diagnostic;
 
+mod textures;
+pub use textures::{SamplerBinding, TableBinding, TableSource, Textures};
+
 /// The number model a check evaluates with.
 pub use crate::eval::Arithmetic;
 
@@ -75,6 +78,9 @@ pub struct Check {
     pub args_at: BTreeMap<String, std::ops::Range<usize>>,
     /// Byte span of the `golden` key's value in the suite text.
     pub golden_at: Option<std::ops::Range<usize>>,
+    /// Look-up tables and samplers bound to the shader's texture and sampler
+    /// variables (`[check.textures.X]`, `[check.samplers.X]`).
+    pub textures: Textures,
 }
 
 /// The other side of a twin check: a second WGSL function (an `f16` port, a
@@ -256,6 +262,8 @@ struct RawCheck {
     golden_tolerance: Option<Spanned<RawTolerance>>,
     twin: Option<Spanned<RawTwin>>,
     property: Option<Spanned<toml::Table>>,
+    textures: textures::Raw,
+    samplers: textures::Raw,
 }
 
 #[derive(Deserialize)]
@@ -784,6 +792,7 @@ fn convert(
         Some(t) => tolerance_of(cx, t, "golden_tolerance")?,
         None => Tolerance::exact("a golden is a bit-exact record of this evaluator's output"),
     };
+    let textures = textures::parse(cx, rc.textures, rc.samplers, limits)?;
     Ok(Check {
         name,
         shader: PathBuf::from(rc.shader.get_ref()),
@@ -802,6 +811,7 @@ fn convert(
         line,
         args_at,
         golden_at,
+        textures,
     })
 }
 
