@@ -10,7 +10,8 @@
 //! The `unsafe` blocks rely on two things only: what the verifier proved of
 //! the code ([`Verified`]), and the binding contract of [`Machine::bind`].
 
-use super::ir::{At, Code, Kernel, Op, Site, Slot, PER_LANE_MAX};
+use super::ir::{At, Code, Op, Site, Slot, PER_LANE_MAX};
+use super::lanes::Kernel;
 use super::lanes::{Lanes, LANES};
 use super::verify::{verify, VerifyError};
 
@@ -209,11 +210,14 @@ impl Machine {
                 Op::Copy { dst, src } => *col(dst) = *col(src),
                 Op::Enter { mask, parent } => *col(mask) = *col(parent),
                 Op::Kernel {
-                    kernel,
+                    op,
+                    half,
                     dst,
                     args: [a, b, c, d],
                     at,
                 } => {
+                    // The verifier proved the f16 version exists (rule 6).
+                    let kernel = op.kernel(half);
                     match kernel {
                         Kernel::Unary(k) => k(&mut *col(dst), &*col(a)),
                         Kernel::Binary(k) => k(&mut *col(dst), &*col(a), &*col(b)),

@@ -15,7 +15,7 @@
 //! by lowering and run only after it has been verified (see
 //! [`Program`](super::Program)).
 
-use super::lanes::{K1, K2, K3, K4};
+use super::lanes::Opcode;
 use super::ty::Ty;
 
 /// A slot number: an index into the slot arena of one machine.
@@ -40,28 +40,6 @@ pub(crate) struct Site {
 /// frexp, modf): `f(args, outs)` for one lane.
 pub(crate) type LaneFn = fn(&[u32], &mut [u32]);
 
-/// A lane kernel with its arity: the opcode of an [`Op::Kernel`]. Each is one
-/// monomorphised loop over a batch from `lanes`, picked once by lowering.
-#[derive(Clone, Copy)]
-pub(crate) enum Kernel {
-    Unary(K1),
-    Binary(K2),
-    Ternary(K3),
-    Quaternary(K4),
-}
-
-impl Kernel {
-    /// How many operand slots the kernel reads.
-    pub fn arity(self) -> usize {
-        match self {
-            Kernel::Unary(_) => 1,
-            Kernel::Binary(_) => 2,
-            Kernel::Ternary(_) => 3,
-            Kernel::Quaternary(_) => 4,
-        }
-    }
-}
-
 #[derive(Clone)]
 pub(crate) enum Op {
     /// `dst = bits` in every lane.
@@ -70,10 +48,14 @@ pub(crate) enum Op {
     Copy { dst: Slot, src: Slot },
     /// An inlined callee's root mask: `mask = parent` in every lane.
     Enter { mask: Slot, parent: Slot },
-    /// `dst = kernel(args[..arity])` in every lane. `at` is the site traced
-    /// when the result becomes NaN or infinite.
+    /// `dst = op(args[..op.arity()])` in every lane; with `half`, the f16
+    /// version (the result rounded to binary16), which only opcodes with
+    /// [`Opcode::has_half`] have. The loop run is `op.kernel(half)`, never
+    /// chosen separately. `at` is the site traced when the result becomes NaN
+    /// or infinite.
     Kernel {
-        kernel: Kernel,
+        op: Opcode,
+        half: bool,
         dst: Slot,
         args: [Slot; 4],
         at: At,

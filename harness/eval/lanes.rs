@@ -1,7 +1,9 @@
 //! Lane kernels: each WGSL scalar operation as a tight loop over one batch of
-//! lanes. The compiler picks a monomorphised kernel per (operation, type) once;
-//! the executor calls it through a plain function pointer per batch, so the
-//! per-lane work has no dispatch and vectorises where the operation allows.
+//! lanes. Lowering names each operation by its [`Opcode`] (and whether it is
+//! the f16 version); [`Opcode::kernel`] maps that pair to one monomorphised
+//! loop, which the executor calls through a plain function pointer per batch,
+//! so the per-lane work has no dispatch and vectorises where the operation
+//! allows.
 
 use std::marker::PhantomData;
 
@@ -20,6 +22,33 @@ pub type K1 = fn(&mut Lanes, &Lanes);
 pub type K2 = fn(&mut Lanes, &Lanes, &Lanes);
 pub type K3 = fn(&mut Lanes, &Lanes, &Lanes, &Lanes);
 pub type K4 = fn(&mut Lanes, &Lanes, &Lanes, &Lanes, &Lanes);
+
+/// One monomorphised loop over a batch with its arity: what
+/// [`Opcode::kernel`] gives for an (opcode, f16) pair.
+#[derive(Clone, Copy)]
+pub(crate) enum Kernel {
+    Unary(K1),
+    Binary(K2),
+    Ternary(K3),
+    Quaternary(K4),
+}
+
+impl Kernel {
+    /// How many operand slots the kernel reads.
+    pub fn arity(self) -> usize {
+        match self {
+            Kernel::Unary(_) => 1,
+            Kernel::Binary(_) => 2,
+            Kernel::Ternary(_) => 3,
+            Kernel::Quaternary(_) => 4,
+        }
+    }
+}
+
+/// A lane holding a binary16 value as the f32 that holds it exactly: the
+/// declared result of an operation that already rounds to f16 itself, so it
+/// has no separate f16 form (see [`Opcode::has_half`]).
+type Half = f32;
 
 /// A value that lives in a lane as 32 bits. f16 values live as the f32 that
 /// holds them exactly (see `arith`).
@@ -158,51 +187,134 @@ impl<T: Op3> Op3 for H<T> {
     }
 }
 
-macro_rules! op1 {
-    ($($name:ident ($x:ident: $t:ty) -> $r:ty $body:block)*) => {$(
+// The operation structs (one per opcode, implementing `Op1`..`Op4`) and the
+// `Opcode` enum, from one table. Lane types are written as plain names (`f32`,
+// `u32`, `i32`, `bool`, `Half`) so the table can tell which operations have
+// an f16 form: exactly those whose result is declared `f32`.
+macro_rules! lane_op {
+    ($name:ident, $tr:ident, ($($x:ident: $t:ident),*) -> $r:ident $body:block, ($($a:ident),*)) => {
         pub struct $name;
-        impl Op1 for $name {
+        impl $tr for $name {
             #[inline(always)]
-            fn f(a: u32) -> u32 {
-                let $x = <$t as Lane>::get(a);
+            fn f($($a: u32),*) -> u32 {
+                $(let $x = <$t as Lane>::get($a);)*
                 let r: $r = $body;
                 Lane::put(r)
             }
         }
-    )*};
-}
-macro_rules! op2 {
-    ($($name:ident ($x:ident: $t:ty, $y:ident: $u:ty) -> $r:ty $body:block)*) => {$(
-        pub struct $name;
-        impl Op2 for $name {
-            #[inline(always)]
-            fn f(a: u32, b: u32) -> u32 {
-                let $x = <$t as Lane>::get(a);
-                let $y = <$u as Lane>::get(b);
-                let r: $r = $body;
-                Lane::put(r)
-            }
-        }
-    )*};
-}
-macro_rules! op3 {
-    ($($name:ident ($x:ident: $t:ty, $y:ident: $u:ty, $z:ident: $v:ty) -> $r:ty $body:block)*) => {$(
-        pub struct $name;
-        impl Op3 for $name {
-            #[inline(always)]
-            fn f(a: u32, b: u32, c: u32) -> u32 {
-                let $x = <$t as Lane>::get(a);
-                let $y = <$u as Lane>::get(b);
-                let $z = <$v as Lane>::get(c);
-                let r: $r = $body;
-                Lane::put(r)
-            }
-        }
-    )*};
+    };
 }
 
-// Float unary (f32; wrap in H<> for f16).
-op1! {
+/// `Some(kernel of H<op>)` when the result lane is `f32`, else `None`.
+macro_rules! half_form {
+    (f32, $run:ident, $variant:ident, $name:ident) => {
+        Some(Kernel::$variant($run::<H<$name>>))
+    };
+    ($other:ident, $run:ident, $variant:ident, $name:ident) => {
+        None
+    };
+}
+
+macro_rules! lane_ops {
+    (
+        unary { $($n1:ident ($x1:ident: $t1:ident) -> $r1:ident $b1:block)* }
+        binary { $($n2:ident ($x2:ident: $t2:ident, $y2:ident: $u2:ident) -> $r2:ident $b2:block)* }
+        ternary {
+            $($n3:ident ($x3:ident: $t3:ident, $y3:ident: $u3:ident, $z3:ident: $v3:ident)
+                -> $r3:ident $b3:block)*
+        }
+        quaternary {
+            $($n4:ident ($x4:ident: $t4:ident, $y4:ident: $u4:ident, $z4:ident: $v4:ident,
+                $w4:ident: $s4:ident) -> $r4:ident $b4:block)*
+        }
+    ) => {
+        $(lane_op!($n1, Op1, ($x1: $t1) -> $r1 $b1, (a));)*
+        $(lane_op!($n2, Op2, ($x2: $t2, $y2: $u2) -> $r2 $b2, (a, b));)*
+        $(lane_op!($n3, Op3, ($x3: $t3, $y3: $u3, $z3: $v3) -> $r3 $b3, (a, b, c));)*
+        $(lane_op!($n4, Op4, ($x4: $t4, $y4: $u4, $z4: $v4, $w4: $s4) -> $r4 $b4, (a, b, c, d));)*
+
+        /// One scalar lane operation: what an [`Op::Kernel`](super::ir::Op::Kernel)
+        /// computes. One variant per operation struct of this module, with
+        /// the same name.
+        #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+        pub(crate) enum Opcode {
+            $($n1,)* $($n2,)* $($n3,)* $($n4,)*
+        }
+
+        impl Opcode {
+            /// How many operand slots the operation reads.
+            pub fn arity(self) -> usize {
+                match self {
+                    $(Opcode::$n1 => 1,)*
+                    $(Opcode::$n2 => 2,)*
+                    $(Opcode::$n3 => 3,)*
+                    $(Opcode::$n4 => 4,)*
+                }
+            }
+
+            /// The operation's name, as spelled in this module (`"FAdd"`).
+            pub fn name(self) -> &'static str {
+                match self {
+                    $(Opcode::$n1 => stringify!($n1),)*
+                    $(Opcode::$n2 => stringify!($n2),)*
+                    $(Opcode::$n3 => stringify!($n3),)*
+                    $(Opcode::$n4 => stringify!($n4),)*
+                }
+            }
+
+            /// The kernel of the f16 version (computed in f32, the result
+            /// rounded to binary16: `H<op>`), or `None` for an operation that
+            /// has no f16 form.
+            fn half_kernel(self) -> Option<Kernel> {
+                match self {
+                    $(Opcode::$n1 => half_form!($r1, run1, Unary, $n1),)*
+                    $(Opcode::$n2 => half_form!($r2, run2, Binary, $n2),)*
+                    $(Opcode::$n3 => half_form!($r3, run3, Ternary, $n3),)*
+                    $(Opcode::$n4 => half_form!($r4, run4, Quaternary, $n4),)*
+                }
+            }
+
+            /// The f32-only kernel of the operation.
+            fn plain_kernel(self) -> Kernel {
+                match self {
+                    $(Opcode::$n1 => Kernel::Unary(run1::<$n1>),)*
+                    $(Opcode::$n2 => Kernel::Binary(run2::<$n2>),)*
+                    $(Opcode::$n3 => Kernel::Ternary(run3::<$n3>),)*
+                    $(Opcode::$n4 => Kernel::Quaternary(run4::<$n4>),)*
+                }
+            }
+        }
+    };
+}
+
+impl Opcode {
+    /// Whether the operation has an f16 version (`half` in
+    /// [`Opcode::kernel`]): a float operation whose result is an f32 that
+    /// rounding to binary16 changes. Operations that already round to f16
+    /// themselves (`HMix`, `FToH`, ...) and those with an integer or boolean
+    /// result have none.
+    pub fn has_half(self) -> bool {
+        self.half_kernel().is_some()
+    }
+
+    /// The monomorphised loop of the operation: `run2::<FAdd>`, or
+    /// `run2::<H<FAdd>>` when `half`. The verifier rejects `half` for an
+    /// operation without an f16 form ([`Opcode::has_half`]); asking for one
+    /// here anyway panics.
+    pub fn kernel(self, half: bool) -> Kernel {
+        if half {
+            match self.half_kernel() {
+                Some(k) => k,
+                None => panic!("{} has no f16 form", self.name()),
+            }
+        } else {
+            self.plain_kernel()
+        }
+    }
+}
+
+lane_ops! {
+unary {
     FNeg(x: f32) -> f32 { -x }
     FAbs(x: f32) -> f32 { libm::fabsf(x) }
     FSqrt(x: f32) -> f32 { libm::sqrtf(x) }
@@ -232,16 +344,16 @@ op1! {
     FSaturate(x: f32) -> f32 { arith::saturate(x) }
     FDegrees(x: f32) -> f32 { arith::degrees(x) }
     FRadians(x: f32) -> f32 { arith::radians(x) }
-    HDegrees(x: f32) -> f32 { arith::degrees_f16(x) }
-    HRadians(x: f32) -> f32 { arith::radians_f16(x) }
-    FQuantize16(x: f32) -> f32 { arith::quantize_to_f16(x) }
+    HDegrees(x: f32) -> Half { arith::degrees_f16(x) }
+    HRadians(x: f32) -> Half { arith::radians_f16(x) }
+    FQuantize16(x: f32) -> Half { arith::quantize_to_f16(x) }
     FIsNan(x: f32) -> bool { x.is_nan() }
     FIsInf(x: f32) -> bool { x.is_infinite() }
     // conversions
     FToI(x: f32) -> i32 { arith::f_to_i32(x) }
     FToU(x: f32) -> u32 { arith::f_to_u32(x) }
     FToB(x: f32) -> bool { x != 0.0 }
-    FToH(x: f32) -> f32 { arith::round_f16(x) }
+    FToH(x: f32) -> Half { arith::round_f16(x) }
     IToF(x: i32) -> f32 { x as f32 }
     UToF(x: u32) -> f32 { x as f32 }
     BToF(x: bool) -> f32 { if x { 1.0 } else { 0.0 } }
@@ -263,13 +375,13 @@ op1! {
     UFirstTrailing(x: u32) -> u32 { arith::first_trailing_bit(x) }
 }
 
-op2! {
+binary {
     FAdd(x: f32, y: f32) -> f32 { x + y }
     FSub(x: f32, y: f32) -> f32 { x - y }
     FMul(x: f32, y: f32) -> f32 { x * y }
     FDiv(x: f32, y: f32) -> f32 { x / y }
     FRem(x: f32, y: f32) -> f32 { arith::frem(x, y) }
-    HRem(x: f32, y: f32) -> f32 { arith::frem_f16(x, y) }
+    HRem(x: f32, y: f32) -> Half { arith::frem_f16(x, y) }
     FMin(x: f32, y: f32) -> f32 { arith::fmin(x, y) }
     FMax(x: f32, y: f32) -> f32 { arith::fmax(x, y) }
     FPow(x: f32, y: f32) -> f32 { arith::pow(x, y) }
@@ -314,38 +426,28 @@ op2! {
     IDot4U8(x: u32, y: u32) -> u32 { arith::dot4u8packed(x, y) }
 }
 
-op3! {
+ternary {
     FClamp(x: f32, lo: f32, hi: f32) -> f32 { arith::fclamp(x, lo, hi) }
     FMix(x: f32, y: f32, t: f32) -> f32 { arith::mix(x, y, t) }
     FSmooth(lo: f32, hi: f32, x: f32) -> f32 { arith::smoothstep(lo, hi, x) }
     // f16 formula built-ins: every step rounded to binary16 (see `arith`).
-    HMix(x: f32, y: f32, t: f32) -> f32 { arith::mix_f16(x, y, t) }
-    HSmooth(lo: f32, hi: f32, x: f32) -> f32 { arith::smoothstep_f16(lo, hi, x) }
+    HMix(x: f32, y: f32, t: f32) -> Half { arith::mix_f16(x, y, t) }
+    HSmooth(lo: f32, hi: f32, x: f32) -> Half { arith::smoothstep_f16(lo, hi, x) }
     FFma(x: f32, y: f32, z: f32) -> f32 { libm::fmaf(x, y, z) }
     SClamp(x: i32, lo: i32, hi: i32) -> i32 { x.max(lo).min(hi) }
     UClamp(x: u32, lo: u32, hi: u32) -> u32 { x.max(lo).min(hi) }
     UExtract(x: u32, o: u32, c: u32) -> u32 { arith::extract_bits_u(x, o, c) }
     SExtract(x: i32, o: u32, c: u32) -> i32 { arith::extract_bits_i(x, o, c) }
+    // fma for f16: the exact product of two halves fits in f32, and f64 holds
+    // the sum exactly enough that one rounding to f16 follows.
+    HFma(x: f32, y: f32, z: f32) -> Half {
+        half::f16::from_f64(f64::from(x) * f64::from(y) + f64::from(z)).to_f32()
+    }
     // select(f, t, cond): bit patterns, so it serves every type.
     Select(f: u32, t: u32, c: bool) -> u32 { if c { t } else { f } }
 }
 
-pub struct UInsert;
-impl Op4 for UInsert {
-    #[inline(always)]
-    fn f(e: u32, n: u32, o: u32, c: u32) -> u32 {
-        arith::insert_bits(e, n, o, c)
-    }
+quaternary {
+    UInsert(e: u32, n: u32, o: u32, c: u32) -> u32 { arith::insert_bits(e, n, o, c) }
 }
-
-/// fma for f16: the exact product of two halves fits in f32, and f64 holds the
-/// sum exactly enough that one rounding to f16 follows.
-pub struct HFma;
-impl Op3 for HFma {
-    #[inline(always)]
-    fn f(a: u32, b: u32, c: u32) -> u32 {
-        let v = f64::from(f32::from_bits(a)) * f64::from(f32::from_bits(b))
-            + f64::from(f32::from_bits(c));
-        half::f16::from_f64(v).to_f32().to_bits()
-    }
 }

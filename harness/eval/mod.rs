@@ -10,10 +10,10 @@
 //! [`bits_to_f64`] convert.
 
 mod batch;
-pub(crate) mod compile;
 pub(crate) mod exec;
 pub(crate) mod ir;
 pub(crate) mod lanes;
+pub(crate) mod lower;
 pub(crate) mod perturb;
 #[cfg(test)]
 mod tests;
@@ -153,7 +153,7 @@ impl Program {
             Arithmetic::Exact => (false, 0),
             Arithmetic::SpecBounds { seed } => (true, seed),
         };
-        let code = compile::Compiler::compile(
+        let code = lower::Compiler::compile(
             shader,
             function,
             overrides,

@@ -27,6 +27,8 @@
 //! A move by k ULP from a correctly rounded result r stays within k + 0.5 ULP
 //! of the exact value, so a bound of B ULP allows |k| ≤ ⌊B − 0.5⌋.
 
+use naga::MathFunction as MF;
+
 use super::ir::Slot;
 
 /// Which bound an operation's result may move within.
@@ -46,6 +48,45 @@ pub enum Bound {
     },
     /// Absolute error `abs` everywhere.
     Abs(f32),
+}
+
+/// The spec's accuracy bound of a float built-in, for the spec-bound number
+/// model (the table and its sources are in this module's documentation); `None` when the
+/// built-in is correctly rounded or its bound is only inherited.
+pub(crate) fn spec_bound(fun: MF, f16: bool) -> Option<Bound> {
+    use std::f32::consts::PI;
+    Some(match fun {
+        MF::Exp => Bound::ExpLike {
+            base: if f16 { 1.0 } else { 3.0 },
+            log2: false,
+        },
+        MF::Exp2 | MF::Pow => Bound::ExpLike {
+            base: if f16 { 1.0 } else { 3.0 },
+            log2: true,
+        },
+        MF::Log | MF::Log2 => Bound::AbsInRange {
+            abs: if f16 { 2f32.powi(-7) } else { 2f32.powi(-21) },
+            lo: 0.5,
+            hi: 2.0,
+            outside: Some(3.0),
+        },
+        MF::Sin | MF::Cos => Bound::AbsInRange {
+            abs: if f16 { 2f32.powi(-7) } else { 2f32.powi(-11) },
+            lo: -PI,
+            hi: PI,
+            outside: None,
+        },
+        MF::InverseSqrt => Bound::Ulp(2.0),
+        // Inherited from 1.0 / inverseSqrt(x): 2 ULP, then a 2.5 ULP division,
+        // about 4.5 ULP of the result (more at the bottom of a binade; the
+        // model stays on the mild side).
+        MF::Sqrt => Bound::Ulp(4.5),
+        MF::Atan | MF::Atan2 => Bound::Ulp(if f16 { 5.0 } else { 4096.0 }),
+        MF::Acos => Bound::Abs(if f16 { 3.91e-3 } else { 6.77e-5 }),
+        MF::Asin => Bound::Abs(if f16 { 3.91e-3 } else { 6.81e-5 }),
+        MF::Tanh => Bound::Abs(1.0e-5),
+        _ => return None,
+    })
 }
 
 /// One perturbation: applied in place to `dst` right after the kernel that

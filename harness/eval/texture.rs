@@ -1,5 +1,5 @@
 //! The texture op: WGSL's texture built-ins on a bound look-up table, per
-//! lane. Lowering (`compile/texture.rs`) emits it, the verifier checks its
+//! lane. Lowering (`lower/texture.rs`) emits it, the verifier checks its
 //! slots like any op's, and the executor calls [`TextureOp::run`] with
 //! copies of its operand columns, so it needs no `unsafe` of its own.
 

@@ -24,10 +24,15 @@
 //!    path (a side of an `If`, a loop body or a switch case may not run, so
 //!    what it writes counts as written only inside it), so no value left
 //!    over from an earlier batch is ever read.
+//! 6. **Kernels exist**: an [`Op::Kernel`] asks for the f16 version only of
+//!    an opcode that has one ([`Opcode::has_half`]), so the executor's
+//!    `op.kernel(half)` always finds its loop.
 
 use std::collections::HashSet;
 
 use super::ir::{Code, Op, Slot, PER_LANE_MAX};
+#[cfg(doc)]
+use super::lanes::Opcode;
 
 /// A broken IR property: which rule and where (a path of op indices).
 #[derive(Debug, Clone, PartialEq, Eq)]
@@ -43,6 +48,7 @@ pub(crate) enum Rule {
     DistinctMasks,
     InputsReadOnly,
     DefinedBeforeUse,
+    KernelExists,
 }
 
 impl std::fmt::Display for VerifyError {
@@ -255,9 +261,19 @@ impl Verifier<'_> {
                 self.write(*dst, &[*src], defined)?;
             }
             Op::Kernel {
-                kernel, dst, args, ..
+                op,
+                half,
+                dst,
+                args,
+                ..
             } => {
-                let args = &args[..kernel.arity()];
+                if *half && !op.has_half() {
+                    return Err(self.fail(
+                        Rule::KernelExists,
+                        format!("{} has no f16 version", op.name()),
+                    ));
+                }
+                let args = &args[..op.arity()];
                 for &a in args {
                     self.read(a, defined)?;
                 }
@@ -447,8 +463,8 @@ mod tests {
     //! repaired, which the verifier accepts (so each rejection is for the
     //! rule named, not for some other flaw of the program).
     use super::*;
-    use crate::eval::ir::{Kernel, Site};
-    use crate::eval::lanes::{run2, FAdd};
+    use crate::eval::ir::Site;
+    use crate::eval::lanes::Opcode;
 
     /// Slots: 0 root mask, 1 and 2 inputs, then `extra` more.
     fn code(ops: Vec<Op>, extra: usize, outputs: Vec<Slot>) -> Code {
@@ -472,7 +488,8 @@ mod tests {
 
     fn add(dst: Slot, a: Slot, b: Slot) -> Op {
         Op::Kernel {
-            kernel: Kernel::Binary(run2::<FAdd>),
+            op: Opcode::FAdd,
+            half: false,
             dst,
             args: [a, b, 0, 0],
             at: 0,
@@ -542,6 +559,30 @@ mod tests {
         // an ordinary op overwrites a mask
         let clobber = vec![branch(3, 4, vec![add(3, 1, 2)])];
         rejects(code(clobber, 2, vec![]), Rule::DistinctMasks);
+    }
+
+    #[test]
+    fn an_f16_version_of_an_opcode_without_one_is_rejected() {
+        let kernel = |op: Opcode, half: bool| Op::Kernel {
+            op,
+            half,
+            dst: 3,
+            args: [1, 2, 0, 0],
+            at: 0,
+        };
+        accepts(code(vec![kernel(Opcode::FAdd, true)], 1, vec![3]));
+        // A comparison's result is a boolean; HMix already rounds to f16.
+        for op in [Opcode::FLt, Opcode::IAdd] {
+            rejects(code(vec![kernel(op, true)], 1, vec![3]), Rule::KernelExists);
+        }
+        let mix = Op::Kernel {
+            op: Opcode::HMix,
+            half: true,
+            dst: 3,
+            args: [1, 2, 1, 0],
+            at: 0,
+        };
+        rejects(code(vec![mix], 1, vec![3]), Rule::KernelExists);
     }
 
     #[test]

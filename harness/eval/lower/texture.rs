@@ -33,7 +33,7 @@ impl<'m> super::Compiler<'m> {
                 clamp_to_edge,
             } => {
                 let name =
-                    super::sample_name(gather.is_some(), level, depth_ref.is_some(), clamp_to_edge);
+                    super::unsupported::sample_name(gather.is_some(), level, depth_ref.is_some(), clamp_to_edge);
                 let level = match level {
                     naga::SampleLevel::Auto | naga::SampleLevel::Zero => None,
                     naga::SampleLevel::Exact(h) => Some(*h),
