@@ -57,6 +57,14 @@ impl CheckPoints {
                 tolerance: check.tolerance.clone(),
             });
         }
+        if let Some(expr) = &check.reference_expr {
+            expected.push(Expected {
+                kind: "reference",
+                against: format!("reference {}", expr.text),
+                want: gate::reference_expr_columns(check, expr, &ev.points, got.len())?,
+                tolerance: check.tolerance.clone(),
+            });
+        }
         if let Some(gpath) = &check.golden {
             let g = golden::read(&suite.resolve(gpath)).map_err(|d| d.rendered)?;
             if g.output_columns.len() == got.len() && g.header.points == ev.points.len {
@@ -196,6 +204,9 @@ pub fn unused_parameters(suite: &Suite, check: &Check) -> Result<Vec<(String, us
         for p in model.params {
             use_binding(p.name, &check.reference_args);
         }
+    }
+    if let Some(e) = &check.reference_expr {
+        used.extend(e.variables());
     }
     Ok(check
         .sweep

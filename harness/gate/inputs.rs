@@ -356,6 +356,27 @@ pub fn reference_columns(
     Ok(out)
 }
 
+/// A reference expression evaluated at every point (f64, one column per
+/// component); it must give as many values as the function returns
+/// (`outputs`).
+pub fn reference_expr_columns(
+    check: &Check,
+    expr: &Expr,
+    points: &Points,
+    outputs: usize,
+) -> Result<Vec<Vec<f64>>, String> {
+    let b = expr
+        .bind(&points.names, &example(points))
+        .map_err(|m| format!("check `{}`: reference `{}`: {m}", check.name, expr.text))?;
+    if b.width != outputs {
+        return Err(format!(
+            "check `{}`: `{}` returns {outputs} value(s) but reference `{}` gives {}",
+            check.name, check.function, expr.text, b.width
+        ));
+    }
+    columns(&[b], points)
+}
+
 /// A reference model must give as many values as the function returns;
 /// otherwise the check cannot be compared and this says why.
 pub fn reference_fits(check: &Check, model: &Model, outputs: usize) -> Result<(), String> {

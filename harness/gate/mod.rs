@@ -23,7 +23,7 @@ pub mod table;
 
 pub use inputs::{
     as_f64, build_of, evaluate, points_of, reference_arg_columns, reference_columns,
-    reference_fits, Build, Evaluated,
+    reference_expr_columns, reference_fits, Build, Evaluated,
 };
 pub use record::record;
 pub use result::{

@@ -5,9 +5,10 @@
 //! other, so the worst point and where the failures lie come from the same
 //! statistics and explainers.
 //!
-//! Both sides of a twin see the same parameter values: a sweep parameter
-//! that feeds an `f16` argument of either side is rounded to `f16` for both
-//! (see [`shared_points`]), and the check's findings say so.
+//! Both sides of a twin, and a function and its reference, see the same
+//! parameter values: a sweep parameter that feeds an `f16` argument of either
+//! side is rounded to `f16` for both (see [`shared_points`]), and the check's
+//! findings say so.
 
 use std::collections::BTreeMap;
 use std::fmt::Display;
@@ -70,7 +71,7 @@ pub fn build_other(
 
 /// The check's points, with every sweep parameter that feeds an `f16`
 /// argument of the check's function or its twin rounded to `f16`, so that
-/// both sides see the values the `f16` side sees. Also the finding that
+/// both sides (the twin or the reference) see the values the `f16` side sees. Also the finding that
 /// says which parameters were rounded (`None` when no side takes `f16`).
 pub fn shared_points(
     suite: &Suite,
@@ -78,20 +79,25 @@ pub fn shared_points(
     program: &Program,
 ) -> Result<(Points, Option<FindingKind>), String> {
     let mut points = points_of(check);
-    let Some(twin) = &check.twin else {
+    // Only a twin or a reference sees the parameters a second time; a golden
+    // records the function's own (already rounded) inputs.
+    if check.twin.is_none() && !check.has_reference() {
         return Ok((points, None));
+    }
+    let other = match &check.twin {
+        Some(twin) => Some(build_other(
+            suite,
+            check,
+            twin.shader.as_deref(),
+            &twin.function,
+            twin.line,
+        )?),
+        None => None,
     };
-    let (_, other) = build_other(
-        suite,
-        check,
-        twin.shader.as_deref(),
-        &twin.function,
-        twin.line,
-    )?;
-    let sides = [
-        (program, &check.args, check.function.as_str()),
-        (&other, &twin.args, twin.function.as_str()),
-    ];
+    let mut sides = vec![(program, &check.args, check.function.as_str())];
+    if let (Some(twin), Some((_, other))) = (&check.twin, &other) {
+        sides.push((other, &twin.args, twin.function.as_str()));
+    }
     let mut direct = Vec::new();
     let mut computed = Vec::new();
     for (prog, args, function) in sides {

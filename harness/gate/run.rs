@@ -9,7 +9,8 @@ use super::explain::{
     self, backend_agreement, failing_points, group_issues, Context, Evidence, Explainer, Reevaluate,
 };
 use super::inputs::{
-    as_f64, evaluate, reference_arg_columns, reference_columns, reference_fits, Build,
+    as_f64, evaluate, reference_arg_columns, reference_columns, reference_expr_columns,
+    reference_fits, Build,
 };
 use super::oracle;
 use super::result::{
@@ -248,6 +249,28 @@ fn run_inner(
                 suite,
                 evaluated: &ev,
             }),
+            explainers,
+        );
+        r.comparisons.push(c);
+        r.findings.extend(findings);
+    }
+    if let Some(expr) = &check.reference_expr {
+        check_tolerance(suite, check, &check.tolerance, "tolerance", got.len())?;
+        let want = reference_expr_columns(check, expr, &ev.points, got.len())?;
+        // No decomposition of an expression to search: the statistics and
+        // the locality explainers only.
+        let (c, findings) = comparison(
+            check,
+            format!("reference {}", expr.text),
+            &got,
+            &want,
+            &check.tolerance,
+            half,
+            &ev.points,
+            &r.issues,
+            None,
+            None,
+            None,
             explainers,
         );
         r.comparisons.push(c);

@@ -30,7 +30,9 @@ use std::sync::{Arc, Mutex, OnceLock};
 
 use toml::Spanned;
 
-use super::{num, Ctx, Suite};
+use super::domain::num;
+use super::locate::{key_in, Ctx};
+use super::Suite;
 use crate::limits::{Limit, Limits};
 use crate::reference::{Model, ParamKind};
 use crate::table::{self, Address, Bindings, Bound, Filter, Resource, Sampler, Table};
@@ -276,7 +278,7 @@ struct Fields<'a> {
 
 impl Fields<'_> {
     fn err(&self, key: &str, msg: impl std::fmt::Display) -> Diagnostic {
-        let span = super::key_in(self.cx.text, self.span.clone(), key);
+        let span = key_in(self.cx.text, self.span.clone(), key);
         let span = if span == self.span {
             self.at.clone()
         } else {

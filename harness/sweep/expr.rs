@@ -12,6 +12,14 @@
 //! Constants: `pi`. Functions: sqrt, abs, sin, cos, tan, asin, acos, atan,
 //! atan2, exp, log, pow, min, max, clamp, saturate, radians, degrees, dot,
 //! cross, length, normalize, vec3, mix.
+//!
+//! A *reference expression* ([`Expr::parse_reference`]) may also call the
+//! reference models of [`crate::reference`] by name: `lambert * n_dot_l`,
+//! `ggx_ndf(alpha = roughness ^ 2)`, `schlick_fresnel(n_dot_v) + sheen`.
+//! A model's arguments are positional, named (`alpha = ...`) or left out; a
+//! left-out one is filled by [`Expr::fill_models`] (the suite fills it from
+//! `reference_args`, `args` or the sweep parameter of the same name). A model
+//! inside an expression gives a scalar or a vec3 (one or three outputs).
 
 use std::collections::BTreeMap;
 use std::fmt;
@@ -63,6 +71,25 @@ enum Node {
     Bin(char, Box<Node>, Box<Node>),
     Call(String, Vec<Node>),
     Member(Box<Node>, usize),
+    /// A reference model called with its arguments (named or positional
+    /// until [`Expr::fill_models`] puts them all in parameter order).
+    Model(ModelRef, Vec<(Option<String>, Node)>),
+}
+
+/// A registry model inside an expression (compared by identity, shown by name).
+#[derive(Clone, Copy)]
+struct ModelRef(&'static crate::reference::Model);
+
+impl PartialEq for ModelRef {
+    fn eq(&self, other: &ModelRef) -> bool {
+        std::ptr::eq(self.0, other.0)
+    }
+}
+
+impl fmt::Debug for ModelRef {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "{}", self.0.name)
+    }
 }
 
 /// A parsed expression.
@@ -82,6 +109,8 @@ struct Parser<'a> {
     /// tree (a chain `x + x + …` is built in a loop but is as tall as it is
     /// long, and every later walk of the tree recurses).
     limit: u32,
+    /// Whether reference models may be called (a reference expression).
+    models: bool,
 }
 
 /// A parsed node and the height of its tree.
@@ -287,6 +316,14 @@ impl<'a> Parser<'a> {
             Some(c) if c.is_ascii_alphabetic() || c == b'_' => {
                 let at = self.i;
                 let name = self.ident();
+                let model = if self.models && !FUNCTIONS.iter().any(|(f, _)| *f == name) {
+                    crate::reference::find(&name)
+                } else {
+                    None
+                };
+                if let Some(m) = model {
+                    return self.model_call(m);
+                }
                 if self.eat(b'(') {
                     let Some(&(_, arity)) = FUNCTIONS.iter().find(|(f, _)| *f == name) else {
                         let known: Vec<_> = FUNCTIONS.iter().map(|f| f.0).collect();
@@ -335,6 +372,55 @@ impl<'a> Parser<'a> {
             None => self.err("unexpected end of expression"),
         }
     }
+
+    /// A model's name was read: `name`, or `name(arg, ..., key = arg, ...)`.
+    fn model_call(&mut self, m: &'static crate::reference::Model) -> Result<Parsed, ExprError> {
+        let mut args = Vec::new();
+        let mut h = 0;
+        if self.eat(b'(') {
+            self.open()?;
+            if !self.eat(b')') {
+                loop {
+                    // `key = expr` (the language has no `==`) or `expr`.
+                    let save = self.i;
+                    let key = self.ident();
+                    let named = !key.is_empty() && self.eat(b'=');
+                    if !named {
+                        self.i = save;
+                    } else if !m.params.iter().any(|p| p.name == key) {
+                        let known: Vec<_> = m.params.iter().map(|p| p.name).collect();
+                        return Err(ExprError {
+                            offset: save,
+                            message: format!(
+                                "model `{}` has no parameter `{key}` (has: {})",
+                                m.name,
+                                known.join(", ")
+                            ),
+                        });
+                    }
+                    let (a, ah) = self.expr()?;
+                    h = h.max(ah);
+                    args.push((named.then_some(key), a));
+                    if self.eat(b')') {
+                        break;
+                    }
+                    if !self.eat(b',') {
+                        return self.err("expected `,` or `)`");
+                    }
+                }
+            }
+            self.nest -= 1;
+        }
+        if args.len() > m.params.len() {
+            return self.err(format!(
+                "model `{}` takes {} argument(s), got {}",
+                m.name,
+                m.params.len(),
+                args.len()
+            ));
+        }
+        self.node(Node::Model(ModelRef(m), args), h + 1)
+    }
 }
 
 impl Expr {
@@ -347,11 +433,22 @@ impl Expr {
     /// operator chains) deeper than `depth_limit` levels with an error, so
     /// neither the parser nor a later walk of the tree can overflow the stack.
     pub fn parse_with(text: &str, depth_limit: u32) -> Result<Expr, ExprError> {
+        Self::parse_in(text, depth_limit, false)
+    }
+
+    /// Parse a reference expression: [`Expr::parse_with`] where the names
+    /// of reference models may also be used (see the module doc).
+    pub fn parse_reference(text: &str, depth_limit: u32) -> Result<Expr, ExprError> {
+        Self::parse_in(text, depth_limit, true)
+    }
+
+    fn parse_in(text: &str, depth_limit: u32, models: bool) -> Result<Expr, ExprError> {
         let mut p = Parser {
             s: text.as_bytes(),
             i: 0,
             nest: 0,
             limit: depth_limit,
+            models,
         };
         let (root, _) = p.expr()?;
         if p.peek().is_some() {
@@ -379,11 +476,94 @@ impl Expr {
                     walk(b, out)
                 }
                 Node::Call(_, args) => args.iter().for_each(|a| walk(a, out)),
+                Node::Model(_, args) => args.iter().for_each(|(_, a)| walk(a, out)),
             }
         }
         let mut out = Vec::new();
         walk(&self.root, &mut out);
         out
+    }
+
+    /// The reference models the expression calls, each once, in order.
+    pub fn models(&self) -> Vec<&'static crate::reference::Model> {
+        fn walk(n: &Node, out: &mut Vec<&'static crate::reference::Model>) {
+            match n {
+                Node::Num(_) | Node::Idx(_) | Node::Var(_) => {}
+                Node::Neg(a) | Node::Member(a, _) => walk(a, out),
+                Node::Bin(_, a, b) => {
+                    walk(a, out);
+                    walk(b, out)
+                }
+                Node::Call(_, args) => args.iter().for_each(|a| walk(a, out)),
+                Node::Model(m, args) => {
+                    if !out.iter().any(|x| std::ptr::eq(*x, m.0)) {
+                        out.push(m.0);
+                    }
+                    args.iter().for_each(|(_, a)| walk(a, out))
+                }
+            }
+        }
+        let mut out = Vec::new();
+        walk(&self.root, &mut out);
+        out
+    }
+
+    /// Every model call with all its arguments, in parameter order: a
+    /// positional argument, else the named one, else `default(parameter)`.
+    /// Refuses an argument given twice and one nobody gives.
+    pub fn fill_models(&self, default: &dyn Fn(&str) -> Option<Expr>) -> Result<Expr, String> {
+        fn fill(n: &Node, default: &dyn Fn(&str) -> Option<Expr>) -> Result<Node, String> {
+            let f = |a: &Node| fill(a, default);
+            Ok(match n {
+                Node::Num(_) | Node::Idx(_) | Node::Var(_) => n.clone(),
+                Node::Neg(a) => Node::Neg(f(a)?.into()),
+                Node::Member(a, k) => Node::Member(f(a)?.into(), *k),
+                Node::Bin(op, a, b) => Node::Bin(*op, f(a)?.into(), f(b)?.into()),
+                Node::Call(name, args) => {
+                    Node::Call(name.clone(), args.iter().map(f).collect::<Result<_, _>>()?)
+                }
+                Node::Model(m, args) => {
+                    let positional = args.iter().take_while(|(k, _)| k.is_none()).count();
+                    if args[positional..].iter().any(|(k, _)| k.is_none()) {
+                        return Err(format!(
+                            "model `{}`: a positional argument follows a named one",
+                            m.0.name
+                        ));
+                    }
+                    let mut out = Vec::new();
+                    for (i, p) in m.0.params.iter().enumerate() {
+                        let named: Vec<_> = args
+                            .iter()
+                            .filter(|(k, _)| k.as_deref() == Some(p.name))
+                            .collect();
+                        if named.len() + usize::from(i < positional) > 1 {
+                            return Err(format!(
+                                "model `{}`: parameter `{}` is given twice",
+                                m.0.name, p.name
+                            ));
+                        }
+                        let node = if i < positional {
+                            f(&args[i].1)?
+                        } else if let Some((_, a)) = named.first() {
+                            f(a)?
+                        } else if let Some(e) = default(p.name) {
+                            e.root
+                        } else {
+                            return Err(format!(
+                                "model `{}` needs `{}`: give it in the call (`{}({} = ...)`), in `reference_args`, in `args` or as a sweep parameter",
+                                m.0.name, p.name, m.0.name, p.name
+                            ));
+                        };
+                        out.push((Some(p.name.to_string()), node));
+                    }
+                    Node::Model(*m, out)
+                }
+            })
+        }
+        Ok(Expr {
+            text: self.text.clone(),
+            root: fill(&self.root, default)?,
+        })
     }
 
     /// Evaluate with the given variables.
@@ -418,6 +598,12 @@ impl Expr {
                         .map(|a| resolve(a, names))
                         .collect::<Result<_, _>>()?,
                 ),
+                Node::Model(m, args) => Node::Model(
+                    *m,
+                    args.iter()
+                        .map(|(k, a)| Ok((k.clone(), resolve(a, names)?)))
+                        .collect::<Result<_, String>>()?,
+                ),
             })
         }
         let root = resolve(&self.root, names)?;
@@ -444,6 +630,12 @@ impl Expr {
                 Node::Call(f, args) => {
                     Node::Call(f.clone(), args.iter().map(|a| sub(a, name, with)).collect())
                 }
+                Node::Model(m, args) => Node::Model(
+                    *m,
+                    args.iter()
+                        .map(|(k, a)| (k.clone(), sub(a, name, with)))
+                        .collect(),
+                ),
             }
         }
         Expr {
@@ -527,6 +719,48 @@ fn eval(n: &Node, vars: &BTreeMap<&str, Value>, vals: &[Value]) -> Result<Value,
                 '*' => zip(a, b, |x, y| x * y),
                 '/' => zip(a, b, |x, y| x / y),
                 _ => zip(a, Value::S(scalar(b, "`^`")?), f64::powf),
+            }
+        }
+        Node::Model(m, args) => {
+            let m = m.0;
+            if args.len() != m.params.len() {
+                return Err(format!(
+                    "model `{}` has {} of its {} arguments (fill_models completes them)",
+                    m.name,
+                    args.len(),
+                    m.params.len()
+                ));
+            }
+            let mut flat = Vec::with_capacity(m.arity());
+            for ((_, a), p) in args.iter().zip(m.params) {
+                let v = eval(a)?;
+                if v.width() != p.kind.width() {
+                    return Err(format!(
+                        "model `{}`: parameter `{}` takes {} value(s), its argument gives {}",
+                        m.name,
+                        p.name,
+                        p.kind.width(),
+                        v.width()
+                    ));
+                }
+                flat.extend(v.components());
+            }
+            let mut out = [0.0; 3];
+            match m.outputs {
+                1 => {
+                    (m.eval)(&flat, &mut out[..1]);
+                    Value::S(out[0])
+                }
+                3 => {
+                    (m.eval)(&flat, &mut out);
+                    Value::V(out)
+                }
+                n => {
+                    return Err(format!(
+                        "model `{}` gives {n} values; inside an expression a model must give 1 or 3 (use it alone as the reference)",
+                        m.name
+                    ))
+                }
             }
         }
         Node::Call(f, args) => {

@@ -11,6 +11,7 @@ mod html;
 mod oracles;
 mod planted;
 mod plots;
+mod references;
 mod report_formats;
 mod runner;
 mod suite_errors;

@@ -176,7 +176,8 @@ fn reference_argument_the_model_does_not_have() {
             "{ alpha = \"roughness * roughness\" }",
             "{ alpha = \"roughness * roughness\", beta = \"1\" }",
         ),
-        2,
+        // The `reference_args` line itself, no longer the check's first line.
+        7,
         &["reference_args.beta", "ggx_ndf"],
     );
 }
