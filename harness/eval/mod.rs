@@ -153,14 +153,8 @@ impl Program {
             Arithmetic::Exact => (false, 0),
             Arithmetic::SpecBounds { seed } => (true, seed),
         };
-        let code = lower::Compiler::compile(
-            shader,
-            function,
-            overrides,
-            spec_bounds,
-            limits,
-            bindings,
-        )?;
+        let code =
+            lower::Compiler::compile(shader, function, overrides, spec_bounds, limits, bindings)?;
         let code = Verified::new(code).map_err(|e| {
             Diagnostic::without_position(
                 &shader.path,

@@ -641,11 +641,19 @@ mod tests {
         // A destination that is a coordinate, the level, the mask or another
         // destination of the same op.
         rejects(
-            code(vec![add(3, 1, 2), texture([3, 4, 5, 6], [3, 2], None)], 4, vec![6]),
+            code(
+                vec![add(3, 1, 2), texture([3, 4, 5, 6], [3, 2], None)],
+                4,
+                vec![6],
+            ),
             Rule::FreshDestination,
         );
         rejects(
-            code(vec![add(3, 1, 2), texture([4, 3, 5, 6], [1, 2], Some(3))], 4, vec![6]),
+            code(
+                vec![add(3, 1, 2), texture([4, 3, 5, 6], [1, 2], Some(3))],
+                4,
+                vec![6],
+            ),
             Rule::FreshDestination,
         );
         rejects(

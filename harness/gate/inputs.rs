@@ -58,7 +58,12 @@ pub fn bindings_of(
             .global_variables
             .iter()
             .filter(|(_, g)| g.space == naga::AddressSpace::Handle)
-            .map(|(_, g)| (g.name.clone(), g.binding.as_ref().map(|b| (b.group, b.binding))))
+            .map(|(_, g)| {
+                (
+                    g.name.clone(),
+                    g.binding.as_ref().map(|b| (b.group, b.binding)),
+                )
+            })
             .collect();
         t.check_declared(suite, &check.name, &declared)
             .map_err(|d| d.rendered)?;

@@ -126,7 +126,11 @@ impl Textures {
             .tables
             .iter()
             .map(|t| (&t.resource, &t.at, "textures"))
-            .chain(self.samplers.iter().map(|s| (&s.resource, &s.at, "samplers")));
+            .chain(
+                self.samplers
+                    .iter()
+                    .map(|s| (&s.resource, &s.at, "samplers")),
+            );
         for (r, at, table) in resources {
             if !declared.iter().any(|(n, b)| r.matches(n.as_deref(), *b)) {
                 let names: Vec<String> = declared
@@ -177,10 +181,7 @@ fn model_table(model: &'static Model, w: u32, h: u32, u: (f64, f64), v: (f64, f6
         })
         .expect("sizes checked when the suite was read"),
     );
-    cache
-        .lock()
-        .expect("table cache")
-        .insert(key, t.clone());
+    cache.lock().expect("table cache").insert(key, t.clone());
     t
 }
 
@@ -370,10 +371,16 @@ impl Fields<'_> {
                 };
                 match (dim(&a[0]), dim(&a[1])) {
                     (Some(w), Some(h)) => (w, h),
-                    _ => return Err(self.err("size", "expected two positive integers [width, height]")),
+                    _ => {
+                        return Err(
+                            self.err("size", "expected two positive integers [width, height]")
+                        )
+                    }
                 }
             }
-            Some(_) => return Err(self.err("size", "expected two positive integers [width, height]")),
+            Some(_) => {
+                return Err(self.err("size", "expected two positive integers [width, height]"))
+            }
             None => return Err(self.err("size", "missing: the grid's [width, height] in texels")),
         };
         let texels = u64::from(size.0) * u64::from(size.1);
@@ -511,34 +518,104 @@ mod tests {
                 group: 1,
                 binding: 2
             }));
-        let lut = t.tables.iter().find(|b| b.resource == Resource::Name("lut".into())).unwrap();
+        let lut = t
+            .tables
+            .iter()
+            .find(|b| b.resource == Resource::Name("lut".into()))
+            .unwrap();
         match &lut.source {
-            TableSource::Model { width, height, u, v, .. } => {
+            TableSource::Model {
+                width,
+                height,
+                u,
+                v,
+                ..
+            } => {
                 assert_eq!((*width, *height, *u, *v), (8, 4, (0.0, 1.0), (1.0, 0.0)))
             }
             other => panic!("{other:?}"),
         }
         let s = t.samplers[0].sampler;
         assert_eq!(
-            (s.mag_filter, s.min_filter, s.address_u, s.address_v, s.weight_bits),
-            (Filter::Linear, Filter::Linear, Address::Repeat, Address::ClampToEdge, Some(8))
+            (
+                s.mag_filter,
+                s.min_filter,
+                s.address_u,
+                s.address_v,
+                s.weight_bits
+            ),
+            (
+                Filter::Linear,
+                Filter::Linear,
+                Address::Repeat,
+                Address::ClampToEdge,
+                Some(8)
+            )
         );
     }
 
     #[test]
     fn bad_bindings_are_located() {
-        bad("\n[check.textures.lut]\nmodel = \"nope\"\nsize = [2, 2]\n", 11, "no reference model");
-        bad("\n[check.textures.lut]\nmodel = \"schlick_fresnel_rgb\"\nsize = [2, 2]\n", 11, "two scalar");
-        bad("\n[check.textures.lut]\nmodel = \"split_sum\"\nsize = [0, 2]\n", 12, "positive integers");
-        bad("\n[check.textures.lut]\nmodel = \"split_sum\"\n", 10, "size");
-        bad("\n[check.textures.lut]\nfile = \"a.csv\"\nmodel = \"split_sum\"\n", 10, "either `file`");
-        bad("\n[check.textures.lut]\nfile = \"a.csv\"\nsize = [2, 2]\n", 12, "unknown key");
-        bad("\n[check.textures.\"2lut\"]\nfile = \"a.csv\"\n", 10, "variable name");
-        bad("\n[check.textures.\"@group(0) @binding(x)\"]\nfile = \"a.csv\"\n", 10, "variable name");
-        bad("\n[check.samplers.s]\nfilter = \"cubic\"\n", 11, "\"nearest\" or \"linear\"");
-        bad("\n[check.samplers.s]\naddress = \"wrap\"\n", 11, "mirror-repeat");
-        bad("\n[check.samplers.s]\naddress = \"repeat\"\naddress_u = \"repeat\"\n", 11, "not both");
-        bad("\n[check.samplers.s]\nweight_bits = 40\n", 11, "from 1 to 24");
+        bad(
+            "\n[check.textures.lut]\nmodel = \"nope\"\nsize = [2, 2]\n",
+            11,
+            "no reference model",
+        );
+        bad(
+            "\n[check.textures.lut]\nmodel = \"schlick_fresnel_rgb\"\nsize = [2, 2]\n",
+            11,
+            "two scalar",
+        );
+        bad(
+            "\n[check.textures.lut]\nmodel = \"split_sum\"\nsize = [0, 2]\n",
+            12,
+            "positive integers",
+        );
+        bad(
+            "\n[check.textures.lut]\nmodel = \"split_sum\"\n",
+            10,
+            "size",
+        );
+        bad(
+            "\n[check.textures.lut]\nfile = \"a.csv\"\nmodel = \"split_sum\"\n",
+            10,
+            "either `file`",
+        );
+        bad(
+            "\n[check.textures.lut]\nfile = \"a.csv\"\nsize = [2, 2]\n",
+            12,
+            "unknown key",
+        );
+        bad(
+            "\n[check.textures.\"2lut\"]\nfile = \"a.csv\"\n",
+            10,
+            "variable name",
+        );
+        bad(
+            "\n[check.textures.\"@group(0) @binding(x)\"]\nfile = \"a.csv\"\n",
+            10,
+            "variable name",
+        );
+        bad(
+            "\n[check.samplers.s]\nfilter = \"cubic\"\n",
+            11,
+            "\"nearest\" or \"linear\"",
+        );
+        bad(
+            "\n[check.samplers.s]\naddress = \"wrap\"\n",
+            11,
+            "mirror-repeat",
+        );
+        bad(
+            "\n[check.samplers.s]\naddress = \"repeat\"\naddress_u = \"repeat\"\n",
+            11,
+            "not both",
+        );
+        bad(
+            "\n[check.samplers.s]\nweight_bits = 40\n",
+            11,
+            "from 1 to 24",
+        );
         bad(
             "\n[check.textures.s]\nfile = \"a.csv\"\n[check.samplers.s]\nfilter = \"linear\"\n",
             12,

@@ -274,7 +274,11 @@ pub fn parse(path: &Path, text: &str, limits: &Limits) -> Result<Table, Diagnost
             ),
         ));
     }
-    for (i, (p, name)) in parts.iter().zip(["width", "height", "channels"]).enumerate() {
+    for (i, (p, name)) in parts
+        .iter()
+        .zip(["width", "height", "channels"])
+        .enumerate()
+    {
         dims[i] = match p.parse::<u32>() {
             Ok(v) if v > 0 && p.bytes().all(|b| b.is_ascii_digit()) => v,
             _ => {
@@ -413,13 +417,43 @@ mod tests {
         bad("width,height,channels\n1,x,1\n", 2, 3, "height");
         bad("width,height,channels\n1,0,1\n", 2, 3, "height");
         bad("width,height,channels\n1,1,5\n", 2, 5, "1 to 4 channels");
-        bad("width,height,channels\n2,1,2\n1,2\n3\n", 4, 2, "has 1 value(s), expected 2");
-        bad("width,height,channels\n2,1,1\n1,2\n", 3, 3, "more than 1 value");
-        bad("width,height,channels\n1,1,1\n nan\n", 3, 1, "finite decimal");
-        bad("width,height,channels\n1,1,1\ninf\n", 3, 1, "finite decimal");
-        bad("width,height,channels\n1,1,1\n1e39\n", 3, 1, "finite decimal");
+        bad(
+            "width,height,channels\n2,1,2\n1,2\n3\n",
+            4,
+            2,
+            "has 1 value(s), expected 2",
+        );
+        bad(
+            "width,height,channels\n2,1,1\n1,2\n",
+            3,
+            3,
+            "more than 1 value",
+        );
+        bad(
+            "width,height,channels\n1,1,1\n nan\n",
+            3,
+            1,
+            "finite decimal",
+        );
+        bad(
+            "width,height,channels\n1,1,1\ninf\n",
+            3,
+            1,
+            "finite decimal",
+        );
+        bad(
+            "width,height,channels\n1,1,1\n1e39\n",
+            3,
+            1,
+            "finite decimal",
+        );
         bad("width,height,channels\n1,1,1\n1\n2\n", 4, 1, "extra line");
-        bad("width,height,channels\n2,2,1\n1\n2\n", 4, 1, "ends after 2 texel(s)");
+        bad(
+            "width,height,channels\n2,2,1\n1\n2\n",
+            4,
+            1,
+            "ends after 2 texel(s)",
+        );
         let mut small = Limits::default();
         small.table_texels = 3;
         let e = parse(Path::new("t.csv"), "width,height,channels\n2,2,1\n", &small).unwrap_err();

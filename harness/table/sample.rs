@@ -386,7 +386,13 @@ mod tests {
         // α = 0.3 (x = 0.3 + 0.5 - 0.5): rounds to 0.25; row 0 texels 0, 1.
         let u = 0.8 / 4.0;
         assert_eq!(sample(&table(), &s, u, 0.25, 0.0)[0], 0.25);
-        let exact = sample(&table(), &sampler(Filter::Linear, ClampToEdge, ClampToEdge), u, 0.25, 0.0);
+        let exact = sample(
+            &table(),
+            &sampler(Filter::Linear, ClampToEdge, ClampToEdge),
+            u,
+            0.25,
+            0.0,
+        );
         assert!((exact[0] - 0.3).abs() < 1e-6);
     }
 

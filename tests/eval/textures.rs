@@ -205,7 +205,12 @@ fn texture_sample_is_level_zero_and_masked_lanes_do_not_matter() {
 
 #[test]
 fn level_above_zero_uses_the_min_filter() {
-    let mut b = bindings(Filter::Linear, Address::ClampToEdge, Address::ClampToEdge, false);
+    let mut b = bindings(
+        Filter::Linear,
+        Address::ClampToEdge,
+        Address::ClampToEdge,
+        false,
+    );
     if let Bound::Sampler(s) = &mut b.entries[1].1 {
         s.min_filter = Filter::Nearest;
     }
@@ -220,20 +225,36 @@ fn texture_load_reads_texels_and_reports_out_of_range_points() {
     let b = bindings(Filter::Nearest, Address::Repeat, Address::Repeat, false);
     let p = compile("load_i", &b).unwrap();
     assert_eq!(p.input_leaves()[0].1, ScalarKind::I32);
-    let (out, issues) = run(&p, &[vec![3.0, 1.0], vec![4.0, 0.0], vec![-1.0, 0.0], vec![1.0, 0.0]]);
+    let (out, issues) = run(
+        &p,
+        &[
+            vec![3.0, 1.0],
+            vec![4.0, 0.0],
+            vec![-1.0, 0.0],
+            vec![1.0, 0.0],
+        ],
+    );
     assert_eq!(out[0], vec![64.0, 0.0, 0.0, 1.0]);
     // Out of range reads (0, 0, 0, 0) (one of the results WGSL allows).
     assert_eq!(out[3], vec![1.0, 0.0, 0.0, 1.0]);
     let pts: Vec<usize> = issues.iter().map(|i| i.point).collect();
     assert_eq!(pts, vec![1, 2]);
     assert!(issues.iter().all(|i| i.kind == IssueKind::OutOfBounds));
-    assert!(issues[0].message.contains("(4, 0)"), "{}", issues[0].message);
+    assert!(
+        issues[0].message.contains("(4, 0)"),
+        "{}",
+        issues[0].message
+    );
     assert_eq!(issues[0].line, 17);
 
     let p = compile("load_u", &b).unwrap();
     let (out, issues) = run(
         &p,
-        &[vec![2.0, 1.0, 0.0], vec![2.0, 1.0, 1.0], vec![4294967295.0, 0.0, 0.0]],
+        &[
+            vec![2.0, 1.0, 0.0],
+            vec![2.0, 1.0, 1.0],
+            vec![4294967295.0, 0.0, 0.0],
+        ],
     );
     assert_eq!(out[0], vec![32.0, 0.0, 0.0]);
     assert_eq!(issues.len(), 2, "{issues:?}");
@@ -243,7 +264,11 @@ fn texture_load_reads_texels_and_reports_out_of_range_points() {
 fn unbound_and_misbound_textures_are_located_errors() {
     let e = refused("sample_level", &Bindings::default());
     assert!(e.message.contains("not supported"), "{}", e.message);
-    assert!(e.message.contains("`lut") && e.message.contains("[check."), "{}", e.message);
+    assert!(
+        e.message.contains("`lut") && e.message.contains("[check."),
+        "{}",
+        e.message
+    );
     assert_eq!(e.line, 6, "{}", e.rendered);
     // Only the sampler bound: the texture is still refused.
     let mut b = bindings(Filter::Linear, Address::Repeat, Address::Repeat, false);
@@ -254,5 +279,9 @@ fn unbound_and_misbound_textures_are_located_errors() {
     let mut b = bindings(Filter::Linear, Address::Repeat, Address::Repeat, false);
     b.entries[1].1 = Bound::Table(table());
     let e = refused("sample_level", &b);
-    assert!(e.message.contains("binds a table to this sampler"), "{}", e.message);
+    assert!(
+        e.message.contains("binds a table to this sampler"),
+        "{}",
+        e.message
+    );
 }

@@ -15,4 +15,5 @@ mod references;
 mod report_formats;
 mod runner;
 mod suite_errors;
+mod textures;
 mod tidy;

@@ -32,8 +32,12 @@ impl<'m> super::Compiler<'m> {
                 depth_ref,
                 clamp_to_edge,
             } => {
-                let name =
-                    super::unsupported::sample_name(gather.is_some(), level, depth_ref.is_some(), clamp_to_edge);
+                let name = super::unsupported::sample_name(
+                    gather.is_some(),
+                    level,
+                    depth_ref.is_some(),
+                    clamp_to_edge,
+                );
                 let level = match level {
                     naga::SampleLevel::Auto | naga::SampleLevel::Zero => None,
                     naga::SampleLevel::Exact(h) => Some(*h),
@@ -43,15 +47,17 @@ impl<'m> super::Compiler<'m> {
                     return Err(self.unsupported(name));
                 }
                 if array_index.is_some() || offset.is_some() {
-                    return Err(self.unsupported(&format!(
-                        "{name} with an array index or a texel offset"
-                    )));
+                    return Err(
+                        self.unsupported(&format!("{name} with an array index or a texel offset"))
+                    );
                 }
                 let s = match self.bound(frame, sampler)? {
                     Bound::Sampler(s) => s,
                     Bound::Table(_) => {
-                        return Err(self.err("the check binds a table to this sampler variable; \
-                             bind it to a sampler description instead"))
+                        return Err(self.err(
+                            "the check binds a table to this sampler variable; \
+                             bind it to a sampler description instead",
+                        ))
                     }
                 };
                 (image, coordinate, level, TextureAccess::Sample(s))
