@@ -120,7 +120,7 @@ impl Textures {
         &self,
         suite: &Suite,
         check: &str,
-        declared: &[(Option<String>, Option<(u32, u32)>)],
+        declared: &[Declared],
     ) -> Result<(), Diagnostic> {
         let resources = self
             .tables
@@ -158,6 +158,10 @@ impl Textures {
         Ok(())
     }
 }
+
+/// A texture or sampler variable of a shader: its name and its
+/// `(group, binding)`.
+pub type Declared = (Option<String>, Option<(u32, u32)>);
 
 /// A model's grid, computed once per process for each model, size and range.
 fn model_table(model: &'static Model, w: u32, h: u32, u: (f64, f64), v: (f64, f64)) -> Arc<Table> {
@@ -498,7 +502,7 @@ mod tests {
 
     #[track_caller]
     fn bad(extra: &str, line: u32, words: &str) {
-        let e = parse(extra).err().expect("refused");
+        let e = parse(extra).expect_err("refused");
         assert!(e.message.contains(words), "{}", e.rendered);
         assert_eq!(e.line, line, "{}", e.rendered);
     }

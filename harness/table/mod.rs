@@ -454,8 +454,10 @@ mod tests {
             1,
             "ends after 2 texel(s)",
         );
-        let mut small = Limits::default();
-        small.table_texels = 3;
+        let small = Limits {
+            table_texels: 3,
+            ..Limits::default()
+        };
         let e = parse(Path::new("t.csv"), "width,height,channels\n2,2,1\n", &small).unwrap_err();
         assert!(e.message.contains("table_texels"), "{}", e.message);
     }

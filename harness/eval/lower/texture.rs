@@ -131,19 +131,17 @@ impl<'m> super::Compiler<'m> {
         };
         let gv = &self.module.global_variables[g];
         let name = gv.name.clone().unwrap_or_default();
-        let ok_type = match self.module.types[gv.ty].inner {
+        let ok_type = matches!(
+            self.module.types[gv.ty].inner,
             naga::TypeInner::Image {
                 dim: naga::ImageDimension::D2,
                 arrayed: false,
-                class:
-                    naga::ImageClass::Sampled {
-                        kind: naga::ScalarKind::Float,
-                        multi: false,
-                    },
-            } => true,
-            naga::TypeInner::Sampler { comparison: false } => true,
-            _ => false,
-        };
+                class: naga::ImageClass::Sampled {
+                    kind: naga::ScalarKind::Float,
+                    multi: false,
+                },
+            } | naga::TypeInner::Sampler { comparison: false }
+        );
         if !ok_type {
             return Err(self.unsupported(&format!(
                 "the resource `{name}` (only `texture_2d<f32>` and `sampler` variables can be \
