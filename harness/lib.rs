@@ -50,6 +50,7 @@ pub mod reference;
 pub mod report;
 pub mod suite;
 pub mod sweep;
+pub mod table;
 pub mod wgsl;
 
 /// Load the suite file at `path`, run all its checks on the CPU, and return the result;

@@ -31,6 +31,9 @@ pub struct Limits {
     pub golden_bytes: u64,
     /// Checks in one suite file.
     pub checks_per_suite: u64,
+    /// Texels (width × height) of one look-up table bound to a texture, read
+    /// from a file or computed from a model.
+    pub table_texels: u64,
 }
 
 impl Default for Limits {
@@ -43,6 +46,7 @@ impl Default for Limits {
             expression_depth: 256,
             golden_bytes: 256 << 20,
             checks_per_suite: 100_000,
+            table_texels: 1 << 22,
         }
     }
 }
@@ -69,6 +73,7 @@ impl Limits {
             }
             Limit::GoldenBytes => self.golden_bytes = value,
             Limit::ChecksPerSuite => self.checks_per_suite = value,
+            Limit::TableTexels => self.table_texels = value,
         }
         Ok(())
     }
@@ -84,11 +89,12 @@ pub enum Limit {
     ExpressionDepth,
     GoldenBytes,
     ChecksPerSuite,
+    TableTexels,
 }
 
 impl Limit {
     /// Every limit, in the order the README lists them.
-    pub const ALL: [Limit; 7] = [
+    pub const ALL: [Limit; 8] = [
         Limit::PointsPerCheck,
         Limit::ProgramOps,
         Limit::StepsPerPoint,
@@ -96,6 +102,7 @@ impl Limit {
         Limit::ExpressionDepth,
         Limit::GoldenBytes,
         Limit::ChecksPerSuite,
+        Limit::TableTexels,
     ];
 
     /// The key of this limit in a suite's `[limits]` table.
@@ -108,6 +115,7 @@ impl Limit {
             Limit::ExpressionDepth => "expression_depth",
             Limit::GoldenBytes => "golden_bytes",
             Limit::ChecksPerSuite => "checks_per_suite",
+            Limit::TableTexels => "table_texels",
         }
     }
 
@@ -121,6 +129,7 @@ impl Limit {
             Limit::ExpressionDepth => u64::from(limits.expression_depth),
             Limit::GoldenBytes => limits.golden_bytes,
             Limit::ChecksPerSuite => limits.checks_per_suite,
+            Limit::TableTexels => limits.table_texels,
         }
     }
 

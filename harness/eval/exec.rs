@@ -448,6 +448,17 @@ impl Machine {
                     let a = *col(pt.arg);
                     pt.apply(&mut *col(pt.dst), &a, self.seed);
                 }
+                Op::Texture(ref t) => {
+                    // Operands are copied out whole before any destination
+                    // column is written (rule 2 keeps them apart anyway).
+                    let (u, v, m) = (*col(t.coords[0]), *col(t.coords[1]), *col(t.mask));
+                    let level = t.level.map(|l| *col(l));
+                    let mut out = [[0u32; LANES]; 4];
+                    t.run(&u, &v, level.as_ref(), &m, &mut out, &mut self.issues);
+                    for (&d, o) in t.dst.iter().zip(&out) {
+                        *col(d) = *o;
+                    }
+                }
                 Op::Exit { current, ref masks } => {
                     let cur = *col(current);
                     for &m in masks.iter() {

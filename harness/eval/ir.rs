@@ -127,6 +127,8 @@ pub(crate) enum Op {
     /// Spec-bound number model only: move `dst` (a result just computed from
     /// `arg`) within its accuracy bound.
     Perturb(super::perturb::Perturb),
+    /// A texture built-in on a bound table, per lane (see [`super::texture::TextureOp`]).
+    Texture(Box<super::texture::TextureOp>),
 }
 
 /// Most operands or results of one [`Op::PerLane`].

@@ -19,6 +19,7 @@ pub(crate) mod shadow;
 #[cfg(test)]
 mod tests;
 pub mod text;
+pub(crate) mod texture;
 pub mod ty;
 pub(crate) mod verify;
 
@@ -125,11 +126,36 @@ impl Program {
         arithmetic: Arithmetic,
         limits: &Limits,
     ) -> Result<Program, Diagnostic> {
+        Self::compile_bound(
+            shader,
+            function,
+            overrides,
+            arithmetic,
+            limits,
+            &crate::table::Bindings::NONE,
+        )
+    }
+
+    /// [`Program::compile_limited`] with look-up tables and sampler
+    /// descriptions bound to the shader's `texture_2d<f32>` and `sampler`
+    /// variables: `textureSampleLevel`, `textureSample` and `textureLoad` on
+    /// them then evaluate as [`crate::table::sample`] defines. A texture
+    /// access on a variable `bindings` does not name stays a located "not
+    /// supported" error.
+    pub fn compile_bound(
+        shader: &Shader,
+        function: &str,
+        overrides: &BTreeMap<String, f64>,
+        arithmetic: Arithmetic,
+        limits: &Limits,
+        bindings: &crate::table::Bindings,
+    ) -> Result<Program, Diagnostic> {
         let (spec_bounds, seed) = match arithmetic {
             Arithmetic::Exact => (false, 0),
             Arithmetic::SpecBounds { seed } => (true, seed),
         };
-        let code = lower::Compiler::compile(shader, function, overrides, spec_bounds, limits)?;
+        let code =
+            lower::Compiler::compile(shader, function, overrides, spec_bounds, limits, bindings)?;
         let code = Verified::new(code).map_err(|e| {
             Diagnostic::without_position(
                 &shader.path,

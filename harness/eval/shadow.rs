@@ -30,7 +30,8 @@
 //! no f16); `quantizeToF16` keeps its meaning (round to f16). Operations that
 //! read and write several slots per lane (packing, `frexp`, `modf`, f16
 //! bitcasts) run on the working values and restart the shadow from their
-//! results.
+//! results; so does a read of a bound look-up table (`Op::Texture`), which
+//! is data, like an input.
 
 // Lane loops index several columns (working, shadow, masks) in lockstep, as
 // the executor's do; an iterator per column would hide that.
@@ -758,6 +759,24 @@ impl<'a> Shadow<'a> {
                 if matches!(mode, Mode::Shadow) {
                     let a = self.w[pt.arg as usize];
                     pt.apply(&mut self.w[pt.dst as usize], &a, self.seed);
+                }
+            }
+            Op::Texture(ref t) => {
+                // A table read is data, like an input: it runs on the working
+                // coordinates (in the f64 model those are its values rounded to
+                // f32) and its texels restart the shadow exactly. Out-of-bounds
+                // loads are reported by the normal evaluation, not here.
+                let (u, v, m) = (
+                    self.w[t.coords[0] as usize],
+                    self.w[t.coords[1] as usize],
+                    self.w[t.mask as usize],
+                );
+                let level = t.level.map(|l| self.w[l as usize]);
+                let mut out = [[0u32; LANES]; 4];
+                t.run(&u, &v, level.as_ref(), &m, &mut out, &mut Vec::new());
+                for (&d, o) in t.dst.iter().zip(&out) {
+                    self.w[d as usize] = *o;
+                    self.s[d as usize] = o.map(wf);
                 }
             }
             Op::Exit { current, ref masks } => {

@@ -126,3 +126,63 @@ fn dynamic_stores_through_pointers_and_f16_leaves() {
         .all(|i| i.kind == IssueKind::OutOfBounds && i.point % 4 == 3));
     assert!(!issues.is_empty());
 }
+
+/// A look-up table sampled in place of a texture: the texture op reads its
+/// operand columns and writes four result columns per lane, under Miri too.
+#[test]
+fn a_bound_table_is_sampled_and_loaded_per_lane() {
+    use crate::table::{Address, Bindings, Bound, Filter, Resource, Sampler, Table};
+    use std::sync::Arc;
+    let src = "
+@group(0) @binding(0) var t: texture_2d<f32>;
+@group(0) @binding(1) var s: sampler;
+fn f(u: f32, v: f32, i: i32) -> vec2<f32> {
+    let a = textureSampleLevel(t, s, vec2(u, v), 0.0);
+    let b = textureLoad(t, vec2(i, 0), 0);
+    return vec2(a.y, b.x);
+}
+";
+    let table = Table::new(2, 1, 2, vec![1.0, 10.0, 3.0, 30.0]).unwrap();
+    let sampler = Sampler {
+        mag_filter: Filter::Linear,
+        min_filter: Filter::Linear,
+        address_u: Address::Repeat,
+        address_v: Address::Repeat,
+        weight_bits: None,
+    };
+    let b = Bindings {
+        entries: vec![
+            (Resource::Name("t".into()), Bound::Table(Arc::new(table))),
+            (Resource::Name("s".into()), Bound::Sampler(sampler)),
+        ],
+    };
+    let sh = Shader::from_source("exec.wgsl", src.to_string()).unwrap();
+    let p = Program::compile_bound(
+        &sh,
+        "f",
+        &BTreeMap::new(),
+        super::Arithmetic::Exact,
+        &crate::limits::Limits::default(),
+        &b,
+    )
+    .unwrap_or_else(|e| panic!("{e}"));
+    // u = 0.5 is between the two centres: (10 + 30) / 2; u = 0 wraps: the
+    // same; u = 0.25 is the centre of texel 0. Texel 2 is out of range: 0
+    // and an issue.
+    let n = LANES + 1;
+    let rows: Vec<Vec<f64>> = (0..n)
+        .map(|i| vec![[0.5, 0.0, 0.25][i % 3], 0.5, (i % 3) as f64])
+        .collect();
+    let cols = columns(&p, &rows);
+    let refs: Vec<&[u32]> = cols.iter().map(|c| &c[..]).collect();
+    let mut out = Vec::new();
+    let issues = p.eval_serial(&refs, &mut out);
+    let got = decode(&p, &out);
+    for i in 0..n {
+        assert_eq!(got[0][i], [20.0, 20.0, 10.0][i % 3], "point {i}");
+        assert_eq!(got[1][i], [1.0, 3.0, 0.0][i % 3], "point {i}");
+    }
+    let oob: Vec<usize> = issues.iter().map(|i| i.point).collect();
+    assert_eq!(oob, (0..n).filter(|i| i % 3 == 2).collect::<Vec<_>>());
+    assert!(issues.iter().all(|i| i.kind == IssueKind::OutOfBounds));
+}

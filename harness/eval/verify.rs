@@ -10,7 +10,7 @@
 //!    so are the input, output, constant and root-mask slots.
 //! 2. **Fresh destination**: no operation's destination is among its operands
 //!    (kernels, copies, masked copies, gathers, index checks, per-lane
-//!    functions, perturbations' argument), so a `&mut` to the destination
+//!    functions, texture ops, perturbations' argument), so a `&mut` to the destination
 //!    never aliases a `&` to an operand.
 //! 3. **Distinct masks**: the masks a construct writes (`then`/`else`, loop
 //!    and iteration, switch and case masks) are distinct from each other,
@@ -340,6 +340,17 @@ impl Verifier<'_> {
                 self.read(*mask, defined)?;
                 self.write(*dst, &[*idx, *mask], defined)?;
             }
+            Op::Texture(t) => {
+                let operands = t.operands();
+                for &a in &operands {
+                    self.read(a, defined)?;
+                }
+                for (j, &d) in t.dst.iter().enumerate() {
+                    let mut others = operands.clone();
+                    others.extend(&t.dst[..j]);
+                    self.write(d, &others, defined)?;
+                }
+            }
             Op::Perturb(pt) => {
                 self.read(pt.arg, defined)?;
                 self.read(pt.dst, defined)?;
@@ -608,5 +619,63 @@ mod tests {
         accepts(code(repaired, 1, vec![3]));
         // An output never written.
         rejects(code(vec![], 1, vec![3]), Rule::DefinedBeforeUse);
+    }
+
+    fn texture(dst: [Slot; 4], coords: [Slot; 2], level: Option<Slot>) -> Op {
+        use crate::eval::texture::{TextureAccess, TextureOp};
+        let table = crate::table::Table::new(1, 1, 1, vec![0.5]).unwrap();
+        Op::Texture(Box::new(TextureOp {
+            table: std::sync::Arc::new(table),
+            access: TextureAccess::Sample(crate::table::Sampler::default()),
+            coords,
+            level,
+            dst,
+            mask: 0,
+            at: 0,
+        }))
+    }
+
+    #[test]
+    fn texture_ops_are_checked_like_any_op() {
+        accepts(code(vec![texture([3, 4, 5, 6], [1, 2], None)], 4, vec![6]));
+        // A destination that is a coordinate, the level, the mask or another
+        // destination of the same op.
+        rejects(
+            code(
+                vec![add(3, 1, 2), texture([3, 4, 5, 6], [3, 2], None)],
+                4,
+                vec![6],
+            ),
+            Rule::FreshDestination,
+        );
+        rejects(
+            code(
+                vec![add(3, 1, 2), texture([4, 3, 5, 6], [1, 2], Some(3))],
+                4,
+                vec![6],
+            ),
+            Rule::FreshDestination,
+        );
+        rejects(
+            code(vec![texture([3, 4, 4, 6], [1, 2], None)], 4, vec![6]),
+            Rule::FreshDestination,
+        );
+        rejects(
+            code(vec![texture([3, 4, 5, 0], [1, 2], None)], 4, vec![6]),
+            Rule::FreshDestination,
+        );
+        // Writing an input, reading an unwritten level, a slot out of range.
+        rejects(
+            code(vec![texture([3, 4, 5, 1], [1, 2], None)], 4, vec![6]),
+            Rule::FreshDestination,
+        );
+        rejects(
+            code(vec![texture([3, 4, 5, 6], [1, 2], Some(7))], 5, vec![6]),
+            Rule::DefinedBeforeUse,
+        );
+        rejects(
+            code(vec![texture([3, 4, 5, 9], [1, 2], None)], 4, vec![6]),
+            Rule::SlotInRange,
+        );
     }
 }

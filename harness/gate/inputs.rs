@@ -32,6 +32,52 @@ pub struct Build {
     /// The run's limits (the suite's `[limits]` table over the defaults):
     /// program size, slots and the per-point step budget reach the evaluator here.
     pub limits: Limits,
+    /// Look-up tables and samplers bound to the shader's texture and sampler
+    /// variables (empty for most checks).
+    pub textures: crate::table::Bindings,
+    /// Where the check binds them (`suite:line`), for a back end that
+    /// cannot (the GPU back end refuses such checks: CPU only).
+    pub textures_at: Option<String>,
+}
+
+/// The check's texture bindings, resolved (table files read, model grids
+/// computed), and where the suite gives them. With `shader`, every binding
+/// must name a texture or sampler variable it declares.
+pub fn bindings_of(
+    suite: &Suite,
+    check: &Check,
+    shader: Option<&Shader>,
+) -> Result<(crate::table::Bindings, Option<String>), String> {
+    let t = &check.textures;
+    if t.is_empty() {
+        return Ok((crate::table::Bindings::default(), None));
+    }
+    if let Some(sh) = shader {
+        let declared: Vec<_> = sh
+            .module
+            .global_variables
+            .iter()
+            .filter(|(_, g)| g.space == naga::AddressSpace::Handle)
+            .map(|(_, g)| {
+                (
+                    g.name.clone(),
+                    g.binding.as_ref().map(|b| (b.group, b.binding)),
+                )
+            })
+            .collect();
+        t.check_declared(suite, &check.name, &declared)
+            .map_err(|d| d.rendered)?;
+    }
+    let bindings = t.resolve(suite).map_err(|d| d.rendered)?;
+    let first = t
+        .tables
+        .iter()
+        .map(|b| b.at.start)
+        .chain(t.samplers.iter().map(|b| b.at.start))
+        .min()
+        .unwrap_or(0);
+    let line = crate::suite::line_col(&suite.text, first).0;
+    Ok((bindings, Some(format!("{}:{line}", suite.path.display()))))
 }
 
 /// The [`Build`] of a check, with its shader file (or `shader_path` instead,
@@ -41,24 +87,28 @@ pub fn build_of(suite: &Suite, check: &Check, shader_path: Option<&Path>) -> Res
         .map(Path::to_path_buf)
         .unwrap_or_else(|| suite.resolve(&check.shader));
     let shader = Shader::load_with(&path, &suite.limits).map_err(|d| d.rendered)?;
+    let (textures, textures_at) = bindings_of(suite, check, Some(&shader))?;
     Ok(Build {
         shader,
         function: check.function.clone(),
         overrides: check.overrides.clone(),
         arithmetic: check.arithmetic,
         limits: suite.limits,
+        textures,
+        textures_at,
     })
 }
 
 impl Build {
     /// Compile the function for the CPU evaluator.
     pub fn program(&self) -> Result<Program, String> {
-        Program::compile_limited(
+        Program::compile_bound(
             &self.shader,
             &self.function,
             &self.overrides,
             self.arithmetic,
             &self.limits,
+            &self.textures,
         )
         .map_err(|d| d.rendered)
     }

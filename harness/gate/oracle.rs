@@ -52,12 +52,16 @@ pub fn build_other(
     let path = suite.resolve(shader.unwrap_or(&check.shader));
     let shader = Shader::load_with(&path, &suite.limits)
         .map_err(|d| located(suite, line, check, d.rendered))?;
+    // The check's tables bind the same variables in the other function.
+    let (textures, textures_at) = super::inputs::bindings_of(suite, check, None)?;
     let build = Build {
         shader,
         function: function.to_string(),
         overrides: check.overrides.clone(),
         arithmetic: check.arithmetic,
         limits: suite.limits,
+        textures,
+        textures_at,
     };
     let program = build
         .program()

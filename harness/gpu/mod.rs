@@ -486,6 +486,15 @@ impl Gpu {
                 build.arithmetic
             ));
         }
+        if let Some(at) = &build.textures_at {
+            return Err(format!(
+                "{at}: `{}` in {}: the check binds look-up tables in place of textures; \
+                 table-bound checks run only on the CPU evaluator (the device back end does \
+                 not upload them)",
+                build.function,
+                build.shader.path.display()
+            ));
+        }
         self.prepare(&build.shader, &build.function, &build.overrides)
             .map_err(|e| e.to_string())
     }

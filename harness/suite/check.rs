@@ -348,6 +348,7 @@ pub(super) fn convert(
         Some(t) => tolerance_of(cx, t, "golden_tolerance")?,
         None => Tolerance::exact("a golden is a bit-exact record of this evaluator's output"),
     };
+    let textures = super::textures::parse(cx, rc.textures, rc.samplers, limits)?;
     Ok(Check {
         name,
         shader: PathBuf::from(rc.shader.get_ref()),
@@ -367,6 +368,7 @@ pub(super) fn convert(
         line,
         args_at,
         golden_at,
+        textures,
     })
 }
 

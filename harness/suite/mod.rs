@@ -51,6 +51,8 @@ pub use locate::line_col;
 use locate::{Ctx, LineIndex};
 pub use property::{Property, PropertyCheck};
 use raw::RawSuite;
+mod textures;
+pub use textures::{SamplerBinding, TableBinding, TableSource, Textures};
 
 /// The number model a check evaluates with.
 pub use crate::eval::Arithmetic;
@@ -92,6 +94,9 @@ pub struct Check {
     pub args_at: BTreeMap<String, std::ops::Range<usize>>,
     /// Byte span of the `golden` key's value in the suite text.
     pub golden_at: Option<std::ops::Range<usize>>,
+    /// Look-up tables and samplers bound to the shader's texture and sampler
+    /// variables (`[check.textures.X]`, `[check.samplers.X]`).
+    pub textures: Textures,
 }
 
 /// The other side of a twin check: a second WGSL function (an `f16` port, a

@@ -37,6 +37,8 @@ pub(super) struct RawCheck {
     pub(super) golden_tolerance: Option<Spanned<RawTolerance>>,
     pub(super) twin: Option<Spanned<RawTwin>>,
     pub(super) property: Option<Spanned<toml::Table>>,
+    pub(super) textures: super::textures::Raw,
+    pub(super) samplers: super::textures::Raw,
 }
 
 #[derive(Deserialize)]

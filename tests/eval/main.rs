@@ -10,3 +10,4 @@ mod precision;
 mod semantics;
 mod spec_bounds;
 mod straightforward;
+mod textures;

@@ -18,4 +18,5 @@ mod references;
 mod report_formats;
 mod runner;
 mod suite_errors;
+mod textures;
 mod tidy;

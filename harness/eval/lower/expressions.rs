@@ -7,7 +7,7 @@ use crate::eval::ir::{Op, Slot};
 use crate::eval::lanes::Opcode;
 use crate::eval::ty::Ty;
 
-use super::unsupported::{derivative_name, global_name, sample_name};
+use super::unsupported::{derivative_name, global_name};
 use super::{plain, Compiler, Frame, Item, Place, Scope, Val, R};
 
 impl<'m> Compiler<'m> {
@@ -326,18 +326,13 @@ impl<'m> Compiler<'m> {
                 self.convert(out, &v, *kind, *convert, &ty)?
             }
             E::CallResult(_) => return Err(self.err("call result used before the call")),
-            E::ImageSample {
-                gather,
-                level,
-                depth_ref,
-                clamp_to_edge,
-                ..
-            } => {
-                let name =
-                    sample_name(gather.is_some(), level, depth_ref.is_some(), *clamp_to_edge);
-                return Err(self.unsupported(name));
+            // Look-up tables bound in place of textures (lower/texture.rs).
+            E::ImageSample { .. } | E::ImageLoad { .. } => {
+                return match scope {
+                    Scope::Function(frame) => self.texture(frame, expr, out),
+                    Scope::Module => Err(self.unsupported("a texture read at module scope")),
+                }
             }
-            E::ImageLoad { .. } => return Err(self.unsupported("`textureLoad`")),
             E::ImageQuery { query, .. } => {
                 let name = match query {
                     naga::ImageQuery::Size { .. } => "`textureDimensions`",

@@ -31,6 +31,7 @@ mod expressions;
 mod module_scope;
 mod operators;
 mod statements;
+mod texture;
 mod unsupported;
 
 /// A compiled value: its type and one slot per leaf.
@@ -139,6 +140,9 @@ pub struct Compiler<'m> {
     op_count: u64,
     /// Leaves of arguments, results and variables allocated so far.
     variable_leaves: u64,
+    /// The look-up tables and samplers the check binds to texture and
+    /// sampler variables.
+    bindings: &'m crate::table::Bindings,
 }
 
 impl<'m> Compiler<'m> {
@@ -148,6 +152,7 @@ impl<'m> Compiler<'m> {
         overrides: &'m BTreeMap<String, f64>,
         spec_bounds: bool,
         limits: &'m Limits,
+        bindings: &'m crate::table::Bindings,
     ) -> R<Code> {
         let module = &shader.module;
         // A plain function, or an entry point (its `@location`/`@builtin`
@@ -198,6 +203,7 @@ impl<'m> Compiler<'m> {
             limits,
             op_count: 0,
             variable_leaves: 0,
+            bindings,
         };
         for key in overrides.keys() {
             // A pipeline constant is keyed by the override's name or by its
