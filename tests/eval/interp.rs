@@ -83,6 +83,36 @@ pub enum Fault {
     DivideByZeroGivesZero,
 }
 
+/// Events the interpreter saw, so a test can check that the generated
+/// programs exercise each rule at run time, not only in their text.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord)]
+pub enum Event {
+    BreakIfTaken,
+    ContinueTaken,
+    BreakTaken,
+    FellThrough,
+    DefaultTaken,
+    ReturnFromLoop,
+    StoreThroughPointer,
+    NestedCall,
+    DivideByZero,
+    MinOverMinusOne,
+}
+
+/// Every [`Event`], for coverage checks.
+pub const EVENTS: [Event; 10] = [
+    Event::BreakIfTaken,
+    Event::ContinueTaken,
+    Event::BreakTaken,
+    Event::FellThrough,
+    Event::DefaultTaken,
+    Event::ReturnFromLoop,
+    Event::StoreThroughPointer,
+    Event::NestedCall,
+    Event::DivideByZero,
+    Event::MinOverMinusOne,
+];
+
 /// How a block ended.
 #[derive(Clone, Copy, Debug, PartialEq)]
 enum Flow {
@@ -113,6 +143,8 @@ pub struct Outcome {
     /// A loop ran past the interpreter's own limit (only a broken rule, see
     /// [`Fault`], can make a generated loop do that); `result` is `None`.
     pub ran_away: bool,
+    /// Bit `e as u32` set for each [`Event`] seen.
+    pub seen: u32,
 }
 
 pub struct Interp<'m> {
@@ -122,13 +154,18 @@ pub struct Interp<'m> {
     indeterminate: bool,
     steps: u64,
     ran_away: bool,
+    seen: u32,
+    /// Function calls in progress.
+    depth: u32,
     /// Loop iterations allowed before the interpreter gives up (the
     /// generator bounds every loop, so reaching this is a generator bug).
     max_steps: u64,
 }
 
 impl<'m> Interp<'m> {
-    pub fn new(module: &'m naga::Module, fault: Fault) -> Self {
+    /// An interpreter of `module` that gives up after `max_steps` loop
+    /// iterations per call (`Outcome::ran_away`).
+    pub fn new(module: &'m naga::Module, fault: Fault, max_steps: u64) -> Self {
         Interp {
             module,
             fault,
@@ -136,7 +173,9 @@ impl<'m> Interp<'m> {
             indeterminate: false,
             steps: 0,
             ran_away: false,
-            max_steps: 100_000,
+            seen: 0,
+            depth: 0,
+            max_steps,
         }
     }
 
@@ -152,17 +191,27 @@ impl<'m> Interp<'m> {
         self.indeterminate = false;
         self.steps = 0;
         self.ran_away = false;
+        self.seen = 0;
         let result = self.call(fh, args.to_vec());
         Outcome {
             result,
             indeterminate: self.indeterminate,
             steps: self.steps,
             ran_away: self.ran_away,
+            seen: self.seen,
         }
+    }
+
+    fn see(&mut self, e: Event) {
+        self.seen |= 1 << e as u32;
     }
 
     fn call(&mut self, fh: Handle<naga::Function>, args: Vec<Value>) -> Option<Value> {
         let func = &self.module.functions[fh];
+        self.depth += 1;
+        if self.depth > 2 {
+            self.see(Event::NestedCall);
+        }
         let base = self.cells.len();
         let mut frame = Frame {
             func,
@@ -181,6 +230,7 @@ impl<'m> Interp<'m> {
         }
         let flow = self.block(&mut frame, &func.body);
         self.cells.truncate(base);
+        self.depth -= 1;
         match flow {
             Flow::Return(v) => v,
             _ if self.ran_away => None,
@@ -254,12 +304,16 @@ impl<'m> Interp<'m> {
                     .iter()
                     .position(|c| hits(&c.value))
                     .or_else(|| {
+                        self.see(Event::DefaultTaken);
                         cases
                             .iter()
                             .position(|c| c.value == naga::SwitchValue::Default)
                     })
                     .expect("a switch has a default case");
-                for case in &cases[start..] {
+                for (k, case) in cases[start..].iter().enumerate() {
+                    if k > 0 {
+                        self.see(Event::FellThrough);
+                    }
                     match self.block(frame, &case.body) {
                         Flow::Next => {}
                         // `break` leaves the switch; `continue` and `return`
@@ -286,10 +340,21 @@ impl<'m> Interp<'m> {
                         return Flow::Return(None);
                     }
                     match self.block(frame, body) {
-                        Flow::Break => break,
-                        Flow::Return(v) => return Flow::Return(v),
-                        Flow::Continue if self.fault == Fault::ContinueSkipsContinuing => continue,
-                        Flow::Continue | Flow::Next => {}
+                        Flow::Break => {
+                            self.see(Event::BreakTaken);
+                            break;
+                        }
+                        Flow::Return(v) => {
+                            self.see(Event::ReturnFromLoop);
+                            return Flow::Return(v);
+                        }
+                        Flow::Continue => {
+                            self.see(Event::ContinueTaken);
+                            if self.fault == Fault::ContinueSkipsContinuing {
+                                continue;
+                            }
+                        }
+                        Flow::Next => {}
                     }
                     // `continuing` may not leave the loop except by `break if`.
                     let f = self.block(frame, continuing);
@@ -297,6 +362,7 @@ impl<'m> Interp<'m> {
                     if let Some(c) = break_if {
                         let c = self.get(frame, c).b();
                         if c != (self.fault == Fault::BreakIfInverted) {
+                            self.see(Event::BreakIfTaken);
                             break;
                         }
                     }
@@ -310,6 +376,9 @@ impl<'m> Interp<'m> {
                 let v = self.get(frame, value);
                 let through_argument =
                     matches!(frame.func.expressions[pointer], E::FunctionArgument(_));
+                if through_argument {
+                    self.see(Event::StoreThroughPointer);
+                }
                 if !(through_argument && self.fault == Fault::PointerStoreLost) {
                     let p = self.get(frame, pointer).ptr();
                     self.cells[p] = v;
@@ -440,25 +509,16 @@ impl<'m> Interp<'m> {
                 BO::Add => I32(a.wrapping_add(b)),
                 BO::Subtract => I32(a.wrapping_sub(b)),
                 BO::Multiply => I32(a.wrapping_mul(b)),
-                // WGSL "Arithmetic Expressions": e1 / 0 is e1, MIN / -1 is
-                // MIN; e1 % 0 and MIN % -1 are 0; `/` truncates, `%` takes
-                // the sign of e1.
-                BO::Divide => I32(if b == 0 {
-                    if self.fault == Fault::DivideByZeroGivesZero {
-                        0
-                    } else {
-                        a
-                    }
-                } else if a == i32::MIN && b == -1 {
-                    a
-                } else {
-                    a / b
-                }),
-                BO::Modulo => I32(if b == 0 || (a == i32::MIN && b == -1) {
-                    0
-                } else {
-                    a % b
-                }),
+                // The special cases are in `int_divide`.
+                BO::Divide | BO::Modulo if b == 0 => {
+                    self.see(Event::DivideByZero);
+                    self.int_divide(op, a, b)
+                }
+                BO::Divide | BO::Modulo if a == i32::MIN && b == -1 => {
+                    self.see(Event::MinOverMinusOne);
+                    self.int_divide(op, a, b)
+                }
+                BO::Divide | BO::Modulo => self.int_divide(op, a, b),
                 BO::And => I32(a & b),
                 BO::InclusiveOr => I32(a | b),
                 BO::ExclusiveOr => I32(a ^ b),
@@ -494,6 +554,20 @@ impl<'m> Interp<'m> {
             }),
             (l, r) => panic!("unsupported {op:?} on {l:?}, {r:?}"),
         }
+    }
+
+    /// i32 `/` and `%` per WGSL "Arithmetic Expressions": e1 / 0 is e1,
+    /// MIN / -1 is MIN; e1 % 0 and MIN % -1 are 0; `/` truncates, `%` takes
+    /// the sign of e1.
+    fn int_divide(&self, op: BO, a: i32, b: i32) -> Value {
+        let special = b == 0 || (a == i32::MIN && b == -1);
+        Value::I32(match op {
+            BO::Divide if b == 0 && self.fault == Fault::DivideByZeroGivesZero => 0,
+            BO::Divide if special => a,
+            BO::Divide => a / b,
+            _ if special => 0,
+            _ => a % b,
+        })
     }
 
     /// WGSL value conversions (`T(e)`, "Floating Point Conversion") and

@@ -29,7 +29,7 @@ use shadegate::eval::{IssueKind, Program, LANES};
 use shadegate::sweep::Rng;
 use shadegate::wgsl::Shader;
 
-use crate::interp::{Fault, Interp, Value};
+use crate::interp::{Fault, Interp, Value, EVENTS};
 
 // ------------------------------------------------------------ program text
 
@@ -161,6 +161,8 @@ struct Gen {
     budget: i32,
     /// Whether the expression being generated reads a variable or calls.
     dynamic: bool,
+    /// Generating a helper (not `f`).
+    helper: bool,
 }
 
 impl Gen {
@@ -626,8 +628,8 @@ impl Gen {
                 out.push(Node::Block(parts, "}".into()));
             }
             5 | 6 => self.statement(depth, out),
-            // at most two loops deep per function
-            10.. if self.loops >= 2 => self.statement(depth, out),
+            // at most two loops deep in `f`, one in a helper
+            10.. if self.loops >= if self.helper { 1 } else { 2 } => self.statement(depth, out),
             9 => self.switch(depth, out),
             _ => self.looped(depth, out),
         }
@@ -712,7 +714,13 @@ impl Gen {
         let c = self.name("c");
         // The bound: a constant, or a value in 0..=7 computed per point and
         // re-evaluated each iteration.
-        let (most, mask) = if self.loops == 0 { (6, 7) } else { (4, 3) };
+        // Bounds shrink inside loops and helpers, so the iterations of a
+        // point (a product over nested loops and calls) stay small.
+        let (most, mask) = if self.loops == 0 && !self.helper {
+            (6, 7)
+        } else {
+            (4, 3)
+        };
         let bound = if self.chance(0.5) {
             format!("{}i", self.below(most))
         } else {
@@ -824,6 +832,7 @@ fn generate(seed: u64) -> Generated {
         ret: Ret::Digest,
         budget: 0,
         dynamic: false,
+        helper: true,
     };
     let mut nodes = Vec::new();
     let helpers = g.below(4);
@@ -877,6 +886,7 @@ fn generate(seed: u64) -> Generated {
         g.helpers.push(Helper { name, params, ret });
     }
     g.callable = helpers;
+    g.helper = false;
     g.vars = MAIN_PARAMS
         .iter()
         .map(|(n, t)| Var {
@@ -1003,6 +1013,8 @@ struct Mismatch {
     /// `None`: the interpreter's loop ran away (a broken rule).
     interpreter: Option<u32>,
     float: bool,
+    /// The evaluator's issue at the point, if it reported one.
+    issue: Option<String>,
 }
 
 impl std::fmt::Display for Mismatch {
@@ -1023,7 +1035,11 @@ impl std::fmt::Display for Mismatch {
             show(self.evaluator),
             self.interpreter
                 .map_or("no result (a loop ran away)".into(), show)
-        )
+        )?;
+        match &self.issue {
+            Some(i) => write!(f, "; the evaluator reported: {i}"),
+            None => Ok(()),
+        }
     }
 }
 
@@ -1034,6 +1050,7 @@ enum Verdict {
         compared: usize,
         skipped: usize,
         iterations: u64,
+        seen: u32,
     },
     Differ(Mismatch),
 }
@@ -1046,15 +1063,21 @@ fn compare(src: &str, float: bool, points: &[Point], sizes: &[usize], fault: Fau
         Err(d) => return Verdict::Rejected(d.message),
     };
     // Once naga accepts the module, the evaluator must compile it.
-    let program = Program::compile(&shader, "f", &BTreeMap::new())
+    let mut program = Program::compile(&shader, "f", &BTreeMap::new())
         .unwrap_or_else(|d| panic!("the evaluator refused a valid program: {d}\n{src}"));
+    // Generated loops run a few thousand iterations per point at most; a
+    // budget near the interpreter's own limit keeps a runaway loop (a
+    // planted bug) cheap to report and to shrink.
+    program.set_step_budget(MAX_STEPS);
     let n = sizes.iter().copied().max().unwrap_or(0).min(points.len());
     let mut iterations = 0;
+    let mut seen = 0;
     let want: Vec<_> = points[..n]
         .iter()
         .map(|p| {
-            let o = Interp::new(&shader.module, fault).call_named("f", p);
+            let o = Interp::new(&shader.module, fault, MAX_STEPS).call_named("f", p);
             iterations += o.steps;
+            seen |= o.seen;
             assert!(
                 !o.ran_away || fault != Fault::None,
                 "a generated loop ran away (a generator bug)\n{src}"
@@ -1071,13 +1094,18 @@ fn compare(src: &str, float: bool, points: &[Point], sizes: &[usize], fault: Fau
         let refs: Vec<&[u32]> = cols.iter().map(|c| &c[..]).collect();
         let mut out = Vec::new();
         let issues = program.try_eval(&refs, &mut out).expect("inputs match");
-        for i in &issues {
-            assert!(
-                i.kind == IssueKind::NonFinite,
-                "unexpected issue at point {}: {}\n{src}",
-                i.point,
-                i.message
-            );
+        // A point the evaluator abandons (step budget) or finds out of
+        // bounds has no counterpart in the interpreter: a mismatch.
+        if let Some(i) = issues.iter().find(|i| i.kind != IssueKind::NonFinite) {
+            return Verdict::Differ(Mismatch {
+                batch: pts.len(),
+                point: i.point,
+                inputs: describe(&pts[i.point]),
+                evaluator: out[0][i.point],
+                interpreter: want[i.point].0,
+                float,
+                issue: Some(i.message.clone()),
+            });
         }
         for (k, (&got, &(bits, indeterminate))) in out[0].iter().zip(&want).enumerate() {
             if indeterminate {
@@ -1097,6 +1125,7 @@ fn compare(src: &str, float: bool, points: &[Point], sizes: &[usize], fault: Fau
                     evaluator: got,
                     interpreter: bits,
                     float,
+                    issue: None,
                 });
             }
         }
@@ -1105,6 +1134,7 @@ fn compare(src: &str, float: bool, points: &[Point], sizes: &[usize], fault: Fau
         compared,
         skipped,
         iterations,
+        seen,
     }
 }
 
@@ -1190,6 +1220,10 @@ fn shrink(g: &Generated, points: &[Point], sizes: &[usize], fault: Fault) -> (St
     }
 }
 
+/// Loop iterations per point, in the evaluator's budget and the
+/// interpreter's limit alike.
+const MAX_STEPS: u64 = 20_000;
+
 /// Programs checked by the default run (fixed seeds); the environment
 /// variable raises it.
 fn program_count() -> u64 {
@@ -1210,6 +1244,8 @@ struct Tally {
     skipped: usize,
     /// Loop iterations the interpreter ran, over all points.
     iterations: u64,
+    /// `interp::Event`s seen, one bit each.
+    seen: u32,
     /// One rejection message per distinct message.
     rejections: Vec<String>,
 }
@@ -1236,7 +1272,9 @@ fn run_programs(first: u64, count: u64, fault: Fault, shrunk: bool) -> Result<Ta
                 compared,
                 skipped,
                 iterations,
+                seen,
             } => {
+                t.seen |= seen;
                 t.programs += 1;
                 t.compared += compared;
                 t.skipped += skipped;
@@ -1267,6 +1305,10 @@ fn random_programs_match_the_interpreter() {
         t.compared >= 4 * t.skipped,
         "too many points skipped: {t:?}"
     );
+    // Each rule is exercised at run time, not only present in the text.
+    for e in EVENTS {
+        assert!(t.seen & (1 << e as u32) != 0, "no point saw {e:?}: {t:?}");
+    }
 }
 
 /// The comparison can fail: an interpreter that breaks one rule of WGSL is
