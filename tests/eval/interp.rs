@@ -358,6 +358,9 @@ impl<'m> Interp<'m> {
                     }
                     // `continuing` may not leave the loop except by `break if`.
                     let f = self.block(frame, continuing);
+                    if self.ran_away {
+                        return Flow::Return(None);
+                    }
                     assert_eq!(f, Flow::Next, "continuing block left its loop");
                     if let Some(c) = break_if {
                         let c = self.get(frame, c).b();
