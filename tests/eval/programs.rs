@@ -1202,7 +1202,8 @@ fn shrink(g: &Generated, points: &[Point], sizes: &[usize], fault: Fault) -> (St
         let mut ps = Vec::new();
         paths(&best, &mut Vec::new(), &mut ps);
         // Deepest last, so removing a node does not shift later paths.
-        for p in ps.iter().rev() {
+        // Functions themselves (top-level nodes) are kept: `f` must exist.
+        for p in ps.iter().rev().filter(|p| p.len() > 1) {
             for flatten in [false, true] {
                 if tries > 400 {
                     return (render(&best), last);
