@@ -531,7 +531,8 @@ impl<'m> Interp<'m> {
                 BO::Add => U32(a.wrapping_add(b)),
                 BO::Subtract => U32(a.wrapping_sub(b)),
                 BO::Multiply => U32(a.wrapping_mul(b)),
-                BO::Divide => U32(if b == 0 { a } else { a / b }),
+                // e1 / 0 is e1 and e1 % 0 is 0, as for i32.
+                BO::Divide => U32(a.checked_div(b).unwrap_or(a)),
                 BO::Modulo => U32(if b == 0 { 0 } else { a % b }),
                 BO::And => U32(a & b),
                 BO::InclusiveOr => U32(a | b),

@@ -983,7 +983,7 @@ fn point(rng: &mut Rng) -> Point {
     let n1 = i(rng);
     let m0 = u(rng);
     let m1 = u(rng);
-    let q0 = Value::Bool(rng.next() % 2 == 0);
+    let q0 = Value::Bool(rng.next().is_multiple_of(2));
     [x0, x1, n0, n1, m0, m1, q0]
 }
 
@@ -1265,7 +1265,7 @@ fn run_programs(first: u64, count: u64, fault: Fault, shrunk: bool) -> Result<Ta
     for seed in first..first + count {
         let g = generate(seed);
         let src = render(&g.nodes);
-        let mut rng = Rng::new(seed ^ 0x5eed_0f_901d);
+        let mut rng = Rng::new(seed ^ 0x5eed_0f90_1d00);
         let n = sizes.iter().copied().max().unwrap_or(1);
         let points: Vec<Point> = (0..n).map(|_| point(&mut rng)).collect();
         match compare(&src, g.float_result, &points, &sizes, fault) {
