@@ -20,7 +20,7 @@ impl<'m> super::Compiler<'m> {
         expr: &'m E,
         out: &mut Vec<Op>,
     ) -> R<Item> {
-        let (image, coordinate, level, access) = match *expr {
+        let (image, coordinate, level, access, what) = match *expr {
             E::ImageSample {
                 image,
                 sampler,
@@ -51,7 +51,7 @@ impl<'m> super::Compiler<'m> {
                         self.unsupported(&format!("{name} with an array index or a texel offset"))
                     );
                 }
-                let s = match self.bound(frame, sampler)? {
+                let s = match self.bound(frame, sampler, name)? {
                     Bound::Sampler(s) => s,
                     Bound::Table(_) => {
                         return Err(self.err(
@@ -60,7 +60,7 @@ impl<'m> super::Compiler<'m> {
                         ))
                     }
                 };
-                (image, coordinate, level, TextureAccess::Sample(s))
+                (image, coordinate, level, TextureAccess::Sample(s), name)
             }
             E::ImageLoad {
                 image,
@@ -82,11 +82,11 @@ impl<'m> super::Compiler<'m> {
                         None => true,
                     },
                 };
-                (image, coordinate, level, access)
+                (image, coordinate, level, access, "`textureLoad`")
             }
             _ => unreachable!("texture() is called for texture expressions only"),
         };
-        let table = match self.bound(frame, image)? {
+        let table = match self.bound(frame, image, what)? {
             Bound::Table(t) => t,
             Bound::Sampler(_) => {
                 return Err(self.err(
@@ -122,7 +122,7 @@ impl<'m> super::Compiler<'m> {
     /// a `texture_2d<f32>` or a non-comparison `sampler` declared at module
     /// scope. Anything else, or a variable the check does not bind, is not
     /// supported (located at the expression).
-    fn bound(&mut self, frame: &Frame<'m>, h: Handle<naga::Expression>) -> R<Bound> {
+    fn bound(&mut self, frame: &Frame<'m>, h: Handle<naga::Expression>, what: &str) -> R<Bound> {
         let E::GlobalVariable(g) = frame.func.expressions[h] else {
             return Err(self.unsupported(
                 "a texture or sampler passed as a function argument (sample the module-scope \
@@ -152,8 +152,8 @@ impl<'m> super::Compiler<'m> {
         match self.bindings.find(gv.name.as_deref(), binding) {
             Some(b) => Ok(b.clone()),
             None => Err(self.err(format!(
-                "the resource `{name}` (a texture or sampler binding) is not supported in CPU \
-                 evaluation unless the check binds it (`[check.textures.{name}]` or \
+                "{what} on the resource `{name}` (a texture or sampler binding) is not supported \
+                 in CPU evaluation unless the check binds it (`[check.textures.{name}]` or \
                  `[check.samplers.{name}]`)"
             ))),
         }
