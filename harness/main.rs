@@ -173,6 +173,44 @@ enum Command {
         #[arg(long, value_enum, default_value = "text")]
         format: Format,
     },
+    /// Draw one picture of a check into an SVG or PNG file (the extension
+    /// chooses): its error map over two sweep parameters, its lobes in the
+    /// plane of incidence, or a property check's result against a parameter.
+    Plot {
+        /// The check's name.
+        check: String,
+        #[arg(long, default_value = "shadegate.toml")]
+        suite: PathBuf,
+        #[arg(long, value_enum, default_value = "map")]
+        kind: PlotKind,
+        /// The map's horizontal parameter (default: the sweep's first); for a
+        /// property chart, the parameter the curves run over.
+        #[arg(long)]
+        x: Option<String>,
+        /// The map's vertical parameter (default: the sweep's second).
+        #[arg(long)]
+        y: Option<String>,
+        /// What the map shows per point.
+        #[arg(long, value_enum, default_value = "tolerance")]
+        measure: PlotMeasure,
+        /// The map's colour scale (both read in grey and for colour-blind readers).
+        #[arg(long, value_enum, default_value = "viridis")]
+        scale: PlotScale,
+        /// The map's comparison: the first whose label contains this text
+        /// (`golden`, `reference`; default: the first).
+        #[arg(long)]
+        against: Option<String>,
+        /// Lobes at these roughnesses, comma-separated (default: the sweep's
+        /// first, middle and last).
+        #[arg(long, value_delimiter = ',')]
+        roughness: Vec<f64>,
+        /// Lobes with the view this many degrees from the normal.
+        #[arg(long, default_value_t = 30.0)]
+        view_angle: f64,
+        /// The picture's file: NAME.svg or NAME.png.
+        #[arg(long)]
+        output: PathBuf,
+    },
     /// List the checks of a suite.
     List {
         #[arg(long, default_value = "shadegate.toml")]
@@ -187,6 +225,32 @@ enum Command {
         #[arg(long)]
         output: Option<PathBuf>,
     },
+}
+
+#[derive(Clone, Copy, ValueEnum)]
+enum PlotKind {
+    /// Error over two sweep parameters, the others reduced by the worst case.
+    Map,
+    /// The function against its reference in the plane of incidence.
+    Lobes,
+    /// A property check's result against one parameter.
+    Property,
+}
+
+#[derive(Clone, Copy, ValueEnum)]
+enum PlotMeasure {
+    /// Error ÷ tolerance: above 1 fails.
+    Tolerance,
+    /// Error in ULP of the expected value.
+    Ulp,
+    /// Relative error.
+    Relative,
+}
+
+#[derive(Clone, Copy, ValueEnum)]
+enum PlotScale {
+    Viridis,
+    Cividis,
 }
 
 /// A usage or input error: message for stderr, exit code 2.
@@ -467,6 +531,54 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
             };
             emit(&render(&run, format, false), None)?;
             Ok(exit_of(&run))
+        }
+        Command::Plot {
+            check,
+            suite,
+            kind,
+            x,
+            y,
+            measure,
+            scale,
+            against,
+            roughness,
+            view_angle,
+            output,
+        } => {
+            use shadegate::plot::{ImageFormat, Measure, Picture, Scale};
+            let format = ImageFormat::of_path(&output).map_err(Bad)?;
+            let s = load_suite(&suite)?;
+            let c = s.checks.iter().find(|c| c.name == check).ok_or_else(|| {
+                Bad(format!(
+                    "no check named `{check}` in {} (see `shadegate list`)",
+                    suite.display()
+                ))
+            })?;
+            let picture = match kind {
+                PlotKind::Map => Picture::Map {
+                    x,
+                    y,
+                    measure: match measure {
+                        PlotMeasure::Tolerance => Measure::Tolerance,
+                        PlotMeasure::Ulp => Measure::Ulp,
+                        PlotMeasure::Relative => Measure::Relative,
+                    },
+                    scale: match scale {
+                        PlotScale::Viridis => Scale::Viridis,
+                        PlotScale::Cividis => Scale::Cividis,
+                    },
+                    against,
+                },
+                PlotKind::Lobes => Picture::Lobes {
+                    roughness,
+                    view_theta: view_angle,
+                },
+                PlotKind::Property => Picture::Property { x },
+            };
+            let bytes = shadegate::plot::draw(&s, c, &picture, format).map_err(Bad)?;
+            std::fs::write(&output, bytes)
+                .map_err(|e| Bad(format!("{}: cannot write: {e}", output.display())))?;
+            Ok(0)
         }
         Command::List { suite } => {
             let s = load_suite(&suite)?;

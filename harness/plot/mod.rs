@@ -10,6 +10,8 @@
 //! case. Colours come from a scale that reads in grey ([`colour`]).
 
 pub mod colour;
+mod property;
+mod request;
 
 use plotters::coord::Shift;
 use plotters::prelude::*;
@@ -19,6 +21,8 @@ use crate::suite::{Check, Suite};
 use crate::sweep::{fmt_num, Domain, Points, Sweep};
 
 pub use colour::Scale;
+pub use property::property_chart;
+pub use request::{default_roughnesses, draw, ImageFormat, Picture};
 
 /// Most bins on one axis of an error map.
 pub const MAX_BINS: usize = 64;
@@ -170,8 +174,16 @@ impl Axis {
         (c - step / 2.0, c + step / 2.0)
     }
 
+    /// A tick label: three significant digits, and 0 for what is 0 up to the
+    /// rounding of the tick positions.
     fn tick(&self, v: f64) -> String {
-        fmt_num(if self.log { 10f64.powf(v) } else { v })
+        let (a, b) = self.range();
+        if !self.log && v.abs() < (b - a).abs() * 1e-9 {
+            return "0".to_string();
+        }
+        let v = if self.log { 10f64.powf(v) } else { v };
+        let shown: f64 = format!("{v:.2e}").parse().unwrap_or(v);
+        fmt_num(shown)
     }
 }
 
@@ -450,6 +462,7 @@ pub fn font() -> Result<(), String> {
 }
 
 /// One curve of a line chart: a name and its (x, y) points.
+#[derive(Clone, Debug)]
 pub struct Series {
     pub name: String,
     pub points: Vec<(f64, f64)>,
@@ -458,6 +471,7 @@ pub struct Series {
 }
 
 /// A line chart: a property of a check (for example albedo) against a parameter.
+#[derive(Clone, Debug)]
 pub struct LineChart {
     pub title: String,
     pub x_label: String,
@@ -466,8 +480,10 @@ pub struct LineChart {
 }
 
 fn series_colour(k: usize) -> RGBColor {
-    // Evenly spaced along the colour-blind-safe scale, avoiding its lightest end.
-    let c = Scale::Viridis.at(0.85 * k as f64 / 3.0 % 0.86);
+    // Four evenly spaced along the colour-blind-safe scale, avoiding its lightest end,
+    // then again half a step apart.
+    let t = 0.85 * (k % 4) as f64 / 3.0 + if k % 8 >= 4 { 0.14 } else { 0.0 };
+    let c = Scale::Viridis.at(t.min(0.99));
     RGBColor(c.0, c.1, c.2)
 }
 
@@ -495,13 +511,16 @@ impl LineChart {
         if !x0.is_finite() {
             (x0, x1, y0, y1) = (0.0, 1.0, 0.0, 1.0);
         }
-        let pad = ((y1 - y0) * 0.05).max(1e-12);
+        // Head room above the curves for the legend (upper right), one row per series.
+        let span = (y1 - y0).max(1e-12);
+        let pad = span * 0.05;
+        let head = span * 0.075 * self.series.len() as f64;
         let mut chart = ChartBuilder::on(root)
             .caption(&self.title, ("sans-serif", 16))
             .margin(10)
             .x_label_area_size(44)
             .y_label_area_size(64)
-            .build_cartesian_2d(x0..x1.max(x0 + 1e-12), (y0 - pad)..(y1 + pad))
+            .build_cartesian_2d(x0..x1.max(x0 + 1e-12), (y0 - pad)..(y1 + pad + head))
             .map_err(e)?;
         chart
             .configure_mesh()
@@ -510,30 +529,49 @@ impl LineChart {
             .label_style(("sans-serif", 12))
             .draw()
             .map_err(e)?;
-        for (k, s) in self.series.iter().enumerate() {
-            let c = series_colour(k / 2 * 2 + usize::from(s.dashed && k % 2 == 0));
+        // A solid series takes the next colour; a dashed one the colour of the solid
+        // series before it (its reference), or black when none comes before (a bound).
+        let mut solid = 0;
+        let mut last: Option<RGBColor> = None;
+        for s in &self.series {
+            let c = if s.dashed {
+                last.unwrap_or(BLACK)
+            } else {
+                let c = series_colour(solid);
+                solid += 1;
+                last = Some(c);
+                c
+            };
             let style = c.stroke_width(2);
             let pts = s
                 .points
                 .iter()
                 .copied()
                 .filter(|p| p.0.is_finite() && p.1.is_finite());
+            let dashed = s.dashed;
+            let legend = move |(x, y): (i32, i32)| {
+                let gap = if dashed { 4 } else { 0 };
+                EmptyElement::at((x, y))
+                    + PathElement::new([(0, 0), (6, 0)], style)
+                    + PathElement::new([(6 + gap, 0), (16, 0)], style)
+            };
             if s.dashed {
                 chart
                     .draw_series(DashedLineSeries::new(pts, 6, 4, style))
                     .map_err(e)?
                     .label(s.name.as_str())
-                    .legend(move |(x, y)| PathElement::new([(x, y), (x + 16, y)], style));
+                    .legend(legend);
             } else {
                 chart
                     .draw_series(LineSeries::new(pts, style))
                     .map_err(e)?
                     .label(s.name.as_str())
-                    .legend(move |(x, y)| PathElement::new([(x, y), (x + 16, y)], style));
+                    .legend(legend);
             }
         }
         chart
             .configure_series_labels()
+            .position(SeriesLabelPosition::UpperRight)
             .background_style(WHITE.mix(0.85))
             .border_style(BLACK)
             .label_font(("sans-serif", 12))

@@ -15,7 +15,7 @@ use super::format::{self, count};
 use super::text::details;
 use super::Timings;
 use crate::gate::{CheckResult, RunResult, Verdict};
-use crate::plot::{self, Axis, ErrorGrid, Measure, Scale};
+use crate::plot::{self, Axis, ErrorGrid, ImageFormat, Measure, Picture, Scale};
 use crate::suite::{Check, Suite};
 
 /// The page of `run` (made from `suite`); with [`Timings::Omit`] it carries no time.
@@ -207,6 +207,9 @@ fn number_model(k: &Check) -> String {
 }
 
 fn pictures(o: &mut String, suite: &Suite, k: &Check) {
+    if let Some(pc) = &k.property {
+        property_picture(o, suite, k, pc);
+    }
     let Some((x, y)) = Axis::default_pair(&k.sweep) else {
         return;
     };
@@ -244,18 +247,7 @@ fn pictures(o: &mut String, suite: &Suite, k: &Check) {
         }
     }
     if plot::lobe_params(k).is_some() {
-        let rough = k
-            .sweep
-            .params
-            .iter()
-            .find(|(n, _)| n == "roughness" || n == "alpha")
-            .map(|(_, d)| d.values())
-            .unwrap_or_default();
-        let picks: Vec<f64> = match rough.len() {
-            0 => vec![0.5],
-            1 | 2 => rough.clone(),
-            n => vec![rough[0], rough[n / 2], rough[n - 1]],
-        };
+        let picks = plot::default_roughnesses(k);
         let drawn = plot::lobes(suite, k, &picks, 30.0).and_then(|l| {
             plot::lobes_svg(
                 &format!("{}: lobes in the plane of incidence, view at 30°", k.name),
@@ -274,6 +266,30 @@ fn pictures(o: &mut String, suite: &Suite, k: &Check) {
             Err(m) => {
                 let _ = writeln!(o, "<p class=\"note\">no lobes: {}</p>", esc(first_line(&m)));
             }
+        }
+    }
+}
+
+/// A property check's result against its first varying parameter (the albedo of a
+/// lobe against the view angle, say), beside what the property expects.
+fn property_picture(o: &mut String, suite: &Suite, k: &Check, pc: &crate::suite::PropertyCheck) {
+    let property = Picture::Property { x: None };
+    match plot::draw(suite, k, &property, ImageFormat::Svg) {
+        Ok(svg) => {
+            let _ = writeln!(
+                o,
+                "<img alt=\"{} of {} against its first varying parameter, beside what the property expects\" src=\"data:image/svg+xml;base64,{}\">",
+                esc(&pc.property.label()),
+                esc(&k.name),
+                base64(&svg)
+            );
+        }
+        Err(m) => {
+            let _ = writeln!(
+                o,
+                "<p class=\"note\">no property chart: {}</p>",
+                esc(first_line(&m))
+            );
         }
     }
 }

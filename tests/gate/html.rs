@@ -327,6 +327,59 @@ fn report_page_loads_clean_in_chromium_with_every_image_and_the_finding_visible(
     let _ = std::fs::remove_dir_all(&dir);
 }
 
+/// A property check's page shows its chart: the furnace check of the second demo
+/// library draws its albedo against the view angle, and the image decodes.
+#[test]
+fn a_property_check_page_shows_its_chart() {
+    let Some(exe) = browser_or_skip() else {
+        return;
+    };
+    let root = PathBuf::from(env!("CARGO_MANIFEST_DIR"));
+    let dir = std::env::temp_dir().join(format!("shadegate-html-prop-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&dir);
+    let out = Command::new(env!("CARGO_BIN_EXE_shadegate"))
+        .args([
+            "run",
+            "--suite",
+            "demos/quillmere/shadegate.toml",
+            "cobble_furnace",
+            "--html",
+        ])
+        .arg(&dir)
+        .current_dir(&root)
+        .env("NO_COLOR", "1")
+        .output()
+        .unwrap();
+    assert_eq!(
+        out.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let page = dir.join("shadegate.html");
+    let mut b = Browser::start(&exe, "prop");
+    b.open(&file_url(&page));
+    let alts = b.eval("Array.from(document.images).map(i => i.alt)");
+    let alts: Vec<&str> = alts
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter_map(|a| a.as_str())
+        .collect();
+    assert!(
+        alts.iter()
+            .any(|a| a.starts_with("albedo: integral of result cos over l <= 1 of cobble_furnace")),
+        "{alts:?}"
+    );
+    for i in b.images() {
+        assert!(i.starts_with("ok "), "an image does not decode: {i}");
+    }
+    let errors = b.errors();
+    assert!(errors.is_empty(), "console errors: {errors:?}");
+    drop(b);
+    let _ = std::fs::remove_dir_all(&dir);
+}
+
 #[test]
 fn the_browser_check_sees_a_broken_image_and_a_console_error() {
     let Some(exe) = browser_or_skip() else {

@@ -177,3 +177,129 @@ fn a_property_chart_draws_each_series() {
         Err(e) => panic!("{e}"),
     }
 }
+
+/// `shadegate plot` writes each picture as PNG or SVG by the file's extension, and
+/// refuses what it cannot draw with exit code 2 and a message naming the problem.
+#[test]
+fn the_plot_command_writes_maps_lobes_and_property_charts() {
+    let dir = std::env::temp_dir().join(format!("shadegate-plot-cli-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&dir);
+    std::fs::create_dir_all(&dir).unwrap();
+    let suite = root().join("shadegate.toml");
+    let suite = suite.to_str().unwrap();
+    let out = |name: &str| dir.join(name).to_str().unwrap().to_string();
+    let plot = |args: &[&str]| {
+        let mut a = vec!["plot", "--suite", suite];
+        a.extend_from_slice(args);
+        super::common::shadegate(&a, &dir)
+    };
+    let fonts = plot::font().is_ok();
+    let map = out("map.png");
+    let r = plot(&[
+        "ggx_distribution",
+        "--measure",
+        "ulp",
+        "--scale",
+        "cividis",
+        "--output",
+        &map,
+    ]);
+    if !fonts && std::env::var_os("CI").is_none() {
+        eprintln!("skipped: no font");
+        return;
+    }
+    assert!(r.status.success(), "{}", String::from_utf8_lossy(&r.stderr));
+    let png = std::fs::read(&map).unwrap();
+    // The PNG signature, then IHDR with the map's 640 x 420 pixels (PNG specification,
+    // W3C/ISO 15948: width and height are the first two big-endian words of IHDR).
+    assert_eq!(&png[..8], b"\x89PNG\r\n\x1a\n");
+    assert_eq!(&png[12..16], b"IHDR");
+    assert_eq!(u32::from_be_bytes(png[16..20].try_into().unwrap()), 640);
+    assert_eq!(u32::from_be_bytes(png[20..24].try_into().unwrap()), 420);
+
+    let lobes = out("lobes.svg");
+    let r = plot(&[
+        "brdf_full",
+        "--kind",
+        "lobes",
+        "--roughness",
+        "0.2,0.6",
+        "--view-angle",
+        "45",
+        "--output",
+        &lobes,
+    ]);
+    assert!(r.status.success(), "{}", String::from_utf8_lossy(&r.stderr));
+    let svg = std::fs::read_to_string(&lobes).unwrap();
+    assert!(
+        svg.contains("view at 45°") && svg.contains("roughness 0.2"),
+        "{svg:.300}"
+    );
+
+    let range = out("range.svg");
+    let r = plot(&[
+        "schlick_in_unit_range",
+        "--kind",
+        "property",
+        "--output",
+        &range,
+    ]);
+    assert!(r.status.success(), "{}", String::from_utf8_lossy(&r.stderr));
+    let svg = std::fs::read_to_string(&range).unwrap();
+    assert!(svg.contains("result in [0, 1]"), "{svg:.300}");
+
+    for (args, message) in [
+        (
+            vec!["ggx_distribution", "--output", "map.jpg"],
+            "end it in .svg or .png",
+        ),
+        (
+            vec!["no_such_check", "--output", "x.svg"],
+            "no check named `no_such_check`",
+        ),
+        (
+            vec![
+                "ggx_distribution",
+                "--kind",
+                "property",
+                "--output",
+                "x.svg",
+            ],
+            "has no `property` to draw",
+        ),
+        (
+            vec![
+                "ggx_distribution",
+                "--x",
+                "n_dot_h",
+                "--y",
+                "n_dot_h",
+                "--output",
+                "x.svg",
+            ],
+            "two different parameters",
+        ),
+        (
+            vec!["ggx_distribution", "--x", "nope", "--output", "x.svg"],
+            "no sweep parameter `nope`",
+        ),
+        (
+            vec![
+                "brdf_full",
+                "--kind",
+                "lobes",
+                "--view-angle",
+                "95",
+                "--output",
+                "x.svg",
+            ],
+            "not in [0, 90)",
+        ),
+    ] {
+        let r = plot(&args);
+        let err = String::from_utf8_lossy(&r.stderr);
+        assert_eq!(r.status.code(), Some(2), "{args:?}: {err}");
+        assert!(err.contains(message), "{args:?}: {err}");
+    }
+    assert!(!dir.join("map.jpg").exists() && !dir.join("x.svg").exists());
+}

@@ -250,3 +250,57 @@ fn malformed_hemisphere_properties_are_located_errors() {
     let d = project("bad-golden", &text).unwrap_err();
     assert!(d.message.contains("a check of its own"), "{}", d.rendered);
 }
+
+/// The property chart of a furnace check draws the integrals the gate computed: one
+/// curve per α over the view angle, at the values of the registry's single-scattering
+/// albedo (itself checked against mpmath in tools/refgen), under the bound of 1.
+#[test]
+fn the_albedo_chart_draws_one_curve_per_alpha_at_the_integrated_values() {
+    let sweep = format!("{VIEWS}\nalpha = {{ list = [0.1, 0.3, 0.6, 1.0] }}");
+    let albedo = r#"{ kind = "albedo", over = "l" }"#;
+    let (_dir, s) = project("chart", &check("spec", albedo, "", &sweep, 1e-5)).unwrap();
+    let c = &s.checks[0];
+    let ev = gate::evaluate(&s, c, None).unwrap();
+    let got = gate::as_f64(&ev.output_columns, &ev.outputs);
+    let sides =
+        gate::oracle::property_sides(&s, c, c.property.as_ref().unwrap(), &ev, &got).unwrap();
+    let chart = shadegate::plot::property_chart(c, &ev.points, &sides, None).unwrap();
+    assert_eq!(chart.x_label, "θ of v (degrees from the normal)");
+    let names: Vec<&str> = chart.series.iter().map(|s| s.name.as_str()).collect();
+    assert_eq!(
+        names,
+        [
+            "1 (energy conserved)",
+            "albedo, alpha = 0.1",
+            "albedo, alpha = 0.3",
+            "albedo, alpha = 0.6",
+            "albedo, alpha = 1"
+        ]
+    );
+    assert!(chart.series[0].dashed && chart.series[0].points.iter().all(|p| p.1 == 1.0));
+    let model = shadegate::reference::find("ggx_albedo").unwrap();
+    for (series, alpha) in chart.series[1..].iter().zip([0.1f32, 0.3, 0.6, 1.0]) {
+        let xs: Vec<f64> = series.points.iter().map(|p| p.0.round()).collect();
+        assert_eq!(xs, [0.0, 30.0, 60.0, 80.0, 89.0], "{}", series.name);
+        // Up to 60° the quadrature agrees with the model to 1e-5 (measured above).
+        for &(theta, q) in series.points.iter().filter(|p| p.0 < 61.0) {
+            let e = model.call(&[theta.to_radians().cos(), f64::from(alpha)])[0];
+            assert!(
+                (q - e).abs() < 1e-5,
+                "{} at {theta}: {q} vs {e}",
+                series.name
+            );
+        }
+    }
+    // The other way round: curves per view angle over α.
+    let chart = shadegate::plot::property_chart(c, &ev.points, &sides, Some("alpha")).unwrap();
+    assert_eq!(chart.x_label, "alpha");
+    assert_eq!(chart.series[1].name, "albedo, θ of v = 0°");
+    assert_eq!(
+        chart.series.len(),
+        5,
+        "at most four curves: 5 angles thinned to 4"
+    );
+    let e = shadegate::plot::property_chart(c, &ev.points, &sides, Some("beta")).unwrap_err();
+    assert!(e.contains("no sweep parameter `beta`"), "{e}");
+}
