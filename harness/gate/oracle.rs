@@ -241,6 +241,42 @@ pub fn hemisphere_nodes() -> Vec<([f64; 3], f64)> {
     out
 }
 
+/// Per (sweep point, direction) of a masking-identity quadrature: the node's
+/// weight without its cos θ_h, times max(0, v·h) and the NDF at h (its
+/// `n_dot_h` is the direction's z; its other parameters come from the check's
+/// `reference_args`, else the sweep parameters of the same names).
+fn masking_factor(
+    check: &Check,
+    m: &crate::suite::Masking,
+    over: &str,
+    qpoints: &Points,
+    nodes: &[([f64; 3], f64)],
+) -> Result<Vec<f64>, String> {
+    let model = crate::reference::find(&m.ndf)
+        .ok_or_else(|| format!("no reference model named `{}`", m.ndf))?;
+    let mut exprs = check.reference_args.clone();
+    exprs.insert(
+        "n_dot_h".to_string(),
+        crate::sweep::Expr::parse(&format!("{over}.z")).map_err(|e| e.message)?,
+    );
+    let d = super::inputs::reference_columns(check, model, qpoints, &exprs)
+        .map_err(|e| format!("the distribution `{}`: {e}", m.ndf))?;
+    let vi = qpoints
+        .names
+        .iter()
+        .position(|x| *x == m.view)
+        .ok_or_else(|| format!("the view `{}` is not a sweep parameter", m.view))?;
+    let v = &qpoints.columns[vi];
+    let q = nodes.len();
+    Ok((0..qpoints.len)
+        .map(|k| {
+            let (h, w) = nodes[k % q];
+            let vh = v[0][k] * h[0] + v[1][k] * h[1] + v[2][k] * h[2];
+            w / h[2] * vh.max(0.0) * d[0][k]
+        })
+        .collect())
+}
+
 /// The columns of a property check. `got` is the function's result.
 pub fn property_sides(
     suite: &Suite,
@@ -396,7 +432,11 @@ pub fn property_sides(
                 half,
             })
         }
-        Property::Hemisphere { over, equal } => {
+        Property::Hemisphere {
+            over,
+            equal,
+            masking,
+        } => {
             let nodes = hemisphere_nodes();
             let q = nodes.len();
             let n = ev.points.len;
@@ -435,6 +475,13 @@ pub fn property_sides(
                 columns,
                 len: n * q,
             };
+            // The integrand's factor beside the function at each (point, direction),
+            // times the node's weight: cos θ for albedo and normalisation (in the
+            // weight), max(0, v·h) D(h) / cos θ_h for the masking identity.
+            let factor: Vec<f64> = match masking {
+                None => (0..n * q).map(|k| nodes[k % q].1).collect(),
+                Some(m) => masking_factor(check, m, over, &qpoints, &nodes).map_err(err)?,
+            };
             let (build, program) = build_other(suite, check, None, &check.function, pc.line)?;
             let qev = evaluate_at(check, build, program, &check.args, qpoints)
                 .map_err(|m| err(format!("the quadrature over `{over}`: {m}")))?;
@@ -446,23 +493,31 @@ pub fn property_sides(
                         .map(|i| {
                             c[i * q..(i + 1) * q]
                                 .iter()
-                                .zip(&nodes)
-                                .map(|(f, (_, w))| f * w)
+                                .zip(&factor[i * q..(i + 1) * q])
+                                .map(|(f, w)| f * w)
                                 .sum()
                         })
                         .collect()
                 })
                 .collect();
+            let view_z: Option<Vec<f64>> = match masking {
+                None => None,
+                Some(m) => {
+                    let vi = p.names.iter().position(|x| *x == m.view).ok_or_else(|| {
+                        err(format!("the view `{}` is not a sweep parameter", m.view))
+                    })?;
+                    Some(p.columns[vi][2].clone())
+                }
+            };
             let want = integral
                 .iter()
                 .map(|c| {
                     c.iter()
-                        .map(|&x: &f64| {
-                            if *equal || x.is_nan() {
-                                1.0
-                            } else {
-                                x.min(1.0)
-                            }
+                        .enumerate()
+                        .map(|(i, &x): (usize, &f64)| match &view_z {
+                            Some(z) => z[i],
+                            None if *equal || x.is_nan() => 1.0,
+                            None => x.min(1.0),
                         })
                         .collect()
                 })

@@ -85,7 +85,11 @@ pub fn property_chart(
     // dashed line; elsewhere a curve's expected values are drawn where they differ
     // from it (a range's bound where the result leaves the range, say).
     let bound = match check.property.as_ref().map(|p| &p.property) {
-        Some(Property::Hemisphere { equal, .. }) => Some(*equal),
+        Some(Property::Hemisphere {
+            equal,
+            masking: None,
+            ..
+        }) => Some(*equal),
         _ => None,
     };
     if let Some(equal) = bound {

@@ -169,9 +169,24 @@ pub(super) fn convert(
     // expressions (the quadrature's variable), never a sweep parameter.
     let over = match &property {
         Some(PropertyCheck {
-            property: Property::Hemisphere { over, .. },
+            property: Property::Hemisphere { over, masking, .. },
             ..
         }) => {
+            if let Some(m) = masking {
+                let is_direction = sweep.params.iter().any(|(n, d)| {
+                    *n == m.view && matches!(d, crate::sweep::Domain::Direction { .. })
+                });
+                if !is_direction {
+                    let at = rc.property.as_ref().map_or(span.clone(), |p| p.span());
+                    return Err(cx.err(
+                        key_in(cx.text, at, "view"),
+                        format!(
+                            "key `property.view`: the view `{}` must be a direction parameter of the sweep (`{} = {{ direction = ... }}`)",
+                            m.view, m.view
+                        ),
+                    ));
+                }
+            }
             if names.contains(over) {
                 let at = rc.property.as_ref().map_or(span.clone(), |p| p.span());
                 return Err(cx.err(
@@ -184,7 +199,7 @@ pub(super) fn convert(
             if rc.golden.is_some() || rc.reference.is_some() || rc.twin.is_some() {
                 return Err(cx.err(
                     span.start..span.start,
-                    format!("check `{name}`: a hemisphere property (albedo, normalisation) is a check of its own; put the reference, golden or twin in another check"),
+                    format!("check `{name}`: a hemisphere property (albedo, normalisation, masking) is a check of its own; put the reference, golden or twin in another check"),
                 ));
             }
             Some(over.clone())

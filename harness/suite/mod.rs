@@ -49,7 +49,7 @@ use check::convert;
 use domain::limits_of;
 pub use locate::line_col;
 use locate::{Ctx, LineIndex};
-pub use property::{Property, PropertyCheck};
+pub use property::{Masking, Property, PropertyCheck};
 use raw::RawSuite;
 mod textures;
 pub use textures::{SamplerBinding, TableBinding, TableSource, Textures};

@@ -47,7 +47,27 @@ pub enum Property {
     /// directional albedo, a white furnace) or exactly 1 (`equal = true`: a
     /// normalised NDF, ∫ D (n·h) dω_h = 1). Computed by quadrature through
     /// the evaluator (see `gate::oracle::hemisphere_nodes`).
-    Hemisphere { over: String, equal: bool },
+    ///
+    /// With `masking`: the Smith masking identity for a masking function G1
+    /// (the check's function) and an NDF D (a registry model):
+    /// ∫ G1(v, h) max(0, v·h) D(h) dω_h = cos θ_v at every view direction v
+    /// (`equal` is then true and the expected value is `v.z`, not 1).
+    Hemisphere {
+        over: String,
+        equal: bool,
+        masking: Option<Masking>,
+    },
+}
+
+/// The view and the distribution of a masking-identity property.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Masking {
+    /// The sweep parameter (a direction) that is the view v.
+    pub view: String,
+    /// The registry model of D: one output, a parameter `n_dot_h` (the
+    /// quadrature direction's z), the others from `reference_args` or the
+    /// sweep parameters of the same names.
+    pub ndf: String,
 }
 
 impl Property {
@@ -75,10 +95,23 @@ impl Property {
                 about.as_deref().unwrap_or("+z")
             ),
             Property::RoundTrip { decode, .. } => format!("round trip through {decode}"),
-            Property::Hemisphere { over, equal: false } => {
+            Property::Hemisphere {
+                over,
+                masking: Some(m),
+                ..
+            } => format!(
+                "masking: integral of result max(0, {v}.{over}) {d} over {over} = {v}.z",
+                v = m.view,
+                d = m.ndf
+            ),
+            Property::Hemisphere {
+                over, equal: false, ..
+            } => {
                 format!("albedo: integral of result cos over {over} <= 1")
             }
-            Property::Hemisphere { over, equal: true } => {
+            Property::Hemisphere {
+                over, equal: true, ..
+            } => {
                 format!("normalisation: integral of result cos over {over} = 1")
             }
         }
@@ -107,7 +140,7 @@ pub(super) fn property_of(cx: &Ctx, p: &Spanned<toml::Table>) -> Result<Property
     let kind = string("kind")?.ok_or_else(|| {
         cx.err(
             span.clone(),
-            "key `property.kind` is missing (expected \"range\", \"finite\", \"reciprocity\", \"isotropy\", \"round_trip\", \"albedo\" or \"normalisation\")",
+            "key `property.kind` is missing (expected \"range\", \"finite\", \"reciprocity\", \"isotropy\", \"round_trip\", \"albedo\", \"normalisation\" or \"masking\")",
         )
     })?;
     let allowed: &[&str] = match kind.as_str() {
@@ -117,11 +150,12 @@ pub(super) fn property_of(cx: &Ctx, p: &Spanned<toml::Table>) -> Result<Property
         "isotropy" => &["kind", "rotate", "about", "angle"],
         "round_trip" => &["kind", "decode", "shader"],
         "albedo" | "normalisation" => &["kind", "over"],
+        "masking" => &["kind", "over", "view", "ndf"],
         other => {
             return Err(cx.err(
                 at("kind"),
                 format!(
-                    "key `property.kind`: unknown property \"{other}\" (expected \"range\", \"finite\", \"reciprocity\", \"isotropy\", \"round_trip\", \"albedo\" or \"normalisation\")"
+                    "key `property.kind`: unknown property \"{other}\" (expected \"range\", \"finite\", \"reciprocity\", \"isotropy\", \"round_trip\", \"albedo\", \"normalisation\" or \"masking\")"
                 ),
             ))
         }
@@ -214,8 +248,8 @@ pub(super) fn property_of(cx: &Ctx, p: &Spanned<toml::Table>) -> Result<Property
                 angle,
             }
         }
-        "albedo" | "normalisation" => {
-            let equal = kind == "normalisation";
+        "albedo" | "normalisation" | "masking" => {
+            let equal = kind != "albedo";
             let over = string("over")?.unwrap_or_else(|| if equal { "h" } else { "l" }.to_string());
             if !over.chars().all(|c| c.is_ascii_alphanumeric() || c == '_')
                 || over.starts_with(|c: char| c.is_ascii_digit())
@@ -225,7 +259,41 @@ pub(super) fn property_of(cx: &Ctx, p: &Spanned<toml::Table>) -> Result<Property
                     format!("key `property.over`: `{over}` is not a name"),
                 ));
             }
-            Property::Hemisphere { over, equal }
+            let masking = if kind == "masking" {
+                let ndf = string("ndf")?.ok_or_else(|| {
+                    cx.err(
+                        span.clone(),
+                        "a `masking` property needs `ndf`, the registry model of the distribution (e.g. \"ggx_ndf\")",
+                    )
+                })?;
+                let model = crate::reference::find(&ndf).ok_or_else(|| {
+                    cx.err(
+                        at("ndf"),
+                        format!("key `property.ndf`: no reference model named `{ndf}` (see `shadegate models`)"),
+                    )
+                })?;
+                let has_n_dot_h = model
+                    .params
+                    .iter()
+                    .any(|p| p.name == "n_dot_h" && p.kind.width() == 1);
+                if model.outputs != 1 || !has_n_dot_h {
+                    return Err(cx.err(
+                        at("ndf"),
+                        format!(
+                            "key `property.ndf`: `{ndf}` is not a distribution of n·h (it needs one output and a scalar parameter `n_dot_h`)"
+                        ),
+                    ));
+                }
+                let view = string("view")?.unwrap_or_else(|| "v".to_string());
+                Some(Masking { view, ndf })
+            } else {
+                None
+            };
+            Property::Hemisphere {
+                over,
+                equal,
+                masking,
+            }
         }
         _ => Property::RoundTrip {
             decode: string("decode")?.ok_or_else(|| {

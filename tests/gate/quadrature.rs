@@ -1,7 +1,8 @@
 //! Hemisphere properties computed by quadrature through the evaluator: the
 //! directional albedo (white furnace, ∫ f cos θ_l dω_l ≤ 1) and NDF
 //! normalisation (∫ D (n·h) dω_h = 1), each on a function that keeps it and
-//! one that breaks it, and the quadrature's accuracy on known integrals.
+//! one that breaks it, the Smith masking identity on a user's G1, and the
+//! quadrature's accuracy on known integrals.
 //!
 //! Sources: ∫ cos θ / π dω = 1 over the hemisphere (Lambert, "Photometria",
 //! 1760; a handbook integral); the GGX and Beckmann NDFs are normalised,
@@ -9,7 +10,11 @@
 //! Refraction through Rough Surfaces", EGSR 2007); the single-scattering
 //! albedo of the GGX lobe with height-correlated Smith masking is below 1
 //! (E. Heitz, JCGT 2014) and is compared with the registry's `ggx_albedo`,
-//! an adaptive quadrature itself checked against mpmath (tools/refgen).
+//! an adaptive quadrature itself checked against mpmath (tools/refgen). The
+//! masking identity ∫ G1(v, h) max(0, v·h) D(h) dω_h = cos θ_v, and for G1 = 1
+//! the projected area cos θ_v (1 + Λ(v)), are from E. Heitz, "Understanding
+//! the Masking-Shadowing Function in Microfacet-Based BRDFs", JCGT 3(2), 2014;
+//! the Smith G1 of GGX, 1 / (1 + Λ), from Walter et al., EGSR 2007.
 
 use std::path::PathBuf;
 
@@ -47,6 +52,17 @@ fn spec(v: vec3<f32>, l: vec3<f32>, alpha: f32) -> f32 {
     return d_ggx(h, alpha) * 0.5 / (gv + gl);
 }
 // No masking or shadowing: G = 1, so V = 1 / (4 n.l n.v) gains energy at grazing view.
+// Masking functions of the view alone (v.z = n·v).
+fn g1_smith(v: vec3<f32>, alpha: f32) -> f32 {
+    let c = v.z;
+    let a2 = alpha * alpha;
+    return 2.0 * c / (c + sqrt(a2 + (1.0 - a2) * c * c));
+}
+fn g1_none(v: vec3<f32>) -> f32 { return 1.0; }
+fn g1_schlick(v: vec3<f32>, alpha: f32) -> f32 {
+    let k = alpha * 0.5;
+    return v.z / (v.z * (1.0 - k) + k);
+}
 fn spec_unmasked(v: vec3<f32>, l: vec3<f32>, alpha: f32) -> f32 {
     let h = normalize(v + l);
     return d_ggx(h, alpha) / (4.0 * max(l.z, 1e-4) * max(v.z, 1e-4));
@@ -303,4 +319,93 @@ fn the_albedo_chart_draws_one_curve_per_alpha_at_the_integrated_values() {
     );
     let e = shadegate::plot::property_chart(c, &ev.points, &sides, Some("beta")).unwrap_err();
     assert!(e.contains("no sweep parameter `beta`"), "{e}");
+}
+
+const GRAZING: &str =
+    "v = { direction = { theta = { list = [0, 30, 60, 75, 85] }, phi = { list = [0, 40] } } }\nalpha = { list = [0.1, 0.3, 0.6, 1.0] }";
+
+/// The Smith masking identity: the Smith G1 of GGX keeps it, G1 = 1 breaks it by
+/// exactly the projected-area term Λ (the registry's `smith_ggx_lambda`), and the
+/// Schlick approximation with k = α/2 misses it at grazing views.
+#[test]
+fn the_masking_identity_holds_for_smith_g1_and_measures_what_others_miss() {
+    let masking = r#"{ kind = "masking", ndf = "ggx_ndf" }"#;
+    let r = run("g1-smith", &check("g1_smith", masking, "", GRAZING, 1e-5));
+    assert_eq!(r.verdict, Verdict::Pass, "{r:#?}");
+    assert_eq!(
+        r.comparisons[0].against,
+        "property masking: integral of result max(0, v.h) ggx_ndf over h = v.z"
+    );
+    // Measured: 1.7e-6 at worst (f32 rounding of G1 and the quadrature, with the
+    // kink of max(0, v·h) at grazing views); bound 1e-5.
+    let worst = r.comparisons[0].stats.worst.as_ref().unwrap();
+    let e = (worst.got[0] - worst.want[0]).abs();
+    assert!(e < 1e-5 && e > 0.0, "{worst:#?}");
+
+    // G1 = 1: the integral is the projected area cos θ_v (1 + Λ(v)).
+    let text = check("g1_none", masking, "", GRAZING, 1e-5);
+    let (_dir, s) = project("g1-none", &text).unwrap();
+    let c = &s.checks[0];
+    let ev = gate::evaluate(&s, c, None).unwrap();
+    let got = gate::as_f64(&ev.output_columns, &ev.outputs);
+    let sides =
+        gate::oracle::property_sides(&s, c, c.property.as_ref().unwrap(), &ev, &got).unwrap();
+    let lambda = shadegate::reference::find("smith_ggx_lambda").unwrap();
+    for i in 0..ev.points.len {
+        let shadegate::sweep::Value::V(v) = ev.points.value(0, i) else {
+            unreachable!("v is a direction")
+        };
+        let alpha = ev.points.value(1, i).components()[0];
+        let area = v[2] * (1.0 + lambda.call(&[v[2], alpha])[0]);
+        let q = sides.got[0][i];
+        assert!(
+            (q - area).abs() < 1e-5,
+            "{}: {q} vs {area}",
+            ev.points.describe(i)
+        );
+        assert!((sides.want[0][i] - v[2]).abs() < 1e-12);
+    }
+    let r = gate::run_check(&s, c);
+    assert_eq!(r.verdict, Verdict::Fail, "{r:#?}");
+
+    // Measured: 0.038 low at 60° from the normal, α = 0.3.
+    let r = run(
+        "g1-schlick",
+        &check("g1_schlick", masking, "", GRAZING, 1e-5),
+    );
+    assert_eq!(r.verdict, Verdict::Fail, "{r:#?}");
+    let worst = r.comparisons[0].stats.worst.as_ref().unwrap();
+    assert!(worst.want[0] - worst.got[0] > 0.03, "{worst:#?}");
+}
+
+#[test]
+fn malformed_masking_properties_are_located_errors() {
+    for (property, sweep, message) in [
+        (r#"{ kind = "masking" }"#, GRAZING, "needs `ndf`"),
+        (
+            r#"{ kind = "masking", ndf = "nope" }"#,
+            GRAZING,
+            "no reference model named `nope`",
+        ),
+        (
+            r#"{ kind = "masking", ndf = "schlick_fresnel" }"#,
+            GRAZING,
+            "not a distribution of n·h",
+        ),
+        (
+            r#"{ kind = "masking", ndf = "ggx_ndf", view = "w" }"#,
+            GRAZING,
+            "the view `w` must be a direction parameter",
+        ),
+        (
+            r#"{ kind = "masking", ndf = "ggx_ndf", up = "z" }"#,
+            GRAZING,
+            "has no key `up`",
+        ),
+    ] {
+        let text = check("g1_smith", property, "", sweep, 1e-4);
+        let d = project("bad-masking", &text).map(|_| ()).unwrap_err();
+        assert!(d.message.contains(message), "{property}: {}", d.rendered);
+        assert_eq!(d.line, 6, "{property}: {}", d.rendered);
+    }
 }
