@@ -46,13 +46,13 @@ fn the_library_passes_and_the_planted_copy_fails_through_the_binary() {
     let out = shadegate(&["run"], &demo("quillmere-planted"));
     assert_eq!(out.status.code(), Some(1));
     let text = String::from_utf8_lossy(&out.stdout);
-    assert!(text.contains("1 passed · 9 failed"), "{text}");
+    assert!(text.contains("1 passed · 10 failed"), "{text}");
 }
 
 #[test]
 fn every_function_of_the_library_is_judged_by_an_oracle_and_passes() {
     let all = run("quillmere");
-    assert_eq!(all.len(), 10);
+    assert_eq!(all.len(), 11);
     for c in &all {
         assert_eq!(c.verdict, Verdict::Pass, "{c:#?}");
         // No golden anywhere: each check is judged by a model, an
@@ -100,6 +100,15 @@ fn each_planted_mistake_fails_its_check_with_an_explanation() {
     let c = check(&all, "cobble_furnace");
     let w = c.comparisons[0].stats.worst.as_ref().unwrap();
     assert!(w.got[0] > 1.0 && w.want[0] == 1.0, "{w:#?}");
+    // Masking identity: the Schlick-style fit k = α/2 in place of Smith's G1
+    // sees too little of the surface at 60° (0.462 of the 0.5 = cos 60°).
+    let c = check(&all, "cobble_masking");
+    assert_eq!(c.verdict, Verdict::Fail);
+    let w = c.comparisons[0].stats.worst.as_ref().unwrap();
+    assert!(
+        (w.want[0] - 0.5).abs() < 1e-6 && w.want[0] - w.got[0] > 0.03,
+        "{w:#?}"
+    );
     // Reference model: Schlick with the fifth power cut to a fourth.
     assert_eq!(check(&all, "lamp_fresnel").verdict, Verdict::Fail);
     // The encoder is right; its round trip through a 2.2 power is not.

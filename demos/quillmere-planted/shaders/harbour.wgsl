@@ -43,6 +43,14 @@ fn cobble_specular(v: vec3<f32>, l: vec3<f32>, alpha: f32) -> f32 {
     return cobble_ndf(h, alpha) / (4.0 * nv * nl);
 }
 
+// Masking of the cobbles' microfacets seen from v: Smith's G1 for GGX.
+fn cobble_masking(v: vec3<f32>, alpha: f32) -> f32 {
+    // Planted: the Schlick-style rational fit with k = alpha / 2 in place of Smith's G1.
+    let k = alpha * 0.5;
+    let c = max(v.z, 1e-4);
+    return c / (c * (1.0 - k) + k);
+}
+
 // Schlick Fresnel of the brass lamp glass.
 fn lamp_fresnel(v_dot_h: f32, f0: f32) -> f32 {
     let m = 1.0 - v_dot_h;

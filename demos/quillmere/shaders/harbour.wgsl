@@ -42,6 +42,13 @@ fn cobble_specular(v: vec3<f32>, l: vec3<f32>, alpha: f32) -> f32 {
     return cobble_ndf(h, alpha) * 0.5 / (gv + gl);
 }
 
+// Masking of the cobbles' microfacets seen from v: Smith's G1 for GGX.
+fn cobble_masking(v: vec3<f32>, alpha: f32) -> f32 {
+    let a2 = alpha * alpha;
+    let c = max(v.z, 1e-4);
+    return 2.0 * c / (c + sqrt(a2 + (1.0 - a2) * c * c));
+}
+
 // Schlick Fresnel of the brass lamp glass.
 fn lamp_fresnel(v_dot_h: f32, f0: f32) -> f32 {
     let m = 1.0 - v_dot_h;
