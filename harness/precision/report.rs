@@ -6,10 +6,10 @@ use std::fmt::Write as _;
 use super::observe::eps;
 use super::{Analysis, Budget, Line};
 
-/// ` ± 1.2 %` for an estimated share, nothing for an exact one.
+/// ` ± 1.2 %` (two standard errors) for an estimated share, nothing for an exact one.
 fn plus_minus(err: f64) -> String {
     if err > 0.0 {
-        format!(" ± {:.1}", 200.0 * err)
+        format!(" ± {:.1} %", 200.0 * err)
     } else {
         String::new()
     }

@@ -622,6 +622,34 @@ fn f16_port_budget_names_the_failing_roughness_and_its_line() {
         .max_by(|x, y| x.mean.total_cmp(&y.mean))
         .unwrap();
     assert_eq!(top.line, 72);
+    // Without a twin the budget is against the function's own f64 values:
+    // 1 / (3.140625 (r_h^2)^2) in binary64 for the f16 roughness r_h
+    // (3.140625 is exact in f16).
+    let expected_f64: Vec<usize> = rs
+        .iter()
+        .enumerate()
+        .filter(|&(_, &r)| {
+            let rh = h(r);
+            let a2 = h(h(rh * rh) * h(rh * rh));
+            let got = h(1.0 / h(3.140625 * a2));
+            let want = 1.0 / (3.140625 * ((rh * rh) * (rh * rh)));
+            !got.is_finite() || ((got - want) / want).abs() > 1e-2
+        })
+        .map(|(p, _)| p)
+        .collect();
+    let mut own = opts.clone();
+    if let Some(b) = own.budget.as_mut() {
+        b.reference = None;
+        b.against = "the function's f64 values".into();
+    }
+    let f = analyse(&p, &[&col[..]], &sh.source, None, &own).unwrap();
+    let fb = f.budget.as_ref().unwrap();
+    assert_eq!(fb.failing, expected_f64.len());
+    assert_eq!(fb.misses[0].point, expected_f64[0]);
+    assert_eq!(
+        fb.reference_part, 0.0,
+        "every line exact is the f64 model itself"
+    );
     let t = shadegate::precision::text(&a);
     assert!(
         t.contains("f16 budget against twin ggx_peak_f32 (tolerance rel 1e-2)"),
