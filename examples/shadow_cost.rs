@@ -5,8 +5,11 @@
 //!
 //! Run: `cargo run --release --example shadow_cost`. It prints the times
 //! and their ratios: the shadow executor (with the per-operation
-//! measurements of `shadegate::precision`, shares off) and the `f64` number
-//! model, each against the normal evaluator.
+//! measurements of `shadegate::precision`, shares off), the `f64` number
+//! model, and the whole analysis with its shares (Shapley values over random
+//! orders on a random sample of the points; their own cost is the whole
+//! analysis less the shadow run and the f64 model), each against the normal
+//! evaluator.
 use std::collections::BTreeMap;
 use std::time::Instant;
 
@@ -82,6 +85,12 @@ fn main() {
     let f64_model = t.elapsed().as_secs_f64();
     assert_eq!(f[0].len(), N);
 
+    let t = Instant::now();
+    let full = serial
+        .install(|| analyse(&p, &ins, &sh.source, None, &Options::default()).expect("analysis"));
+    let with_shares = t.elapsed().as_secs_f64();
+    let shares = with_shares - shadow - f64_model;
+
     println!("brdf at {N} points, one thread:");
     println!("  normal evaluation        {normal:8.3} s   1.0×");
     println!(
@@ -91,6 +100,18 @@ fn main() {
     println!(
         "  f64 number model         {f64_model:8.3} s  {:5.1}×",
         f64_model / normal
+    );
+    println!(
+        "  analysis with shares     {with_shares:8.3} s  {:5.1}×",
+        with_shares / normal
+    );
+    println!(
+        "  of which the shares      {shares:8.3} s  {:5.1}× ({} re-runs of {} sampled points in the f64 model, {} orders of {} lines)",
+        shares / normal,
+        full.share_runs,
+        full.share_points,
+        full.share_orders,
+        full.lines.len()
     );
     println!(
         "  (final error over the sweep: max {:.1} ULP, mean {:.2} ULP)",

@@ -126,7 +126,9 @@ enum Command {
     },
     /// Which line of one function loses precision, over a sweep: per line and
     /// operation the rounding error, cancellation, overflow and underflow,
-    /// amplifiers, each line's share of the final error, and known cures.
+    /// amplifiers, each line's share of the final error (shares add up), and
+    /// known cures. With --check, for a function computing in f16: each
+    /// line's part of the check's tolerance and the inputs that miss it.
     Precision {
         /// The WGSL file.
         shader: PathBuf,
@@ -138,7 +140,8 @@ enum Command {
         /// A CSV file with one column per argument leaf.
         #[arg(long)]
         input: Option<PathBuf>,
-        /// Use the sweep of this check of the suite.
+        /// Use the sweep of this check of the suite (and, for an f16 function,
+        /// its tolerance and twin for the budget).
         #[arg(long)]
         check: Option<String>,
         #[arg(long, default_value = "shadegate.toml")]
@@ -456,7 +459,7 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
                 ));
             }
             let sh = Shader::load(&shader).map_err(|d| Bad(d.rendered))?;
-            let (program, cols) = if let Some(name) = check {
+            let (program, cols, budget) = if let Some(name) = check {
                 let s = load_suite(&suite)?;
                 let c = s.checks.iter().find(|c| c.name == name).ok_or_else(|| {
                     Bad(format!("no check named `{name}` in {}", suite.display()))
@@ -466,7 +469,8 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
                 c.overrides.extend(ov.clone());
                 c.arithmetic = Arithmetic::Exact;
                 let ev = gate::evaluate(&s, &c, Some(&shader)).map_err(Bad)?;
-                (ev.program, ev.input_columns)
+                let budget = shadegate::precision::budget_of_check(&s, &c, &ev).map_err(Bad)?;
+                (ev.program, ev.input_columns, Some(budget))
             } else {
                 let program = Program::compile_with(&sh, &function, &ov, Arithmetic::Exact)
                     .map_err(|d| Bad(d.rendered))?;
@@ -475,7 +479,7 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
                     Some(path) => table::read_csv(&path, &leaves).map_err(Bad)?,
                     None => table::columns_of_points(&program, &points).map_err(Bad)?,
                 };
-                (program, cols)
+                (program, cols, None)
             };
             let twin = match twin {
                 Some(t) => Some(
@@ -490,7 +494,10 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
                 &refs,
                 &sh.source,
                 twin.as_ref(),
-                &shadegate::precision::Options::default(),
+                &shadegate::precision::Options {
+                    budget,
+                    ..Default::default()
+                },
             )
             .map_err(|e| Bad(format!("{}: {e}", shader.display())))?;
             let text = match format {

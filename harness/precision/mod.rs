@@ -26,14 +26,25 @@
 //!   absolute error over its size becomes the quotient's relative error);
 //! - points where an f64 comparison **diverges** from the working one.
 //!
-//! The **share** of the final error each line explains is measured, not
-//! estimated: the sweep is re-run in an emulated working arithmetic (every
-//! operation in f64, rounded to its working type) once as is and once per
-//! line with that line's operations taken exactly (their f64 results fed
-//! forward); the share is the part of the mean final error (ULP of the
-//! output's type, against the f64 model) that disappears. Shares need not
-//! add up to one (errors interact; the emulation rounds transcendentals from
-//! f64 rather than calling the f32 routines): the report states the margin.
+//! Each line's **share** of the final error is measured, not estimated,
+//! and adds up by construction (`shares.rs`): the share points (the sweep,
+//! or a random sample of [`Options::share_points`] of it) are
+//! re-run in an emulated working arithmetic (every operation in f64, rounded
+//! to its working type unless its line is exact); lines are made exact one
+//! by one in several orders, each line's drop of the mean relative error
+//! (against the f64 model) averaged over the orders: its Shapley value. The
+//! shares of every order add up to the emulated error less what rounds on no
+//! line (reported as unattributed, 0 for a function whose every rounding
+//! operation has a line); the margin is two standard errors of the
+//! estimates over random orders (0 when every order is run). Each line's
+//! error *alone* (what disappears when only that line is exact) is kept
+//! beside it: it does not add up, and shows where lines interact.
+//!
+//! For a function that computes in **f16**, given a tolerance
+//! ([`BudgetSpec`]: the check's, against its twin or the f64 values),
+//! `budget.rs` reports how much of the tolerance each line uses up and the
+//! sweep inputs where the f16 result misses it, with the line that
+//! dominates there.
 //!
 //! **Hints** name known cures with the evidence that triggered them and are
 //! never applied: `1 - x*x` as `(1 - x) * (1 + x)`, `1 - (n·h)²` from a cross
@@ -41,12 +52,23 @@
 //! denominator. When a rewritten twin of the function is given, its measured
 //! error on the same sweep is reported beside the original's (the gain).
 
+mod budget;
+mod hints;
+mod observe;
+mod report;
+mod shares;
+
 use serde::Serialize;
 
-use crate::eval::ir::{At, Op, Slot};
-use crate::eval::lanes::{Opcode, LANES};
-use crate::eval::shadow::{self, Event, Mode, Observe};
+pub use budget::{Budget, BudgetSpec, LineBudget, Miss, USE_CAP};
+pub use observe::ulp;
+pub use report::{summary, text};
+pub use shares::ENUMERATE_UP_TO;
+
+use crate::eval::lanes::LANES;
+use crate::eval::shadow::Mode;
 use crate::eval::{Program, ScalarKind};
+use observe::{min_normal, rel, Acc, Collector};
 
 /// What the analysis measured over one sweep.
 #[derive(Clone, Debug, PartialEq, Serialize)]
@@ -58,11 +80,25 @@ pub struct Analysis {
     /// Lines with float operations, in source order.
     pub lines: Vec<Line>,
     /// Mean final relative error (each point's capped at 1) of the emulated
-    /// working arithmetic against the f64 model: the base of the shares.
+    /// working arithmetic against the f64 model over the share points: the
+    /// base of the shares.
     pub emulated_mean_rel: f64,
-    /// |Σ shares − 1|: how far the shares are from explaining the emulated
-    /// error exactly.
+    /// Part of that error left with every line exact (rounding on no line):
+    /// the shares add up to 1 minus this, exactly.
+    pub unattributed: f64,
+    /// Two standard errors of the share estimates over random orders (the
+    /// largest over the lines); 0 when every order was run.
     pub share_margin: f64,
+    /// Points the shares were measured on (at most
+    /// [`Options::share_points`], plus a budget's misses), orders run,
+    /// whether those were all orders, and re-runs of the share points (the
+    /// cost).
+    pub share_points: usize,
+    pub share_orders: usize,
+    pub share_exhaustive: bool,
+    pub share_runs: usize,
+    /// For a function computing in f16 with a tolerance: the budget.
+    pub budget: Option<Budget>,
     pub hints: Vec<Hint>,
     /// Cancellation (bits) from which an evaluation is counted and reported.
     pub cancel_bits: f64,
@@ -92,10 +128,16 @@ pub struct FinalError {
 pub struct Line {
     pub line: u32,
     pub text: String,
-    /// Part of the emulated mean final error that vanishes when this line's
-    /// operations are exact (may be negative: rounding that cancelled other
-    /// rounding).
+    /// The line's share of the emulated mean final error: its drop when
+    /// the line is made exact, averaged over orders (a Shapley value; may be
+    /// negative: rounding that cancelled other rounding).
     pub share: f64,
+    /// Standard error of the share over random orders (0 when every order
+    /// was run).
+    pub share_error: f64,
+    /// Part of the emulated error that vanishes when only this line is
+    /// exact (does not add up over the lines where they interact).
+    pub alone: f64,
     pub ops: Vec<OpStats>,
 }
 
@@ -189,8 +231,21 @@ pub struct Hint {
 pub struct Options {
     /// Cancellation (bits) from which a subtraction is reported and hinted.
     pub cancel_bits: f64,
-    /// Measure shares (one extra run per line).
+    /// Measure shares (re-runs of the share points, about
+    /// `2 * share_pairs * lines`).
     pub shares: bool,
+    /// Points the shares use at most (drawn at random from the sweep).
+    pub share_points: usize,
+    /// Antithetic pairs of random orders when there are more than
+    /// [`ENUMERATE_UP_TO`] lines (fewer lines: every order).
+    pub share_pairs: usize,
+    /// Seed of the random orders.
+    pub share_seed: u64,
+    /// The f16 budget's tolerance and reference (used when the function
+    /// computes in f16).
+    pub budget: Option<BudgetSpec>,
+    /// Failing points listed in the budget.
+    pub misses: usize,
 }
 
 impl Default for Options {
@@ -198,207 +253,12 @@ impl Default for Options {
         Options {
             cancel_bits: 4.0,
             shares: true,
+            share_points: 2048,
+            share_pairs: 4,
+            share_seed: 1,
+            budget: None,
+            misses: 5,
         }
-    }
-}
-
-/// Spacing of the working type's numbers around `x` (f16 or f32).
-pub fn ulp(x: f64, half: bool) -> f64 {
-    let (min_exp, mant, max) = if half {
-        (-14, 10, 65504.0)
-    } else {
-        (-126, 23, f32::MAX as f64)
-    };
-    let a = x.abs().min(max);
-    // The binary exponent of `a` from its bits (every value here is far
-    // above f64's subnormal range or clamped to the working type's).
-    let e = if a == 0.0 || !a.is_finite() {
-        min_exp
-    } else {
-        (((a.to_bits() >> 52) & 0x7ff) as i32 - 1023).max(min_exp)
-    };
-    f64::from_bits(((e - mant + 1023) as u64) << 52)
-}
-
-fn min_normal(half: bool) -> f64 {
-    if half {
-        2f64.powi(-14)
-    } else {
-        f64::from(f32::MIN_POSITIVE)
-    }
-}
-
-/// Unit roundoff of the working type (half its ULP at 1).
-fn eps(half: bool) -> f64 {
-    if half {
-        2f64.powi(-11)
-    } else {
-        2f64.powi(-24)
-    }
-}
-
-fn precision_bits(half: bool) -> f64 {
-    if half {
-        11.0
-    } else {
-        24.0
-    }
-}
-
-#[derive(Default)]
-struct Acc {
-    count: usize,
-    sum_local: f64,
-    max_local: f64,
-    max_cancel: f64,
-    cancel_at: Option<(usize, f64, Vec<f64>)>,
-    cancellations: usize,
-    max_carried: f64,
-    carried_at: Option<(usize, f64, Vec<f64>)>,
-    overflow: usize,
-    overflow_at: Option<(usize, f64, Vec<f64>)>,
-    hidden: usize,
-    hidden_by: Option<At>,
-    subnormal: usize,
-    flushed: usize,
-    underflow_at: Option<(usize, f64, Vec<f64>)>,
-    amp_kind: Option<String>,
-    /// pow: the exponent; division: the smallest denominator.
-    amp_factor: f64,
-    /// Largest relative error of the result where the amplifier acts, and
-    /// where.
-    amp_rel: f64,
-    amp_at: Option<(usize, f64, Vec<f64>)>,
-    divergences: usize,
-    divergence_at: Option<usize>,
-    op: Option<(Opcode, bool)>,
-}
-
-/// Collects events per site over a sweep.
-struct Collector {
-    acc: Vec<Acc>,
-    cancel_bits: f64,
-    start: usize,
-    /// Per lane of the current batch: sites that overflowed, and the first
-    /// operation that took an infinite operand to a finite result after.
-    overflowed: Vec<Vec<At>>,
-    absorbed: Vec<Option<At>>,
-}
-
-fn rel(w: f64, s: f64) -> f64 {
-    if w == s {
-        0.0
-    } else if s == 0.0 {
-        f64::INFINITY
-    } else {
-        ((w - s) / s).abs()
-    }
-}
-
-impl Observe for Collector {
-    fn kernel(&mut self, e: &Event) {
-        if !shadow::is_float_op(e.op) {
-            return;
-        }
-        let point = self.start + e.lane;
-        let operands = || e.args_w[..e.arity].to_vec();
-        let a = &mut self.acc[e.at as usize];
-        a.op = Some((e.op, e.half));
-        a.count += 1;
-        if e.w.is_finite() && e.local.is_finite() {
-            let l = (e.w - e.local).abs() / ulp(e.local, e.half);
-            a.sum_local += l;
-            a.max_local = a.max_local.max(l);
-        }
-        let finite_in = e.args_w[..e.arity].iter().all(|x| x.is_finite());
-        // Cancellation in + and -.
-        if matches!(e.op, Opcode::FAdd | Opcode::FSub) && finite_in {
-            let m = e.args_w[0].abs().max(e.args_w[1].abs());
-            if m > 0.0 {
-                let bits = if e.w == 0.0 {
-                    precision_bits(e.half)
-                } else {
-                    (m / e.w.abs()).log2().max(0.0)
-                };
-                if bits >= self.cancel_bits {
-                    a.cancellations += 1;
-                }
-                if bits > a.max_cancel {
-                    a.max_cancel = bits;
-                    a.cancel_at = Some((point, bits, operands()));
-                }
-            }
-        }
-        if e.w.is_finite() && e.s.is_finite() {
-            let r = rel(e.w, e.s);
-            if r > a.max_carried {
-                a.max_carried = r;
-                a.carried_at = Some((point, r, operands()));
-            }
-        }
-        // Overflow: from finite operands to infinity where f64 stays finite.
-        if e.w.is_infinite() && finite_in && e.local.is_finite() {
-            a.overflow += 1;
-            if a.overflow_at.is_none() {
-                a.overflow_at = Some((point, e.local, operands()));
-            }
-            self.overflowed[e.lane].push(e.at);
-        }
-        if e.w.is_finite()
-            && !finite_in
-            && !self.overflowed[e.lane].is_empty()
-            && self.absorbed[e.lane].is_none()
-        {
-            self.absorbed[e.lane] = Some(e.at);
-        }
-        // Underflow.
-        let a = &mut self.acc[e.at as usize];
-        if e.local != 0.0 && e.local.abs() < min_normal(e.half) && e.local.is_finite() {
-            if e.w == 0.0 {
-                a.flushed += 1;
-            } else {
-                a.subnormal += 1;
-            }
-            if a.underflow_at.is_none() {
-                a.underflow_at = Some((point, e.local, operands()));
-            }
-        }
-        // Amplifiers.
-        let ro = rel(e.w, e.s);
-        match e.op {
-            Opcode::FPow => {
-                let n = e.args_w[1];
-                if n == n.trunc() && n.abs() >= 2.0 && ro.is_finite() {
-                    // rel(result) ≈ |n| · rel(base) + pow's own rounding.
-                    a.amp_kind = Some(format!("pow with integral exponent {n}"));
-                    a.amp_factor = a.amp_factor.max(n.abs());
-                    if a.amp_at.is_none() || ro > a.amp_rel {
-                        a.amp_rel = ro;
-                        a.amp_at = Some((point, ro, operands()));
-                    }
-                }
-            }
-            Opcode::FDiv => {
-                let den = e.args_w[1];
-                if den != 0.0 && den.abs() < 0.125 && ro.is_finite() {
-                    a.amp_kind = Some("division by a small denominator".into());
-                    if a.amp_at.is_none() || den.abs() < a.amp_factor {
-                        a.amp_factor = den.abs();
-                    }
-                    if a.amp_at.is_none() || ro > a.amp_rel {
-                        a.amp_rel = ro;
-                        a.amp_at = Some((point, ro, operands()));
-                    }
-                }
-            }
-            _ => {}
-        }
-    }
-
-    fn diverge(&mut self, at: At, lane: usize) {
-        let a = &mut self.acc[at as usize];
-        a.divergences += 1;
-        a.divergence_at.get_or_insert(self.start + lane);
     }
 }
 
@@ -578,7 +438,7 @@ pub fn analyse(
     }
     fe.worst_inputs = describe(fe.worst_point);
 
-    // Shares: emulated working arithmetic, whole and with one line exact.
+    // The lines with float operations.
     let sites = &code.sites;
     let mut line_nums: Vec<u32> = col
         .acc
@@ -596,29 +456,97 @@ pub fn analyse(
     } else {
         shadowv.clone()
     };
-    let e_emul = if opts.shares {
-        let none_exact = vec![false; sites.len()];
-        let emulated = program.eval_values(inputs, &none_exact);
-        mean(&capped_errors(&emulated, &truth, &kinds, n))
-    } else {
-        0.0
-    };
-    let mut shares = Vec::new();
-    for &ln in &line_nums {
-        if !opts.shares || e_emul == 0.0 {
-            shares.push(0.0);
-            continue;
+
+    // The f16 budget's failing points, found over the whole sweep.
+    let computes_half = col.acc.iter().any(|a| a.op.is_some_and(|o| o.1));
+    let out_half = kinds.contains(&ScalarKind::F16);
+    let budget_spec = opts.budget.as_ref().filter(|_| computes_half);
+    let want = match budget_spec.and_then(|b| b.reference.as_ref()) {
+        Some(r) => {
+            if r.len() != kinds.len() || r.iter().any(|c| c.len() != n) {
+                return Err(format!(
+                    "the budget's reference has {} column(s) of {} values; `{}` returns {} value(s) at {n} points",
+                    r.len(),
+                    r.first().map_or(0, Vec::len),
+                    program.function(),
+                    kinds.len()
+                ));
+            }
+            r
         }
-        let exact: Vec<bool> = sites.iter().map(|s| s.line == ln).collect();
-        let got = program.eval_values(inputs, &exact);
-        let e = mean(&capped_errors(&got, &truth, &kinds, n));
-        shares.push((e_emul - e) / e_emul);
-    }
-    let margin = if opts.shares && e_emul > 0.0 {
-        (shares.iter().sum::<f64>() - 1.0).abs()
-    } else {
-        0.0
+        None => &truth,
     };
+    let fails =
+        budget_spec.map(|b| budget::failing(&working, want, &b.tolerance, out_half, opts.misses));
+
+    // Shares (and the budget's parts) on the share points: a random sample
+    // of the sweep, then the misses.
+    let sample = shares::sample(n, opts.share_points.max(1), opts.share_seed);
+    let mut chosen = sample.clone();
+    // Each miss's index among the share points (appended unless sampled).
+    let mut miss_at = Vec::new();
+    if let Some((_, _, worst)) = &fails {
+        for &(p, _, _) in worst {
+            match sample.binary_search(&p) {
+                Ok(i) => miss_at.push(i),
+                Err(_) => {
+                    miss_at.push(chosen.len());
+                    chosen.push(p);
+                }
+            }
+        }
+    }
+    let sub_cols: Vec<Vec<u32>> = inputs
+        .iter()
+        .map(|c| chosen.iter().map(|&p| c[p]).collect())
+        .collect();
+    let sub_ins: Vec<&[u32]> = sub_cols.iter().map(|c| &c[..]).collect();
+    let pick = |cols: &[Vec<f64>]| -> Vec<Vec<f64>> {
+        cols.iter()
+            .map(|c| chosen.iter().map(|&p| c[p]).collect())
+            .collect()
+    };
+    let sub_truth = pick(&truth);
+    let sub_want = pick(want);
+    let metrics = |got: &[Vec<f64>]| {
+        let m = chosen.len();
+        let mut v = vec![capped_errors(got, &sub_truth, &kinds, m)];
+        if let Some(b) = budget_spec {
+            v.push(budget::uses(got, &sub_want, &b.tolerance, out_half));
+        }
+        v
+    };
+    let site_lines: Vec<u32> = sites.iter().map(|s| s.line).collect();
+    let attribution = (opts.shares && !line_nums.is_empty()).then(|| {
+        shares::attribute(
+            program,
+            &sub_ins,
+            &site_lines,
+            &line_nums,
+            &metrics,
+            shares::Plan {
+                sample: sample.len(),
+                pairs: opts.share_pairs,
+                seed: opts.share_seed,
+            },
+        )
+    });
+    let ns = sample.len();
+    let head_mean = |v: &[f64]| mean(&v[..ns]);
+    let e_emul = attribution.as_ref().map_or(0.0, |t| head_mean(&t.none[0]));
+    let k = line_nums.len();
+    let (mut share, mut share_err, mut alone) = (vec![0.0; k], vec![0.0; k], vec![0.0; k]);
+    let mut unattributed = 0.0;
+    if let (Some(t), true) = (&attribution, e_emul > 0.0) {
+        for l in 0..k {
+            let (m, e) = shares::mean_and_error(&t.units[0][l]);
+            share[l] = m / e_emul;
+            share_err[l] = if t.exhaustive { 0.0 } else { e / e_emul };
+            alone[l] = head_mean(&t.alone[0][l]) / e_emul;
+        }
+        unattributed = head_mean(&t.all[0]) / e_emul;
+    }
+    let margin = 2.0 * share_err.iter().copied().fold(0.0, f64::max);
 
     let worst = |w: &Option<(usize, f64, Vec<f64>)>| {
         w.as_ref().map(|(p, v, ops)| Worst {
@@ -682,25 +610,51 @@ pub fn analyse(
             text: src_lines
                 .get(ln.saturating_sub(1) as usize)
                 .map_or(String::new(), |s| s.trim().to_string()),
-            share: shares[li],
+            share: share[li],
+            share_error: share_err[li],
+            alone: alone[li],
             ops,
         });
     }
 
+    let budget = match (budget_spec, fails) {
+        (Some(spec), Some((failing, max_use, worst))) => Some(budget::assemble(
+            spec,
+            &budget::Parts {
+                attribution: attribution.as_ref(),
+                lines: &line_nums,
+                chosen: &chosen,
+                sample: ns,
+                miss_at: &miss_at,
+                working: &working,
+                want,
+            },
+            (failing, max_use, worst),
+            n,
+            &describe,
+        )),
+        _ => None,
+    };
     let twin_error = match twin {
         Some(t) => Some(twin_error(t, inputs, &truth, &kinds)?),
         None => None,
     };
     let e_work = mean(&capped_errors(&working, &truth, &kinds, n));
     fe.mean_rel = e_work;
-    let hints = hints(program, &col.acc, opts, e_work, twin_error, &describe);
+    let hints = hints::hints(program, &col.acc, opts, e_work, twin_error, &describe);
     Ok(Analysis {
         function: program.function().to_string(),
         points: n,
         final_error: fe,
         lines,
         emulated_mean_rel: e_emul,
+        unattributed,
         share_margin: margin,
+        share_points: chosen.len(),
+        share_orders: attribution.as_ref().map_or(0, |t| t.orders),
+        share_exhaustive: attribution.as_ref().is_some_and(|t| t.exhaustive),
+        share_runs: attribution.as_ref().map_or(0, |t| t.runs),
+        budget,
         hints,
         cancel_bits: opts.cancel_bits,
         internal_errors: internal,
@@ -735,298 +689,6 @@ fn twin_error(
     Ok(mean(&capped_errors(&got, truth, kinds, n)))
 }
 
-/// The defining kernel of each slot written once by a kernel.
-fn definitions(ops: &[Op], defs: &mut std::collections::HashMap<Slot, (Opcode, [Slot; 4])>) {
-    for op in ops {
-        match op {
-            Op::Kernel { op, dst, args, .. } => {
-                defs.insert(*dst, (*op, *args));
-            }
-            Op::If { accept, reject, .. } => {
-                definitions(accept, defs);
-                definitions(reject, defs);
-            }
-            Op::Loop {
-                body, continuing, ..
-            } => {
-                definitions(body, defs);
-                definitions(continuing, defs);
-            }
-            Op::Switch { cases, .. } => {
-                for c in cases {
-                    definitions(&c.body, defs);
-                }
-            }
-            _ => {}
-        }
-    }
-}
-
-/// The site of each kernel op, to find an operation's operands.
-fn kernel_sites(ops: &[Op], out: &mut Vec<(At, Opcode, [Slot; 4])>) {
-    for op in ops {
-        match op {
-            Op::Kernel { op, args, at, .. } => out.push((*at, *op, *args)),
-            Op::If { accept, reject, .. } => {
-                kernel_sites(accept, out);
-                kernel_sites(reject, out);
-            }
-            Op::Loop {
-                body, continuing, ..
-            } => {
-                kernel_sites(body, out);
-                kernel_sites(continuing, out);
-            }
-            Op::Switch { cases, .. } => {
-                for c in cases {
-                    kernel_sites(&c.body, out);
-                }
-            }
-            _ => {}
-        }
-    }
-}
-
-/// Known cures, from the measured symptoms and the shape of the code.
-fn hints(
-    program: &Program,
-    acc: &[Acc],
-    opts: &Options,
-    mean_rel: f64,
-    twin: Option<f64>,
-    describe: &dyn Fn(usize) -> String,
-) -> Vec<Hint> {
-    let code = program.code();
-    let mut defs = std::collections::HashMap::new();
-    definitions(&code.ops, &mut defs);
-    let mut ks = Vec::new();
-    kernel_sites(&code.ops, &mut ks);
-    let one = |s: Slot| {
-        code.consts
-            .iter()
-            .any(|&(c, b)| c == s && f32::from_bits(b) == 1.0)
-    };
-    let measured = twin.map(|t| (mean_rel, t));
-    let mut out: Vec<Hint> = Vec::new();
-    let mut push = |h: Hint| {
-        if !out.iter().any(|o| o.line == h.line && o.cure == h.cure) {
-            out.push(h);
-        }
-    };
-    for &(at, op, args) in &ks {
-        let a = &acc[at as usize];
-        let line = code.sites[at as usize].line;
-        if a.count == 0 {
-            continue;
-        }
-        if op == Opcode::FSub && a.max_cancel >= opts.cancel_bits && one(args[0]) {
-            if let Some(&(Opcode::FMul, [x, y, ..])) = defs.get(&args[1]) {
-                if x == y {
-                    let from_dot = matches!(defs.get(&x), Some((Opcode::FAdd, _)));
-                    let p = a.cancel_at.as_ref().map(|c| c.0).unwrap_or(0);
-                    let evidence = format!(
-                        "`1 - x*x` on line {line} cancels up to {:.1} bits (at {}); {} of {} evaluations lose {} bits or more",
-                        a.max_cancel,
-                        describe(p),
-                        a.cancellations,
-                        a.count,
-                        opts.cancel_bits
-                    );
-                    if from_dot {
-                        push(Hint {
-                            line,
-                            cure: "x is a dot product of unit vectors: form 1 - (n·h)² as the squared length of the cross product, dot(c, c) with c = cross(n, h), which does not cancel".into(),
-                            evidence: evidence.clone(),
-                            measured,
-                        });
-                    }
-                    push(Hint {
-                        line,
-                        cure: "write 1 - x*x as (1 - x) * (1 + x): 1 - x is exact near x = 1, so no bits cancel".into(),
-                        evidence,
-                        measured,
-                    });
-                }
-            }
-        }
-        if let Some(o) = a.overflow_at.as_ref() {
-            if a.op.is_some_and(|o| o.1) && matches!(op, Opcode::FMul | Opcode::FDiv | Opcode::FAdd)
-            {
-                push(Hint {
-                    line,
-                    cure: "reorder so intermediate values stay below 65504 in f16 (divide before multiplying, or scale the operands)".into(),
-                    evidence: format!(
-                        "{} on line {line} overflows f16 at {} of {} points (first at {}, f64 value {:.6e}){}",
-                        op.name(),
-                        a.overflow,
-                        a.count,
-                        describe(o.0),
-                        o.1,
-                        if a.hidden > 0 {
-                            format!("; a later operation hides it at {} of them", a.hidden)
-                        } else {
-                            String::new()
-                        }
-                    ),
-                    measured,
-                });
-            }
-        }
-        if let (Opcode::FDiv, Some(g), true) = (op, a.amp_at.as_ref(), a.amp_rel > 1e-2) {
-            push(Hint {
-                line,
-                cure: "clamp the denominator away from zero (e.g. max(d, 1e-4)): a small denominator turns its absolute error into a large relative one".into(),
-                evidence: format!(
-                    "division on line {line} by denominators down to {:.3e}; the quotient's relative error there reaches {:.3e} (at {})",
-                    a.amp_factor, a.amp_rel, describe(g.0)
-                ),
-                measured,
-            });
-        }
-    }
-    out
-}
-
-/// Plain-text rendering of an analysis.
-pub fn text(a: &Analysis) -> String {
-    use std::fmt::Write as _;
-    let mut s = String::new();
-    let fe = &a.final_error;
-    let _ = writeln!(
-        s,
-        "precision of `{}` over {} points: final error max {:.1} ULP (relative {:.3e}) at {}, mean {:.2} ULP{}",
-        a.function,
-        a.points,
-        fe.max_ulp,
-        fe.max_rel,
-        fe.worst_inputs,
-        fe.mean_ulp,
-        if fe.nonfinite > 0 {
-            format!("; {} points not finite where f64 is", fe.nonfinite)
-        } else {
-            String::new()
-        }
-    );
-    for e in &a.internal_errors {
-        let _ = writeln!(s, "  {e}");
-    }
-    let _ = writeln!(
-        s,
-        "share of the mean relative error ({:.3e}, working arithmetic emulated in f64) that disappears when a line is taken exactly; shares add up to 1 within {:.3}",
-        a.emulated_mean_rel, a.share_margin
-    );
-    let mut order: Vec<&Line> = a.lines.iter().collect();
-    order.sort_by(|x, y| y.share.total_cmp(&x.share));
-    for l in order {
-        let local = l.ops.iter().map(|o| o.max_local_ulp).fold(0.0, f64::max);
-        let carried = l.ops.iter().map(|o| o.max_carried_rel).fold(0.0, f64::max);
-        let _ = writeln!(
-            s,
-            "  line {:>4}  share {:>6.1} %  {}\n             {} operations, local error max {:.2} ULP, carried relative error max {:.3e}",
-            l.line,
-            100.0 * l.share,
-            l.text,
-            l.ops.len(),
-            local,
-            carried
-        );
-        for o in &l.ops {
-            let mut notes = Vec::new();
-            if o.max_cancel_bits >= a.cancel_bits {
-                let at = o
-                    .cancel_point
-                    .as_ref()
-                    .map(|w| format!(" at {} (operands {:?})", w.inputs, w.operands))
-                    .unwrap_or_default();
-                notes.push(format!(
-                    "cancels up to {:.1} bits{at}; {} evaluations lose {} bits or more{}",
-                    o.max_cancel_bits,
-                    o.cancellations,
-                    a.cancel_bits,
-                    if o.max_carried_rel == 0.0 {
-                        " (benign: the operands are exact, so is the difference)"
-                    } else {
-                        ""
-                    }
-                ));
-            }
-            if let Some(ov) = &o.overflow {
-                let hidden = match (&ov.hidden_by, ov.hidden) {
-                    (_, 0) => String::new(),
-                    (Some((l, op)), h) => format!(", hidden by {op} on line {l} at {h} points"),
-                    (None, h) => format!(", hidden at {h} points"),
-                };
-                notes.push(format!(
-                    "overflows at {} points (first at {}, f64 value {:.6e}){hidden}",
-                    ov.count, ov.first.inputs, ov.first.value
-                ));
-            }
-            if let Some(u) = &o.underflow {
-                notes.push(format!(
-                    "underflows at {} points ({} subnormal, {} flushed to zero; first at {}, f64 value {:.3e})",
-                    u.subnormal + u.flushed,
-                    u.subnormal,
-                    u.flushed,
-                    u.first.inputs,
-                    u.first.value
-                ));
-            }
-            if let Some(am) = o
-                .amplifier
-                .as_ref()
-                .filter(|am| am.worst_rel > 16.0 * eps(o.half))
-            {
-                notes.push(if am.kind.starts_with("pow") {
-                    format!(
-                        "amplifier: {} multiplies its base's relative error by {}; the result's relative error reaches {:.3e} at {}",
-                        am.kind, am.factor, am.worst_rel, am.point.inputs
-                    )
-                } else {
-                    format!(
-                        "amplifier: {}, down to {:.3e}; the quotient's relative error reaches {:.3e} at {}",
-                        am.kind, am.factor, am.worst_rel, am.point.inputs
-                    )
-                });
-            }
-            if o.divergences > 0 {
-                notes.push(format!(
-                    "f64 comparison differs at {} points (first point {})",
-                    o.divergences,
-                    o.divergence_point.unwrap_or(0)
-                ));
-            }
-            if notes.is_empty() {
-                continue;
-            }
-            let _ = writeln!(
-                s,
-                "    {}:{} {}{} (local error max {:.2} ULP, carried relative error max {:.3e})\n      {}",
-                o.line,
-                o.column,
-                o.op,
-                if o.half { " f16" } else { "" },
-                o.max_local_ulp,
-                o.max_carried_rel,
-                notes.join("\n      ")
-            );
-        }
-    }
-    for h in &a.hints {
-        let _ = writeln!(
-            s,
-            "hint (line {}): {}\n  because {}",
-            h.line, h.cure, h.evidence
-        );
-        if let Some((f, t)) = h.measured {
-            let _ = writeln!(
-                s,
-                "  measured on this sweep: mean relative error {f:.3e} as written, {t:.3e} in the rewritten twin"
-            );
-        }
-    }
-    s
-}
-
 /// The analysis of a suite check's function over the check's sweep (what
 /// `run --precision` adds to each check).
 pub fn of_check(
@@ -1035,105 +697,35 @@ pub fn of_check(
 ) -> Result<Analysis, String> {
     let ev = crate::gate::evaluate(suite, check, None)?;
     let cols: Vec<&[u32]> = ev.input_columns.iter().map(|c| &c[..]).collect();
-    analyse(
-        &ev.program,
-        &cols,
-        &ev.build.shader.source,
-        None,
-        &Options::default(),
-    )
+    let opts = Options {
+        budget: Some(budget_of_check(suite, check, &ev)?),
+        ..Options::default()
+    };
+    analyse(&ev.program, &cols, &ev.build.shader.source, None, &opts)
 }
 
-/// A few report lines: the final error, the `top` lines by share, and every
-/// operation whose cancellation carries error, hidden overflow or underflow,
-/// and the hints.
-pub fn summary(a: &Analysis, top: usize) -> Vec<String> {
-    let fe = &a.final_error;
-    let mut out = vec![format!(
-        "precision: final error max {:.1} ULP, mean {:.2} ULP (mean relative {:.3e}){}",
-        fe.max_ulp,
-        fe.mean_ulp,
-        fe.mean_rel,
-        if fe.nonfinite > 0 {
-            format!("; {} points not finite where f64 is", fe.nonfinite)
-        } else {
-            String::new()
+/// The f16 budget of a check: its tolerance, against its twin (evaluated at
+/// the check's points, as the run does) or, without one, against the
+/// function's own f64 values. `ev` is the check's evaluation
+/// (`gate::evaluate`).
+pub fn budget_of_check(
+    suite: &crate::suite::Suite,
+    check: &crate::suite::Check,
+    ev: &crate::gate::Evaluated,
+) -> Result<BudgetSpec, String> {
+    let (reference, against) = match &check.twin {
+        // A zero-argument function has one value; its twin is compared by
+        // the run, not here.
+        Some(t) if !ev.inputs.is_empty() => {
+            let got = crate::gate::as_f64(&ev.output_columns, &ev.outputs);
+            let sides = crate::gate::oracle::twin_sides(suite, check, t, ev, &got)?;
+            (Some(sides.want), sides.against)
         }
-    )];
-    out.extend(a.internal_errors.iter().cloned());
-    let mut order: Vec<&Line> = a.lines.iter().filter(|l| l.share.abs() >= 0.005).collect();
-    order.sort_by(|x, y| y.share.total_cmp(&x.share));
-    if !order.is_empty() {
-        out.push(format!(
-            "  lines by share of the error (shares add up to 1 within {:.2}):",
-            a.share_margin
-        ));
-    }
-    for l in order.into_iter().take(top) {
-        out.push(format!(
-            "    line {:>4} {:>6.1} %  {}",
-            l.line,
-            100.0 * l.share,
-            l.text
-        ));
-    }
-    for o in a.lines.iter().flat_map(|l| &l.ops) {
-        if o.max_cancel_bits >= a.cancel_bits && o.max_carried_rel > 16.0 * eps(o.half) {
-            let at = o
-                .cancel_point
-                .as_ref()
-                .map_or(String::new(), |w| format!(" at {}", w.inputs));
-            out.push(format!(
-                "  line {}: {} cancels up to {:.1} bits{at}",
-                o.line, o.op, o.max_cancel_bits
-            ));
-        }
-        if let Some(ov) = &o.overflow {
-            out.push(format!(
-                "  line {}: {} overflows at {} points{} (first at {})",
-                o.line,
-                o.op,
-                ov.count,
-                match &ov.hidden_by {
-                    Some((l, op)) if ov.hidden > 0 =>
-                        format!(", hidden by {op} on line {l} at {}", ov.hidden),
-                    _ => String::new(),
-                },
-                ov.first.inputs
-            ));
-        }
-        if let Some(u) = &o.underflow {
-            out.push(format!(
-                "  line {}: {} underflows at {} points ({} flushed to zero)",
-                o.line,
-                o.op,
-                u.subnormal + u.flushed,
-                u.flushed
-            ));
-        }
-    }
-    for h in &a.hints {
-        out.push(format!("  hint (line {}): {}", h.line, h.cure));
-    }
-    out
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn ulp_is_the_spacing_of_the_working_type() {
-        // IEEE 754 binary32: 2^-23 at 1, 2^-24 in [0.5, 1), 2^-149 below
-        // 2^-126; binary16: 2^-10 at 1, 2^-24 below 2^-14.
-        assert_eq!(ulp(1.0, false), 2f64.powi(-23));
-        assert_eq!(ulp(-0.75, false), 2f64.powi(-24));
-        assert_eq!(ulp(0.0, false), 2f64.powi(-149));
-        assert_eq!(ulp(1e-40, false), 2f64.powi(-149));
-        assert_eq!(ulp(3.0e38, false), 2f64.powi(127 - 23));
-        assert_eq!(ulp(1.0, true), 2f64.powi(-10));
-        assert_eq!(ulp(1e-6, true), 2f64.powi(-24));
-        assert_eq!(ulp(65504.0, true), 32.0);
-        assert_eq!(ulp(1e9, true), 32.0);
-    }
+        _ => (None, "the function's f64 values".to_string()),
+    };
+    Ok(BudgetSpec {
+        tolerance: check.tolerance.clone(),
+        reference,
+        against,
+    })
 }

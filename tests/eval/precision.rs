@@ -235,14 +235,28 @@ fn rounded_square_cancels_in_f32_and_the_factored_twin_cures_it() {
         s.max_carried_rel
     );
     assert!((a.final_error.max_rel - want).abs() < 1e-3 * want);
-    // The square (line 36) is where the error comes from: taking it exactly
-    // leaves only the rounding of the result, 2.0002318454714896e-4 to f32
-    // (at most 2^-24 relative, 6e-8, against 5.0e-5: a share above 0.998);
-    // taking the subtraction exactly removes nothing, it is exact already.
-    let share = |l: u32| a.lines.iter().find(|x| x.line == l).unwrap().share;
-    assert!(share(36) > 0.998 && share(36) <= 1.0, "{}", share(36));
-    assert_eq!(share(37), 0.0);
-    assert!(a.share_margin < 2e-3, "{}", a.share_margin);
+    // The square (line 36) is where the error comes from. Two lines, so
+    // both orders are run and the shares are exact Shapley values: the
+    // square's is (v(∅) − v({36}) + v({37}) − 0) / 2, the subtraction's
+    // (v(∅) − v({37}) + v({36}) − 0) / 2, over v(∅) = 5.0012e-5. Taking the
+    // subtraction exactly changes nothing (it is exact already): v({37}) =
+    // v(∅). Taking the square exactly leaves the rounding of the exact
+    // result to f32, 2.0002318454714896e-4 → 2.0002319070044905e-4, relative
+    // 3.0763e-8 = v({36}) (numpy float32). So the subtraction's share is
+    // 3.0763e-8 / (2 · 5.0012e-5) = 3.0756e-4 and the square's the rest;
+    // alone, the subtraction explains exactly nothing.
+    let line = |l: u32| a.lines.iter().find(|x| x.line == l).unwrap();
+    let sub_share = 3.0762934e-8 / (2.0 * want);
+    assert!(
+        (line(37).share - sub_share).abs() < 1e-3 * sub_share,
+        "{} vs {sub_share}",
+        line(37).share
+    );
+    assert!((line(36).share + line(37).share - 1.0).abs() < 1e-12);
+    assert_eq!(line(37).alone, 0.0);
+    assert!(a.share_exhaustive && a.share_orders == 2);
+    assert_eq!(a.share_margin, 0.0);
+    assert_eq!(a.unattributed, 0.0);
     let h = a
         .hints
         .iter()
@@ -369,7 +383,8 @@ fn shadow_working_values_equal_the_evaluator_on_every_demo_check() {
     // The shadow executor computes its working values with the same lane
     // kernels; `analyse` compares them with `Program::eval` at every point
     // and reports any difference as an internal error. Every check of the
-    // demo suite, on an evenly strided subset of at most 4,096 points.
+    // demo suite, on an evenly strided subset of at most 4,096 points (the
+    // shares on 256 of them).
     let path = concat!(env!("CARGO_MANIFEST_DIR"), "/shadegate.toml");
     let suite = shadegate::suite::load(path.as_ref()).unwrap();
     let mut analysed = 0;
@@ -389,7 +404,7 @@ fn shadow_working_values_equal_the_evaluator_on_every_demo_check() {
             .collect();
         let refs: Vec<&[u32]> = cols.iter().map(|c| &c[..]).collect();
         let opts = Options {
-            shares: false,
+            share_points: 256,
             ..Options::default()
         };
         let a = analyse(&ev.program, &refs, &ev.build.shader.source, None, &opts).unwrap();
@@ -399,7 +414,250 @@ fn shadow_working_values_equal_the_evaluator_on_every_demo_check() {
             c.name,
             a.internal_errors
         );
+        // Every rounding operation has a line: with all lines exact the
+        // emulation is the f64 model, so the shares add up to 1.
+        assert_eq!(a.unattributed, 0.0, "{}", c.name);
+        if a.emulated_mean_rel > 0.0 {
+            let sum: f64 = a.lines.iter().map(|l| l.share).sum();
+            assert!((sum - 1.0).abs() < 1e-9, "{}: {sum}", c.name);
+        }
         analysed += 1;
     }
     assert!(analysed >= 8, "only {analysed} demo checks analysed");
+}
+
+/// Values of an f32 argument, one point each.
+fn points_of(xs: &[f64]) -> Vec<Vec<f64>> {
+    xs.iter().map(|&x| vec![x]).collect()
+}
+
+#[test]
+fn shares_of_lines_that_undo_each_other_are_shapley_values() {
+    // times_three_over_three: line 61 `y = x * 3.0` rounds, line 62 `y / 3.0`
+    // often rounds back to x. The f64 model gives x exactly (3x is exact in
+    // f64, and the correctly rounded 3x / 3 is x). With the product exact
+    // the quotient is x again: v({61}) = 0. With the quotient exact, the
+    // product's rounding is left: v({62}) = mean |f32(3x)/3 − x| / x. Two
+    // lines, so both orders are run and the shares are the Shapley values
+    // (v(∅) − v({61}) + v({62}) − v(both)) / 2 and (v(∅) − v({62}) +
+    // v({61}) − v(both)) / 2, over v(∅). Every v is recomputed here in
+    // Rust's own f32 and f64 arithmetic (IEEE 754 binary32/binary64, round
+    // to nearest), independently of the evaluator.
+    let xs: Vec<f64> = (0..1000)
+        .map(|i| f64::from((1.0 + f64::from(i) / 999.0) as f32))
+        .collect();
+    let a = check("times_three_over_three", &points_of(&xs), Arithmetic::Exact);
+    let rel = |g: f64, x: f64| ((g - x).abs() / x).min(1.0);
+    let mean = |f: &dyn Fn(f64) -> f64| xs.iter().map(|&x| f(x)).sum::<f64>() / xs.len() as f64;
+    let v0 = mean(&|x| rel(f64::from((x as f32 * 3.0) / 3.0), x));
+    let v62 = mean(&|x| rel(f64::from(x as f32 * 3.0) / 3.0, x));
+    assert!(v0 > 0.0 && v62 > v0, "v(∅) {v0}, v({{62}}) {v62}");
+    let line = |l: u32| a.lines.iter().find(|x| x.line == l).unwrap();
+    assert!((a.emulated_mean_rel - v0).abs() < 1e-12 * v0.max(1e-300) + 1e-20);
+    let want61 = (v0 + v62) / (2.0 * v0);
+    let want62 = (v0 - v62) / (2.0 * v0);
+    assert!(
+        (line(61).share - want61).abs() < 1e-9,
+        "{} vs {want61}",
+        line(61).share
+    );
+    assert!(
+        (line(62).share - want62).abs() < 1e-9,
+        "{} vs {want62}",
+        line(62).share
+    );
+    // The quotient's rounding undoes the product's: a negative share. The
+    // shares add up to 1; the errors "alone" (1 and (v0 − v62) / v0) do not.
+    assert!(line(62).share < 0.0);
+    assert!((line(61).share + line(62).share - 1.0).abs() < 1e-12);
+    assert!((line(61).alone - 1.0).abs() < 1e-12);
+    assert!((line(61).alone + line(62).alone - 1.0).abs() > 0.1);
+    assert!(a.share_exhaustive && a.share_margin == 0.0 && a.unattributed == 0.0);
+}
+
+#[test]
+fn demo_brdf_shares_add_up_and_name_the_half_vector() {
+    // The demo check brdf_full (Cook-Torrance in f32, 1,048,576 points), on
+    // every 17th point (17 is prime to every sweep dimension, so every
+    // parameter still varies): the shares are estimated over random orders
+    // and add up to 1 by construction; the half vector `h = normalize(v +
+    // l)` (line 87 of shaders/brackenfold/materials.wgsl) explains the most,
+    // as the check's own tolerance reason says (its rounding, amplified by
+    // the sharpest lobe).
+    let path = concat!(env!("CARGO_MANIFEST_DIR"), "/shadegate.toml");
+    let suite = shadegate::suite::load(path.as_ref()).unwrap();
+    let c = suite.checks.iter().find(|c| c.name == "brdf_full").unwrap();
+    let ev = shadegate::gate::evaluate(&suite, c, None).unwrap();
+    let cols: Vec<Vec<u32>> = ev
+        .input_columns
+        .iter()
+        .map(|col| col.iter().step_by(17).copied().collect())
+        .collect();
+    let refs: Vec<&[u32]> = cols.iter().map(|c| &c[..]).collect();
+    let src = &ev.build.shader.source;
+    let a = analyse(&ev.program, &refs, src, None, &Options::default()).unwrap();
+    assert!(!a.share_exhaustive && a.share_orders == 8);
+    assert_eq!(a.share_points, Options::default().share_points);
+    let sum: f64 = a.lines.iter().map(|l| l.share).sum();
+    assert!((sum - (1.0 - a.unattributed)).abs() < 1e-9, "{sum}");
+    assert_eq!(
+        a.unattributed, 0.0,
+        "every rounding f32 operation has a line"
+    );
+    let mut by: Vec<_> = a.lines.iter().collect();
+    by.sort_by(|x, y| y.share.total_cmp(&x.share));
+    assert_eq!(by[0].line, 87, "{}", by[0].text);
+    assert!(by[0].text.contains("normalize(v + l)"));
+    assert!(
+        by[0].share - by[1].share > a.share_margin,
+        "the half vector leads by more than the margin: {} vs {} ± {}",
+        by[0].share,
+        by[1].share,
+        a.share_margin
+    );
+    // The estimates agree with four times as many orders within twice the
+    // stated margin (four standard errors) for every line.
+    let more = analyse(
+        &ev.program,
+        &refs,
+        src,
+        None,
+        &Options {
+            share_pairs: 16,
+            ..Options::default()
+        },
+    )
+    .unwrap();
+    for (l, m) in a.lines.iter().zip(&more.lines) {
+        assert!(
+            (l.share - m.share).abs() <= 2.0 * a.share_margin,
+            "line {}: {} with 8 orders, {} with 32, margin {}",
+            l.line,
+            l.share,
+            m.share,
+            a.share_margin
+        );
+    }
+}
+
+#[test]
+fn f16_port_budget_names_the_failing_roughness_and_its_line() {
+    // ggx_peak_f16 (1 / (pi alpha^2), alpha = roughness^2, lines 70-72)
+    // against its f32 twin under rel 1e-2, roughness 0.020 to 0.300 by
+    // 0.001. The expected failing set is recomputed here with the `half`
+    // crate's IEEE 754 binary16 rounding after every operation (as WGSL f16
+    // does) and Rust's f32: the f16 quotient overflows (1 / (pi a2) at or
+    // above 65520 rounds to infinity) for roughness below about 0.047.
+    let h = |x: f64| half::f16::from_f64(x).to_f64();
+    let rs: Vec<f64> = (20..=300).map(|i| f64::from(i) / 1000.0).collect();
+    let mut expected = Vec::new();
+    for (p, &r) in rs.iter().enumerate() {
+        let rh = h(r);
+        let alpha = h(rh * rh);
+        let a2 = h(alpha * alpha);
+        let got = h(1.0 / h(3.140625 * a2));
+        let rf = rh as f32;
+        let want = f64::from(1.0 / (3.140625f32 * ((rf * rf) * (rf * rf))));
+        if !got.is_finite() || ((got - want) / want).abs() > 1e-2 {
+            expected.push(p);
+        }
+    }
+    assert!(expected.len() > 20 && expected.contains(&0), "{expected:?}");
+    assert!(rs[*expected.last().unwrap()] < 0.06, "{expected:?}");
+
+    let sh = shader();
+    let p = Program::compile(&sh, "ggx_peak_f16", &Default::default()).unwrap();
+    let twin = Program::compile(&sh, "ggx_peak_f32", &Default::default()).unwrap();
+    let col: Vec<u32> = rs
+        .iter()
+        .map(|&r| f64_to_bits(ScalarKind::F16, r))
+        .collect();
+    let twin_col: Vec<u32> = rs.iter().map(|&r| (h(r) as f32).to_bits()).collect();
+    let mut out = Vec::new();
+    twin.eval(&[&twin_col[..]], &mut out);
+    let reference = vec![out[0]
+        .iter()
+        .map(|&b| f64::from(f32::from_bits(b)))
+        .collect()];
+    let opts = Options {
+        budget: Some(shadegate::precision::BudgetSpec {
+            tolerance: shadegate::compare::Tolerance {
+                rel: Some(vec![1e-2]),
+                reason: "test".into(),
+                ..Default::default()
+            },
+            reference: Some(reference),
+            against: "twin ggx_peak_f32".into(),
+        }),
+        ..Options::default()
+    };
+    let a = analyse(&p, &[&col[..]], &sh.source, None, &opts).unwrap();
+    let b = a.budget.as_ref().expect("an f16 function with a tolerance");
+    assert_eq!((b.points, b.failing), (rs.len(), expected.len()));
+    assert!(b.max_use.is_infinite());
+    // The worst misses are the overflows (infinitely bad; ties go to the
+    // smallest roughness), and the division that overflows dominates there:
+    // making line 72 exact gives the finite f64 quotient, making the other
+    // lines exact leaves it infinite.
+    assert_eq!(b.misses.len(), 5);
+    for (i, m) in b.misses.iter().enumerate() {
+        assert_eq!(m.point, expected[i]);
+        assert!(m.got.is_infinite() && m.want.is_finite());
+        assert_eq!(m.line, Some(72), "{m:?}");
+        assert!(m.line_part > 50.0, "{m:?}");
+        assert!(m.inputs.starts_with("roughness=0.0"), "{}", m.inputs);
+    }
+    // The parts add up: per line the mean parts, summed, are the mean use
+    // less what is left with every line exact (the twin's own rounding).
+    let sum: f64 = b.lines.iter().map(|l| l.mean).sum();
+    assert!(
+        (sum - (b.mean_use - b.reference_part)).abs() < 1e-9 * b.mean_use,
+        "{sum} vs {} - {}",
+        b.mean_use,
+        b.reference_part
+    );
+    let top = b
+        .lines
+        .iter()
+        .max_by(|x, y| x.mean.total_cmp(&y.mean))
+        .unwrap();
+    assert_eq!(top.line, 72);
+    // Without a twin the budget is against the function's own f64 values:
+    // 1 / (3.140625 (r_h^2)^2) in binary64 for the f16 roughness r_h
+    // (3.140625 is exact in f16).
+    let expected_f64: Vec<usize> = rs
+        .iter()
+        .enumerate()
+        .filter(|&(_, &r)| {
+            let rh = h(r);
+            let a2 = h(h(rh * rh) * h(rh * rh));
+            let got = h(1.0 / h(3.140625 * a2));
+            let want = 1.0 / (3.140625 * ((rh * rh) * (rh * rh)));
+            !got.is_finite() || ((got - want) / want).abs() > 1e-2
+        })
+        .map(|(p, _)| p)
+        .collect();
+    let mut own = opts.clone();
+    if let Some(b) = own.budget.as_mut() {
+        b.reference = None;
+        b.against = "the function's f64 values".into();
+    }
+    let f = analyse(&p, &[&col[..]], &sh.source, None, &own).unwrap();
+    let fb = f.budget.as_ref().unwrap();
+    assert_eq!(fb.failing, expected_f64.len());
+    assert_eq!(fb.misses[0].point, expected_f64[0]);
+    assert_eq!(
+        fb.reference_part, 0.0,
+        "every line exact is the f64 model itself"
+    );
+    let t = shadegate::precision::text(&a);
+    assert!(
+        t.contains("f16 budget against twin ggx_peak_f32 (tolerance rel 1e-2)"),
+        "{t}"
+    );
+    assert!(
+        t.contains(&format!("{} of 281 points miss it", expected.len())),
+        "{t}"
+    );
+    assert!(t.contains("line 72 accounts for"), "{t}");
 }

@@ -98,3 +98,86 @@ fn run_with_precision_adds_the_attribution_to_text_and_json() {
     let v: serde_json::Value = serde_json::from_str(&j).unwrap();
     assert!(v["checks"][0].get("precision").is_none());
 }
+
+/// Standard output of a run expected to exit with `code`.
+fn stdout_with(args: &[&str], code: i32) -> String {
+    let out = shadegate(args, Path::new(ROOT));
+    assert_eq!(
+        out.status.code(),
+        Some(code),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    String::from_utf8(out.stdout).unwrap()
+}
+
+const F16_SUITE: &str = "tests/data/precision/f16.toml";
+
+#[test]
+fn precision_command_gives_the_f16_budget_against_the_twin() {
+    // The check ggx_peak_port: ggx_peak_f16 against its f32 twin under rel
+    // 1e-2 over roughness 0.02..0.3; the 27 failing points are derived
+    // independently (binary16 rounding by the `half` crate) in
+    // tests/eval/precision.rs, f16_port_budget_names_the_failing_roughness_and_its_line.
+    let args = [
+        "precision",
+        "tests/data/precision/hand.wgsl",
+        "ggx_peak_f16",
+        "--check",
+        "ggx_peak_port",
+        "--suite",
+        F16_SUITE,
+    ];
+    let t = stdout(&args);
+    assert!(
+        t.contains(
+            "f16 budget against twin ggx_peak_f32 (tolerance rel 1e-2): 27 of 281 points miss it"
+        ),
+        "{t}"
+    );
+    assert!(t.contains("misses at roughness=0.0200042724609375"), "{t}");
+    assert!(t.contains("line 72 accounts for"), "{t}");
+    assert!(t.contains("exact Shapley values over all 6 orders"), "{t}");
+    let mut json = args.to_vec();
+    json.extend(["--format", "json"]);
+    let v: serde_json::Value = serde_json::from_str(&stdout(&json)).unwrap();
+    let b = &v["budget"];
+    assert_eq!(b["failing"], 27);
+    assert_eq!(b["max_use"], "inf");
+    assert_eq!(b["misses"][0]["line"], 72);
+    assert_eq!(b["misses"][0]["got"], "inf");
+    assert_eq!(v["share_points"], 281);
+}
+
+#[test]
+fn run_with_precision_gives_the_f16_budget() {
+    // The check fails (27 points overflow), so the run exits with 1.
+    let t = stdout_with(
+        &[
+            "run",
+            "--suite",
+            F16_SUITE,
+            "--precision",
+            "--deterministic",
+        ],
+        1,
+    );
+    assert!(t.contains("f16 budget against twin ggx_peak_f32"), "{t}");
+    assert!(t.contains("inf× the tolerance, mostly line 72"), "{t}");
+    let j = stdout_with(
+        &[
+            "run",
+            "--suite",
+            F16_SUITE,
+            "--precision",
+            "--deterministic",
+            "--format",
+            "json",
+        ],
+        1,
+    );
+    let v: serde_json::Value = serde_json::from_str(&j).unwrap();
+    let b = &v["checks"][0]["precision"]["budget"];
+    assert_eq!(b["failing"], 27);
+    assert_eq!(b["lines"].as_array().unwrap().len(), 3);
+}

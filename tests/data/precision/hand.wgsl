@@ -54,3 +54,26 @@ fn pow_amplifier(x: f32) -> f32 {
     let y = x * 1.0000001;
     return pow(y, 8.0);
 }
+
+// Two roundings that mostly undo each other: `x * 3` rounds, and the
+// division by 3 often rounds back to x.
+fn times_three_over_three(x: f32) -> f32 {
+    let y = x * 3.0;
+    return y / 3.0;
+}
+
+// An f16 port of the GGX distribution's peak (h = n), 1 / (pi alpha^2) with
+// alpha = roughness^2, and its f32 twin: the f16 result overflows for
+// roughness below about 0.047, and alpha^2 is subnormal in f16 below about
+// 0.088.
+fn ggx_peak_f16(roughness: f16) -> f16 {
+    let alpha = roughness * roughness;
+    let a2 = alpha * alpha;
+    return 1.0h / (PI_H * a2);
+}
+
+fn ggx_peak_f32(roughness: f32) -> f32 {
+    let alpha = roughness * roughness;
+    let a2 = alpha * alpha;
+    return 1.0 / (3.140625 * a2);
+}
