@@ -219,6 +219,14 @@ fn columns(exprs: &[BoundExpr], points: &Points) -> Result<Vec<Vec<f64>>, String
             }
             chunks.into_par_iter().enumerate().try_for_each(
                 |(k, mut chunk)| -> Result<(), String> {
+                    // The whole chunk at once where the expression allows.
+                    let range = k * CHUNK..k * CHUNK + chunk[0].len();
+                    if let Some(cols) = crate::sweep::columns::eval_range(e, points, range) {
+                        for (out, col) in chunk.iter_mut().zip(cols) {
+                            out.copy_from_slice(&col);
+                        }
+                        return Ok(());
+                    }
                     let mut vals = vec![Value::S(0.0); points.names.len()];
                     for j in 0..chunk[0].len() {
                         let i = k * CHUNK + j;

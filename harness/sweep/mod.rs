@@ -7,6 +7,7 @@
 //! degrees from the +z axis → the unit vector (sin θ cos φ, sin θ sin φ, cos θ)).
 //! Points are produced as f64 columns, one per scalar component.
 
+pub mod columns;
 pub mod expr;
 pub mod shard;
 
@@ -187,17 +188,28 @@ impl Domain {
     /// Components of grid value `k`.
     fn grid_value(&self, k: usize, cache: &[Vec<f64>]) -> Value {
         match self {
-            Domain::Direction { .. } => {
-                let (t, p) = (&cache[0], &cache[1]);
-                direction(t[k / p.len()], p[k % p.len()])
-            }
+            Domain::Direction { .. } => Value::V([cache[0][k], cache[1][k], cache[2][k]]),
             _ => Value::S(cache[0][k]),
         }
     }
 
+    /// The grid values, computed once per sweep: a scalar domain's values,
+    /// or a direction domain's unit vectors (θ slowest), one column per
+    /// component, so no point recomputes a sine or cosine.
     fn cache(&self) -> Vec<Vec<f64>> {
         match self {
-            Domain::Direction { theta, phi } => vec![theta.values(), phi.values()],
+            Domain::Direction { theta, phi } => {
+                let (t, p) = (theta.values(), phi.values());
+                let mut cols = vec![Vec::with_capacity(t.len() * p.len()); 3];
+                for &a in &t {
+                    for &b in &p {
+                        for (c, x) in cols.iter_mut().zip(direction(a, b).components()) {
+                            c.push(x);
+                        }
+                    }
+                }
+                cols
+            }
             d => vec![d.values()],
         }
     }
