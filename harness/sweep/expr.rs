@@ -78,7 +78,7 @@ pub(super) enum Node {
 
 /// A registry model inside an expression (compared by identity, shown by name).
 #[derive(Clone, Copy)]
-struct ModelRef(&'static crate::reference::Model);
+pub(super) struct ModelRef(&'static crate::reference::Model);
 
 impl PartialEq for ModelRef {
     fn eq(&self, other: &ModelRef) -> bool {

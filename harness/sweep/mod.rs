@@ -200,7 +200,9 @@ impl Domain {
         match self {
             Domain::Direction { theta, phi } => {
                 let (t, p) = (theta.values(), phi.values());
-                let mut cols = vec![Vec::with_capacity(t.len() * p.len()); 3];
+                let mut cols: Vec<Vec<f64>> = (0..3)
+                    .map(|_| Vec::with_capacity(t.len() * p.len()))
+                    .collect();
                 for &a in &t {
                     for &b in &p {
                         for (c, x) in cols.iter_mut().zip(direction(a, b).components()) {
