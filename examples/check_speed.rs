@@ -5,7 +5,8 @@
 //!
 //! Run: `cargo run --release --example check_speed` (add `-- --points N` to
 //! run the check with N points, seeded random points added to its grid, for
-//! a peak-memory measurement under `/usr/bin/time -v`).
+//! a peak-memory measurement under `/usr/bin/time -v`; add `--shard K/N` to
+//! run only that shard of those points, as `run --shard` does).
 use std::path::Path;
 use std::time::Instant;
 
@@ -32,6 +33,11 @@ fn main() {
         .position(|a| a == "--points")
         .and_then(|i| args.get(i + 1))
         .map(|n| n.parse().expect("--points takes a number"));
+    let shard = args
+        .iter()
+        .position(|a| a == "--shard")
+        .and_then(|i| args.get(i + 1))
+        .map(|s| shadegate::sweep::Shard::parse(s).unwrap_or_else(|e| panic!("{e}")));
     let root = Path::new(env!("CARGO_MANIFEST_DIR"));
     let s = suite::load(&root.join("shadegate.toml")).unwrap_or_else(|d| panic!("{d}"));
     let mut check = s
@@ -46,11 +52,13 @@ fn main() {
             count: n.saturating_sub(grid),
             seed: 17,
         });
+        check.shard = shard;
         let t = Instant::now();
         let r = gate::run_check(&s, &check);
         println!(
-            "brdf_full with {} points: {:?}, {:.3} s end to end (peak memory: see /usr/bin/time -v)",
+            "brdf_full with {} points{}: {:?}, {:.3} s end to end (peak memory: see /usr/bin/time -v)",
             r.points,
+            shard.map_or(String::new(), |s| format!(" (shard {s} of {})", check.sweep.len())),
             r.verdict,
             t.elapsed().as_secs_f64()
         );

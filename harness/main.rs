@@ -79,6 +79,26 @@ enum Command {
         /// one f64 shadow run and one re-run per line).
         #[arg(long)]
         precision: bool,
+        /// Run only shard K of N of every check's points (contiguous ranges;
+        /// the N shards together are every point once), for parallel CI
+        /// jobs; write `--format json` and join the N reports with `merge`.
+        #[arg(long, value_name = "K/N")]
+        shard: Option<String>,
+    },
+    /// Join the JSON reports of `run --shard K/N` for K = 1..N into the
+    /// report one run of the whole suite gives (exit code included).
+    Merge {
+        /// The shards' JSON reports, in any order.
+        #[arg(required = true)]
+        reports: Vec<PathBuf>,
+        #[arg(long, value_enum, default_value = "text")]
+        format: Format,
+        /// Write the report here instead of standard output.
+        #[arg(long)]
+        output: Option<PathBuf>,
+        /// Reports without timings (the default when CI is set).
+        #[arg(long)]
+        deterministic: bool,
     },
     /// Record the golden datasets of a suite's checks (refused when CI is set).
     Record {
@@ -331,8 +351,21 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
             failing_points,
             deterministic,
             precision,
+            shard,
         } => {
             let s = load_suite(&suite)?;
+            let s = match shard {
+                None => s,
+                Some(text) => {
+                    let shard = shadegate::sweep::Shard::parse(&text).map_err(Bad)?;
+                    if precision || html.is_some() || failing_points.is_some() || gpu {
+                        return Err(Bad(format!(
+                            "--shard {shard}: --precision, --html, --failing-points and --gpu need the whole sweep; run them without --shard"
+                        )));
+                    }
+                    gate::shard::sharded(&s, shard)
+                }
+            };
             warn_unused_parameters(&s, filter.as_deref());
             let progress = report::Progress::new();
             let run = if gpu {
@@ -377,6 +410,30 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
                 let path = write_in(dir, &html_name(&s), &page)?;
                 eprintln!("report page: {}", path.display());
             }
+            emit(&text, output.as_deref())?;
+            Ok(exit_of(&run))
+        }
+        Command::Merge {
+            reports,
+            format,
+            output,
+            deterministic,
+        } => {
+            let mut parts = Vec::new();
+            for path in &reports {
+                let file = path.display().to_string();
+                let text = std::fs::read_to_string(path)
+                    .map_err(|e| Bad(format!("{file}: cannot read: {e}")))?;
+                let run = gate::shard::read_report(&file, &text).map_err(Bad)?;
+                parts.push(gate::shard::Part { file, run });
+            }
+            let run = gate::shard::merge(&parts).map_err(Bad)?;
+            let timings = if deterministic || std::env::var_os("CI").is_some() {
+                report::Timings::Omit
+            } else {
+                report::Timings::Show
+            };
+            let text = render_with(&run, format, output.is_some(), timings);
             emit(&text, output.as_deref())?;
             Ok(exit_of(&run))
         }

@@ -8,12 +8,15 @@
 //! of a check is 1 / (worst badness): a headroom above 100 flags a stale
 //! tolerance that would hide a regression.
 
+pub mod exact;
 pub mod ulp;
+
+pub use exact::ExactSum;
 
 use serde::Serialize;
 
 /// What to do with points where the expected value is NaN or infinite.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Default)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, serde::Deserialize, Default)]
 #[serde(rename_all = "snake_case")]
 pub enum NanPolicy {
     /// The result must be non-finite of the same kind (NaN, +∞ or −∞).
@@ -127,6 +130,12 @@ pub struct Stats {
     pub first_nonfinite: Vec<PointReport>,
     /// Points whose bits differ at all (goldens only).
     pub changed: Option<usize>,
+    /// Output components compared at each point.
+    pub components: usize,
+    /// The exact sum of squared absolute errors behind `rms_abs`, so that
+    /// shards of a check merge into the statistics of the whole
+    /// ([`ExactSum`]: the same bits in any order).
+    pub sum_sq: ExactSum,
 }
 
 /// How many failing (and non-finite) points are listed.
@@ -166,10 +175,10 @@ pub fn compare(
     let comps = got.len();
     let mut s = Stats {
         points: n,
+        components: comps,
         ..Stats::default()
     };
-    let mut sum_sq = 0.0;
-    let mut compared = 0usize;
+    let mut sum_sq = ExactSum::default();
     let report = |i: usize, component: usize, abs: f64, rel: f64, ulp: f64| PointReport {
         index: i,
         params: describe(i),
@@ -186,14 +195,13 @@ pub fn compare(
         s.max_abs = s.max_abs.max(p.max_abs);
         s.max_rel = s.max_rel.max(p.max_rel);
         s.max_ulp = s.max_ulp.max(p.max_ulp);
-        sum_sq += p.sum_sq;
+        sum_sq.add(p.sum_sq);
         let (point_bad, point_comp, point_err, nonfinite, skip) =
             (p.badness, p.component, p.err, p.nonfinite, p.skip);
         if skip && point_bad == 0.0 {
             s.skipped += 1;
             continue;
         }
-        compared += 1;
         if nonfinite {
             s.nonfinite += 1;
             if s.first_nonfinite.len() < LISTED {
@@ -227,27 +235,39 @@ pub fn compare(
             s.worst = Some(report(i, point_comp, point_err.0, point_err.1, point_err.2));
         }
     }
-    s.fail_share = if compared > 0 {
-        s.failed as f64 / compared as f64
-    } else {
-        0.0
-    };
-    s.rms_abs = if compared > 0 {
-        (sum_sq / (compared * comps.max(1)) as f64).sqrt()
-    } else {
-        0.0
-    };
-    s.headroom = if s.worst_badness > 0.0 {
-        1.0 / s.worst_badness
-    } else {
-        f64::INFINITY
-    };
-    // A zero tolerance cannot be loose; otherwise flag > 100× headroom.
-    let zero_tol = [&tol.abs, &tol.rel, &tol.ulp]
-        .iter()
-        .all(|t| t.as_ref().is_none_or(|v| v.iter().all(|x| *x == 0.0)));
-    s.stale_tolerance = !zero_tol && s.failed == 0 && s.headroom > 100.0;
+    s.sum_sq = sum_sq;
+    s.finish(tol);
     s
+}
+
+impl Stats {
+    /// The figures derived from the counts, maxima and the sum: failing
+    /// share, RMS, headroom and the stale-tolerance flag (by
+    /// [`compare`], and again after shards are merged).
+    pub fn finish(&mut self, tol: &Tolerance) {
+        let s = self;
+        let compared = s.points - s.skipped;
+        s.fail_share = if compared > 0 {
+            s.failed as f64 / compared as f64
+        } else {
+            0.0
+        };
+        s.rms_abs = if compared > 0 {
+            (s.sum_sq.value() / (compared * s.components.max(1)) as f64).sqrt()
+        } else {
+            0.0
+        };
+        s.headroom = if s.worst_badness > 0.0 {
+            1.0 / s.worst_badness
+        } else {
+            f64::INFINITY
+        };
+        // A zero tolerance cannot be loose; otherwise flag > 100× headroom.
+        let zero_tol = [&tol.abs, &tol.rel, &tol.ulp]
+            .iter()
+            .all(|t| t.as_ref().is_none_or(|v| v.iter().all(|x| *x == 0.0)));
+        s.stale_tolerance = !zero_tol && s.failed == 0 && s.headroom > 100.0;
+    }
 }
 
 /// One point judged against a tolerance (see the module doc).

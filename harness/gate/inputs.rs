@@ -129,9 +129,17 @@ pub struct Evaluated {
     pub rounded: Option<super::result::FindingKind>,
 }
 
-/// Generate the sweep with every value rounded to f32.
+/// The indices of the sweep's points this run of the check evaluates: all,
+/// or its shard's share ([`Check::shard`]).
+pub fn point_range(check: &Check) -> std::ops::Range<usize> {
+    let n = check.sweep.len();
+    check.shard.map_or(0..n, |s| s.range(n))
+}
+
+/// Generate the sweep (the check's shard of it, when it has one) with every
+/// value rounded to f32.
 pub fn points_of(check: &Check) -> Points {
-    let mut points = check.sweep.points();
+    let mut points = check.sweep.points_in(point_range(check));
     for cols in &mut points.columns {
         for col in cols.iter_mut() {
             for x in col.iter_mut() {
@@ -211,6 +219,14 @@ fn columns(exprs: &[BoundExpr], points: &Points) -> Result<Vec<Vec<f64>>, String
             }
             chunks.into_par_iter().enumerate().try_for_each(
                 |(k, mut chunk)| -> Result<(), String> {
+                    // The whole chunk at once where the expression allows.
+                    let range = k * CHUNK..k * CHUNK + chunk[0].len();
+                    if let Some(cols) = crate::sweep::columns::eval_range(e, points, range) {
+                        for (out, col) in chunk.iter_mut().zip(cols) {
+                            out.copy_from_slice(&col);
+                        }
+                        return Ok(());
+                    }
                     let mut vals = vec![Value::S(0.0); points.names.len()];
                     for j in 0..chunk[0].len() {
                         let i = k * CHUNK + j;

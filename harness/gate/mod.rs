@@ -10,6 +10,7 @@
 //! - [`oracle`]: twins and property checks, each the columns of one more
 //!   comparison;
 //! - [`record`](mod@record): writing a check's golden dataset;
+//! - [`shard`]: `run --shard K/N` and merging the shards' JSON reports;
 //! - [`table`]: the point tables (CSV) of `shadegate eval`;
 //! - [`result`]: the types reports read.
 
@@ -19,15 +20,17 @@ pub mod oracle;
 pub mod record;
 pub mod result;
 pub mod run;
+pub mod shard;
 pub mod table;
 
 pub use inputs::{
-    as_f64, build_of, evaluate, points_of, reference_arg_columns, reference_columns,
+    as_f64, build_of, evaluate, point_range, points_of, reference_arg_columns, reference_columns,
     reference_expr_columns, reference_fits, Build, Evaluated,
 };
 pub use record::record;
 pub use result::{
-    CheckResult, Comparison, Confined, Finding, FindingKind, IssueGroup, Remap, RunResult, Verdict,
+    CheckResult, Comparison, Confined, Finding, FindingKind, IssueGroup, Remap, RunResult,
+    ShardPart, Verdict,
 };
 pub use run::{
     compare_functions, compare_versions, run, run_check, run_check_explained, run_check_on, run_on,

@@ -1,12 +1,12 @@
 //! What running a check produces; the report formats read only these types.
 
-use serde::Serialize;
+use serde::{Deserialize, Deserializer, Serialize};
 
 use crate::compare::{Stats, Tolerance};
 use crate::diagnose::Term;
 
 /// Outcome of one check.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Deserialize)]
 #[serde(rename_all = "snake_case")]
 pub enum Verdict {
     Pass,
@@ -16,7 +16,7 @@ pub enum Verdict {
 }
 
 /// Per-point evaluator issues of one kind and source site, grouped.
-#[derive(Clone, Debug, PartialEq, Serialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
 pub struct IssueGroup {
     /// `out_of_bounds`, `step_budget` or `non_finite`.
     pub kind: String,
@@ -57,11 +57,42 @@ pub struct CheckResult {
     #[serde(skip_serializing_if = "Option::is_none")]
     pub precision: Option<crate::precision::Analysis>,
     pub seconds: f64,
+    /// The share of the sweep this result covers (`run --shard`); `None`:
+    /// every point.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub shard: Option<ShardPart>,
+}
+
+/// Which points of its check's sweep a shard's result covers.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Deserialize)]
+pub struct ShardPart {
+    /// Shard `index` (1-based) of `of`.
+    pub index: usize,
+    pub of: usize,
+    /// Its first point's index in the sweep, and the sweep's point count.
+    pub first: usize,
+    pub total: usize,
+}
+
+/// A [`Term`] from the name a report writes for it (every term a finding
+/// names is a catalogue hypothesis's).
+fn term_named<'de, D: Deserializer<'de>>(d: D) -> Result<Term, D::Error> {
+    let name = String::deserialize(d)?;
+    crate::diagnose::CATALOGUE
+        .iter()
+        .map(|h| h.term)
+        .find(|t| {
+            serde_json::to_value(t)
+                .ok()
+                .and_then(|v| v.as_str().map(|s| s == name))
+                == Some(true)
+        })
+        .ok_or_else(|| serde::de::Error::custom(format!("unknown term `{name}`")))
 }
 
 /// One explanation of a check's numbers, with its evidence. Renderers turn
 /// it into words; tests assert on it.
-#[derive(Clone, Debug, PartialEq, Serialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
 pub struct Finding {
     /// The comparison it explains (`reference ggx_ndf`, `golden goldens/x.csv`);
     /// empty when it concerns the check as a whole.
@@ -75,7 +106,7 @@ pub struct Finding {
 }
 
 /// What a finding says. Each variant carries its evidence.
-#[derive(Clone, Debug, PartialEq, Serialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
 #[serde(tag = "kind", rename_all = "snake_case")]
 pub enum FindingKind {
     /// The results come from another back end (a WebGPU device).
@@ -144,6 +175,7 @@ pub enum FindingKind {
         /// The hypothesis's stable id (`schlick_exponent_4`).
         hypothesis: String,
         /// The term of the model it blames.
+        #[serde(deserialize_with = "term_named")]
         term: Term,
         /// What follows "behaves like `<reference>` with".
         change: String,
@@ -176,7 +208,7 @@ pub enum FindingKind {
 }
 
 /// Which points a [`FindingKind::Confined`] finding describes.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Deserialize)]
 #[serde(rename_all = "snake_case")]
 pub enum Confined {
     /// Every failing point.
@@ -186,7 +218,7 @@ pub enum Confined {
 }
 
 /// The remap a [`FindingKind::Remap`] finding suggests.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Deserialize)]
 #[serde(rename_all = "snake_case")]
 pub enum Remap {
     /// The shader uses p where the reference has p² (one squaring skipped).

@@ -9,12 +9,12 @@ use super::explain::{
     self, backend_agreement, failing_points, group_issues, Context, Evidence, Explainer, Reevaluate,
 };
 use super::inputs::{
-    as_f64, evaluate, reference_arg_columns, reference_columns, reference_expr_columns,
-    reference_fits, Build,
+    as_f64, evaluate, point_range, reference_arg_columns, reference_columns,
+    reference_expr_columns, reference_fits, Build,
 };
 use super::oracle;
 use super::result::{
-    CheckResult, Comparison, Finding, FindingKind, IssueGroup, RunResult, Verdict,
+    CheckResult, Comparison, Finding, FindingKind, IssueGroup, RunResult, ShardPart, Verdict,
 };
 use crate::compare::{self, Tolerance};
 use crate::eval::ScalarKind;
@@ -52,11 +52,12 @@ pub fn run_check_explained(
     explainers: &[&dyn Explainer],
 ) -> CheckResult {
     let start = Instant::now();
+    let range = point_range(check);
     let mut r = CheckResult {
         name: check.name.clone(),
         shader: check.shader.display().to_string(),
         function: check.function.clone(),
-        points: check.sweep.len(),
+        points: range.len(),
         verdict: Verdict::Error,
         error: None,
         comparisons: Vec::new(),
@@ -64,6 +65,12 @@ pub fn run_check_explained(
         findings: Vec::new(),
         precision: None,
         seconds: 0.0,
+        shard: check.shard.map(|s| ShardPart {
+            index: s.index,
+            of: s.of,
+            first: range.start,
+            total: check.sweep.len(),
+        }),
     };
     match run_inner(suite, check, &mut r, backend, explainers) {
         Ok(()) => {
@@ -161,6 +168,16 @@ fn comparison(
     let describe = |i: usize| points.describe(i);
     let mut stats = compare::compare(got, want, tolerance, half, &describe);
     stats.changed = changed;
+    // A shard's points are numbered from its first point in the sweep.
+    let first = point_range(check).start;
+    for p in stats
+        .worst
+        .iter_mut()
+        .chain(&mut stats.first_failures)
+        .chain(&mut stats.first_nonfinite)
+    {
+        p.index += first;
+    }
     let failing = if stats.failed > 0 {
         failing_points(got, want, tolerance, half)
     } else {
@@ -313,6 +330,7 @@ fn run_inner(
         r.findings.extend(findings);
     }
     if let (Some(gpath), None) = (&check.golden, backend) {
+        let range = point_range(check);
         check_tolerance(
             suite,
             check,
@@ -321,7 +339,7 @@ fn run_inner(
             got.len(),
         )?;
         let path = suite.resolve(gpath);
-        let g = golden::read_with(&path, &suite.limits).map_err(|d| d.rendered)?;
+        let mut g = golden::read_with(&path, &suite.limits).map_err(|d| d.rendered)?;
         let shader = check.shader.display().to_string();
         let sweep = check.sweep.to_string();
         golden::check_identity(
@@ -332,13 +350,19 @@ fn run_inner(
                 shader: &shader,
                 function: &check.function,
                 sweep: &sweep,
-                points: ev.points.len,
+                points: check.sweep.len(),
                 inputs: &ev.inputs,
                 outputs: &ev.outputs,
                 input_columns: &ev.input_columns,
+                first: range.start,
             },
         )
         .map_err(|d| d.rendered)?;
+        // A shard compares its own points of the record.
+        for col in &mut g.output_columns {
+            col.truncate(range.end);
+            col.drain(..range.start);
+        }
         let against = format!("golden {}", gpath.display());
         if g.header.shader_hash != ev.shader_hash {
             r.findings.push(Finding {
@@ -467,6 +491,7 @@ pub fn compare_functions(
         findings,
         precision: None,
         seconds: start.elapsed().as_secs_f64(),
+        shard: None,
     })
 }
 

@@ -556,7 +556,10 @@ pub struct Identity<'a> {
     pub points: usize,
     pub inputs: &'a [(String, ScalarKind)],
     pub outputs: &'a [(String, ScalarKind)],
+    /// The check's input columns at points `first..` of the sweep (all of
+    /// them, or one shard's share: `run --shard`).
     pub input_columns: &'a [Vec<u32>],
+    pub first: usize,
 }
 
 /// Check that a golden read from `path` was recorded from `want`: its
@@ -616,9 +619,10 @@ pub fn check_identity(path: &Path, g: &Golden, want: &Identity) -> Result<(), Di
         g.input_columns
             .iter()
             .zip(want.input_columns)
-            .any(|(a, b)| a.get(i) != b.get(i))
+            .any(|(a, b)| a.get(want.first + i) != b.get(i))
     };
-    if let Some(i) = (0..want.points).find(|&i| differs(i)) {
+    let rows = want.input_columns.first().map_or(0, Vec::len);
+    if let Some(i) = (0..rows).find(|&i| differs(i)).map(|i| want.first + i) {
         return Err(Diagnostic::at_location(
             path,
             &text(),

@@ -34,9 +34,11 @@ pub const VERSION: u32 = 1;
 ///                 "location", "count", "example" }],
 ///                 "comparisons": [ { "against",
 ///                   "tolerance": { "abs", "rel", "ulp", "nan", "reason", "describe" },
-///                   "stats": { every field of compare::Stats; points as
+///                   "stats": { every field of compare::Stats (sum_sq as the
+///                              exact sum's text form); points as
 ///                              { "index", "params", "got", "want", "component",
-///                                "abs", "rel", "ulp" } } } ] } ] }
+///                                "abs", "rel", "ulp" } } } ],
+///                 "shard": { "index", "of", "first", "total" } (run --shard only) } ] }
 /// ```
 ///
 /// Every field of the result types appears under its own name. Non-finite numbers are
@@ -142,6 +144,9 @@ struct Check<'a> {
     /// Non-finite numbers in it are written as null.
     #[serde(skip_serializing_if = "Option::is_none")]
     precision: Option<&'a crate::precision::Analysis>,
+    /// Which share of the sweep a shard's result covers (`run --shard`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    shard: Option<crate::gate::ShardPart>,
 }
 
 impl<'a> From<&'a CheckResult> for Check<'a> {
@@ -157,6 +162,7 @@ impl<'a> From<&'a CheckResult> for Check<'a> {
             comparisons: c.comparisons.iter().map(Compared::from).collect(),
             issues: &c.issues,
             precision: c.precision.as_ref(),
+            shard: c.shard,
             findings: c
                 .findings
                 .iter()
@@ -237,6 +243,10 @@ struct St<'a> {
     nonfinite: usize,
     first_nonfinite: Vec<Point<'a>>,
     changed: Option<usize>,
+    components: usize,
+    /// The exact sum of squared errors, losslessly (`compare::ExactSum`),
+    /// for merging shards.
+    sum_sq: String,
 }
 
 impl<'a> From<&'a Stats> for St<'a> {
@@ -258,6 +268,8 @@ impl<'a> From<&'a Stats> for St<'a> {
             nonfinite: s.nonfinite,
             first_nonfinite: s.first_nonfinite.iter().map(Point::from).collect(),
             changed: s.changed,
+            components: s.components,
+            sum_sq: s.sum_sq.to_text(),
         }
     }
 }

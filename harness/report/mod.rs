@@ -26,7 +26,7 @@ use std::io::{IsTerminal as _, Write};
 mod html;
 
 pub use html::html;
-pub use json::{json, json_with};
+pub use json::{json, json_with, FORMAT as JSON_FORMAT, VERSION as JSON_VERSION};
 pub use junit::{junit, junit_with};
 pub use ledger::ledger;
 pub use text::{text, text_with};

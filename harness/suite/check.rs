@@ -384,6 +384,7 @@ pub(super) fn convert(
         args_at,
         golden_at,
         textures,
+        shard: None,
     })
 }
 

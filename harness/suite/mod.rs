@@ -97,6 +97,9 @@ pub struct Check {
     /// Look-up tables and samplers bound to the shader's texture and sampler
     /// variables (`[check.textures.X]`, `[check.samplers.X]`).
     pub textures: Textures,
+    /// The share of the sweep's points this run evaluates (`run --shard`):
+    /// not from the suite file, `None` (every point) unless a run sets it.
+    pub shard: Option<crate::sweep::Shard>,
 }
 
 /// The other side of a twin check: a second WGSL function (an `f16` port, a

@@ -62,7 +62,7 @@ impl fmt::Display for ExprError {
 }
 
 #[derive(Clone, Debug, PartialEq)]
-enum Node {
+pub(super) enum Node {
     Num(f64),
     Var(String),
     /// A variable resolved to a position by [`Expr::bind`].
@@ -78,7 +78,7 @@ enum Node {
 
 /// A registry model inside an expression (compared by identity, shown by name).
 #[derive(Clone, Copy)]
-struct ModelRef(&'static crate::reference::Model);
+pub(super) struct ModelRef(&'static crate::reference::Model);
 
 impl PartialEq for ModelRef {
     fn eq(&self, other: &ModelRef) -> bool {
@@ -683,7 +683,7 @@ fn dot(a: [f64; 3], b: [f64; 3]) -> f64 {
 /// An expression with its variables resolved (see [`Expr::bind`]).
 #[derive(Clone, Debug)]
 pub struct BoundExpr {
-    root: Node,
+    pub(super) root: Node,
     /// 1 (scalar) or 3 (vec3), as the trial run found.
     pub width: usize,
     /// `Some(i)` when the expression is just the variable at position `i`.

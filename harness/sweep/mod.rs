@@ -7,11 +7,14 @@
 //! degrees from the +z axis → the unit vector (sin θ cos φ, sin θ sin φ, cos θ)).
 //! Points are produced as f64 columns, one per scalar component.
 
+pub mod columns;
 pub mod expr;
+pub mod shard;
 
 use std::fmt;
 
 pub use expr::{Expr, ExprError, Value};
+pub use shard::Shard;
 
 /// The values one sweep parameter takes.
 #[derive(Clone, Debug, PartialEq)]
@@ -185,18 +188,39 @@ impl Domain {
     /// Components of grid value `k`.
     fn grid_value(&self, k: usize, cache: &[Vec<f64>]) -> Value {
         match self {
-            Domain::Direction { .. } => {
-                let (t, p) = (&cache[0], &cache[1]);
-                direction(t[k / p.len()], p[k % p.len()])
-            }
+            Domain::Direction { .. } => Value::V([cache[0][k], cache[1][k], cache[2][k]]),
             _ => Value::S(cache[0][k]),
         }
     }
 
+    /// The grid values, computed once per sweep: a scalar domain's values,
+    /// or a direction domain's unit vectors (θ slowest), one column per
+    /// component, so no point recomputes a sine or cosine.
     fn cache(&self) -> Vec<Vec<f64>> {
         match self {
-            Domain::Direction { theta, phi } => vec![theta.values(), phi.values()],
+            Domain::Direction { theta, phi } => {
+                let (t, p) = (theta.values(), phi.values());
+                let mut cols: Vec<Vec<f64>> = (0..3)
+                    .map(|_| Vec::with_capacity(t.len() * p.len()))
+                    .collect();
+                for &a in &t {
+                    for &b in &p {
+                        for (c, x) in cols.iter_mut().zip(direction(a, b).components()) {
+                            c.push(x);
+                        }
+                    }
+                }
+                cols
+            }
             d => vec![d.values()],
+        }
+    }
+
+    /// How many numbers [`Domain::random`] draws from the generator.
+    fn draws(&self) -> u64 {
+        match self {
+            Domain::Direction { theta, phi } => theta.draws() + phi.draws(),
+            _ => 1,
         }
     }
 
@@ -230,13 +254,16 @@ pub fn direction(theta: f64, phi: f64) -> Value {
 pub struct Rng(u64);
 
 impl Rng {
+    /// The increment of the state per draw.
+    const GAMMA: u64 = 0x9e37_79b9_7f4a_7c15;
+
     pub fn new(seed: u64) -> Rng {
         Rng(seed)
     }
 
     #[allow(clippy::should_implement_trait)]
     pub fn next(&mut self) -> u64 {
-        self.0 = self.0.wrapping_add(0x9e37_79b9_7f4a_7c15);
+        self.0 = self.0.wrapping_add(Rng::GAMMA);
         let mut z = self.0;
         z = (z ^ (z >> 30)).wrapping_mul(0xbf58_476d_1ce4_e5b9);
         z = (z ^ (z >> 27)).wrapping_mul(0x94d0_49bb_1331_11eb);
@@ -276,8 +303,22 @@ impl Sweep {
 
     /// Generate every point.
     pub fn points(&self) -> Points {
-        let n = self.len();
-        let grid = n - self.random.map_or(0, |r| r.count);
+        self.points_in(0..self.len())
+    }
+
+    /// Generate the points with indices in `range` (clipped to the sweep),
+    /// the same values [`Sweep::points`] gives there, without generating the
+    /// others: a grid point comes from its index, and the random generator
+    /// jumps straight to the first random point of the range (SplitMix64's
+    /// state after k draws is the seed plus k times its increment).
+    pub fn points_in(&self, range: std::ops::Range<usize>) -> Points {
+        let n_all = self.len();
+        let (start, end) = (
+            range.start.min(n_all),
+            range.end.min(n_all).max(range.start.min(n_all)),
+        );
+        let n = end - start;
+        let grid = n_all - self.random.map_or(0, |r| r.count);
         let caches: Vec<Vec<Vec<f64>>> = self.params.iter().map(|(_, d)| d.cache()).collect();
         let counts: Vec<usize> = self.params.iter().map(|(_, d)| d.count()).collect();
         let mut columns: Vec<Vec<Vec<f64>>> = self
@@ -285,10 +326,10 @@ impl Sweep {
             .iter()
             .map(|(_, d)| (0..d.width()).map(|_| Vec::with_capacity(n)).collect())
             .collect();
-        for i in 0..grid {
+        let mut idx = vec![0; counts.len()];
+        for i in start..end.min(grid) {
             // Mixed-radix decomposition, last parameter fastest.
             let mut rest = i;
-            let mut idx = vec![0; counts.len()];
             for p in (0..counts.len()).rev() {
                 idx[p] = rest % counts[p];
                 rest /= counts[p];
@@ -298,8 +339,11 @@ impl Sweep {
             }
         }
         if let Some(r) = self.random {
-            let mut rng = Rng(r.seed);
-            for _ in 0..r.count {
+            let (first, last) = (start.max(grid) - grid, end.max(grid) - grid);
+            let draws: u64 = self.params.iter().map(|(_, d)| d.draws()).sum();
+            let skipped = (first as u64).wrapping_mul(draws);
+            let mut rng = Rng(r.seed.wrapping_add(skipped.wrapping_mul(Rng::GAMMA)));
+            for _ in first..last {
                 for (p, (_, d)) in self.params.iter().enumerate() {
                     push(&mut columns[p], d.random(&mut rng));
                 }
@@ -423,6 +467,54 @@ mod tests {
         for i in 0..p.len {
             let Value::V(d) = p.value(0, i) else { panic!() };
             assert!(((d[0] * d[0] + d[1] * d[1] + d[2] * d[2]) - 1.0).abs() < 1e-12);
+        }
+    }
+
+    #[test]
+    fn any_range_of_points_is_the_same_as_those_points_of_the_whole() {
+        let s = Sweep {
+            params: vec![
+                ("a".into(), Domain::List(vec![1.0, 2.0, 3.0])),
+                (
+                    "v".into(),
+                    Domain::Direction {
+                        theta: Box::new(Domain::Linear {
+                            lo: 0.0,
+                            hi: 80.0,
+                            n: 3,
+                        }),
+                        phi: Box::new(Domain::Log {
+                            lo: 1.0,
+                            hi: 90.0,
+                            n: 2,
+                        }),
+                    },
+                ),
+            ],
+            random: Some(Random {
+                count: 25,
+                seed: 11,
+            }),
+        };
+        let whole = s.points();
+        assert_eq!(whole.len, 3 * 6 + 25);
+        for (a, b) in [
+            (0, 43),
+            (0, 0),
+            (5, 17),
+            (17, 19),
+            (18, 30),
+            (30, 43),
+            (40, 99),
+        ] {
+            let part = s.points_in(a..b);
+            let b = b.min(whole.len);
+            assert_eq!(part.len, b - a);
+            for p in 0..2 {
+                for (c, col) in part.columns[p].iter().enumerate() {
+                    assert_eq!(col[..], whole.columns[p][c][a..b], "{a}..{b}");
+                }
+            }
         }
     }
 

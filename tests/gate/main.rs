@@ -17,6 +17,7 @@ mod quillmere;
 mod references;
 mod report_formats;
 mod runner;
+mod shards;
 mod suite_errors;
 mod textures;
 mod tidy;

@@ -89,6 +89,7 @@ fn passing() -> CheckResult {
         findings: vec![],
         precision: None,
         seconds: 0.041,
+        shard: None,
     }
 }
 
@@ -145,6 +146,7 @@ fn failing() -> CheckResult {
             f64::INFINITY,
         )],
         changed: None,
+        ..Stats::default()
     };
     CheckResult {
         name: FAILING_NAME.into(),
@@ -196,6 +198,7 @@ fn failing() -> CheckResult {
         ],
         precision: None,
         seconds: 0.012,
+        shard: None,
     }
 }
 
@@ -212,6 +215,7 @@ fn broken() -> CheckResult {
         findings: vec![],
         precision: None,
         seconds: 0.001,
+        shard: None,
     }
 }
 
