@@ -9,10 +9,16 @@ use crate::eval::lanes::Opcode;
 use crate::eval::perturb::{spec_bound, Bound};
 use crate::eval::ty::{ScalarKind as K, Ty};
 
-use super::{plain, Compiler, LaneOp, Val, R};
+use super::{plain, Compiler, LaneOp, Lowered, Val};
 
 impl<'m> Compiler<'m> {
-    pub(super) fn math(&mut self, out: &mut Vec<Op>, fun: MF, args: &[Val], ty: &Ty) -> R<Val> {
+    pub(super) fn math(
+        &mut self,
+        out: &mut Vec<Op>,
+        fun: MF,
+        args: &[Val],
+        ty: &Ty,
+    ) -> Lowered<Val> {
         let k = args[0]
             .ty
             .scalar_kind()
