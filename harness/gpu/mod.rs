@@ -33,7 +33,7 @@ use std::collections::BTreeMap;
 use std::sync::{mpsc, Arc, Mutex};
 use std::time::{Duration, Instant};
 
-use crate::eval::{ScalarKind, Ty};
+use crate::values::{ScalarKind, Ty};
 use crate::wgsl::Shader;
 
 pub use crate::compare::ulp::{describe_point, format_table, leaf_distance, ulp_summary, LeafUlp};

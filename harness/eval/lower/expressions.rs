@@ -5,7 +5,7 @@ use naga::{Expression as E, Handle};
 
 use crate::eval::ir::{Op, Slot};
 use crate::eval::lanes::Opcode;
-use crate::eval::ty::Ty;
+use crate::values::Ty;
 
 use super::unsupported::{derivative_name, global_name};
 use super::{plain, Compiler, Frame, Item, Lowered, Place, Scope, Val};

@@ -22,9 +22,10 @@ use naga::{Handle, TypeInner};
 use super::ir::{Code, Op, Site, Slot};
 use super::lanes::Opcode;
 use super::perturb::{Bound, Perturb};
-use super::ty::Ty;
+use crate::diagnostic::Diagnostic;
 use crate::limits::{Limit, Limits};
-use crate::wgsl::{Diagnostic, Shader};
+use crate::values::Ty;
+use crate::wgsl::Shader;
 
 mod builtins;
 mod expressions;

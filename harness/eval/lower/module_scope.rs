@@ -4,7 +4,7 @@
 use naga::{Handle, Literal};
 
 use crate::eval::ir::Op;
-use crate::eval::ty::{ScalarKind as K, Ty};
+use crate::values::{ScalarKind as K, Ty};
 
 use super::builtins::lane_bits;
 use super::{Compiler, Item, Lowered, Scope, Val};

@@ -7,7 +7,7 @@ use crate::arith;
 use crate::eval::ir::{Op, Slot};
 use crate::eval::lanes::Opcode;
 use crate::eval::perturb::Bound;
-use crate::eval::ty::{ScalarKind as K, Ty};
+use crate::values::{ScalarKind as K, Ty};
 
 use super::{half, plain, Compiler, LaneOp, Lowered, Val};
 

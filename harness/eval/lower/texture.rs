@@ -9,8 +9,8 @@ use naga::{Expression as E, Handle};
 use super::{Frame, Item, Lowered, Val};
 use crate::eval::ir::Op;
 use crate::eval::texture::{TextureAccess, TextureOp};
-use crate::eval::ty::{ScalarKind as K, Ty};
 use crate::table::Bound;
+use crate::values::{ScalarKind as K, Ty};
 
 impl<'m> super::Compiler<'m> {
     /// Lower an `ImageSample` or `ImageLoad` expression.
