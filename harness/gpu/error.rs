@@ -50,7 +50,7 @@ pub enum GpuError {
 
 impl GpuError {
     /// True when the machine simply has no adapter: tests skip on this
-    /// (unless [`device_required`]).
+    /// (unless [`super::device_required`]).
     pub fn is_no_adapter(&self) -> bool {
         matches!(self, GpuError::NoAdapter { .. })
     }

@@ -39,7 +39,7 @@ fn dot(a: [f64; 3], b: [f64; 3]) -> f64 {
     a[0] * b[0] + a[1] * b[1] + a[2] * b[2]
 }
 
-/// An expression with its variables resolved (see [`Expr::bind`]).
+/// An expression with its variables resolved (see [`super::Expr::bind`]).
 #[derive(Clone, Debug)]
 pub struct BoundExpr {
     pub(super) root: Node,
