@@ -38,6 +38,7 @@ pub mod arith;
 pub mod compare;
 pub mod detail;
 pub mod diagnose;
+pub mod diagnostic;
 pub mod eval;
 pub mod gate;
 pub mod golden;
@@ -51,6 +52,7 @@ pub mod report;
 pub mod suite;
 pub mod sweep;
 pub mod table;
+pub mod values;
 pub mod wgsl;
 
 /// Load the suite file at `path`, run all its checks on the CPU, and return the result;

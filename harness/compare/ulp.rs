@@ -11,7 +11,7 @@
 //! distance 0 (it tells -0 from +0 and one NaN payload from another).
 
 use crate::arith::{ulp_distance_f16, ulp_distance_f32};
-use crate::eval::{bits_to_f64, ScalarKind};
+use crate::values::{bits_to_f64, ScalarKind};
 
 /// Distance of one point's results of one leaf.
 pub fn leaf_distance(kind: ScalarKind, a: u32, b: u32) -> u64 {

@@ -9,11 +9,11 @@
 //! own ([`compare::assess`]), so a point fails here exactly when it fails in the run.
 
 use crate::compare::{self, Assessment, Tolerance};
-use crate::eval::{format_value, ScalarKind};
 use crate::gate::{self, Evaluated};
 use crate::golden;
 use crate::suite::{Check, Suite};
 use crate::sweep::Domain;
+use crate::values::{format_value, ScalarKind};
 
 /// What one comparison of a check expects at every point.
 pub struct Expected {

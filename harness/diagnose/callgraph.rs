@@ -26,9 +26,11 @@ use naga::{
     Module, Range, Scalar, Span, Statement, Type, TypeInner,
 };
 
-use crate::eval::{bits_to_f64, Program};
+use crate::diagnostic::Diagnostic;
+use crate::eval::Program;
 use crate::reference::Model;
-use crate::wgsl::{Diagnostic, Shader};
+use crate::values::bits_to_f64;
+use crate::wgsl::Shader;
 
 /// One call from a caller to a callee.
 #[derive(Clone, Debug, PartialEq, Eq)]

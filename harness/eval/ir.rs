@@ -16,7 +16,7 @@
 //! [`Program`](super::Program)).
 
 use super::lanes::Opcode;
-use super::ty::Ty;
+use crate::values::Ty;
 
 /// A slot number: an index into the slot arena of one machine.
 pub(crate) type Slot = u32;

@@ -167,20 +167,20 @@ kernel!(run3, run3_avx2, Op3, (a, b, c));
 kernel!(run4, run4_avx2, Op4, (a, b, c, e));
 
 /// The f16 version of a float operation: computed in f32, rounded to half.
-pub struct H<T>(PhantomData<T>);
-impl<T: Op1> Op1 for H<T> {
+pub struct HalfOf<T>(PhantomData<T>);
+impl<T: Op1> Op1 for HalfOf<T> {
     #[inline(always)]
     fn f(a: u32) -> u32 {
         arith::round_f16(f32::from_bits(T::f(a))).to_bits()
     }
 }
-impl<T: Op2> Op2 for H<T> {
+impl<T: Op2> Op2 for HalfOf<T> {
     #[inline(always)]
     fn f(a: u32, b: u32) -> u32 {
         arith::round_f16(f32::from_bits(T::f(a, b))).to_bits()
     }
 }
-impl<T: Op3> Op3 for H<T> {
+impl<T: Op3> Op3 for HalfOf<T> {
     #[inline(always)]
     fn f(a: u32, b: u32, c: u32) -> u32 {
         arith::round_f16(f32::from_bits(T::f(a, b, c))).to_bits()
@@ -205,10 +205,10 @@ macro_rules! lane_op {
     };
 }
 
-/// `Some(kernel of H<op>)` when the result lane is `f32`, else `None`.
+/// `Some(kernel of HalfOf<op>)` when the result lane is `f32`, else `None`.
 macro_rules! half_form {
     (f32, $run:ident, $variant:ident, $name:ident) => {
-        Some(Kernel::$variant($run::<H<$name>>))
+        Some(Kernel::$variant($run::<HalfOf<$name>>))
     };
     ($other:ident, $run:ident, $variant:ident, $name:ident) => {
         None
@@ -263,7 +263,7 @@ macro_rules! lane_ops {
             }
 
             /// The kernel of the f16 version (computed in f32, the result
-            /// rounded to binary16: `H<op>`), or `None` for an operation that
+            /// rounded to binary16: `HalfOf<op>`), or `None` for an operation that
             /// has no f16 form.
             fn half_kernel(self) -> Option<Kernel> {
                 match self {
@@ -298,7 +298,7 @@ impl Opcode {
     }
 
     /// The monomorphised loop of the operation: `run2::<FAdd>`, or
-    /// `run2::<H<FAdd>>` when `half`. The verifier rejects `half` for an
+    /// `run2::<HalfOf<FAdd>>` when `half`. The verifier rejects `half` for an
     /// operation without an f16 form ([`Opcode::has_half`]); asking for one
     /// here anyway panics.
     pub fn kernel(self, half: bool) -> Kernel {

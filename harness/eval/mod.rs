@@ -4,10 +4,10 @@
 //! inlined) into a flat slot program once; [`Program::eval`] runs it over
 //! columns of inputs, [`LANES`] points at a time per thread, on all cores.
 //!
-//! Column encoding at this API: one `u32` per point per scalar leaf, holding
-//! the value's bit pattern: f32 bits, f16 as its 16-bit pattern in the low
-//! half, i32 two's complement, bool 0 or 1. [`f64_to_bits`] and
-//! [`bits_to_f64`] convert.
+//! Columns at this API are in the column encoding of [`crate::values::encoding`]: one `u32`
+//! per point per scalar leaf. The value types, the encoding and the text forms live in
+//! [`crate::values`]; they are re-exported here (`eval::ty`, `eval::text` included) so
+//! code written against the evaluator keeps its paths.
 
 mod batch;
 pub(crate) mod exec;
@@ -18,21 +18,20 @@ pub(crate) mod perturb;
 pub(crate) mod shadow;
 #[cfg(test)]
 mod tests;
-pub mod text;
 pub(crate) mod texture;
-pub mod ty;
 pub(crate) mod verify;
 
 use std::collections::BTreeMap;
 use std::path::PathBuf;
 
+pub use crate::values::{bits_to_f64, f64_to_bits, format_value, parse_value, ScalarKind, Ty};
+pub use crate::values::{text, types as ty};
 pub use lanes::LANES;
-pub use text::{format_value, parse_value};
-pub use ty::{bits_to_f64, f64_to_bits, ScalarKind, Ty};
 
 use crate::arith;
+use crate::diagnostic::Diagnostic;
 use crate::limits::Limits;
-use crate::wgsl::{Diagnostic, Shader};
+use crate::wgsl::Shader;
 use batch::OutCol;
 use exec::{Machine, Verified};
 

@@ -24,9 +24,9 @@
 use std::io::Write as _;
 use std::path::{Path, PathBuf};
 
-use crate::eval::ScalarKind;
+use crate::diagnostic::Diagnostic;
 use crate::limits::{Limit, Limits};
-use crate::wgsl::Diagnostic;
+use crate::values::{format_exact, parse_exact, ScalarKind};
 
 const MAGIC: &str = "# shadegate golden dataset, format 1";
 
@@ -50,58 +50,6 @@ pub struct Golden {
     pub outputs: Vec<(String, ScalarKind)>,
     pub input_columns: Vec<Vec<u32>>,
     pub output_columns: Vec<Vec<u32>>,
-}
-
-fn fmt_value(k: ScalarKind, bits: u32) -> String {
-    match k {
-        ScalarKind::F32 => {
-            let x = f32::from_bits(bits);
-            if x.is_nan() && bits != f32::NAN.to_bits() {
-                format!("nan:{bits:#010x}")
-            } else {
-                format!("{x:?}")
-            }
-        }
-        ScalarKind::F16 => {
-            let h = half::f16::from_bits(bits as u16);
-            if h.is_nan() && h.to_bits() != half::f16::NAN.to_bits() {
-                format!("nan:{:#06x}", bits as u16)
-            } else {
-                format!("{:?}", h.to_f32())
-            }
-        }
-        ScalarKind::I32 => (bits as i32).to_string(),
-        ScalarKind::U32 => bits.to_string(),
-        ScalarKind::Bool => (bits != 0).to_string(),
-    }
-}
-
-fn parse_value(k: ScalarKind, s: &str) -> Result<u32, String> {
-    let bad = || format!("`{s}` is not a valid {} value", k.wgsl());
-    if let Some(hex) = s.strip_prefix("nan:0x") {
-        // Only a NaN of the column's own width is written this way; anything
-        // else would not read back as what `render` writes.
-        let b = u32::from_str_radix(hex, 16).map_err(|_| bad())?;
-        let nan = match k {
-            ScalarKind::F32 => f32::from_bits(b).is_nan(),
-            ScalarKind::F16 => b <= 0xffff && half::f16::from_bits(b as u16).is_nan(),
-            _ => false,
-        };
-        return if nan { Ok(b) } else { Err(bad()) };
-    }
-    Ok(match k {
-        ScalarKind::F32 => s.parse::<f32>().map_err(|_| bad())?.to_bits(),
-        ScalarKind::F16 => {
-            u32::from(half::f16::from_f32(s.parse::<f32>().map_err(|_| bad())?).to_bits())
-        }
-        ScalarKind::I32 => s.parse::<i32>().map_err(|_| bad())? as u32,
-        ScalarKind::U32 => s.parse::<u32>().map_err(|_| bad())?,
-        ScalarKind::Bool => match s {
-            "true" => 1,
-            "false" => 0,
-            _ => return Err(bad()),
-        },
-    })
 }
 
 /// Whether recording is refused here (the `CI` variable is set).
@@ -139,7 +87,7 @@ pub fn render(g: &Golden) -> String {
         let row: Vec<String> = all
             .iter()
             .zip(&kinds)
-            .map(|(c, k)| fmt_value(*k, c[i]))
+            .map(|(c, k)| format_exact(*k, c[i]))
             .collect();
         text.push_str(&row.join(","));
         text.push('\n');
@@ -518,7 +466,7 @@ pub fn parse_with(path: &Path, text: &str, limits: &Limits) -> Result<Golden, Di
         }
         for (c, (v, (_, k))) in vals.iter().zip(&cols).enumerate() {
             columns[c].push(
-                parse_value(*k, v.trim())
+                parse_exact(*k, v.trim())
                     .map_err(|m| err(lno, format!("column `{}`: {m}", cols[c].0)))?,
             );
         }

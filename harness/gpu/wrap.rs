@@ -19,7 +19,7 @@ use std::fmt::Write as _;
 
 use naga::{AddressSpace, Handle, ScalarKind as NK, TypeInner};
 
-use crate::eval::{ScalarKind, Ty};
+use crate::values::{ScalarKind, Ty};
 use crate::wgsl::Shader;
 
 /// Threads per workgroup of the generated entry point.

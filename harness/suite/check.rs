@@ -14,9 +14,9 @@ use super::raw::RawCheck;
 use super::tolerance::tolerance_of;
 use super::{Arithmetic, Check, Options, Property, PropertyCheck, Twin};
 use crate::compare::Tolerance;
+use crate::diagnostic::Diagnostic;
 use crate::limits::Limits;
 use crate::sweep::{Expr, Random, Sweep};
-use crate::wgsl::Diagnostic;
 
 /// Convert and validate one raw `[[check]]` entry (`span`: its byte span).
 pub(super) fn convert(

@@ -5,9 +5,9 @@
 use toml::Spanned;
 
 use super::locate::{key_in, Ctx};
+use crate::diagnostic::Diagnostic;
 use crate::limits::{Limit, Limits};
 use crate::sweep::Domain;
-use crate::wgsl::Diagnostic;
 
 /// The `[limits]` table: each key a [`Limit::key`], each value a positive
 /// whole number.

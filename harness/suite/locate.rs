@@ -3,38 +3,10 @@
 
 use std::path::Path;
 
-use crate::wgsl::Diagnostic;
+use crate::diagnostic::Diagnostic;
 
-/// Line and column (1-based) of byte `offset` in `text`.
-pub fn line_col(text: &str, offset: usize) -> (u32, u32) {
-    LineIndex::new(text).line_col(text, offset)
-}
-
-/// The start of every line of a text, so a byte offset finds its line by
-/// binary search: locating every check of a large suite stays linear.
-pub(super) struct LineIndex {
-    pub(super) starts: Vec<usize>,
-}
-
-impl LineIndex {
-    pub(super) fn new(text: &str) -> LineIndex {
-        let mut starts = vec![0];
-        starts.extend(text.match_indices('\n').map(|(i, _)| i + 1));
-        LineIndex { starts }
-    }
-
-    pub(super) fn line_col(&self, text: &str, offset: usize) -> (u32, u32) {
-        let offset = offset.min(text.len());
-        let line = self.starts.partition_point(|&s| s <= offset);
-        let col = offset - self.starts[line - 1] + 1;
-        (line as u32, col as u32)
-    }
-
-    /// Byte offset of the start of 1-based `line`.
-    pub(super) fn start(&self, line: u32) -> usize {
-        self.starts[(line.max(1) as usize - 1).min(self.starts.len() - 1)]
-    }
-}
+pub use crate::diagnostic::line_col;
+pub(super) use crate::diagnostic::LineIndex;
 
 pub(super) struct Ctx<'a> {
     pub(super) path: &'a Path,

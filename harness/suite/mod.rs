@@ -41,9 +41,9 @@ use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 
 use crate::compare::Tolerance;
+use crate::diagnostic::Diagnostic;
 use crate::limits::{Limit, Limits};
 use crate::sweep::{Expr, Sweep};
-use crate::wgsl::Diagnostic;
 
 use check::convert;
 use domain::limits_of;

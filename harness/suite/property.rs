@@ -7,7 +7,7 @@ use toml::Spanned;
 
 use super::domain::num;
 use super::locate::{key_in, line_col, Ctx};
-use crate::wgsl::Diagnostic;
+use crate::diagnostic::Diagnostic;
 
 /// A property check on the check's own function.
 #[derive(Clone, Debug)]

@@ -33,10 +33,10 @@ use toml::Spanned;
 use super::domain::num;
 use super::locate::{key_in, Ctx};
 use super::Suite;
+use crate::diagnostic::Diagnostic;
 use crate::limits::{Limit, Limits};
 use crate::reference::{Model, ParamKind};
 use crate::table::{self, Address, Bindings, Bound, Filter, Resource, Sampler, Table};
-use crate::wgsl::Diagnostic;
 
 /// The raw `textures` / `samplers` tables of a check.
 pub(super) type Raw = Option<BTreeMap<Spanned<String>, Spanned<toml::Table>>>;

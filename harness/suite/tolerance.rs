@@ -6,7 +6,7 @@ use toml::Spanned;
 use super::locate::Ctx;
 use super::raw::{OneOrMany, RawTolerance};
 use crate::compare::{NanPolicy, Tolerance};
-use crate::wgsl::Diagnostic;
+use crate::diagnostic::Diagnostic;
 
 pub(super) fn tolerance_of(
     cx: &Ctx,

@@ -19,8 +19,8 @@ pub mod sample;
 use std::path::Path;
 use std::sync::Arc;
 
+use crate::diagnostic::Diagnostic;
 use crate::limits::{Limit, Limits};
-use crate::wgsl::Diagnostic;
 
 pub use sample::{Address, Filter, Sampler};
 

@@ -6,103 +6,9 @@ use std::path::{Path, PathBuf};
 
 use naga::valid::{Capabilities, ModuleInfo, ValidationFlags, Validator};
 
+use crate::diagnostic::line_col;
+pub use crate::diagnostic::Diagnostic;
 use crate::limits::{Limit, Limits};
-
-/// A problem located in a source file, rendered the way a compiler shows it.
-#[derive(Debug, Clone)]
-pub struct Diagnostic {
-    pub file: PathBuf,
-    /// 1-based line; 0 when the problem has no position (e.g. an unreadable file).
-    pub line: u32,
-    /// 1-based column in bytes; 0 when unknown.
-    pub column: u32,
-    pub message: String,
-    /// Full text: `file:line:col: error: message`, then the source line and a caret.
-    pub rendered: String,
-}
-
-impl Diagnostic {
-    /// A diagnostic at a byte span of `source`.
-    pub fn at_span(
-        file: &Path,
-        source: &str,
-        span: naga::Span,
-        message: impl Into<String>,
-    ) -> Self {
-        let message = message.into();
-        if !span.is_defined() || source.is_empty() {
-            return Self::without_position(file, message);
-        }
-        let loc = span.location(source);
-        Self::at_location(
-            file,
-            source,
-            loc.line_number,
-            loc.line_position,
-            loc.length,
-            message,
-        )
-    }
-
-    /// A diagnostic at a 1-based line and column, underlining `length` bytes.
-    pub fn at_location(
-        file: &Path,
-        source: &str,
-        line: u32,
-        column: u32,
-        length: u32,
-        message: impl Into<String>,
-    ) -> Self {
-        let message = message.into();
-        let text = source
-            .lines()
-            .nth(line.saturating_sub(1) as usize)
-            .unwrap_or("");
-        let gutter = line.to_string();
-        let pad = " ".repeat(gutter.len());
-        let start = column.saturating_sub(1) as usize;
-        let visible = text.len().saturating_sub(start).max(1);
-        let carets = "^".repeat((length as usize).clamp(1, visible));
-        let rendered = format!(
-            "{}:{}:{}: error: {}\n{pad} |\n{gutter} | {}\n{pad} | {}{}\n",
-            file.display(),
-            line,
-            column,
-            message,
-            text,
-            " ".repeat(start),
-            carets
-        );
-        Diagnostic {
-            file: file.to_path_buf(),
-            line,
-            column,
-            message,
-            rendered,
-        }
-    }
-
-    /// A diagnostic about a whole file (cannot be read, function not found, ...).
-    pub fn without_position(file: &Path, message: impl Into<String>) -> Self {
-        let message = message.into();
-        let rendered = format!("{}: error: {}\n", file.display(), message);
-        Diagnostic {
-            file: file.to_path_buf(),
-            line: 0,
-            column: 0,
-            message,
-            rendered,
-        }
-    }
-}
-
-impl fmt::Display for Diagnostic {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        f.write_str(self.rendered.trim_end())
-    }
-}
-
-impl std::error::Error for Diagnostic {}
 
 /// A parsed and validated WGSL module together with its source text.
 pub struct Shader {
@@ -152,7 +58,7 @@ impl Shader {
     ) -> Result<Shader, Diagnostic> {
         let path = path.into();
         if let Some(deep) = nesting(&source, limits.expression_depth) {
-            let (line, col) = line_col_of(&source, deep.offset);
+            let (line, col) = line_col(&source, deep.offset);
             let l = Limit::ExpressionDepth;
             return Err(Diagnostic::at_location(
                 &path,
@@ -204,7 +110,7 @@ fn front_end(path: &Path, source: &str) -> Result<(naga::Module, ModuleInfo), Di
                 .map(|l| (l.line_number, l.line_position, l.length))
                 .unwrap_or_else(|| {
                     let at = deepest(source);
-                    let (l, c) = line_col_of(source, at);
+                    let (l, c) = line_col(source, at);
                     (l, c, 1)
                 });
             let mut d = Diagnostic::at_location(path, source, line, column, length, e.message());
@@ -277,19 +183,6 @@ impl Shader {
     pub fn diagnostic(&self, span: naga::Span, message: impl Into<String>) -> Diagnostic {
         Diagnostic::at_span(&self.path, &self.source, span, message)
     }
-}
-
-/// 1-based line and byte column of `offset` in `text`.
-fn line_col_of(text: &str, offset: usize) -> (u32, u32) {
-    let before = &text.as_bytes()[..offset.min(text.len())];
-    let line = before.iter().filter(|&&b| b == b'\n').count() as u32 + 1;
-    let col = before.len()
-        - before
-            .iter()
-            .rposition(|&b| b == b'\n')
-            .map_or(0, |i| i + 1)
-        + 1;
-    (line, col as u32)
 }
 
 /// Where an expression of WGSL source nests too deeply.

@@ -7,12 +7,18 @@ use crate::arith;
 use crate::eval::ir::{Op, Slot};
 use crate::eval::lanes::Opcode;
 use crate::eval::perturb::{spec_bound, Bound};
-use crate::eval::ty::{ScalarKind as K, Ty};
+use crate::values::{ScalarKind as K, Ty};
 
-use super::{plain, Compiler, LaneOp, Val, R};
+use super::{plain, Compiler, LaneOp, Lowered, Val};
 
 impl<'m> Compiler<'m> {
-    pub(super) fn math(&mut self, out: &mut Vec<Op>, fun: MF, args: &[Val], ty: &Ty) -> R<Val> {
+    pub(super) fn math(
+        &mut self,
+        out: &mut Vec<Op>,
+        fun: MF,
+        args: &[Val],
+        ty: &Ty,
+    ) -> Lowered<Val> {
         let k = args[0]
             .ty
             .scalar_kind()
@@ -608,6 +614,6 @@ pub(super) fn float_bits(_k: K, v: f32) -> u32 {
 pub fn lane_bits(kind: K, v: f64) -> u32 {
     match kind {
         K::F16 => half::f16::from_f64(v).to_f32().to_bits(),
-        k => crate::eval::ty::f64_to_bits(k, v),
+        k => crate::values::f64_to_bits(k, v),
     }
 }

@@ -5,10 +5,10 @@ use naga::{Expression as E, Handle};
 
 use crate::eval::ir::{Op, Slot};
 use crate::eval::lanes::Opcode;
-use crate::eval::ty::Ty;
+use crate::values::Ty;
 
 use super::unsupported::{derivative_name, global_name};
-use super::{plain, Compiler, Frame, Item, Place, Scope, Val, R};
+use super::{plain, Compiler, Frame, Item, Lowered, Place, Scope, Val};
 
 impl<'m> Compiler<'m> {
     pub(super) fn expr_cached(
@@ -16,7 +16,7 @@ impl<'m> Compiler<'m> {
         frame: &mut Frame<'m>,
         h: Handle<naga::Expression>,
         out: &mut Vec<Op>,
-    ) -> R<Item> {
+    ) -> Lowered<Item> {
         if let Some(i) = frame.cache.get(&h) {
             return Ok(i.clone());
         }
@@ -55,7 +55,7 @@ impl<'m> Compiler<'m> {
         frame: &mut Frame<'m>,
         h: Handle<naga::Expression>,
         out: &mut Vec<Op>,
-    ) -> R<Val> {
+    ) -> Lowered<Val> {
         match self.expr_cached(frame, h, out)? {
             Item::Value(v) => Ok(v),
             Item::Place(_) => Err(self.err("expected a value, found a pointer")),
@@ -67,7 +67,7 @@ impl<'m> Compiler<'m> {
         frame: &mut Frame<'m>,
         h: Handle<naga::Expression>,
         out: &mut Vec<Op>,
-    ) -> R<Place> {
+    ) -> Lowered<Place> {
         match self.expr_cached(frame, h, out)? {
             Item::Place(p) => Ok(p),
             Item::Value(_) => Err(self.err("expected a pointer, found a value")),
@@ -83,7 +83,7 @@ impl<'m> Compiler<'m> {
     }
 
     /// The type of expression `h` of `scope`.
-    fn scope_ty(&self, scope: &Scope<'_, 'm>, h: Handle<naga::Expression>) -> R<Ty> {
+    fn scope_ty(&self, scope: &Scope<'_, 'm>, h: Handle<naga::Expression>) -> Lowered<Ty> {
         let resolution = match scope {
             Scope::Module => &self.shader.info[h],
             Scope::Function(frame) => &frame.info[h].ty,
@@ -95,7 +95,7 @@ impl<'m> Compiler<'m> {
     }
 
     /// The function an expression belongs to; an error at module scope.
-    fn frame_of<'s>(&self, scope: &'s mut Scope<'_, 'm>) -> R<&'s mut Frame<'m>> {
+    fn frame_of<'s>(&self, scope: &'s mut Scope<'_, 'm>) -> Lowered<&'s mut Frame<'m>> {
         match scope {
             Scope::Module => Err(self.unsupported("this expression at module scope")),
             Scope::Function(frame) => Ok(frame),
@@ -108,7 +108,7 @@ impl<'m> Compiler<'m> {
         scope: &mut Scope<'_, 'm>,
         h: Handle<naga::Expression>,
         out: &mut Vec<Op>,
-    ) -> R<Item> {
+    ) -> Lowered<Item> {
         match scope {
             Scope::Module => Ok(Item::Value(self.global_expr(h)?)),
             Scope::Function(frame) => self.expr_cached(frame, h, out),
@@ -121,7 +121,7 @@ impl<'m> Compiler<'m> {
         scope: &mut Scope<'_, 'm>,
         h: Handle<naga::Expression>,
         out: &mut Vec<Op>,
-    ) -> R<Val> {
+    ) -> Lowered<Val> {
         match scope {
             Scope::Module => self.global_expr(h),
             Scope::Function(frame) => self.value(frame, h, out),
@@ -134,7 +134,7 @@ impl<'m> Compiler<'m> {
         scope: &mut Scope<'_, 'm>,
         h: Handle<naga::Expression>,
         out: &mut Vec<Op>,
-    ) -> R<Place> {
+    ) -> Lowered<Place> {
         match scope {
             Scope::Module => Err(self.err("expected a pointer, found a value")),
             Scope::Function(frame) => self.place(frame, h, out),
@@ -151,7 +151,7 @@ impl<'m> Compiler<'m> {
         scope: &mut Scope<'_, 'm>,
         h: Handle<naga::Expression>,
         out: &mut Vec<Op>,
-    ) -> R<Item> {
+    ) -> Lowered<Item> {
         let expr = self.expression(scope, h);
         let v = match expr {
             E::Literal(l) => self.literal(out, l)?,
@@ -421,7 +421,7 @@ impl<'m> Compiler<'m> {
     }
 
     /// Element type and count for dynamic indexing.
-    pub(super) fn element(&self, ty: &Ty) -> R<(Ty, u32)> {
+    pub(super) fn element(&self, ty: &Ty) -> Lowered<(Ty, u32)> {
         Ok(match ty {
             Ty::Vector(n, k) => (Ty::Scalar(*k), *n as u32),
             Ty::Matrix {
@@ -435,7 +435,7 @@ impl<'m> Compiler<'m> {
     }
 
     /// Member type and leaf offset for constant indexing.
-    pub(super) fn member(&self, ty: &Ty, index: u32) -> R<(Ty, usize)> {
+    pub(super) fn member(&self, ty: &Ty, index: u32) -> Lowered<(Ty, usize)> {
         let i = index as usize;
         Ok(match ty {
             Ty::Vector(_, k) => (Ty::Scalar(*k), i),
@@ -449,7 +449,7 @@ impl<'m> Compiler<'m> {
         })
     }
 
-    pub(super) fn access_index_val(&self, b: &Val, index: u32) -> R<Val> {
+    pub(super) fn access_index_val(&self, b: &Val, index: u32) -> Lowered<Val> {
         let (ty, off) = self.member(&b.ty, index)?;
         let n = ty.leaf_count();
         Ok(Val {

@@ -22,9 +22,10 @@ use naga::{Handle, TypeInner};
 use super::ir::{Code, Op, Site, Slot};
 use super::lanes::Opcode;
 use super::perturb::{Bound, Perturb};
-use super::ty::Ty;
+use crate::diagnostic::Diagnostic;
 use crate::limits::{Limit, Limits};
-use crate::wgsl::{Diagnostic, Shader};
+use crate::values::Ty;
+use crate::wgsl::Shader;
 
 mod builtins;
 mod expressions;
@@ -86,7 +87,8 @@ struct Frame<'m> {
     root: Slot,
 }
 
-type R<T> = Result<T, Diagnostic>;
+/// The result of lowering one construct: the value, or the located reason it cannot be lowered.
+type Lowered<T> = Result<T, Diagnostic>;
 
 /// What one [`Op::Kernel`] computes: an opcode and whether its f16 version
 /// (the result rounded to binary16) is meant.
@@ -153,7 +155,7 @@ impl<'m> Compiler<'m> {
         spec_bounds: bool,
         limits: &'m Limits,
         bindings: &'m crate::table::Bindings,
-    ) -> R<Code> {
+    ) -> Lowered<Code> {
         let module = &shader.module;
         // A plain function, or an entry point (its `@location`/`@builtin`
         // parameters become ordinary inputs).
@@ -326,7 +328,7 @@ impl<'m> Compiler<'m> {
 
     /// Slots for the leaves of an argument, result or variable, refused
     /// before anything is allocated when they would pass `program_slots`.
-    fn variable_slots(&mut self, n: usize, what: &str) -> R<Vec<Slot>> {
+    fn variable_slots(&mut self, n: usize, what: &str) -> Lowered<Vec<Slot>> {
         let limit = self.limits.program_slots;
         let total = self.variable_leaves.saturating_add(n as u64);
         if total > limit {
@@ -355,7 +357,7 @@ impl<'m> Compiler<'m> {
 
     /// Refuse to go on once the program has passed `program_ops` (checked
     /// per statement and per inlined call, before the program grows further).
-    fn check_size(&self) -> R<()> {
+    fn check_size(&self) -> Lowered<()> {
         let limit = self.limits.program_ops;
         if self.op_count > limit {
             return Err(self.err(format!(
@@ -488,21 +490,21 @@ impl<'m> Compiler<'m> {
         }
     }
 
-    fn ty_of_handle(&self, h: Handle<naga::Type>, span: naga::Span) -> R<Ty> {
+    fn ty_of_handle(&self, h: Handle<naga::Type>, span: naga::Span) -> Lowered<Ty> {
         Ty::from_naga(self.module, h).map_err(|m| {
             self.shader
                 .diagnostic(span, format!("{m} in CPU evaluation"))
         })
     }
 
-    fn ty_of_inner(&self, inner: &TypeInner, span: naga::Span) -> R<Ty> {
+    fn ty_of_inner(&self, inner: &TypeInner, span: naga::Span) -> Lowered<Ty> {
         Ty::from_naga_inner(self.module, inner, None).map_err(|m| {
             self.shader
                 .diagnostic(span, format!("{m} in CPU evaluation"))
         })
     }
 
-    fn expr_ty(&self, frame: &Frame, h: Handle<naga::Expression>) -> R<Ty> {
+    fn expr_ty(&self, frame: &Frame, h: Handle<naga::Expression>) -> Lowered<Ty> {
         match &frame.info[h].ty {
             naga::proc::TypeResolution::Handle(t) => self.ty_of_handle(*t, self.span),
             naga::proc::TypeResolution::Value(inner) => self.ty_of_inner(inner, self.span),

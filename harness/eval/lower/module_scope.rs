@@ -4,16 +4,16 @@
 use naga::{Handle, Literal};
 
 use crate::eval::ir::Op;
-use crate::eval::ty::{ScalarKind as K, Ty};
+use crate::values::{ScalarKind as K, Ty};
 
 use super::builtins::lane_bits;
-use super::{Compiler, Item, Scope, Val, R};
+use super::{Compiler, Item, Lowered, Scope, Val};
 
 impl<'m> Compiler<'m> {
     /// A module-scope (constant, override or private initialiser) expression,
     /// lowered once (through the one dispatcher, [`Compiler::expr`]) into the
     /// prologue, which runs once per batch.
-    pub(super) fn global_expr(&mut self, h: Handle<naga::Expression>) -> R<Val> {
+    pub(super) fn global_expr(&mut self, h: Handle<naga::Expression>) -> Lowered<Val> {
         if let Some(v) = self.globals.get(&h) {
             return Ok(v.clone());
         }
@@ -30,7 +30,7 @@ impl<'m> Compiler<'m> {
         Ok(v)
     }
 
-    pub(super) fn override_val(&mut self, oh: Handle<naga::Override>) -> R<Val> {
+    pub(super) fn override_val(&mut self, oh: Handle<naga::Override>) -> Lowered<Val> {
         if let Some(v) = self.overrides.get(&oh) {
             return Ok(v.clone());
         }
@@ -66,7 +66,7 @@ impl<'m> Compiler<'m> {
         Ok(v)
     }
 
-    pub(super) fn literal(&mut self, out: &mut Vec<Op>, l: &Literal) -> R<Val> {
+    pub(super) fn literal(&mut self, out: &mut Vec<Op>, l: &Literal) -> Lowered<Val> {
         let (k, bits) = match *l {
             Literal::F32(x) => (K::F32, x.to_bits()),
             Literal::F16(x) => (K::F16, x.to_f32().to_bits()),

@@ -7,12 +7,17 @@ use crate::arith;
 use crate::eval::ir::{Op, Slot};
 use crate::eval::lanes::Opcode;
 use crate::eval::perturb::Bound;
-use crate::eval::ty::{ScalarKind as K, Ty};
+use crate::values::{ScalarKind as K, Ty};
 
-use super::{half, plain, Compiler, LaneOp, Val, R};
+use super::{half, plain, Compiler, LaneOp, Lowered, Val};
 
 impl<'m> Compiler<'m> {
-    pub(super) fn unary(&mut self, out: &mut Vec<Op>, op: naga::UnaryOperator, v: &Val) -> R<Val> {
+    pub(super) fn unary(
+        &mut self,
+        out: &mut Vec<Op>,
+        op: naga::UnaryOperator,
+        v: &Val,
+    ) -> Lowered<Val> {
         let k =
             v.ty.scalar_kind()
                 .ok_or_else(|| self.err("unary operator on a composite"))?;
@@ -35,7 +40,7 @@ impl<'m> Compiler<'m> {
         })
     }
 
-    pub(super) fn bin_kernel(&self, op: BO, k: K) -> R<(LaneOp, &'static str)> {
+    pub(super) fn bin_kernel(&self, op: BO, k: K) -> Lowered<(LaneOp, &'static str)> {
         use K::*;
         Ok(match (op, k) {
             (BO::Add, F32) => (plain(Opcode::FAdd), "addition"),
@@ -89,7 +94,7 @@ impl<'m> Compiler<'m> {
         l: &Val,
         r: &Val,
         ty: &Ty,
-    ) -> R<Val> {
+    ) -> Lowered<Val> {
         let lk =
             l.ty.scalar_kind()
                 .ok_or_else(|| self.err("binary operator on a composite"))?;
@@ -240,7 +245,7 @@ impl<'m> Compiler<'m> {
         out: &mut Vec<Op>,
         fun: naga::RelationalFunction,
         v: &Val,
-    ) -> R<Val> {
+    ) -> Lowered<Val> {
         use naga::RelationalFunction as RF;
         let slots = match fun {
             RF::All | RF::Any => {
@@ -287,7 +292,7 @@ impl<'m> Compiler<'m> {
         kind: NK,
         convert: Option<u8>,
         ty: &Ty,
-    ) -> R<Val> {
+    ) -> Lowered<Val> {
         let from =
             v.ty.scalar_kind()
                 .ok_or_else(|| self.err("conversion of a composite"))?;
@@ -350,7 +355,7 @@ impl<'m> Compiler<'m> {
 
     /// bitcast between 32-bit scalars and vec2<f16> (and vec4<f16> ↔ vec2 of
     /// 32-bit), component 0 in the low half (WGSL 17.2 "bitcast").
-    pub(super) fn bitcast_f16(&mut self, out: &mut Vec<Op>, v: &Val, ty: &Ty) -> R<Val> {
+    pub(super) fn bitcast_f16(&mut self, out: &mut Vec<Op>, v: &Val, ty: &Ty) -> Lowered<Val> {
         let from = v.ty.scalar_kind().unwrap();
         let to = ty.scalar_kind().unwrap();
         let n_out = ty.leaf_count();

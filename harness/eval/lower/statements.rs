@@ -9,10 +9,10 @@ use naga::{Handle, Statement as S};
 use crate::eval::ir::{Case, Op, Slot};
 
 use super::unsupported::{atomic_name, barrier_name};
-use super::{Compiler, Frame, Item, Place, Role, Scope, Val, R};
+use super::{Compiler, Frame, Item, Lowered, Place, Role, Scope, Val};
 
 impl<'m> Compiler<'m> {
-    pub(super) fn init_locals(&mut self, frame: &mut Frame<'m>, out: &mut Vec<Op>) -> R<()> {
+    pub(super) fn init_locals(&mut self, frame: &mut Frame<'m>, out: &mut Vec<Op>) -> Lowered<()> {
         for (lh, l) in frame.func.local_variables.iter() {
             self.span = frame.func.local_variables.get_span(lh);
             let ty = self.ty_of_handle(l.ty, self.span)?;
@@ -45,7 +45,7 @@ impl<'m> Compiler<'m> {
         frame: &mut Frame<'m>,
         block: &'m naga::Block,
         out: &mut Vec<Op>,
-    ) -> R<()> {
+    ) -> Lowered<()> {
         for (stmt, span) in block.span_iter() {
             self.span = *span;
             self.statement(frame, stmt, out)?;
@@ -53,7 +53,12 @@ impl<'m> Compiler<'m> {
         Ok(())
     }
 
-    pub(super) fn exit_to(&mut self, out: &mut Vec<Op>, target: &[Role], what: &str) -> R<()> {
+    pub(super) fn exit_to(
+        &mut self,
+        out: &mut Vec<Op>,
+        target: &[Role],
+        what: &str,
+    ) -> Lowered<()> {
         *self.exits.last_mut().expect("function frame") += 1;
         let current = self.current();
         let mut masks = Vec::new();
@@ -87,7 +92,7 @@ impl<'m> Compiler<'m> {
         frame: &mut Frame<'m>,
         stmt: &'m S,
         out: &mut Vec<Op>,
-    ) -> R<()> {
+    ) -> Lowered<()> {
         self.check_size()?;
         match stmt {
             S::Emit(range) => {
@@ -318,7 +323,7 @@ impl<'m> Compiler<'m> {
         fh: Handle<naga::Function>,
         args: Vec<Item>,
         out: &mut Vec<Op>,
-    ) -> R<Option<Vec<Slot>>> {
+    ) -> Lowered<Option<Vec<Slot>>> {
         self.check_size()?;
         self.depth += 1;
         if self.depth > 64 {

@@ -6,11 +6,11 @@
 
 use naga::{Expression as E, Handle};
 
-use super::{Frame, Item, Val, R};
+use super::{Frame, Item, Lowered, Val};
 use crate::eval::ir::Op;
 use crate::eval::texture::{TextureAccess, TextureOp};
-use crate::eval::ty::{ScalarKind as K, Ty};
 use crate::table::Bound;
+use crate::values::{ScalarKind as K, Ty};
 
 impl<'m> super::Compiler<'m> {
     /// Lower an `ImageSample` or `ImageLoad` expression.
@@ -19,7 +19,7 @@ impl<'m> super::Compiler<'m> {
         frame: &mut Frame<'m>,
         expr: &'m E,
         out: &mut Vec<Op>,
-    ) -> R<Item> {
+    ) -> Lowered<Item> {
         let (image, coordinate, level, access, what) = match *expr {
             E::ImageSample {
                 image,
@@ -72,7 +72,7 @@ impl<'m> super::Compiler<'m> {
                 if array_index.is_some() || sample.is_some() {
                     return Err(self.unsupported("`textureLoad` with an array or sample index"));
                 }
-                let signed = |c: &mut Self, h| -> R<bool> {
+                let signed = |c: &mut Self, h| -> Lowered<bool> {
                     Ok(c.expr_ty(frame, h)?.scalar_kind() == Some(K::I32))
                 };
                 let access = TextureAccess::Load {
@@ -122,7 +122,12 @@ impl<'m> super::Compiler<'m> {
     /// a `texture_2d<f32>` or a non-comparison `sampler` declared at module
     /// scope. Anything else, or a variable the check does not bind, is not
     /// supported (located at the expression).
-    fn bound(&mut self, frame: &Frame<'m>, h: Handle<naga::Expression>, what: &str) -> R<Bound> {
+    fn bound(
+        &mut self,
+        frame: &Frame<'m>,
+        h: Handle<naga::Expression>,
+        what: &str,
+    ) -> Lowered<Bound> {
         let E::GlobalVariable(g) = frame.func.expressions[h] else {
             return Err(self.unsupported(
                 "a texture or sampler passed as a function argument (sample the module-scope \

@@ -1,5 +1,7 @@
-//! Values typed by a person (the CLI's `--point` and input CSV files) read into lane bit
-//! patterns, and lane bit patterns written back as text.
+//! The text forms of values. Values typed by a person (the CLI's `--point` and input CSV
+//! files) read into lane bit patterns, and lane bit patterns written back as text
+//! ([`parse_value`], [`format_value`]); and the exact form golden files use
+//! ([`format_exact`], [`parse_exact`]), which keeps NaN payloads.
 //!
 //! - Floats are rounded from the decimal text to their type **once**: an f32 is read
 //!   with the correctly rounded decimal-to-f32 conversion, never through f64 (two
@@ -60,6 +62,63 @@ pub fn format_value(kind: ScalarKind, bits: u32, as_bits: bool) -> String {
         ScalarKind::U32 => bits.to_string(),
         ScalarKind::Bool => (bits != 0).to_string(),
     }
+}
+
+/// The exact text form of golden files: a float as the shortest decimal that reads back to
+/// the same value, a NaN other than the canonical one as `nan:` and its bit pattern (f32
+/// `nan:0x7fc00001`, f16 `nan:0x7e01`), integers and bools in decimal. [`parse_exact`]
+/// reads it back to the same bits.
+pub fn format_exact(k: ScalarKind, bits: u32) -> String {
+    match k {
+        ScalarKind::F32 => {
+            let x = f32::from_bits(bits);
+            if x.is_nan() && bits != f32::NAN.to_bits() {
+                format!("nan:{bits:#010x}")
+            } else {
+                format!("{x:?}")
+            }
+        }
+        ScalarKind::F16 => {
+            let h = half::f16::from_bits(bits as u16);
+            if h.is_nan() && h.to_bits() != half::f16::NAN.to_bits() {
+                format!("nan:{:#06x}", bits as u16)
+            } else {
+                format!("{:?}", h.to_f32())
+            }
+        }
+        ScalarKind::I32 => (bits as i32).to_string(),
+        ScalarKind::U32 => bits.to_string(),
+        ScalarKind::Bool => (bits != 0).to_string(),
+    }
+}
+
+/// Read the exact text form ([`format_exact`]) of a value of kind `k` back to its bits.
+pub fn parse_exact(k: ScalarKind, s: &str) -> Result<u32, String> {
+    let bad = || format!("`{s}` is not a valid {} value", k.wgsl());
+    if let Some(hex) = s.strip_prefix("nan:0x") {
+        // Only a NaN of the column's own width is written this way; anything
+        // else would not read back as what `render` writes.
+        let b = u32::from_str_radix(hex, 16).map_err(|_| bad())?;
+        let nan = match k {
+            ScalarKind::F32 => f32::from_bits(b).is_nan(),
+            ScalarKind::F16 => b <= 0xffff && half::f16::from_bits(b as u16).is_nan(),
+            _ => false,
+        };
+        return if nan { Ok(b) } else { Err(bad()) };
+    }
+    Ok(match k {
+        ScalarKind::F32 => s.parse::<f32>().map_err(|_| bad())?.to_bits(),
+        ScalarKind::F16 => {
+            u32::from(half::f16::from_f32(s.parse::<f32>().map_err(|_| bad())?).to_bits())
+        }
+        ScalarKind::I32 => s.parse::<i32>().map_err(|_| bad())? as u32,
+        ScalarKind::U32 => s.parse::<u32>().map_err(|_| bad())?,
+        ScalarKind::Bool => match s {
+            "true" => 1,
+            "false" => 0,
+            _ => return Err(bad()),
+        },
+    })
 }
 
 fn parse_bits(kind: ScalarKind, hex: &str, whole: &str) -> Result<u32, String> {

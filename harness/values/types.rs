@@ -1,4 +1,5 @@
-//! The evaluator's view of WGSL types: every value is flattened into scalar
+//! The value types: the scalar kinds (f32, f16, i32, u32, bool) and the WGSL value types
+//! built from them (vectors, matrices, arrays, structs). The evaluator's view of WGSL types: every value is flattened into scalar
 //! "leaves" (vector components, matrix entries column-major, array elements,
 //! struct members in declaration order), each leaf one slot column.
 
@@ -229,28 +230,5 @@ impl fmt::Display for Ty {
             Ty::Array(t, n) => write!(f, "array<{t}, {n}>"),
             Ty::Struct { name, .. } => f.write_str(name),
         }
-    }
-}
-
-/// Encode an f64 as the lane bit pattern of `kind`, rounding to nearest.
-/// Integers saturate; bool is `v != 0`.
-pub fn f64_to_bits(kind: ScalarKind, v: f64) -> u32 {
-    match kind {
-        ScalarKind::F32 => (v as f32).to_bits(),
-        ScalarKind::F16 => u32::from(half::f16::from_f64(v).to_bits()),
-        ScalarKind::I32 => (v as i32) as u32,
-        ScalarKind::U32 => v as u32,
-        ScalarKind::Bool => u32::from(v != 0.0),
-    }
-}
-
-/// Decode a lane bit pattern of `kind` as f64 (exactly).
-pub fn bits_to_f64(kind: ScalarKind, bits: u32) -> f64 {
-    match kind {
-        ScalarKind::F32 => f64::from(f32::from_bits(bits)),
-        ScalarKind::F16 => half::f16::from_bits(bits as u16).to_f64(),
-        ScalarKind::I32 => f64::from(bits as i32),
-        ScalarKind::U32 => f64::from(bits),
-        ScalarKind::Bool => f64::from(u8::from(bits != 0)),
     }
 }
