@@ -12,7 +12,7 @@ use crate::suite::{Check, Property};
 use crate::sweep::{fmt_num, Points};
 
 /// Most curves (values of the second parameter) drawn; more are thinned evenly.
-const MAX_CURVES: usize = 4;
+pub const MAX_CURVES: usize = 4;
 
 /// The chart of a property check's first output over parameter `x` (default: the
 /// first sweep parameter with more than one value), one curve pair per value of the
