@@ -80,7 +80,10 @@ pub(super) fn domain(v: &toml::Value, limits: &Limits) -> Result<Domain, String>
         return Err("expected a table such as { linear = [0.0, 1.0, 64] }".into());
     };
     if t.len() != 1 {
-        return Err("expected exactly one of `linear`, `log`, `list`, `edges`, `direction`".into());
+        return Err(
+            "expected exactly one of `linear`, `log`, `list`, `edges`, `every_f16`, `every_f32`, `direction`"
+                .into(),
+        );
     }
     let (kind, val) = t.iter().next().expect("one entry");
     // Checked before anything is allocated: a count of 1e30 is an error,
@@ -144,6 +147,38 @@ pub(super) fn domain(v: &toml::Value, limits: &Limits) -> Result<Domain, String>
                 return Err("`edges` needs low < high".into());
             }
             Domain::Edges { lo: a[0], hi: a[1] }
+        }
+        "every_f16" | "every_f32" => {
+            let format = if kind == "every_f16" {
+                crate::sweep::every::Format::F16
+            } else {
+                crate::sweep::every::Format::F32
+            };
+            let a = nums(val, Some(2), &format!("{kind} = [low, high]"))?;
+            finite(&a, kind)?;
+            if a[0] > a[1] {
+                return Err(format!("`{kind}` needs low <= high"));
+            }
+            let n = format.count(a[0], a[1]);
+            if n == 0 {
+                return Err(format!(
+                    "`{kind}`: no {format} value lies in [{}, {}]",
+                    a[0], a[1]
+                ));
+            }
+            if n > limits.points_per_check {
+                return Err(format!(
+                    "`{kind}` over [{}, {}] has {n} values, {}",
+                    a[0],
+                    a[1],
+                    over_points(limits)
+                ));
+            }
+            Domain::Every {
+                lo: a[0],
+                hi: a[1],
+                format,
+            }
         }
         "direction" => {
             let toml::Value::Table(d) = val else {

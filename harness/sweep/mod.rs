@@ -4,10 +4,13 @@
 //! Domains: evenly spaced (`linear`), log-spaced (`log`), explicit `list`,
 //! `edges` (the values that break shading code: both ends, the next f32 inside
 //! each end, 1e-4 inside each end, the middle) and `direction` (θ, φ in
-//! degrees from the +z axis → the unit vector (sin θ cos φ, sin θ sin φ, cos θ)).
+//! degrees from the +z axis → the unit vector (sin θ cos φ, sin θ sin φ, cos θ)),
+//! and `every_f16` / `every_f32` (every value of the format in a range, in order:
+//! [`every`]).
 //! Points are produced as f64 columns, one per scalar component.
 
 pub mod columns;
+pub mod every;
 pub mod expr;
 pub mod shard;
 
@@ -33,6 +36,12 @@ pub enum Domain {
     Edges {
         lo: f64,
         hi: f64,
+    },
+    /// Every value of `format` in [lo, hi], in increasing order.
+    Every {
+        lo: f64,
+        hi: f64,
+        format: every::Format,
     },
     /// A unit vector from polar angle θ and azimuth φ, both in degrees.
     Direction {
@@ -136,6 +145,10 @@ impl Domain {
                     .collect(),
             },
             Domain::List(v) => v.clone(),
+            Domain::Every { lo, hi, format } => match format.span(*lo, *hi) {
+                Some((a, b)) => (a..=b).map(|k| format.value(k)).collect(),
+                None => vec![],
+            },
             Domain::Edges { lo, hi } => {
                 let (l32, h32) = (*lo as f32, *hi as f32);
                 let next_up = f64::from(f32::from_bits(if l32 >= 0.0 {
@@ -178,6 +191,7 @@ impl Domain {
         match self {
             Domain::Linear { n, .. } | Domain::Log { n, .. } => Some(*n as u64),
             Domain::List(v) => Some(v.len() as u64),
+            Domain::Every { lo, hi, format } => Some(format.count(*lo, *hi)),
             Domain::Direction { theta, phi } => {
                 theta.checked_count()?.checked_mul(phi.checked_count()?)
             }
@@ -232,6 +246,13 @@ impl Domain {
             }
             Domain::Log { lo, hi, .. } => Value::S(lo * (hi / lo).powf(rng.unit())),
             Domain::List(v) => Value::S(v[(rng.next() % v.len().max(1) as u64) as usize]),
+            // Uniform over the format's values in the range, not over the reals.
+            Domain::Every { lo, hi, format } => match format.span(*lo, *hi) {
+                Some((a, b)) => {
+                    Value::S(format.value(a + (rng.next() % (b - a + 1) as u64) as i64))
+                }
+                None => Value::S(f64::NAN),
+            },
             Domain::Direction { theta, phi } => {
                 let (Value::S(t), Value::S(p)) = (theta.random(rng), phi.random(rng)) else {
                     unreachable!()
@@ -378,6 +399,7 @@ impl fmt::Display for Domain {
                     .join(", ")
             ),
             Domain::Edges { lo, hi } => write!(f, "edges({lo:?}, {hi:?})"),
+            Domain::Every { lo, hi, format } => write!(f, "every_{format}({lo:?}, {hi:?})"),
             Domain::Direction { theta, phi } => write!(f, "direction(theta {theta}, phi {phi})"),
         }
     }

@@ -5,6 +5,7 @@ mod cli_extra;
 mod common;
 mod demo;
 mod diagnose;
+mod exhaustive;
 mod golden;
 mod hardening;
 mod html;
