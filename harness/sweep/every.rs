@@ -17,7 +17,7 @@ pub enum Format {
 
 impl Format {
     /// The ordinal of the largest finite value (its bit pattern).
-    fn max_ordinal(self) -> i64 {
+    pub fn max_ordinal(self) -> i64 {
         match self {
             Format::F16 => 0x7bff,
             Format::F32 => 0x7f7f_ffff,
