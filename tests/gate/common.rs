@@ -1,7 +1,40 @@
-//! Shared by the gate tests: running the `shadegate` binary as a user would.
+//! Shared by the gate tests: running the `shadegate` binary as a user would, and
+//! scratch projects of one WGSL file and one suite.
 
-use std::path::Path;
+use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
+
+use shadegate::gate::{self, CheckResult};
+use shadegate::suite::{self, Suite};
+use shadegate::wgsl::Diagnostic;
+
+/// A scratch project: `lib.wgsl` holding `lib` and `shadegate.toml` holding
+/// `suite_text`, in a folder unique to the test file (`area`), the test and the
+/// process; the folder and the loaded suite.
+pub fn project(
+    area: &str,
+    test: &str,
+    lib: &str,
+    suite_text: &str,
+) -> Result<(PathBuf, Suite), Diagnostic> {
+    let dir = std::env::temp_dir().join(format!(
+        "shadegate-gate-{area}-{}-{test}",
+        std::process::id()
+    ));
+    let _ = std::fs::remove_dir_all(&dir);
+    std::fs::create_dir_all(&dir).unwrap();
+    std::fs::write(dir.join("lib.wgsl"), lib).unwrap();
+    std::fs::write(dir.join("shadegate.toml"), suite_text).unwrap();
+    let s = suite::load(&dir.join("shadegate.toml"))?;
+    Ok((dir, s))
+}
+
+/// Run the first check of a [`project`] (which must load).
+pub fn run_first(area: &str, test: &str, lib: &str, suite_text: &str) -> CheckResult {
+    let (_dir, s) =
+        project(area, test, lib, suite_text).unwrap_or_else(|d| panic!("{}", d.rendered));
+    gate::run_check(&s, &s.checks[0])
+}
 
 /// Run `shadegate ARGS` in `dir`, outside CI and without colour.
 pub fn shadegate(args: &[&str], dir: &Path) -> Output {

@@ -3,7 +3,7 @@
 //! sees each value exactly once.
 
 use shadegate::gate::{self, Verdict};
-use shadegate::suite;
+use shadegate::suite::Suite;
 
 const LIB: &str = r#"
 enable f16;
@@ -11,16 +11,7 @@ fn through_f16(x: f32) -> f32 { return f32(f16(x)); }
 fn square(x: f32) -> f32 { return x * x; }
 "#;
 
-fn suite_with(
-    test: &str,
-    sweep: &str,
-    function: &str,
-    reference: &str,
-) -> Result<suite::Suite, String> {
-    let dir = std::env::temp_dir().join(format!("shadegate-every-{}-{test}", std::process::id()));
-    let _ = std::fs::remove_dir_all(&dir);
-    std::fs::create_dir_all(&dir).unwrap();
-    std::fs::write(dir.join("lib.wgsl"), LIB).unwrap();
+fn suite_with(test: &str, sweep: &str, function: &str, reference: &str) -> Result<Suite, String> {
     let text = format!(
         r#"
 [[check]]
@@ -35,8 +26,9 @@ ulp = 0
 reason = "exact for these inputs"
 "#
     );
-    std::fs::write(dir.join("shadegate.toml"), text).unwrap();
-    suite::load(&dir.join("shadegate.toml")).map_err(|d| d.rendered)
+    super::common::project("every", test, LIB, &text)
+        .map(|(_, s)| s)
+        .map_err(|d| d.rendered)
 }
 
 #[test]

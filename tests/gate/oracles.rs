@@ -12,7 +12,7 @@
 use std::path::PathBuf;
 
 use shadegate::gate::{self, CheckResult, FindingKind, Verdict};
-use shadegate::suite::{self, Suite};
+use shadegate::suite::Suite;
 use shadegate::wgsl::Diagnostic;
 
 const LIB: &str = r#"
@@ -45,23 +45,12 @@ fn square_f16(a: f16) -> f16 { return a * a; }
 fn square_fast(a: f32) -> f32 { return 2.0 * a - 1.0; }
 "#;
 
-/// A scratch project with `lib.wgsl` and `shadegate.toml`, unique per test.
 fn project(test: &str, suite_text: &str) -> Result<(PathBuf, Suite), Diagnostic> {
-    let dir = std::env::temp_dir().join(format!(
-        "shadegate-gate-oracles-{}-{test}",
-        std::process::id()
-    ));
-    let _ = std::fs::remove_dir_all(&dir);
-    std::fs::create_dir_all(&dir).unwrap();
-    std::fs::write(dir.join("lib.wgsl"), LIB).unwrap();
-    std::fs::write(dir.join("shadegate.toml"), suite_text).unwrap();
-    let s = suite::load(&dir.join("shadegate.toml"))?;
-    Ok((dir, s))
+    super::common::project("oracles", test, LIB, suite_text)
 }
 
 fn run(test: &str, suite_text: &str) -> CheckResult {
-    let (_dir, s) = project(test, suite_text).unwrap_or_else(|d| panic!("{}", d.rendered));
-    gate::run_check(&s, &s.checks[0])
+    super::common::run_first("oracles", test, LIB, suite_text)
 }
 
 fn scalar(function: &str, property: &str, extra: &str) -> String {

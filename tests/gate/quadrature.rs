@@ -19,7 +19,7 @@
 use std::path::PathBuf;
 
 use shadegate::gate::{self, CheckResult, Verdict};
-use shadegate::suite::{self, Suite};
+use shadegate::suite::Suite;
 use shadegate::wgsl::Diagnostic;
 
 const LIB: &str = r#"
@@ -70,21 +70,11 @@ fn spec_unmasked(v: vec3<f32>, l: vec3<f32>, alpha: f32) -> f32 {
 "#;
 
 fn project(test: &str, suite_text: &str) -> Result<(PathBuf, Suite), Diagnostic> {
-    let dir = std::env::temp_dir().join(format!(
-        "shadegate-gate-quadrature-{}-{test}",
-        std::process::id()
-    ));
-    let _ = std::fs::remove_dir_all(&dir);
-    std::fs::create_dir_all(&dir).unwrap();
-    std::fs::write(dir.join("lib.wgsl"), LIB).unwrap();
-    std::fs::write(dir.join("shadegate.toml"), suite_text).unwrap();
-    let s = suite::load(&dir.join("shadegate.toml"))?;
-    Ok((dir, s))
+    super::common::project("quadrature", test, LIB, suite_text)
 }
 
 fn run(test: &str, suite_text: &str) -> CheckResult {
-    let (_dir, s) = project(test, suite_text).unwrap_or_else(|d| panic!("{}", d.rendered));
-    gate::run_check(&s, &s.checks[0])
+    super::common::run_first("quadrature", test, LIB, suite_text)
 }
 
 fn check(function: &str, property: &str, extra: &str, sweep: &str, abs: f64) -> String {

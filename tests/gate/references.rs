@@ -12,8 +12,8 @@
 
 use std::path::PathBuf;
 
-use shadegate::gate::{self, CheckResult, FindingKind, Verdict};
-use shadegate::suite::{self, Suite};
+use shadegate::gate::{CheckResult, FindingKind, Verdict};
+use shadegate::suite::Suite;
 use shadegate::wgsl::Diagnostic;
 
 const LIB: &str = r#"
@@ -42,21 +42,11 @@ fn tint(c: vec3<f32>, k: f32) -> vec3<f32> { return c * k / PI; }
 "#;
 
 fn project(test: &str, suite_text: &str) -> Result<(PathBuf, Suite), Diagnostic> {
-    let dir = std::env::temp_dir().join(format!(
-        "shadegate-gate-references-{}-{test}",
-        std::process::id()
-    ));
-    let _ = std::fs::remove_dir_all(&dir);
-    std::fs::create_dir_all(&dir).unwrap();
-    std::fs::write(dir.join("lib.wgsl"), LIB).unwrap();
-    std::fs::write(dir.join("shadegate.toml"), suite_text).unwrap();
-    let s = suite::load(&dir.join("shadegate.toml"))?;
-    Ok((dir, s))
+    super::common::project("references", test, LIB, suite_text)
 }
 
 fn run(test: &str, suite_text: &str) -> CheckResult {
-    let (_dir, s) = project(test, suite_text).unwrap_or_else(|d| panic!("{}", d.rendered));
-    gate::run_check(&s, &s.checks[0])
+    super::common::run_first("references", test, LIB, suite_text)
 }
 
 fn check(function: &str, reference: &str, extra: &str, sweep: &str) -> String {
