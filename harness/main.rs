@@ -16,7 +16,7 @@ use std::process::ExitCode;
 use clap::{Parser, Subcommand, ValueEnum};
 use shadegate::eval::{Arithmetic, Program};
 use shadegate::gate::{self, table, RunResult};
-use shadegate::suite::{self, Suite};
+use shadegate::suite::{self, Check, Suite};
 use shadegate::wgsl::Shader;
 use shadegate::{reference, report};
 
@@ -303,6 +303,16 @@ fn main() -> ExitCode {
     }
 }
 
+/// The check named `name` of suite `s` (read from `path`).
+fn find_check<'s>(s: &'s Suite, name: &str, path: &Path) -> Result<&'s Check, Bad> {
+    s.checks.iter().find(|c| c.name == name).ok_or_else(|| {
+        Bad(format!(
+            "no check named `{name}` in {} (see `shadegate list`)",
+            path.display()
+        ))
+    })
+}
+
 fn load_suite(path: &Path) -> Result<Suite, Bad> {
     let golden_outside = GOLDEN_OUTSIDE.load(std::sync::atomic::Ordering::Relaxed);
     suite::load_with(path, suite::Options { golden_outside }).map_err(|d| Bad(d.rendered))
@@ -524,9 +534,7 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
             let sh = Shader::load(&shader).map_err(|d| Bad(d.rendered))?;
             let (program, cols, budget) = if let Some(name) = check {
                 let s = load_suite(&suite)?;
-                let c = s.checks.iter().find(|c| c.name == name).ok_or_else(|| {
-                    Bad(format!("no check named `{name}` in {}", suite.display()))
-                })?;
+                let c = find_check(&s, &name, &suite)?;
                 let mut c = c.clone();
                 c.function = function.clone();
                 c.overrides.extend(ov.clone());
@@ -586,10 +594,7 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
             format,
         } => {
             let s = load_suite(&suite)?;
-            let c =
-                s.checks.iter().find(|c| c.name == check).ok_or_else(|| {
-                    Bad(format!("no check named `{check}` in {}", suite.display()))
-                })?;
+            let c = find_check(&s, &check, &suite)?;
             let r = match functions.as_deref() {
                 Some([a, b]) => gate::compare_functions(&s, c, (&old, a), (&new, b)),
                 _ => gate::compare_versions(&s, c, &old, &new),
@@ -618,12 +623,7 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
             use shadegate::plot::{ImageFormat, Measure, Picture, Scale};
             let format = ImageFormat::of_path(&output).map_err(Bad)?;
             let s = load_suite(&suite)?;
-            let c = s.checks.iter().find(|c| c.name == check).ok_or_else(|| {
-                Bad(format!(
-                    "no check named `{check}` in {} (see `shadegate list`)",
-                    suite.display()
-                ))
-            })?;
+            let c = find_check(&s, &check, &suite)?;
             let picture = match kind {
                 PlotKind::Map => Picture::Map {
                     x,
@@ -825,12 +825,7 @@ fn eval_csv(
     let mut judged: Option<(Vec<String>, Vec<Vec<String>>)> = None;
     let (mut leaves, mut cols, program, issues) = if let Some(name) = check {
         let s = load_suite(suite_path)?;
-        let c = s.checks.iter().find(|c| c.name == name).ok_or_else(|| {
-            Bad(format!(
-                "no check named `{name}` in {}",
-                suite_path.display()
-            ))
-        })?;
+        let c = find_check(&s, name, suite_path)?;
         let mut c = c.clone();
         c.function = function.to_string();
         c.overrides.extend(overrides.clone());
