@@ -242,7 +242,8 @@ pub fn hemisphere_nodes() -> Vec<([f64; 3], f64)> {
 }
 
 /// Per (sweep point, direction) of a masking-identity quadrature: the node's
-/// weight without its cos θ_h, times max(0, v·h) and the NDF at h (its
+/// weight without its cos θ_h, times max(0, v·h) (`view`: the view's columns,
+/// one value per sweep point) and the NDF at h (its
 /// `n_dot_h` is the direction's z; its other parameters come from the check's
 /// `reference_args`, else the sweep parameters of the same names).
 fn masking_factor(
@@ -251,6 +252,7 @@ fn masking_factor(
     over: &str,
     qpoints: &Points,
     nodes: &[([f64; 3], f64)],
+    view: &[Vec<f64>],
 ) -> Result<Vec<f64>, String> {
     let model = crate::reference::find(&m.ndf)
         .ok_or_else(|| format!("no reference model named `{}`", m.ndf))?;
@@ -261,17 +263,12 @@ fn masking_factor(
     );
     let d = super::inputs::reference_columns(check, model, qpoints, &exprs)
         .map_err(|e| format!("the distribution `{}`: {e}", m.ndf))?;
-    let vi = qpoints
-        .names
-        .iter()
-        .position(|x| *x == m.view)
-        .ok_or_else(|| format!("the view `{}` is not a sweep parameter", m.view))?;
-    let v = &qpoints.columns[vi];
     let q = nodes.len();
     Ok((0..qpoints.len)
         .map(|k| {
             let (h, w) = nodes[k % q];
-            let vh = v[0][k] * h[0] + v[1][k] * h[1] + v[2][k] * h[2];
+            let i = k / q;
+            let vh = view[0][i] * h[0] + view[1][i] * h[1] + view[2][i] * h[2];
             w / h[2] * vh.max(0.0) * d[0][k]
         })
         .collect())
@@ -478,9 +475,17 @@ pub fn property_sides(
             // The integrand's factor beside the function at each (point, direction),
             // times the node's weight: cos θ for albedo and normalisation (in the
             // weight), max(0, v·h) D(h) / cos θ_h for the masking identity.
-            let factor: Vec<f64> = match masking {
-                None => (0..n * q).map(|k| nodes[k % q].1).collect(),
-                Some(m) => masking_factor(check, m, over, &qpoints, &nodes).map_err(err)?,
+            let view = match masking {
+                None => None,
+                Some(m) => Some(p.names.iter().position(|x| *x == m.view).ok_or_else(|| {
+                    err(format!("the view `{}` is not a sweep parameter", m.view))
+                })?),
+            };
+            let factor: Vec<f64> = match (masking, view) {
+                (Some(m), Some(vi)) => {
+                    masking_factor(check, m, over, &qpoints, &nodes, &p.columns[vi]).map_err(err)?
+                }
+                _ => (0..n * q).map(|k| nodes[k % q].1).collect(),
             };
             let (build, program) = build_other(suite, check, None, &check.function, pc.line)?;
             let qev = evaluate_at(check, build, program, &check.args, qpoints)
@@ -500,15 +505,7 @@ pub fn property_sides(
                         .collect()
                 })
                 .collect();
-            let view_z: Option<Vec<f64>> = match masking {
-                None => None,
-                Some(m) => {
-                    let vi = p.names.iter().position(|x| *x == m.view).ok_or_else(|| {
-                        err(format!("the view `{}` is not a sweep parameter", m.view))
-                    })?;
-                    Some(p.columns[vi][2].clone())
-                }
-            };
+            let view_z = view.map(|vi| &p.columns[vi][2]);
             let want = integral
                 .iter()
                 .map(|c| {
