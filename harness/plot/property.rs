@@ -29,7 +29,8 @@ pub fn property_chart(
         .sweep
         .params
         .iter()
-        .filter(|(_, d)| distinct_count(d) > 1)
+        // More than one bin is more than one distinct value (Axis::of counts them).
+        .filter(|(n, _)| Axis::of(&check.sweep, n).is_ok_and(|a| a.bins > 1))
         .map(|(n, _)| n.as_str())
         .collect();
     let x_name = match x {
@@ -150,16 +151,6 @@ fn curve_name(check: &Check) -> String {
         Some(Property::Hemisphere { equal: true, .. }) => "integral".to_string(),
         _ => check.function.clone(),
     }
-}
-
-fn distinct_count(d: &crate::sweep::Domain) -> usize {
-    let mut v = match d {
-        crate::sweep::Domain::Direction { theta, .. } => theta.values(),
-        d => d.values(),
-    };
-    v.sort_by(f64::total_cmp);
-    v.dedup();
-    v.len()
 }
 
 /// An f64 ordered by `total_cmp`, as a map key.
