@@ -451,10 +451,7 @@ impl Machine {
                 Op::Texture(ref t) => {
                     // Operands are copied out whole before any destination
                     // column is written (rule 2 keeps them apart anyway).
-                    let (u, v, m) = (*col(t.coords[0]), *col(t.coords[1]), *col(t.mask));
-                    let level = t.level.map(|l| *col(l));
-                    let mut out = [[0u32; LANES]; 4];
-                    t.run(&u, &v, level.as_ref(), &m, &mut out, &mut self.issues);
+                    let out = t.run(|s| *col(s), &mut self.issues);
                     for (&d, o) in t.dst.iter().zip(&out) {
                         *col(d) = *o;
                     }

@@ -766,14 +766,7 @@ impl<'a> Shadow<'a> {
                 // coordinates (in the f64 model those are its values rounded to
                 // f32) and its texels restart the shadow exactly. Out-of-bounds
                 // loads are reported by the normal evaluation, not here.
-                let (u, v, m) = (
-                    self.w[t.coords[0] as usize],
-                    self.w[t.coords[1] as usize],
-                    self.w[t.mask as usize],
-                );
-                let level = t.level.map(|l| self.w[l as usize]);
-                let mut out = [[0u32; LANES]; 4];
-                t.run(&u, &v, level.as_ref(), &m, &mut out, &mut Vec::new());
+                let out = t.run(|s| self.w[s as usize], &mut Vec::new());
                 for (&d, o) in t.dst.iter().zip(&out) {
                     self.w[d as usize] = *o;
                     self.s[d as usize] = o.map(wf);

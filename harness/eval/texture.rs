@@ -46,18 +46,15 @@ impl TextureOp {
         v
     }
 
-    /// Compute `out` (the four result columns) from copies of the operand
-    /// columns; out-of-bounds loads read `(0, 0, 0, 0)` and are reported for
-    /// lanes in `mask` (WGSL allows that result; see [`crate::table::sample`]).
-    pub fn run(
-        &self,
-        u: &Lanes,
-        v: &Lanes,
-        level: Option<&Lanes>,
-        mask: &Lanes,
-        out: &mut [Lanes; 4],
-        issues: &mut Vec<RawIssue>,
-    ) {
+    /// The four result columns, from the operand columns `read` gives (each
+    /// copied out whole before anything is written, so the caller may write
+    /// the destinations afterwards); out-of-bounds loads read `(0, 0, 0, 0)`
+    /// and are reported for lanes in `mask` (WGSL allows that result; see
+    /// [`crate::table::sample`]).
+    pub fn run(&self, read: impl Fn(Slot) -> Lanes, issues: &mut Vec<RawIssue>) -> [Lanes; 4] {
+        let (u, v, mask) = (read(self.coords[0]), read(self.coords[1]), read(self.mask));
+        let level = self.level.map(read);
+        let mut out = [[0u32; LANES]; 4];
         for lane in 0..LANES {
             let texel = match self.access {
                 TextureAccess::Sample(s) => {
@@ -108,5 +105,6 @@ impl TextureOp {
                 o[lane] = texel[c].to_bits();
             }
         }
+        out
     }
 }
