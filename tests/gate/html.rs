@@ -257,22 +257,14 @@ fn file_url(p: &Path) -> String {
     format!("file://{}", p.canonicalize().unwrap().display())
 }
 
-#[test]
-fn report_page_loads_clean_in_chromium_with_every_image_and_the_finding_visible() {
-    let Some(exe) = browser_or_skip() else {
-        return;
-    };
+/// `shadegate run --suite SUITE FILTER --html DIR` from the crate root, into a fresh
+/// folder named with `tag`; the run must exit with `code`. The folder and the page.
+fn html_report(tag: &str, suite: &str, filter: &str, code: i32) -> (PathBuf, PathBuf) {
     let root = PathBuf::from(env!("CARGO_MANIFEST_DIR"));
-    let dir = std::env::temp_dir().join(format!("shadegate-html-{}", std::process::id()));
+    let dir = std::env::temp_dir().join(format!("shadegate-html{tag}-{}", std::process::id()));
     let _ = std::fs::remove_dir_all(&dir);
     let out = Command::new(env!("CARGO_BIN_EXE_shadegate"))
-        .args([
-            "run",
-            "--suite",
-            "shaders/brackenfold-planted/shadegate.toml",
-            "ggx",
-            "--html",
-        ])
+        .args(["run", "--suite", suite, filter, "--html"])
         .arg(&dir)
         .current_dir(&root)
         .env("NO_COLOR", "1")
@@ -280,11 +272,20 @@ fn report_page_loads_clean_in_chromium_with_every_image_and_the_finding_visible(
         .unwrap();
     assert_eq!(
         out.status.code(),
-        Some(1),
+        Some(code),
         "{}",
         String::from_utf8_lossy(&out.stderr)
     );
     let page = dir.join("shadegate.html");
+    (dir, page)
+}
+
+#[test]
+fn report_page_loads_clean_in_chromium_with_every_image_and_the_finding_visible() {
+    let Some(exe) = browser_or_skip() else {
+        return;
+    };
+    let (dir, page) = html_report("", "shaders/brackenfold-planted/shadegate.toml", "ggx", 1);
     let html = std::fs::read_to_string(&page).unwrap();
     // Self-contained: nothing is fetched from anywhere.
     for outside in ["src=\"http", "href=\"http", "<script", "<link"] {
@@ -334,29 +335,12 @@ fn a_property_check_page_shows_its_chart() {
     let Some(exe) = browser_or_skip() else {
         return;
     };
-    let root = PathBuf::from(env!("CARGO_MANIFEST_DIR"));
-    let dir = std::env::temp_dir().join(format!("shadegate-html-prop-{}", std::process::id()));
-    let _ = std::fs::remove_dir_all(&dir);
-    let out = Command::new(env!("CARGO_BIN_EXE_shadegate"))
-        .args([
-            "run",
-            "--suite",
-            "demos/quillmere/shadegate.toml",
-            "cobble_furnace",
-            "--html",
-        ])
-        .arg(&dir)
-        .current_dir(&root)
-        .env("NO_COLOR", "1")
-        .output()
-        .unwrap();
-    assert_eq!(
-        out.status.code(),
-        Some(0),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
+    let (dir, page) = html_report(
+        "-prop",
+        "demos/quillmere/shadegate.toml",
+        "cobble_furnace",
+        0,
     );
-    let page = dir.join("shadegate.html");
     let mut b = Browser::start(&exe, "prop");
     b.open(&file_url(&page));
     let alts = b.eval("Array.from(document.images).map(i => i.alt)");
