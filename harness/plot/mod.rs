@@ -23,7 +23,7 @@ use crate::sweep::{fmt_num, Domain, Points, Sweep};
 pub use colour::Scale;
 pub use lobe::{lobe_params, lobes, lobes_png, lobes_svg, Lobe};
 pub use property::{property_chart, MAX_CURVES};
-pub use request::{default_roughnesses, draw, ImageFormat, Picture};
+pub use request::{default_roughnesses, draw, property_image, ImageFormat, Picture};
 
 /// Most bins on one axis of an error map.
 pub const MAX_BINS: usize = 64;

@@ -148,21 +148,32 @@ pub fn draw(
             }
         }
         Picture::Property { x } => {
-            let pc = check.property.as_ref().ok_or_else(|| {
-                format!(
-                    "check `{}` has no `property` to draw (pictures of it: map, lobes)",
-                    check.name
-                )
-            })?;
             let detail = CheckPoints::of(suite, check)?;
-            let sides =
-                crate::gate::oracle::property_sides(suite, check, pc, &detail.ev, &detail.got)?;
-            let chart = property_chart(check, &detail.ev.points, &sides, x.as_deref())?;
-            match format {
-                ImageFormat::Svg => chart.svg().map(String::into_bytes),
-                ImageFormat::Png => chart.png(),
-            }
+            property_image(suite, check, &detail, x.as_deref(), format)
         }
+    }
+}
+
+/// A property check's chart over `x` (see [`property_chart`]) from an evaluation
+/// already made, so a caller that has one (the report page) does not evaluate again.
+pub fn property_image(
+    suite: &Suite,
+    check: &Check,
+    detail: &CheckPoints,
+    x: Option<&str>,
+    format: ImageFormat,
+) -> Result<Vec<u8>, String> {
+    let pc = check.property.as_ref().ok_or_else(|| {
+        format!(
+            "check `{}` has no `property` to draw (pictures of it: map, lobes)",
+            check.name
+        )
+    })?;
+    let sides = crate::gate::oracle::property_sides(suite, check, pc, &detail.ev, &detail.got)?;
+    let chart = property_chart(check, &detail.ev.points, &sides, x)?;
+    match format {
+        ImageFormat::Svg => chart.svg().map(String::into_bytes),
+        ImageFormat::Png => chart.png(),
     }
 }
 

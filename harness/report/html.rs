@@ -15,7 +15,7 @@ use super::format::{self, count};
 use super::text::details;
 use super::Timings;
 use crate::gate::{CheckResult, RunResult, Verdict};
-use crate::plot::{self, Axis, ErrorGrid, ImageFormat, Measure, Picture, Scale};
+use crate::plot::{self, Axis, ErrorGrid, ImageFormat, Measure, Scale};
 use crate::suite::{Check, Suite};
 
 /// The page of `run` (made from `suite`); with [`Timings::Omit`] it carries no time.
@@ -207,12 +207,10 @@ fn number_model(k: &Check) -> String {
 }
 
 fn pictures(o: &mut String, suite: &Suite, k: &Check) {
-    if let Some(pc) = &k.property {
-        property_picture(o, suite, k, pc);
-    }
-    let Some((x, y)) = Axis::default_pair(&k.sweep) else {
+    let pair = Axis::default_pair(&k.sweep);
+    if k.property.is_none() && pair.is_none() {
         return;
-    };
+    }
     let detail = match crate::detail::CheckPoints::of(suite, k) {
         Ok(d) => d,
         Err(e) => {
@@ -223,6 +221,12 @@ fn pictures(o: &mut String, suite: &Suite, k: &Check) {
             );
             return;
         }
+    };
+    if let Some(pc) = &k.property {
+        property_picture(o, suite, k, pc, &detail);
+    }
+    let Some((x, y)) = pair else {
+        return;
     };
     for e in &detail.expected {
         let title = format!("{} against {}", k.name, e.against);
@@ -272,9 +276,14 @@ fn pictures(o: &mut String, suite: &Suite, k: &Check) {
 
 /// A property check's result against its first varying parameter (the albedo of a
 /// lobe against the view angle, say), beside what the property expects.
-fn property_picture(o: &mut String, suite: &Suite, k: &Check, pc: &crate::suite::PropertyCheck) {
-    let property = Picture::Property { x: None };
-    match plot::draw(suite, k, &property, ImageFormat::Svg) {
+fn property_picture(
+    o: &mut String,
+    suite: &Suite,
+    k: &Check,
+    pc: &crate::suite::PropertyCheck,
+    detail: &crate::detail::CheckPoints,
+) {
+    match plot::property_image(suite, k, detail, None, ImageFormat::Svg) {
         Ok(svg) => {
             let _ = writeln!(
                 o,
