@@ -550,7 +550,7 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
                     Some(path) => table::read_csv(&path, &leaves).map_err(Bad)?,
                     None => table::columns_of_points(&program, &points).map_err(Bad)?,
                 };
-                (program, cols, None)
+                (std::sync::Arc::new(program), cols, None)
             };
             let twin = match twin {
                 Some(t) => Some(
@@ -856,7 +856,7 @@ fn eval_csv(
         let mut out = Vec::new();
         let issues = program.try_eval(&refs, &mut out).map_err(Bad)?;
         cols.append(&mut out);
-        (leaves, cols, program, issues)
+        (leaves, cols, std::sync::Arc::new(program), issues)
     };
     print_issues(&issues);
     leaves.extend(program.output_leaves());

@@ -241,6 +241,68 @@ pub fn compare(
 }
 
 impl Stats {
+    /// Add the statistics of the points that follow these (start from the
+    /// first part's; then the next segment
+    /// or shard of the same comparison, its point indices already in sweep
+    /// order): counts add, maxima and the exact sums merge, the worst point
+    /// by [`compare`]'s rule (a later point replaces it only when strictly
+    /// worse), and the first listed points in order. Call
+    /// [`Stats::finish`] after the last part; merging parts in order gives
+    /// the statistics of one comparison over all their points.
+    pub fn absorb(&mut self, p: &Stats) {
+        let s = self;
+        s.components = s.components.max(p.components);
+        s.changed = match (s.changed, p.changed) {
+            (Some(a), Some(b)) => Some(a + b),
+            _ => None,
+        };
+        s.points += p.points;
+        s.skipped += p.skipped;
+        s.failed += p.failed;
+        s.nonfinite += p.nonfinite;
+        s.max_abs = s.max_abs.max(p.max_abs);
+        s.max_rel = s.max_rel.max(p.max_rel);
+        s.max_ulp = s.max_ulp.max(p.max_ulp);
+        s.sum_sq.merge(&p.sum_sq);
+        if let Some(w) = &p.worst {
+            let worse = match &s.worst {
+                None => p.worst_badness > 0.0,
+                Some(cur) => {
+                    p.worst_badness > s.worst_badness
+                        || (p.worst_badness == s.worst_badness
+                            && (w.ulp, w.abs) > (cur.ulp, cur.abs))
+                }
+            };
+            if worse {
+                s.worst_badness = p.worst_badness;
+                s.worst = Some(w.clone());
+            }
+        }
+        for f in &p.first_failures {
+            if s.first_failures.len() < LISTED {
+                s.first_failures.push(f.clone());
+            }
+        }
+        for f in &p.first_nonfinite {
+            if s.first_nonfinite.len() < LISTED {
+                s.first_nonfinite.push(f.clone());
+            }
+        }
+    }
+
+    /// Move every listed point's index by `first` (the part's first point
+    /// in the sweep).
+    pub fn offset(&mut self, first: usize) {
+        for p in self
+            .worst
+            .iter_mut()
+            .chain(&mut self.first_failures)
+            .chain(&mut self.first_nonfinite)
+        {
+            p.index += first;
+        }
+    }
+
     /// The figures derived from the counts, maxima and the sum: failing
     /// share, RMS, headroom and the stale-tolerance flag (by
     /// [`compare`], and again after shards are merged).

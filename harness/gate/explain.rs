@@ -25,7 +25,10 @@ pub struct Evidence<'a> {
     pub check: &'a Check,
     /// The comparison's label, copied into each finding.
     pub against: &'a str,
+    /// The whole comparison's statistics.
     pub stats: &'a Stats,
+    /// The evidence points: every point of the check, or a sample of a
+    /// large one (`gate::stream`).
     pub points: &'a Points,
     /// Computed and expected columns, one per output component.
     pub got: &'a [Vec<f64>],
@@ -33,7 +36,10 @@ pub struct Evidence<'a> {
     pub tolerance: &'a Tolerance,
     /// f16 ULPs.
     pub half: bool,
-    /// Indices of the failing points, in sweep order.
+    /// Indices (into `points`, `got`, `want`) of the failing points, in
+    /// sweep order. Shares of failing points are taken of these: for a
+    /// check with more points than the explainers see, `points` is a
+    /// sample and `stats` (the whole check's) counts more failing points.
     pub failing: &'a [usize],
     /// The evaluator's per-point issues, grouped (for source sites).
     pub issues: &'a [IssueGroup],
@@ -200,7 +206,7 @@ impl Explainer for ConstantFactor {
             .map(|f| {
                 finding(
                     ev,
-                    share(f.points, ev.stats.failed),
+                    share(f.points, ev.failing.len()),
                     FindingKind::ConstantFactor {
                         factor: f.factor,
                         named: f.named.map(str::to_string),
@@ -241,7 +247,7 @@ impl Explainer for Locality {
             .take((ev.failing.len() / 100).max(10))
             .map(|x| x.1)
             .collect();
-        let explained = share(top.len(), ev.stats.failed);
+        let explained = share(top.len(), ev.failing.len());
         confined(ev.points, &top)
             .into_iter()
             .map(|k| finding(ev, explained, k(Confined::LargestErrors)))
@@ -479,7 +485,7 @@ impl Explainer for CallGraph {
                     let explains = match &kind {
                         FindingKind::CalleeDeviates {
                             deviating_failing, ..
-                        } => share(*deviating_failing, ev.stats.failed),
+                        } => share(*deviating_failing, ev.failing.len()),
                         _ => 0.0,
                     };
                     out.push(finding(ev, explains, kind));

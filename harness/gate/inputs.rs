@@ -11,6 +11,7 @@
 
 use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
+use std::sync::Arc;
 
 use rayon::prelude::*;
 
@@ -116,9 +117,11 @@ impl Build {
 
 /// The function evaluated over a check's sweep.
 pub struct Evaluated {
-    pub build: Build,
+    /// Shared by every segment of a check ([`super::stream`]): built and
+    /// compiled once.
+    pub build: Arc<Build>,
     pub points: Points,
-    pub program: Program,
+    pub program: Arc<Program>,
     pub shader_hash: String,
     pub inputs: Vec<(String, ScalarKind)>,
     pub outputs: Vec<(String, ScalarKind)>,
@@ -139,7 +142,26 @@ pub fn point_range(check: &Check) -> std::ops::Range<usize> {
 /// Generate the sweep (the check's shard of it, when it has one) with every
 /// value rounded to f32.
 pub fn points_of(check: &Check) -> Points {
-    let mut points = check.sweep.points_in(point_range(check));
+    points_in(check, point_range(check))
+}
+
+/// The points of `range` (indices in the whole sweep), every value rounded
+/// to f32.
+pub fn points_in(check: &Check, range: std::ops::Range<usize>) -> Points {
+    let mut points = check.sweep.points_in(range);
+    round_to_f32(&mut points);
+    points
+}
+
+/// The points at `indices` (ascending, in the whole sweep), every value
+/// rounded to f32: a check's evidence when it has too many points to keep.
+pub fn points_at(check: &Check, indices: &[usize]) -> Points {
+    let mut points = check.sweep.points_at(indices);
+    round_to_f32(&mut points);
+    points
+}
+
+fn round_to_f32(points: &mut Points) {
     for cols in &mut points.columns {
         for col in cols.iter_mut() {
             for x in col.iter_mut() {
@@ -147,7 +169,6 @@ pub fn points_of(check: &Check) -> Points {
             }
         }
     }
-    points
 }
 
 fn example(points: &Points) -> Vec<Value> {
@@ -262,21 +283,14 @@ pub fn evaluate(
     check: &Check,
     shader_path: Option<&Path>,
 ) -> Result<Evaluated, String> {
-    let build = build_of(suite, check, shader_path)?;
-    let program = build.program()?;
-    suite
-        .check_args(check, program.params().iter().map(|(n, _)| n.as_str()))
-        .map_err(|d| d.rendered)?;
-    let (points, rounded) = super::oracle::shared_points(suite, check, &program)?;
-    let mut ev = evaluate_at(check, build, program, &main_args(check), points)?;
-    ev.rounded = rounded;
-    Ok(ev)
+    let prepared = super::stream::Prepared::new(suite, check, shader_path)?;
+    prepared.evaluate(points_of(check))
 }
 
 /// The argument expressions of a check's own evaluation: `check.args`, except
 /// that a hemisphere property's direction (a quadrature variable, not a sweep
 /// parameter) stands at the normal, +z, there.
-fn main_args(check: &Check) -> std::borrow::Cow<'_, BTreeMap<String, Expr>> {
+pub(crate) fn main_args(check: &Check) -> std::borrow::Cow<'_, BTreeMap<String, Expr>> {
     let Some(crate::suite::PropertyCheck {
         property: crate::suite::Property::Hemisphere { over, .. },
         ..
@@ -299,8 +313,8 @@ fn main_args(check: &Check) -> std::borrow::Cow<'_, BTreeMap<String, Expr>> {
 /// for the check's own function; twins and properties for the others.
 pub fn evaluate_at(
     check: &Check,
-    build: Build,
-    program: Program,
+    build: Arc<Build>,
+    program: Arc<Program>,
     args: &BTreeMap<String, Expr>,
     points: Points,
 ) -> Result<Evaluated, String> {

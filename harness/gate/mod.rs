@@ -3,8 +3,10 @@
 //! - [`inputs`]: the sweep's points, the argument columns, the [`Build`] of
 //!   the check (the one place its overrides and number model reach a back
 //!   end), the CPU evaluation and the reference model's columns;
-//! - [`run`](mod@run): the comparisons with the reference and the golden, on the CPU or
-//!   another [`Backend`], and `compare_versions`;
+//! - [`stream`]: one check as a streamed pass over segments of its points
+//!   (statistics in bounded memory), then the explanation of its evidence;
+//! - [`run`](mod@run): running checks, on the CPU or another [`Backend`], and
+//!   `compare_versions`;
 //! - [`explain`]: typed findings from each comparison, by the explainers of
 //!   its table;
 //! - [`oracle`]: twins and property checks, each the columns of one more
@@ -21,6 +23,7 @@ pub mod record;
 pub mod result;
 pub mod run;
 pub mod shard;
+pub mod stream;
 pub mod table;
 
 pub use inputs::{
@@ -33,6 +36,6 @@ pub use result::{
     ShardPart, Verdict,
 };
 pub use run::{
-    compare_functions, compare_versions, run, run_check, run_check_explained, run_check_on, run_on,
-    Backend,
+    compare_functions, compare_versions, run, run_check, run_check_explained, run_check_on,
+    run_check_with, run_on, Backend,
 };

@@ -7,14 +7,19 @@
 //!
 //! Both sides of a twin, and a function and its reference, see the same
 //! parameter values: a sweep parameter that feeds an `f16` argument of either
-//! side is rounded to `f16` for both (see [`shared_points`]), and the check's
+//! side is rounded to `f16` for both (see [`half_params`]), and the check's
 //! findings say so.
+//!
+//! The other function of a twin or a round trip is built once per check
+//! ([`Other`], by [`super::stream::Prepared`]); the sides are computed per
+//! segment of the check's points.
 
 use std::collections::BTreeMap;
 use std::fmt::Display;
 use std::path::Path;
+use std::sync::Arc;
 
-use super::inputs::{as_f64, bind_arg, evaluate_at, points_of, Build, Evaluated};
+use super::inputs::{as_f64, bind_arg, evaluate_at, Build, Evaluated};
 use super::result::FindingKind;
 use crate::eval::{bits_to_f64, f64_to_bits, Program, ScalarKind};
 use crate::suite::{Check, Property, PropertyCheck, Suite, Twin};
@@ -40,6 +45,9 @@ fn located(suite: &Suite, line: u32, check: &Check, msg: impl Display) -> String
     )
 }
 
+/// Another function of a check (a twin, a decoder), built and compiled once.
+pub type Other = (Arc<Build>, Arc<Program>);
+
 /// The [`Build`] of another function of a check (a twin, a decoder): the
 /// check's overrides and number model, the function's own shader file.
 pub fn build_other(
@@ -48,7 +56,7 @@ pub fn build_other(
     shader: Option<&Path>,
     function: &str,
     line: u32,
-) -> Result<(Build, Program), String> {
+) -> Result<Other, String> {
     let path = suite.resolve(shader.unwrap_or(&check.shader));
     let shader = Shader::load_with(&path, &suite.limits)
         .map_err(|d| located(suite, line, check, d.rendered))?;
@@ -66,36 +74,50 @@ pub fn build_other(
     let program = build
         .program()
         .map_err(|m| located(suite, line, check, format!("`{function}`: {m}")))?;
-    Ok((build, program))
+    Ok((Arc::new(build), Arc::new(program)))
 }
 
-/// The check's points, with every sweep parameter that feeds an `f16`
-/// argument of the check's function or its twin rounded to `f16`, so that
-/// both sides (the twin or the reference) see the values the `f16` side sees. Also the finding that
-/// says which parameters were rounded (`None` when no side takes `f16`).
-pub fn shared_points(
-    suite: &Suite,
+/// The check's twin, built (`None` without one).
+pub fn twin_of(suite: &Suite, check: &Check) -> Result<Option<Other>, String> {
+    check
+        .twin
+        .as_ref()
+        .map(|t| build_other(suite, check, t.shader.as_deref(), &t.function, t.line))
+        .transpose()
+}
+
+/// The decoding function of the check's round-trip property, built (`None`
+/// for other checks).
+pub fn decoder_of(suite: &Suite, check: &Check) -> Result<Option<Other>, String> {
+    match &check.property {
+        Some(PropertyCheck {
+            property: Property::RoundTrip { decode, shader },
+            line,
+            ..
+        }) => build_other(suite, check, shader.as_deref(), decode, *line).map(Some),
+        _ => Ok(None),
+    }
+}
+
+/// The sweep parameters (indices into `points`, which need only its names
+/// and widths) that feed an `f16` argument of the check's function or its
+/// twin (`other`): they are rounded to `f16` for both sides (the twin or the
+/// reference), so both see the values the `f16` side sees
+/// ([`round_half`]). Also the finding that says which parameters were
+/// rounded (`None` when no side takes `f16`).
+pub fn half_params(
     check: &Check,
     program: &Program,
-) -> Result<(Points, Option<FindingKind>), String> {
-    let mut points = points_of(check);
+    other: Option<&Other>,
+    points: &Points,
+) -> (Vec<usize>, Option<FindingKind>) {
     // Only a twin or a reference sees the parameters a second time; a golden
     // records the function's own (already rounded) inputs.
     if check.twin.is_none() && !check.has_reference() {
-        return Ok((points, None));
+        return (Vec::new(), None);
     }
-    let other = match &check.twin {
-        Some(twin) => Some(build_other(
-            suite,
-            check,
-            twin.shader.as_deref(),
-            &twin.function,
-            twin.line,
-        )?),
-        None => None,
-    };
     let mut sides = vec![(program, &check.args, check.function.as_str())];
-    if let (Some(twin), Some((_, other))) = (&check.twin, &other) {
+    if let (Some(twin), Some((_, other))) = (&check.twin, other) {
         sides.push((other, &twin.args, twin.function.as_str()));
     }
     let mut direct = Vec::new();
@@ -106,7 +128,7 @@ pub fn shared_points(
                 continue;
             }
             // An unbindable argument is reported when the side is evaluated.
-            let Ok(b) = bind_arg(args, name, &points, "argument") else {
+            let Ok(b) = bind_arg(args, name, points, "argument") else {
                 continue;
             };
             match b.var {
@@ -120,19 +142,24 @@ pub fn shared_points(
         }
     }
     direct.sort_unstable();
-    for &p in &direct {
+    let finding =
+        (!direct.is_empty() || !computed.is_empty()).then(|| FindingKind::InputsRounded {
+            parameters: direct.iter().map(|&p| points.names[p].clone()).collect(),
+            computed,
+        });
+    (direct, finding)
+}
+
+/// Round the sweep parameters `params` of `points` to `f16` (see
+/// [`half_params`]).
+pub fn round_half(points: &mut Points, params: &[usize]) {
+    for &p in params {
         for col in &mut points.columns[p] {
             for x in col.iter_mut() {
                 *x = bits_to_f64(ScalarKind::F16, f64_to_bits(ScalarKind::F16, *x));
             }
         }
     }
-    let finding =
-        (!direct.is_empty() || !computed.is_empty()).then(|| FindingKind::InputsRounded {
-            parameters: direct.iter().map(|&p| points.names[p].clone()).collect(),
-            computed,
-        });
-    Ok((points, finding))
 }
 
 /// The twin evaluated at the check's points: the expected value.
@@ -140,18 +167,18 @@ pub fn twin_sides(
     suite: &Suite,
     check: &Check,
     twin: &Twin,
+    (build, program): &Other,
     ev: &Evaluated,
     got: &[Vec<f64>],
 ) -> Result<Sides, String> {
-    let (build, program) = build_other(
-        suite,
+    let other = evaluate_at(
         check,
-        twin.shader.as_deref(),
-        &twin.function,
-        twin.line,
-    )?;
-    let other = evaluate_at(check, build, program, &twin.args, ev.points.clone())
-        .map_err(|m| located(suite, twin.line, check, format!("twin: {m}")))?;
+        build.clone(),
+        program.clone(),
+        &twin.args,
+        ev.points.clone(),
+    )
+    .map_err(|m| located(suite, twin.line, check, format!("twin: {m}")))?;
     if other.outputs.len() != ev.outputs.len() {
         return Err(located(
             suite,
@@ -275,10 +302,44 @@ fn masking_factor(
 }
 
 /// The columns of a property check. `got` is the function's result.
+/// A hemisphere property evaluates its function at every quadrature
+/// direction of each of the check's `n` points: refused, before anything
+/// runs, when that passes the `points_per_check` limit. Also the number of
+/// evaluations per point (1 for other properties).
+pub fn evaluations_per_point(
+    suite: &Suite,
+    check: &Check,
+    pc: &PropertyCheck,
+    n: usize,
+) -> Result<usize, String> {
+    if !matches!(pc.property, Property::Hemisphere { .. }) {
+        return Ok(1);
+    }
+    let q = hemisphere_nodes().len();
+    let total = (n as u64).saturating_mul(q as u64);
+    if total > suite.limits.points_per_check {
+        let l = crate::limits::Limit::PointsPerCheck;
+        return Err(located(
+            suite,
+            pc.line,
+            check,
+            format!(
+                "the quadrature takes {q} directions at each of {n} sweep points ({total} evaluations), more than the `{l}` limit of {}; {}",
+                suite.limits.points_per_check,
+                l.how_to_raise()
+            ),
+        ));
+    }
+    Ok(q)
+}
+
+/// The columns of a property check at the check's points (`ev`); `decoder`
+/// is the round trip's decoding function, built once.
 pub fn property_sides(
     suite: &Suite,
     check: &Check,
     pc: &PropertyCheck,
+    decoder: Option<&Other>,
     ev: &Evaluated,
     got: &[Vec<f64>],
 ) -> Result<Sides, String> {
@@ -362,8 +423,13 @@ pub fn property_sides(
             let mut swapped: BTreeMap<String, Expr> = check.args.clone();
             swapped.insert(a.clone(), expr(b));
             swapped.insert(b.clone(), expr(a));
-            let (build, program) = build_other(suite, check, None, &check.function, pc.line)?;
-            let other = evaluate_at(check, build, program, &swapped, ev.points.clone())?;
+            let other = evaluate_at(
+                check,
+                ev.build.clone(),
+                ev.program.clone(),
+                &swapped,
+                ev.points.clone(),
+            )?;
             Ok(Sides {
                 against,
                 got: got.to_vec(),
@@ -420,8 +486,13 @@ pub fn property_sides(
                     Expr::parse(&e).map_err(|m| err(format!("rotating `{n}`: {}", m.message)))?;
                 rotated.insert(n.clone(), e);
             }
-            let (build, program) = build_other(suite, check, None, &check.function, pc.line)?;
-            let other = evaluate_at(check, build, program, &rotated, ev.points.clone())?;
+            let other = evaluate_at(
+                check,
+                ev.build.clone(),
+                ev.program.clone(),
+                &rotated,
+                ev.points.clone(),
+            )?;
             Ok(Sides {
                 against,
                 got: got.to_vec(),
@@ -437,15 +508,6 @@ pub fn property_sides(
             let nodes = hemisphere_nodes();
             let q = nodes.len();
             let n = ev.points.len;
-            let total = (n as u64).saturating_mul(q as u64);
-            if total > suite.limits.points_per_check {
-                let l = crate::limits::Limit::PointsPerCheck;
-                return Err(err(format!(
-                    "the quadrature takes {q} directions at each of {n} sweep points ({total} evaluations), more than the `{l}` limit of {}; {}",
-                    suite.limits.points_per_check,
-                    l.how_to_raise()
-                )));
-            }
             // Every sweep point repeated once per direction (point-major),
             // with the direction as one more parameter named `over`.
             let p = &ev.points;
@@ -487,9 +549,14 @@ pub fn property_sides(
                 }
                 _ => (0..n * q).map(|k| nodes[k % q].1).collect(),
             };
-            let (build, program) = build_other(suite, check, None, &check.function, pc.line)?;
-            let qev = evaluate_at(check, build, program, &check.args, qpoints)
-                .map_err(|m| err(format!("the quadrature over `{over}`: {m}")))?;
+            let qev = evaluate_at(
+                check,
+                ev.build.clone(),
+                ev.program.clone(),
+                &check.args,
+                qpoints,
+            )
+            .map_err(|m| err(format!("the quadrature over `{over}`: {m}")))?;
             let values = as_f64(&qev.output_columns, &qev.outputs);
             let integral: Vec<Vec<f64>> = values
                 .iter()
@@ -526,8 +593,10 @@ pub fn property_sides(
                 half: false,
             })
         }
-        Property::RoundTrip { decode, shader } => {
-            let (_, program) = build_other(suite, check, shader.as_deref(), decode, pc.line)?;
+        Property::RoundTrip { decode, .. } => {
+            let program = &decoder
+                .expect("a round trip's decoder is built with the check")
+                .1;
             let takes = program.input_leaves();
             let same = takes.len() == ev.outputs.len()
                 && takes.iter().zip(&ev.outputs).all(|(a, b)| a.1 == b.1);

@@ -1,25 +1,18 @@
-//! Running checks: inputs → evaluation (CPU or another back end) →
-//! reference and golden comparisons → explanation, one way, for each check.
+//! Running checks: each check is one streamed pass (inputs → evaluation on
+//! the CPU or another back end → reference, twin, property and golden
+//! comparisons → statistics) and, when it fails, its explanation
+//! ([`super::stream`]); and comparing two versions of a function.
 
 use std::collections::BTreeMap;
 use std::path::Path;
 use std::time::Instant;
 
-use super::explain::{
-    self, backend_agreement, failing_points, group_issues, Context, Evidence, Explainer, Reevaluate,
-};
-use super::inputs::{
-    as_f64, evaluate, point_range, reference_arg_columns, reference_columns,
-    reference_expr_columns, reference_fits, Build,
-};
-use super::oracle;
-use super::result::{
-    CheckResult, Comparison, Finding, FindingKind, IssueGroup, RunResult, ShardPart, Verdict,
-};
+use super::explain::{self, failing_points, group_issues, Evidence, Explainer, Reevaluate};
+use super::inputs::{as_f64, evaluate, point_range, Build};
+use super::result::{CheckResult, Comparison, Finding, IssueGroup, RunResult, ShardPart, Verdict};
+use super::stream::{self, check_tolerance, Progress};
 use crate::compare::{self, Tolerance};
 use crate::eval::ScalarKind;
-use crate::golden;
-use crate::reference::Model;
 use crate::suite::{Check, Suite};
 use crate::sweep::{Expr, Points};
 
@@ -51,6 +44,18 @@ pub fn run_check_explained(
     backend: Option<Backend>,
     explainers: &[&dyn Explainer],
 ) -> CheckResult {
+    run_check_with(suite, check, backend, explainers, None)
+}
+
+/// [`run_check_explained`] that reports its progress after each segment of
+/// points (points done, points of the check), for long checks.
+pub fn run_check_with(
+    suite: &Suite,
+    check: &Check,
+    backend: Option<Backend>,
+    explainers: &[&dyn Explainer],
+    progress: Option<Progress>,
+) -> CheckResult {
     let start = Instant::now();
     let range = point_range(check);
     let mut r = CheckResult {
@@ -72,7 +77,7 @@ pub fn run_check_explained(
             total: check.sweep.len(),
         }),
     };
-    match run_inner(suite, check, &mut r, backend, explainers) {
+    match stream::run_into(suite, check, &mut r, backend, explainers, progress) {
         Ok(()) => {
             let failed = r.comparisons.iter().any(|c| c.stats.failed > 0);
             r.verdict = if failed { Verdict::Fail } else { Verdict::Pass };
@@ -87,27 +92,7 @@ pub fn run_check_explained(
     r
 }
 
-/// Re-evaluations of a check's reference model, for explainers.
-struct ReferenceOf<'a> {
-    check: &'a Check,
-    model: &'static Model,
-}
-
-impl Reevaluate for ReferenceOf<'_> {
-    fn reference_with(
-        &self,
-        args: &BTreeMap<String, Expr>,
-        points: &Points,
-    ) -> Result<Vec<Vec<f64>>, String> {
-        reference_columns(self.check, self.model, points, args)
-    }
-
-    fn reference_args(&self, points: &Points) -> Result<Vec<Vec<f64>>, String> {
-        reference_arg_columns(self.check, self.model, points, &self.check.reference_args)
-    }
-}
-
-/// Nothing to re-evaluate (goldens, old versions).
+/// Nothing to re-evaluate (two versions of a function).
 struct NoReference;
 
 impl Reevaluate for NoReference {
@@ -124,32 +109,7 @@ impl Reevaluate for NoReference {
     }
 }
 
-/// Tolerance lists must have one value or one per output component.
-fn check_tolerance(
-    suite: &Suite,
-    check: &Check,
-    tol: &Tolerance,
-    key: &str,
-    components: usize,
-) -> Result<(), String> {
-    for (name, list) in [("abs", &tol.abs), ("rel", &tol.rel), ("ulp", &tol.ulp)] {
-        if let Some(v) = list {
-            if v.len() != 1 && v.len() != components {
-                return Err(format!(
-                    "{}:{}: check `{}`: `{key}.{name}` lists {} values but `{}` returns {components} component(s); give one value or {components}",
-                    suite.path.display(),
-                    check.line,
-                    check.name,
-                    v.len(),
-                    check.function
-                ));
-            }
-        }
-    }
-    Ok(())
-}
-
-/// One comparison: statistics, then its explanation.
+/// One comparison of two versions: statistics, then its explanation.
 #[allow(clippy::too_many_arguments)]
 fn comparison(
     check: &Check,
@@ -160,24 +120,11 @@ fn comparison(
     half: bool,
     points: &Points,
     issues: &[IssueGroup],
-    model: Option<&'static Model>,
     changed: Option<usize>,
-    context: Option<Context>,
-    explainers: &[&dyn Explainer],
 ) -> (Comparison, Vec<Finding>) {
     let describe = |i: usize| points.describe(i);
     let mut stats = compare::compare(got, want, tolerance, half, &describe);
     stats.changed = changed;
-    // A shard's points are numbered from its first point in the sweep.
-    let first = point_range(check).start;
-    for p in stats
-        .worst
-        .iter_mut()
-        .chain(&mut stats.first_failures)
-        .chain(&mut stats.first_nonfinite)
-    {
-        p.index += first;
-    }
     let failing = if stats.failed > 0 {
         failing_points(got, want, tolerance, half)
     } else {
@@ -194,13 +141,10 @@ fn comparison(
         half,
         failing: &failing,
         issues,
-        model,
-        context,
+        model: None,
+        context: None,
     };
-    let findings = match model {
-        Some(model) => explain::explain_with(explainers, &evidence, &ReferenceOf { check, model }),
-        None => explain::explain_with(explainers, &evidence, &NoReference),
-    };
+    let findings = explain::explain_with(explain::EXPLAINERS, &evidence, &NoReference);
     (
         Comparison {
             against,
@@ -209,191 +153,6 @@ fn comparison(
         },
         findings,
     )
-}
-
-fn run_inner(
-    suite: &Suite,
-    check: &Check,
-    r: &mut CheckResult,
-    backend: Option<Backend>,
-    explainers: &[&dyn Explainer],
-) -> Result<(), String> {
-    let mut ev = evaluate(suite, check, None)?;
-    if let Some(b) = backend {
-        let refs: Vec<&[u32]> = ev.input_columns.iter().map(|c| &c[..]).collect();
-        let (cols, label) = b(&ev.build, &refs)?;
-        if cols.len() != ev.outputs.len() || cols.iter().any(|c| c.len() != ev.points.len) {
-            return Err(format!(
-                "check `{}`: {label} returned {} column(s) of {} point(s); expected {} of {}",
-                check.name,
-                cols.len(),
-                cols.first().map_or(0, Vec::len),
-                ev.outputs.len(),
-                ev.points.len
-            ));
-        }
-        r.findings.push(Finding {
-            against: String::new(),
-            explains: None,
-            kind: FindingKind::EvaluatedOn { backend: label },
-        });
-        r.findings.extend(backend_agreement(
-            &ev.outputs,
-            &ev.output_columns,
-            &cols,
-            &ev.points,
-        ));
-        ev.output_columns = cols;
-    }
-    let half = ev.outputs.iter().any(|(_, k)| *k == ScalarKind::F16);
-    let got = as_f64(&ev.output_columns, &ev.outputs);
-    r.issues = group_issues(&ev.issues, &check.shader, &ev.points);
-    if let Some(model) = check.reference {
-        reference_fits(check, model, got.len())?;
-        check_tolerance(suite, check, &check.tolerance, "tolerance", got.len())?;
-        let want = reference_columns(check, model, &ev.points, &check.reference_args)?;
-        let (c, findings) = comparison(
-            check,
-            format!("reference {}", model.name),
-            &got,
-            &want,
-            &check.tolerance,
-            half,
-            &ev.points,
-            &r.issues,
-            Some(model),
-            None,
-            Some(Context {
-                suite,
-                evaluated: &ev,
-            }),
-            explainers,
-        );
-        r.comparisons.push(c);
-        r.findings.extend(findings);
-    }
-    if let Some(expr) = &check.reference_expr {
-        check_tolerance(suite, check, &check.tolerance, "tolerance", got.len())?;
-        let want = reference_expr_columns(check, expr, &ev.points, got.len())?;
-        // No decomposition of an expression to search: the statistics and
-        // the locality explainers only.
-        let (c, findings) = comparison(
-            check,
-            format!("reference {}", expr.text),
-            &got,
-            &want,
-            &check.tolerance,
-            half,
-            &ev.points,
-            &r.issues,
-            None,
-            None,
-            None,
-            explainers,
-        );
-        r.comparisons.push(c);
-        r.findings.extend(findings);
-    }
-    if let Some(kind) = ev.rounded.take() {
-        r.findings.push(Finding {
-            against: String::new(),
-            explains: None,
-            kind,
-        });
-    }
-    // Twins and properties: their second evaluations (the twin, the swapped
-    // arguments, the decoder) run on the CPU evaluator.
-    let mut sides = Vec::new();
-    if let Some(twin) = &check.twin {
-        sides.push(oracle::twin_sides(suite, check, twin, &ev, &got)?);
-    }
-    if let Some(pc) = &check.property {
-        sides.push(oracle::property_sides(suite, check, pc, &ev, &got)?);
-    }
-    for s in sides {
-        check_tolerance(suite, check, &check.tolerance, "tolerance", s.got.len())?;
-        let (c, findings) = comparison(
-            check,
-            s.against,
-            &s.got,
-            &s.want,
-            &check.tolerance,
-            s.half,
-            &ev.points,
-            &r.issues,
-            None,
-            None,
-            None,
-            explainers,
-        );
-        r.comparisons.push(c);
-        r.findings.extend(findings);
-    }
-    if let (Some(gpath), None) = (&check.golden, backend) {
-        let range = point_range(check);
-        check_tolerance(
-            suite,
-            check,
-            &check.golden_tolerance,
-            "golden_tolerance",
-            got.len(),
-        )?;
-        let path = suite.resolve(gpath);
-        let mut g = golden::read_with(&path, &suite.limits).map_err(|d| d.rendered)?;
-        let shader = check.shader.display().to_string();
-        let sweep = check.sweep.to_string();
-        golden::check_identity(
-            &path,
-            &g,
-            &golden::Identity {
-                check: &check.name,
-                shader: &shader,
-                function: &check.function,
-                sweep: &sweep,
-                points: check.sweep.len(),
-                inputs: &ev.inputs,
-                outputs: &ev.outputs,
-                input_columns: &ev.input_columns,
-                first: range.start,
-            },
-        )
-        .map_err(|d| d.rendered)?;
-        // A shard compares its own points of the record.
-        for col in &mut g.output_columns {
-            col.truncate(range.end);
-            col.drain(..range.start);
-        }
-        let against = format!("golden {}", gpath.display());
-        if g.header.shader_hash != ev.shader_hash {
-            r.findings.push(Finding {
-                against: against.clone(),
-                explains: None,
-                kind: FindingKind::ShaderChanged {
-                    recorded: g.header.shader_hash.clone(),
-                    current: ev.shader_hash.clone(),
-                },
-            });
-        }
-        let want = as_f64(&g.output_columns, &g.outputs);
-        let changed = compare::changed_bits(&ev.output_columns, &g.output_columns);
-        let (c, findings) = comparison(
-            check,
-            against,
-            &got,
-            &want,
-            &check.golden_tolerance,
-            half,
-            &ev.points,
-            &r.issues,
-            None,
-            Some(changed),
-            None,
-            explainers,
-        );
-        r.comparisons.push(c);
-        r.findings.extend(findings);
-    }
-    Ok(())
 }
 
 /// Compare two versions of a WGSL file over a check's sweep.
@@ -464,10 +223,7 @@ pub fn compare_functions(
         half,
         &b.points,
         &issues,
-        None,
         Some(changed),
-        None,
-        explain::EXPLAINERS,
     );
     Finding::rank(&mut findings);
     let verdict = if c.stats.failed > 0 {

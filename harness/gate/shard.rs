@@ -25,7 +25,7 @@ use serde::Deserialize;
 use super::result::{
     CheckResult, Comparison, Finding, FindingKind, IssueGroup, RunResult, ShardPart, Verdict,
 };
-use crate::compare::{ExactSum, NanPolicy, PointReport, Stats, Tolerance, LISTED};
+use crate::compare::{ExactSum, NanPolicy, PointReport, Stats, Tolerance};
 use crate::suite::Suite;
 use crate::sweep::Shard;
 
@@ -516,47 +516,9 @@ fn list(c: &[Comparison]) -> String {
 
 /// The statistics of the whole from those of its shards, in shard order.
 fn merge_stats(parts: &[&Stats], tol: &Tolerance) -> Stats {
-    let mut s = Stats {
-        components: parts[0].components,
-        changed: parts
-            .iter()
-            .try_fold(0, |acc, p| p.changed.map(|c| acc + c)),
-        ..Stats::default()
-    };
-    for p in parts {
-        s.points += p.points;
-        s.skipped += p.skipped;
-        s.failed += p.failed;
-        s.nonfinite += p.nonfinite;
-        s.max_abs = s.max_abs.max(p.max_abs);
-        s.max_rel = s.max_rel.max(p.max_rel);
-        s.max_ulp = s.max_ulp.max(p.max_ulp);
-        s.sum_sq.merge(&p.sum_sq);
-        if let Some(w) = &p.worst {
-            // `compare::compare`'s rule, a shard's worst against the worst so far.
-            let worse = match &s.worst {
-                None => p.worst_badness > 0.0,
-                Some(cur) => {
-                    p.worst_badness > s.worst_badness
-                        || (p.worst_badness == s.worst_badness
-                            && (w.ulp, w.abs) > (cur.ulp, cur.abs))
-                }
-            };
-            if worse {
-                s.worst_badness = p.worst_badness;
-                s.worst = Some(w.clone());
-            }
-        }
-        for f in &p.first_failures {
-            if s.first_failures.len() < LISTED {
-                s.first_failures.push(f.clone());
-            }
-        }
-        for f in &p.first_nonfinite {
-            if s.first_nonfinite.len() < LISTED {
-                s.first_nonfinite.push(f.clone());
-            }
-        }
+    let mut s = parts[0].clone();
+    for p in &parts[1..] {
+        s.absorb(p);
     }
     s.finish(tol);
     s

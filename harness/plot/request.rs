@@ -169,7 +169,15 @@ pub fn property_image(
             check.name
         )
     })?;
-    let sides = crate::gate::oracle::property_sides(suite, check, pc, &detail.ev, &detail.got)?;
+    let decoder = crate::gate::oracle::decoder_of(suite, check)?;
+    let sides = crate::gate::oracle::property_sides(
+        suite,
+        check,
+        pc,
+        decoder.as_ref(),
+        &detail.ev,
+        &detail.got,
+    )?;
     let chart = property_chart(check, &detail.ev.points, &sides, x)?;
     match format {
         ImageFormat::Svg => chart.svg().map(String::into_bytes),

@@ -718,7 +718,8 @@ pub fn budget_of_check(
         // the run, not here.
         Some(t) if !ev.inputs.is_empty() => {
             let got = crate::gate::as_f64(&ev.output_columns, &ev.outputs);
-            let sides = crate::gate::oracle::twin_sides(suite, check, t, ev, &got)?;
+            let twin = crate::gate::oracle::twin_of(suite, check)?.expect("the check has a twin");
+            let sides = crate::gate::oracle::twin_sides(suite, check, t, &twin, ev, &got)?;
             (Some(sides.want), sides.against)
         }
         _ => (None, "the function's f64 values".to_string()),

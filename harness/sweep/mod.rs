@@ -199,11 +199,15 @@ impl Domain {
         }
     }
 
-    /// Components of grid value `k`.
-    fn grid_value(&self, k: usize, cache: &[Vec<f64>]) -> Value {
+    /// Where [`Sweep::points_in`] reads the grid values: an exhaustive
+    /// domain computes each from its ordinal, the others look it up in their
+    /// [`Domain::cache`].
+    fn source(&self) -> Source {
         match self {
-            Domain::Direction { .. } => Value::V([cache[0][k], cache[1][k], cache[2][k]]),
-            _ => Value::S(cache[0][k]),
+            Domain::Every { lo, hi, format } => {
+                Source::Every(*format, format.span(*lo, *hi).map_or(0, |(a, _)| a))
+            }
+            d => Source::Table(d.cache()),
         }
     }
 
@@ -340,23 +344,35 @@ impl Sweep {
         );
         let n = end - start;
         let grid = n_all - self.random.map_or(0, |r| r.count);
-        let caches: Vec<Vec<Vec<f64>>> = self.params.iter().map(|(_, d)| d.cache()).collect();
+        // Grid values by table (computed once per call; an exhaustive
+        // domain's values from their ordinals, never listed).
+        let sources: Vec<Source> = self.params.iter().map(|(_, d)| d.source()).collect();
         let counts: Vec<usize> = self.params.iter().map(|(_, d)| d.count()).collect();
         let mut columns: Vec<Vec<Vec<f64>>> = self
             .params
             .iter()
             .map(|(_, d)| (0..d.width()).map(|_| Vec::with_capacity(n)).collect())
             .collect();
-        let mut idx = vec![0; counts.len()];
-        for i in start..end.min(grid) {
-            // Mixed-radix decomposition, last parameter fastest.
-            let mut rest = i;
+        if start < grid {
+            // Mixed-radix decomposition of the first index, last parameter
+            // fastest; then the digits count up like an odometer.
+            let mut idx = vec![0; counts.len()];
+            let mut rest = start;
             for p in (0..counts.len()).rev() {
                 idx[p] = rest % counts[p];
                 rest /= counts[p];
             }
-            for (p, (_, d)) in self.params.iter().enumerate() {
-                push(&mut columns[p], d.grid_value(idx[p], &caches[p]));
+            for _ in start..end.min(grid) {
+                for (p, src) in sources.iter().enumerate() {
+                    src.push(&mut columns[p], idx[p]);
+                }
+                for p in (0..counts.len()).rev() {
+                    idx[p] += 1;
+                    if idx[p] < counts[p] {
+                        break;
+                    }
+                    idx[p] = 0;
+                }
             }
         }
         if let Some(r) = self.random {
@@ -376,6 +392,63 @@ impl Sweep {
             columns,
             len: n,
         }
+    }
+}
+
+/// A domain's grid values for [`Sweep::points_in`].
+enum Source {
+    /// One column per component.
+    Table(Vec<Vec<f64>>),
+    /// The format and the ordinal of the first value.
+    Every(every::Format, i64),
+}
+
+impl Source {
+    /// Append grid value `k` to a parameter's columns.
+    fn push(&self, cols: &mut [Vec<f64>], k: usize) {
+        match self {
+            Source::Table(t) => {
+                for (c, t) in cols.iter_mut().zip(t) {
+                    c.push(t[k]);
+                }
+            }
+            Source::Every(format, first) => cols[0].push(format.value(first + k as i64)),
+        }
+    }
+}
+
+impl Sweep {
+    /// The points at `indices` (ascending indices into the whole sweep), in
+    /// that order: each run of consecutive indices generated as
+    /// [`Sweep::points_in`] generates it, so point `i` has the same values
+    /// here as there.
+    pub fn points_at(&self, indices: &[usize]) -> Points {
+        let mut out = self.points_in(0..0);
+        let mut k = 0;
+        while k < indices.len() {
+            let start = indices[k];
+            let mut end = start + 1;
+            k += 1;
+            while k < indices.len() && indices[k] == end {
+                end += 1;
+                k += 1;
+            }
+            out.append(self.points_in(start..end));
+        }
+        out
+    }
+}
+
+impl Points {
+    /// Append `other`'s points (the same parameters) after these.
+    pub fn append(&mut self, other: Points) {
+        debug_assert_eq!(self.names, other.names);
+        for (mine, theirs) in self.columns.iter_mut().zip(other.columns) {
+            for (a, b) in mine.iter_mut().zip(theirs) {
+                a.extend(b);
+            }
+        }
+        self.len += other.len;
     }
 }
 

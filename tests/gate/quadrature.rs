@@ -114,7 +114,7 @@ fn lambert_keeps_the_white_furnace_to_rounding_and_one_without_pi_breaks_it() {
     let ev = gate::evaluate(&s, c, None).unwrap();
     let got = gate::as_f64(&ev.output_columns, &ev.outputs);
     let sides =
-        gate::oracle::property_sides(&s, c, c.property.as_ref().unwrap(), &ev, &got).unwrap();
+        gate::oracle::property_sides(&s, c, c.property.as_ref().unwrap(), None, &ev, &got).unwrap();
     for q in &sides.got[0] {
         assert!((q - 1.0).abs() < 1e-7, "{q}");
     }
@@ -174,7 +174,7 @@ fn the_ggx_lobe_loses_energy_and_matches_the_single_scattering_albedo() {
     let ev = gate::evaluate(&s, c, None).unwrap();
     let got = gate::as_f64(&ev.output_columns, &ev.outputs);
     let sides =
-        gate::oracle::property_sides(&s, c, c.property.as_ref().unwrap(), &ev, &got).unwrap();
+        gate::oracle::property_sides(&s, c, c.property.as_ref().unwrap(), None, &ev, &got).unwrap();
     let model = shadegate::reference::find("ggx_albedo").unwrap();
     let mut worst: f64 = 0.0;
     for i in 0..ev.points.len {
@@ -269,7 +269,7 @@ fn the_albedo_chart_draws_one_curve_per_alpha_at_the_integrated_values() {
     let ev = gate::evaluate(&s, c, None).unwrap();
     let got = gate::as_f64(&ev.output_columns, &ev.outputs);
     let sides =
-        gate::oracle::property_sides(&s, c, c.property.as_ref().unwrap(), &ev, &got).unwrap();
+        gate::oracle::property_sides(&s, c, c.property.as_ref().unwrap(), None, &ev, &got).unwrap();
     let chart = shadegate::plot::property_chart(c, &ev.points, &sides, None).unwrap();
     assert_eq!(chart.x_label, "θ of v (degrees from the normal)");
     let names: Vec<&str> = chart.series.iter().map(|s| s.name.as_str()).collect();
@@ -339,7 +339,7 @@ fn the_masking_identity_holds_for_smith_g1_and_measures_what_others_miss() {
     let ev = gate::evaluate(&s, c, None).unwrap();
     let got = gate::as_f64(&ev.output_columns, &ev.outputs);
     let sides =
-        gate::oracle::property_sides(&s, c, c.property.as_ref().unwrap(), &ev, &got).unwrap();
+        gate::oracle::property_sides(&s, c, c.property.as_ref().unwrap(), None, &ev, &got).unwrap();
     let lambda = shadegate::reference::find("smith_ggx_lambda").unwrap();
     for i in 0..ev.points.len {
         let shadegate::sweep::Value::V(v) = ev.points.value(0, i) else {
