@@ -97,4 +97,43 @@ fn main() {
         "  whole check / evaluator    {:>8.1}×  (target ≤ 2×, and ≤ 300 ms)",
         end_to_end / evaluator
     );
+    device(&ev, &refs, evaluator, runs);
+}
+
+/// The same points through wgpu on the first adapter (Mesa's software
+/// driver on a machine without a GPU), built with `--features gpu`.
+#[cfg(feature = "gpu")]
+fn device(ev: &gate::Evaluated, refs: &[&[u32]], evaluator: f64, runs: usize) {
+    let gpu = match shadegate::gpu::Gpu::new(None) {
+        Ok(g) => g,
+        Err(e) => {
+            println!("  device: none ({e})");
+            return;
+        }
+    };
+    let kernel = match gpu.prepare_build(&ev.build) {
+        Ok(k) => k,
+        Err(e) => {
+            println!("  device: cannot build the function ({e})");
+            return;
+        }
+    };
+    let (t, out) = best(runs, || kernel.eval(refs));
+    match out {
+        Ok(cols) => {
+            let same = cols == ev.output_columns;
+            println!(
+                "  {} {:>8.1} ms  ({:.1}× the evaluator; bit-identical: {same})",
+                gpu.adapter(),
+                1e3 * t,
+                t / evaluator
+            );
+        }
+        Err(e) => println!("  device: {e}"),
+    }
+}
+
+#[cfg(not(feature = "gpu"))]
+fn device(_: &gate::Evaluated, _: &[&[u32]], _: f64, _: usize) {
+    println!("  device: not built (add --features gpu for the wgpu time of the same points)");
 }

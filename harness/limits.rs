@@ -34,6 +34,10 @@ pub struct Limits {
     /// Texels (width × height) of one look-up table bound to a texture, read
     /// from a file or computed from a model.
     pub table_texels: u64,
+    /// Points of a failing check its explanation evaluates again and keeps
+    /// (every point up to this many; above it an even sample and a sample
+    /// of the failing points, each half of it: `gate::stream`).
+    pub evidence_points: u64,
 }
 
 impl Default for Limits {
@@ -47,6 +51,7 @@ impl Default for Limits {
             golden_bytes: 256 << 20,
             checks_per_suite: 100_000,
             table_texels: 1 << 22,
+            evidence_points: 1 << 20,
         }
     }
 }
@@ -74,6 +79,7 @@ impl Limits {
             Limit::GoldenBytes => self.golden_bytes = value,
             Limit::ChecksPerSuite => self.checks_per_suite = value,
             Limit::TableTexels => self.table_texels = value,
+            Limit::EvidencePoints => self.evidence_points = value,
         }
         Ok(())
     }
@@ -90,11 +96,12 @@ pub enum Limit {
     GoldenBytes,
     ChecksPerSuite,
     TableTexels,
+    EvidencePoints,
 }
 
 impl Limit {
     /// Every limit, in the order the README lists them.
-    pub const ALL: [Limit; 8] = [
+    pub const ALL: [Limit; 9] = [
         Limit::PointsPerCheck,
         Limit::ProgramOps,
         Limit::StepsPerPoint,
@@ -103,6 +110,7 @@ impl Limit {
         Limit::GoldenBytes,
         Limit::ChecksPerSuite,
         Limit::TableTexels,
+        Limit::EvidencePoints,
     ];
 
     /// The key of this limit in a suite's `[limits]` table.
@@ -116,6 +124,7 @@ impl Limit {
             Limit::GoldenBytes => "golden_bytes",
             Limit::ChecksPerSuite => "checks_per_suite",
             Limit::TableTexels => "table_texels",
+            Limit::EvidencePoints => "evidence_points",
         }
     }
 
@@ -130,6 +139,7 @@ impl Limit {
             Limit::GoldenBytes => limits.golden_bytes,
             Limit::ChecksPerSuite => limits.checks_per_suite,
             Limit::TableTexels => limits.table_texels,
+            Limit::EvidencePoints => limits.evidence_points,
         }
     }
 

@@ -387,9 +387,19 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
             let run = if gpu {
                 run_gpu(&s, filter.as_deref(), adapter.as_deref(), &progress)?
             } else {
-                gate::run(&s, filter.as_deref(), |i, n, name| {
-                    progress.step(i, n, name)
-                })
+                // A long check announces its estimated time and reports its
+                // progress on standard error, terminal or not.
+                let pace = report::Pace::new(Box::new(std::io::stderr()));
+                gate::run_reporting(
+                    &s,
+                    filter.as_deref(),
+                    |i, n, name| {
+                        pace.begin(name);
+                        progress.step(i, n, name)
+                    },
+                    Some(&|done, total| pace.points(done, total)),
+                    None,
+                )
             };
             if run.checks.is_empty() {
                 return Err(Bad(format!(

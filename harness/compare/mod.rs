@@ -190,8 +190,12 @@ pub fn compare(
         ulp,
         near_zero: near_zero(want[component][i]),
     };
+    let bounds = Bounds::of(tol, comps);
+    // The worst point so far: (index, badness, component, errors); its
+    // report (which formats the point's parameters) is made once, at the end.
+    let mut worst: Option<(usize, f64, usize, (f64, f64, f64))> = None;
     for i in 0..n {
-        let p = assess(got, want, i, tol, half);
+        let p = bounds.assess(got, want, i, tol.nan, half);
         s.max_abs = s.max_abs.max(p.max_abs);
         s.max_rel = s.max_rel.max(p.max_rel);
         s.max_ulp = s.max_ulp.max(p.max_ulp);
@@ -223,17 +227,20 @@ pub fn compare(
         }
         // Ties (every failing point infinitely over a zero tolerance, say)
         // go to the larger error, so the worst point is the worst.
-        let worse = match &s.worst {
+        let worse = match &worst {
             None => point_bad > 0.0,
-            Some(w) => {
-                point_bad > s.worst_badness
-                    || (point_bad == s.worst_badness && (point_err.2, point_err.0) > (w.ulp, w.abs))
+            Some((_, bad, _, err)) => {
+                point_bad > *bad
+                    || (point_bad == *bad && (point_err.2, point_err.0) > (err.2, err.0))
             }
         };
         if worse {
-            s.worst_badness = point_bad;
-            s.worst = Some(report(i, point_comp, point_err.0, point_err.1, point_err.2));
+            worst = Some((i, point_bad, point_comp, point_err));
         }
+    }
+    if let Some((i, bad, comp, err)) = worst {
+        s.worst_badness = bad;
+        s.worst = Some(report(i, comp, err.0, err.1, err.2));
     }
     s.sum_sq = sum_sq;
     s.finish(tol);
@@ -366,55 +373,86 @@ pub fn assess(
     tol: &Tolerance,
     half: bool,
 ) -> Assessment {
-    let mut p = Assessment::default();
-    let inf = (f64::INFINITY, f64::INFINITY, f64::INFINITY);
-    for c in 0..got.len() {
-        let (g, w) = (got[c][i], want[c][i]);
-        if !w.is_finite() {
-            match tol.nan {
-                NanPolicy::Skip => p.skip = true,
-                NanPolicy::Match => {
-                    if !same_nonfinite(g, w) {
-                        (p.badness, p.component, p.err) = (f64::INFINITY, c, inf);
+    Bounds::of(tol, got.len()).assess(got, want, i, tol.nan, half)
+}
+
+/// A tolerance's bounds picked per component once, for judging many points.
+struct Bounds(Vec<[Option<f64>; 3]>);
+
+impl Bounds {
+    fn of(tol: &Tolerance, components: usize) -> Bounds {
+        Bounds(
+            (0..components)
+                .map(|c| {
+                    [
+                        Tolerance::pick(&tol.abs, c),
+                        Tolerance::pick(&tol.rel, c),
+                        Tolerance::pick(&tol.ulp, c),
+                    ]
+                })
+                .collect(),
+        )
+    }
+
+    /// [`assess`] with the bounds picked.
+    fn assess(
+        &self,
+        got: &[Vec<f64>],
+        want: &[Vec<f64>],
+        i: usize,
+        nan: NanPolicy,
+        half: bool,
+    ) -> Assessment {
+        let mut p = Assessment::default();
+        let inf = (f64::INFINITY, f64::INFINITY, f64::INFINITY);
+        for (c, bounds) in self.0.iter().enumerate() {
+            let (g, w) = (got[c][i], want[c][i]);
+            if !w.is_finite() {
+                match nan {
+                    NanPolicy::Skip => p.skip = true,
+                    NanPolicy::Match => {
+                        if !same_nonfinite(g, w) {
+                            (p.badness, p.component, p.err) = (f64::INFINITY, c, inf);
+                        }
                     }
                 }
+                continue;
             }
-            continue;
+            if !g.is_finite() {
+                p.nonfinite = true;
+                (p.badness, p.component, p.err) = (f64::INFINITY, c, inf);
+                continue;
+            }
+            let abs = (g - w).abs();
+            let rel = if w != 0.0 {
+                abs / w.abs()
+            } else if abs == 0.0 {
+                0.0
+            } else {
+                f64::INFINITY
+            };
+            let ulp = abs / ulp_at(w, half);
+            p.max_abs = p.max_abs.max(abs);
+            p.max_rel = p.max_rel.max(rel);
+            p.max_ulp = p.max_ulp.max(ulp);
+            p.sum_sq += abs * abs;
+            let mut bad = f64::INFINITY;
+            for (err, bound) in [abs, rel, ulp].into_iter().zip(bounds) {
+                if let Some(t) = bound {
+                    bad = bad.min(ratio(err, *t));
+                }
+            }
+            let bad = if bad == f64::INFINITY && abs == 0.0 {
+                0.0
+            } else {
+                bad
+            };
+            if bad > p.badness {
+                (p.badness, p.component, p.err) = (bad, c, (abs, rel, ulp));
+            }
         }
-        if !g.is_finite() {
-            p.nonfinite = true;
-            (p.badness, p.component, p.err) = (f64::INFINITY, c, inf);
-            continue;
-        }
-        let abs = (g - w).abs();
-        let rel = if w != 0.0 {
-            abs / w.abs()
-        } else if abs == 0.0 {
-            0.0
-        } else {
-            f64::INFINITY
-        };
-        let ulp = abs / ulp_at(w, half);
-        p.max_abs = p.max_abs.max(abs);
-        p.max_rel = p.max_rel.max(rel);
-        p.max_ulp = p.max_ulp.max(ulp);
-        p.sum_sq += abs * abs;
-        let ratios = [
-            Tolerance::pick(&tol.abs, c).map(|t| ratio(abs, t)),
-            Tolerance::pick(&tol.rel, c).map(|t| ratio(rel, t)),
-            Tolerance::pick(&tol.ulp, c).map(|t| ratio(ulp, t)),
-        ];
-        let bad = ratios.into_iter().flatten().fold(f64::INFINITY, f64::min);
-        let bad = if bad == f64::INFINITY && abs == 0.0 {
-            0.0
-        } else {
-            bad
-        };
-        if bad > p.badness {
-            (p.badness, p.component, p.err) = (bad, c, (abs, rel, ulp));
-        }
+        p
     }
-    p
 }
 
 fn ratio(err: f64, bound: f64) -> f64 {

@@ -37,5 +37,6 @@ pub use result::{
 };
 pub use run::{
     compare_functions, compare_versions, run, run_check, run_check_explained, run_check_on,
-    run_check_with, run_on, Backend,
+    run_check_with, run_on, run_reporting, Backend,
 };
+pub use stream::Progress;

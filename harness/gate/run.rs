@@ -264,7 +264,20 @@ pub fn run(
 pub fn run_on(
     suite: &Suite,
     filter: Option<&str>,
+    progress: impl FnMut(usize, usize, &str),
+    backend: Option<Backend>,
+) -> RunResult {
+    run_reporting(suite, filter, progress, None, backend)
+}
+
+/// [`run_on`] that also reports, within each check, the points done and
+/// the check's point count after each segment (`points`), so a long check
+/// can show its progress and an estimate of the time left.
+pub fn run_reporting(
+    suite: &Suite,
+    filter: Option<&str>,
     mut progress: impl FnMut(usize, usize, &str),
+    points: Option<Progress>,
     backend: Option<Backend>,
 ) -> RunResult {
     let selected: Vec<&Check> = suite
@@ -278,7 +291,7 @@ pub fn run_on(
         .enumerate()
         .map(|(i, c)| {
             progress(i + 1, total, &c.name);
-            run_check_on(suite, c, backend)
+            run_check_with(suite, c, backend, explain::EXPLAINERS, points)
         })
         .collect();
     RunResult {

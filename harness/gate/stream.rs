@@ -8,9 +8,9 @@
 //!
 //! Explanation comes after, from the statistics and one re-evaluation it
 //! asks for: the *evidence* points (every point of the check when it has at
-//! most [`EVIDENCE`], otherwise an even sample of [`SAMPLE`] points plus, per
-//! failing comparison, up to [`SAMPLE`] of its failing points chosen by a
-//! hash of their index) are evaluated again and handed to the explainers
+//! most the `evidence_points` limit, otherwise an even sample of half that
+//! many points plus, per failing comparison, up to half that many of its
+//! failing points chosen by a hash of their index) are evaluated again and handed to the explainers
 //! with the whole check's statistics. A passing check is never evaluated
 //! twice.
 //!
@@ -48,11 +48,6 @@ use crate::sweep::{Expr, Points};
 pub const SEGMENT: usize = 1 << 14;
 /// Points per segment on another back end (one dispatch each).
 pub const BACKEND_SEGMENT: usize = 1 << 20;
-/// Up to this many points, the explainers see every point of the check.
-pub const EVIDENCE: usize = 1 << 20;
-/// Above [`EVIDENCE`]: the size of the even sample, and the most failing
-/// points kept per comparison.
-pub const SAMPLE: usize = 1 << 14;
 
 /// What a check builds once, before any point is evaluated.
 pub struct Prepared<'a> {
@@ -396,7 +391,7 @@ struct Part {
     /// Per comparison: its label and statistics (point indices in the sweep).
     sides: Vec<(Label, Stats)>,
     /// Per comparison: the sweep indices of its failing points (only for a
-    /// check above [`EVIDENCE`] points, to sample from).
+    /// check above the `evidence_points` limit, to sample from).
     failing: Vec<Vec<usize>>,
 }
 
@@ -446,21 +441,30 @@ impl Prepared<'_> {
     }
 }
 
-/// The failing points of one comparison kept as evidence: the [`SAMPLE`]
-/// with the smallest hash of their sweep index. The choice depends on
-/// neither the order nor the grouping in which points arrive, so segments
-/// and shards keep the same ones.
-#[derive(Default)]
-struct FailingSample(BinaryHeap<(u64, usize)>);
+/// The failing points of one comparison kept as evidence: the `size` with
+/// the smallest hash of their sweep index. The choice depends on neither
+/// the order nor the grouping in which points arrive, so segments and
+/// shards keep the same ones.
+struct FailingSample {
+    size: usize,
+    kept: BinaryHeap<(u64, usize)>,
+}
 
 impl FailingSample {
+    fn new(size: usize) -> FailingSample {
+        FailingSample {
+            size,
+            kept: BinaryHeap::new(),
+        }
+    }
+
     fn add(&mut self, index: usize) {
         let key = (mix(index as u64), index);
-        if self.0.len() < SAMPLE {
-            self.0.push(key);
-        } else if self.0.peek().is_some_and(|top| key < *top) {
-            self.0.pop();
-            self.0.push(key);
+        if self.kept.len() < self.size {
+            self.kept.push(key);
+        } else if self.kept.peek().is_some_and(|top| key < *top) {
+            self.kept.pop();
+            self.kept.push(key);
         }
     }
 }
@@ -602,7 +606,9 @@ pub fn run_into(
     };
     let range = point_range(check);
     let total = range.len();
-    let large = total > EVIDENCE;
+    let evidence = usize::try_from(suite.limits.evidence_points).unwrap_or(usize::MAX);
+    let large = total > evidence;
+    let half_evidence = (evidence / 2).max(1);
     let step = prep.segment(backend.is_some());
 
     // Pass 1: statistics, segment by segment, a wave of segments at a time
@@ -636,7 +642,7 @@ pub fn run_into(
             for (k, ((label, s), failing)) in part.sides.into_iter().zip(part.failing).enumerate() {
                 if large && !failing.is_empty() {
                     if samples.len() <= k {
-                        samples.resize_with(k + 1, FailingSample::default);
+                        samples.resize_with(k + 1, || FailingSample::new(half_evidence));
                     }
                     for i in failing {
                         samples[k].add(i);
@@ -671,10 +677,12 @@ pub fn run_into(
     // Pass 2: the evidence, evaluated again and explained.
     let sampled: Vec<usize>;
     let span = if large {
-        let stride = total / SAMPLE;
-        let mut ix: Vec<usize> = (0..SAMPLE).map(|j| range.start + j * stride).collect();
+        let stride = total / half_evidence;
+        let mut ix: Vec<usize> = (0..half_evidence)
+            .map(|j| range.start + j * stride)
+            .collect();
         for s in &samples {
-            ix.extend(s.0.iter().map(|&(_, i)| i));
+            ix.extend(s.kept.iter().map(|&(_, i)| i));
         }
         ix.sort_unstable();
         ix.dedup();

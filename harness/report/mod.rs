@@ -17,11 +17,14 @@ pub mod format;
 mod json;
 mod junit;
 mod ledger;
+pub mod pace;
 mod text;
 
 use std::cell::RefCell;
 use std::ffi::OsStr;
 use std::io::{IsTerminal as _, Write};
+
+pub use pace::Pace;
 
 mod html;
 

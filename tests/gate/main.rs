@@ -19,6 +19,7 @@ mod references;
 mod report_formats;
 mod runner;
 mod shards;
+mod stream;
 mod suite_errors;
 mod textures;
 mod tidy;

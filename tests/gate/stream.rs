@@ -1,0 +1,100 @@
+//! The streamed check (`gate::stream`): a check runs in segments whose
+//! statistics merge into those of one pass over every point, and its
+//! explanation works from a bounded set of evidence points. With the
+//! `evidence_points` limit below a check's point count, the explainers see
+//! a sample; the statistics must not change and the planted mistake must
+//! still be named.
+
+use std::path::Path;
+
+use shadegate::gate::{self, FindingKind, Verdict};
+use shadegate::limits::Limit;
+use shadegate::suite;
+
+fn planted() -> suite::Suite {
+    suite::load(Path::new(concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/shaders/brackenfold-planted/shadegate.toml"
+    )))
+    .unwrap_or_else(|d| panic!("{d}"))
+}
+
+fn hypotheses(c: &gate::CheckResult) -> Vec<String> {
+    c.findings
+        .iter()
+        .filter_map(|f| match &f.kind {
+            FindingKind::BehavesLike { hypothesis, .. } => Some(hypothesis.clone()),
+            _ => None,
+        })
+        .collect()
+}
+
+#[test]
+fn a_sampled_explanation_keeps_the_statistics_and_names_the_mistake() {
+    // d_ggx with alpha = roughness: 12,240 points, explained from 1,000
+    // (500 evenly spread, 500 of the failing ones). The demo snapshot
+    // (`demo.rs`) covers merging many segments: its 1M-point `brdf_full`
+    // runs in 64 and its report is unchanged.
+    let whole = planted();
+    let check = whole
+        .checks
+        .iter()
+        .find(|c| c.name == "ggx_distribution")
+        .expect("the planted suite has ggx_distribution");
+    let all = gate::run_check(&whole, check);
+    let mut small = whole.clone();
+    small.limits.set(Limit::EvidencePoints, 1_000).unwrap();
+    let sampled = gate::run_check(&small, check);
+    assert_eq!(all.verdict, Verdict::Fail);
+    assert_eq!(sampled.verdict, Verdict::Fail);
+    // Pass 1 never depends on the evidence.
+    assert_eq!(all.comparisons, sampled.comparisons);
+    assert_eq!(all.issues, sampled.issues);
+    assert!(
+        hypotheses(&all).contains(&"remap_none".to_string()),
+        "{:#?}",
+        all.findings
+    );
+    assert!(
+        hypotheses(&sampled).contains(&"remap_none".to_string()),
+        "{:#?}",
+        sampled.findings
+    );
+}
+
+#[test]
+fn the_evidence_limit_is_a_suite_limit() {
+    let dir = std::env::temp_dir().join(format!("shadegate-stream-limit-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    std::fs::write(dir.join("lib.wgsl"), "fn f(x: f32) -> f32 { return x; }\n").unwrap();
+    let text = "[limits]\nevidence_points = 0\n\n[[check]]\nname = \"f\"\nshader = \"lib.wgsl\"\nfunction = \"f\"\nproperty = { kind = \"finite\" }\n[check.sweep]\nx = { list = [1.0] }\n[check.tolerance]\nabs = 0\nreason = \"identity\"\n";
+    std::fs::write(dir.join("shadegate.toml"), text).unwrap();
+    let e = suite::load(&dir.join("shadegate.toml")).unwrap_err();
+    assert!(
+        e.rendered.contains("evidence_points") && e.rendered.contains(":2:"),
+        "{}",
+        e.rendered
+    );
+    let _ = std::fs::remove_dir_all(&dir);
+}
+
+#[test]
+fn points_at_equals_the_points_of_their_ranges() {
+    // Grid and random points: a gathered point has the values it has in
+    // the whole sweep.
+    let s = planted();
+    let check = &s.checks[0];
+    let n = check.sweep.len();
+    let all = check.sweep.points_in(0..n);
+    let ix = [0, 1, 2, 255, 256, 10_239, 10_240, 10_241, n - 1];
+    let some = check.sweep.points_at(&ix);
+    assert_eq!(some.len, ix.len());
+    for (k, &i) in ix.iter().enumerate() {
+        assert_eq!(some.describe(k), all.describe(i), "point {i}");
+        for p in 0..all.names.len() {
+            for (a, b) in some.columns[p].iter().zip(&all.columns[p]) {
+                assert_eq!(a[k].to_bits(), b[i].to_bits(), "point {i}");
+            }
+        }
+    }
+}
