@@ -46,7 +46,9 @@ fn main() {
     for ext in ["csv", "golden"] {
         let path = dir.join(format!("brdf_full.{ext}"));
         check.golden = Some(path.clone());
-        let (record_s, rec) = best(1, || gate::record(&s, &check).unwrap_or_else(|e| panic!("{e}")));
+        let (record_s, rec) = best(1, || {
+            gate::record(&s, &check).unwrap_or_else(|e| panic!("{e}"))
+        });
         let (read_s, cols) = best(3, || {
             let g = golden::open(&path, &s.limits).unwrap_or_else(|d| panic!("{d}"));
             g.read_outputs(0..g.len()).unwrap_or_else(|d| panic!("{d}"))
@@ -55,7 +57,8 @@ fn main() {
         let mid = cols[0].len() / 2;
         let (range_s, _) = best(5, || {
             let g = golden::open(&path, &s.limits).unwrap_or_else(|d| panic!("{d}"));
-            g.read_outputs(mid..mid + 4096).unwrap_or_else(|d| panic!("{d}"))
+            g.read_outputs(mid..mid + 4096)
+                .unwrap_or_else(|d| panic!("{d}"))
         });
         let (check_s, r) = best(3, || gate::run_check(&s, &check));
         let c = r

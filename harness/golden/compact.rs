@@ -521,7 +521,9 @@ impl Blocks {
     fn fetch(&self, k: usize) -> Result<Vec<u8>, Diagnostic> {
         let e = self.index[k];
         match &self.source {
-            Source::Memory(b) => Ok(b[e.offset as usize..(e.offset + u64::from(e.len)) as usize].to_vec()),
+            Source::Memory(b) => {
+                Ok(b[e.offset as usize..(e.offset + u64::from(e.len)) as usize].to_vec())
+            }
             Source::File(p) => {
                 let read = || -> std::io::Result<Vec<u8>> {
                     let mut f = std::fs::File::open(p)?;
@@ -532,7 +534,9 @@ impl Blocks {
                 };
                 let b = read().map_err(|io| self.block_err(k, format!("cannot read: {io}")))?;
                 if b.len() != e.len as usize {
-                    return Err(self.block_err(k, "truncated (the file changed since it was opened?)"));
+                    return Err(
+                        self.block_err(k, "truncated (the file changed since it was opened?)")
+                    );
                 }
                 Ok(b)
             }
@@ -544,7 +548,9 @@ impl Blocks {
         let n = self.points_of(k).len();
         let want = n * 4 * self.outputs;
         let bytes = self.fetch(k)?;
-        let mut out = Vec::with_capacity(want);
+        // Grown by what the stream really holds, never reserved by the
+        // claim (a short stream of a corrupt file stays short).
+        let mut out = Vec::new();
         flate2::read::ZlibDecoder::new(&bytes[..])
             .take(want as u64 + 1)
             .read_to_end(&mut out)
@@ -569,7 +575,8 @@ impl Blocks {
         if range.start > range.end || range.end > self.points {
             return Err(self.range_err(&range));
         }
-        let mut cols: Vec<Vec<u32>> = vec![Vec::with_capacity(range.len()); self.outputs];
+        // Reserved block by block as blocks decode, not by the range asked for.
+        let mut cols: Vec<Vec<u32>> = vec![Vec::new(); self.outputs];
         if range.is_empty() {
             return Ok(cols);
         }

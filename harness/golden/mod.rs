@@ -894,4 +894,219 @@ mod tests {
         .unwrap_err();
         assert_eq!(e.line, 4);
     }
+
+    /// Every column kind, with NaN payloads (quiet, signalling, negative),
+    /// signed zeros, subnormals and infinities, over `n` points.
+    fn every_kind(n: usize) -> Golden {
+        let f32s = [
+            0x7fc0_0123,
+            0x7f80_0001,
+            0xffc0_0001,
+            (-0.0f32).to_bits(),
+            1,
+            f32::INFINITY.to_bits(),
+            f32::NEG_INFINITY.to_bits(),
+            0.1f32.to_bits(),
+        ];
+        let f16s = [0x7e01, 0x7c01, 0x8000, 0x0001, 0x7c00, 0x3c00, 0xfe00];
+        let col = |f: &dyn Fn(usize) -> u32| (0..n).map(f).collect::<Vec<u32>>();
+        Golden {
+            header: Header {
+                check: "kinds".into(),
+                shader: "s.wgsl".into(),
+                function: "f".into(),
+                shader_hash: "00ff".into(),
+                sweep: "x = linear(0.0, 1.0, N)".into(),
+                points: n,
+            },
+            inputs: vec![("x".into(), ScalarKind::F32)],
+            outputs: vec![
+                ("result.a".into(), ScalarKind::F32),
+                ("result.b".into(), ScalarKind::F16),
+                ("result.c".into(), ScalarKind::I32),
+                ("result.d".into(), ScalarKind::U32),
+                ("result.e".into(), ScalarKind::Bool),
+            ],
+            input_columns: vec![col(&|i| (i as f32 / n as f32).to_bits())],
+            output_columns: vec![
+                col(&|i| {
+                    if i % 3 == 0 {
+                        f32s[i % f32s.len()]
+                    } else {
+                        (i as f32 * 0.37).sin().to_bits()
+                    }
+                }),
+                col(&|i| f16s[i % f16s.len()]),
+                col(&|i| (i as i32).wrapping_mul(-7919).wrapping_add(i32::MIN) as u32),
+                col(&|i| u32::MAX - i as u32),
+                col(&|i| u32::from(i % 5 == 0)),
+            ],
+        }
+    }
+
+    fn compact_of(g: &Golden, block: usize) -> Vec<u8> {
+        compact::render(g, block)
+    }
+
+    fn open_bytes(bytes: Vec<u8>) -> Result<Record, Diagnostic> {
+        parse_compact(Path::new("g.golden"), bytes, &Limits::default())
+    }
+
+    #[test]
+    fn every_column_kind_round_trips_bit_exact_through_the_compact_format() {
+        for (n, block) in [(1000, 64), (4096, 4096), (1, 7), (0, 16), (4097, 4096)] {
+            let g = every_kind(n);
+            let r = open_bytes(compact_of(&g, block)).unwrap_or_else(|d| panic!("{d}"));
+            assert_eq!(r.header, g.header);
+            assert_eq!(r.inputs, g.inputs);
+            assert_eq!(r.outputs, g.outputs);
+            assert_eq!(r.len(), n);
+            assert_eq!(r.read_outputs(0..n).unwrap(), g.output_columns, "n {n}");
+            assert_eq!(r.check_inputs(0..n, &g.input_columns).unwrap(), 0);
+        }
+    }
+
+    #[test]
+    fn range_reads_equal_slices_of_the_full_read() {
+        let g = every_kind(1000);
+        let r = open_bytes(compact_of(&g, 64)).unwrap();
+        let all = r.read_outputs(0..1000).unwrap();
+        let csv = Record::from_csv(Path::new("g.csv"), g.clone());
+        for (a, b) in [
+            (0, 0),
+            (0, 1),
+            (63, 65),
+            (64, 128),
+            (5, 999),
+            (999, 1000),
+            (100, 700),
+        ] {
+            let want: Vec<Vec<u32>> = all.iter().map(|c| c[a..b].to_vec()).collect();
+            assert_eq!(r.read_outputs(a..b).unwrap(), want, "{a}..{b}");
+            assert_eq!(csv.read_outputs(a..b).unwrap(), want, "csv {a}..{b}");
+        }
+        let e = r.read_outputs(990..1001).unwrap_err();
+        assert!(e.message.contains("golden holds 1000 points"), "{e}");
+        assert!(csv.read_outputs(990..1001).is_err());
+    }
+
+    #[test]
+    fn a_changed_input_is_found_by_the_block_hash() {
+        let g = every_kind(1000);
+        let r = open_bytes(compact_of(&g, 64)).unwrap();
+        let mut ins = g.input_columns.clone();
+        ins[0][130] ^= 1;
+        let e = r.check_inputs(0..1000, &ins).unwrap_err();
+        assert!(e.message.contains("block 2 of 16 (points 128..192"), "{e}");
+        assert!(e.message.contains("inputs differ"), "{e}");
+        assert_eq!(e.line, 10);
+        // A range that cuts blocks checks the whole ones inside it and says
+        // how many points it could not check.
+        let part: Vec<Vec<u32>> = g
+            .input_columns
+            .iter()
+            .map(|c| c[100..300].to_vec())
+            .collect();
+        assert_eq!(r.check_inputs(100..300, &part).unwrap(), 28 + 44);
+        let mut bad = part.clone();
+        bad[0][50] ^= 1; // point 150, in block 2, wholly inside
+        assert!(r.check_inputs(100..300, &bad).is_err());
+        // The CSV form compares every value and names the line.
+        let csv = Record::from_csv(Path::new("g.csv"), g.clone());
+        let e = csv.check_inputs(0..1000, &ins).unwrap_err();
+        assert!(e.message.contains("at point 130"), "{e}");
+    }
+
+    /// Where the blocks start in a compact golden's bytes.
+    fn data_start(bytes: &[u8]) -> usize {
+        let head = bytes.windows(8).position(|w| w == b"\n# data\n").unwrap() + 8;
+        let blocks: usize = String::from_utf8_lossy(&bytes[..head])
+            .lines()
+            .find_map(|l| l.strip_prefix("# blocks: "))
+            .unwrap()
+            .parse()
+            .unwrap();
+        head + 20 * blocks
+    }
+
+    #[test]
+    fn corrupt_truncated_and_oversized_compact_goldens_are_located_errors() {
+        let g = every_kind(1000);
+        let good = compact_of(&g, 64);
+        let err = |bytes: Vec<u8>| -> Diagnostic {
+            match open_bytes(bytes) {
+                Err(d) => d,
+                Ok(r) => r.read_outputs(0..r.len()).unwrap_err(),
+            }
+        };
+        // A flipped byte inside block 0's compressed data.
+        let mut b = good.clone();
+        let at = data_start(&b) + 10;
+        b[at] ^= 0x55;
+        let e = err(b);
+        assert!(e.message.contains("block 0 of 16"), "{e}");
+        assert!(e.message.contains("corrupt"), "{e}");
+        assert!(
+            e.message
+                .contains("re-record with `shadegate record kinds`"),
+            "{e}"
+        );
+        // A wrong output hash in the index (entry 3).
+        let mut b = good.clone();
+        let at = data_start(&b) - 20 * 16 + 3 * 20 + 12;
+        b[at] ^= 1;
+        let e = err(b);
+        assert!(
+            e.message.contains("block 3 of 16") && e.message.contains("hash"),
+            "{e}"
+        );
+        // Truncated anywhere: in the blocks, in the index, in the header.
+        for cut in [good.len() - 1, data_start(&good) - 5, 40] {
+            let e = err(good[..cut].to_vec());
+            assert!(e.line >= 1, "{e}");
+            assert!(
+                e.message.contains("truncated") || e.message.contains("expected the header line"),
+                "cut at {cut}: {e}"
+            );
+        }
+        // Trailing bytes.
+        let mut b = good.clone();
+        b.push(0);
+        assert!(err(b).message.contains("trailing bytes"));
+        // Claims beyond the limits or the file: points, block size, blocks.
+        let text = String::from_utf8_lossy(&good[..data_start(&good)]).into_owned();
+        let with = |from: &str, to: &str| {
+            let mut b = good.clone();
+            let at = text.find(from).unwrap();
+            b.splice(at..at + from.len(), to.bytes());
+            b
+        };
+        let e = err(with("# points: 1000", "# points: 1000000000000000000"));
+        assert_eq!(e.line, 7, "{e}");
+        assert!(e.message.contains("`points_per_check` limit"), "{e}");
+        let e = err(with("# block: 64", "# block: 0"));
+        assert_eq!(e.line, 9, "{e}");
+        let e = err(with("# block: 64", "# block: 99999999"));
+        assert_eq!(e.line, 9, "{e}");
+        let e = err(with("# blocks: 16", "# blocks: 17"));
+        assert_eq!(e.line, 10, "{e}");
+        let e = err(with("# points: 1000\n", "# points: 268435456\n"));
+        assert_eq!(e.line, 10, "{e}");
+        // A block that decodes to more than its points need: a length in
+        // the index that swallows the next block makes it corrupt, not big.
+        let mut b = good.clone();
+        let at = data_start(&b) - 20 * 16;
+        let len0 = u32::from_le_bytes(b[at..at + 4].try_into().unwrap());
+        let len1 = u32::from_le_bytes(b[at + 20..at + 24].try_into().unwrap());
+        b[at..at + 4].copy_from_slice(&(len0 + len1).to_le_bytes());
+        b[at + 20..at + 24].copy_from_slice(&0u32.to_le_bytes());
+        let e = err(b);
+        assert!(
+            e.message.contains("block 0 of 16") || e.message.contains("block 1 of 16"),
+            "{e}"
+        );
+        // Not a compact golden at all.
+        let e = err(b"# shadegate golden dataset, format 1\n".to_vec());
+        assert_eq!(e.line, 1, "{e}");
+    }
 }

@@ -83,7 +83,8 @@ pub fn render(g: &Golden, path: &Path, bytes: u64) -> String {
                 max = Some((x, b));
             }
         }
-        let show = |v: Option<(f64, u32)>| v.map_or("-".to_string(), |(_, b)| format_exact(kind, b));
+        let show =
+            |v: Option<(f64, u32)>| v.map_or("-".to_string(), |(_, b)| format_exact(kind, b));
         let mean = if finite == 0 {
             "-".to_string()
         } else {

@@ -3,6 +3,7 @@
 mod cli;
 mod cli_extra;
 mod common;
+mod compact_golden;
 mod demo;
 mod diagnose;
 mod exhaustive;
