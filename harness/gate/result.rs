@@ -61,6 +61,43 @@ pub struct CheckResult {
     /// every point.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub shard: Option<ShardPart>,
+    /// An albedo property check's directional albedo by view angle and
+    /// roughness, beside the reference model's (see [`AlbedoTable`]).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub albedo: Option<AlbedoTable>,
+}
+
+/// The directional albedo of an albedo property check (`property = { kind =
+/// "albedo", ... }`) as a table: a row per view angle (the angle from +z of
+/// the sweep's direction parameter that is not integrated over), a column
+/// per value of its roughness parameter, each cell the largest integral over
+/// the other sweep parameters and the result's components (the white
+/// furnace's worst case), beside the reference model's single-scattering
+/// albedo at that same point.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct AlbedoTable {
+    /// The direction integrated over (`over`).
+    pub over: String,
+    /// The view direction's sweep parameter.
+    pub view: String,
+    /// The column parameter (`roughness`, `alpha`, or the first other
+    /// scalar parameter that varies); `None`: one column.
+    pub roughness: Option<String>,
+    /// Row labels: view angles from +z in degrees, ascending.
+    pub angles: Vec<f64>,
+    /// Column labels: the roughness parameter's values, ascending.
+    pub roughnesses: Vec<f64>,
+    /// `albedo[row][column]`: the function's directional albedo; NaN where
+    /// the sweep has no point.
+    pub albedo: Vec<Vec<f64>>,
+    /// The reference model's name (`ggx_albedo`).
+    pub model: String,
+    /// `reference[row][column]`: the model at the cell's point, when its
+    /// parameters could be bound (`n_dot_v` is the view's z; the others
+    /// from `reference_args`, else sweep parameters of the same names).
+    pub reference: Option<Vec<Vec<f64>>>,
+    /// Why `reference` is missing.
+    pub note: Option<String>,
 }
 
 /// Which points of its check's sweep a shard's result covers.

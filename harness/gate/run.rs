@@ -71,6 +71,7 @@ pub fn run_check_explained(
             first: range.start,
             total: check.sweep.len(),
         }),
+        albedo: None,
     };
     match run_inner(suite, check, &mut r, backend, explainers) {
         Ok(()) => {
@@ -328,6 +329,7 @@ fn run_inner(
         );
         r.comparisons.push(c);
         r.findings.extend(findings);
+        r.albedo = r.albedo.take().or(s.albedo);
     }
     if let (Some(gpath), None) = (&check.golden, backend) {
         let range = point_range(check);
@@ -488,6 +490,7 @@ pub fn compare_functions(
         findings,
         precision: None,
         seconds: start.elapsed().as_secs_f64(),
+        albedo: None,
         shard: None,
     })
 }

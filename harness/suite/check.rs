@@ -65,12 +65,14 @@ pub(super) fn convert(
         Some(f) => match f.get_ref().as_str() {
             "csv" => Some("csv"),
             "compact" => Some(crate::golden::compact::EXTENSION),
-            other => return Err(cx.err(
-                f.span(),
-                format!(
+            other => {
+                return Err(cx.err(
+                    f.span(),
+                    format!(
                     "key `golden_format`: unknown format `{other}` (expected `csv` or `compact`)"
                 ),
-            )),
+                ))
+            }
         },
     };
     if let (Some(f), None | Some(toml::Value::Boolean(false))) =

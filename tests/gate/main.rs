@@ -1,5 +1,6 @@
 //! The gate end to end: suite errors, goldens, the CLI, the demo and planted suites, report formats, and the house rules (tidy). One test crate for the whole concern.
 
+mod albedo_table;
 mod cli;
 mod cli_extra;
 mod common;
