@@ -93,8 +93,8 @@ pub struct AlbedoTable {
     /// The reference model's name (`ggx_albedo`).
     pub model: String,
     /// `reference[row][column]`: the model at the cell's point, when its
-    /// parameters could be bound (`n_dot_v` is the view's z; the others
-    /// from `reference_args`, else sweep parameters of the same names).
+    /// parameters could be bound (`n_dot_v` is the view's z, `alpha` the
+    /// sweep parameter of that name).
     pub reference: Option<Vec<Vec<f64>>>,
     /// Why `reference` is missing.
     pub note: Option<String>,

@@ -117,8 +117,7 @@ fn the_demo_ggx_lobe_matches_ggx_albedo_and_a_planted_gain_is_marked() {
     let m = t.reference.as_ref().expect("alpha is a sweep parameter");
     for (row, theta) in t.angles.iter().enumerate() {
         let within = if *theta <= 60.0 { 1e-5 } else { 2.5e-3 };
-        for col in 0..t.roughnesses.len() {
-            let (a, want) = (t.albedo[row][col], m[row][col]);
+        for (a, want) in t.albedo[row].iter().zip(&m[row]) {
             assert!((a - want).abs() <= within, "{theta}°: {a} vs {want}");
         }
     }
