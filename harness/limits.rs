@@ -29,6 +29,9 @@ pub struct Limits {
     pub expression_depth: u32,
     /// Size in bytes of one golden file, read or written.
     pub golden_bytes: u64,
+    /// Size in bytes above which `record` warns about the golden it wrote
+    /// (a warning, not an error: the golden is written).
+    pub golden_size: u64,
     /// Checks in one suite file.
     pub checks_per_suite: u64,
     /// Texels (width × height) of one look-up table bound to a texture, read
@@ -49,6 +52,7 @@ impl Default for Limits {
             program_slots: 1 << 16,
             expression_depth: 256,
             golden_bytes: 256 << 20,
+            golden_size: 8 << 20,
             checks_per_suite: 100_000,
             table_texels: 1 << 22,
             evidence_points: 1 << 20,
@@ -77,6 +81,7 @@ impl Limits {
                 self.expression_depth = u32::try_from(value).map_err(|_| "too large".to_string())?
             }
             Limit::GoldenBytes => self.golden_bytes = value,
+            Limit::GoldenSize => self.golden_size = value,
             Limit::ChecksPerSuite => self.checks_per_suite = value,
             Limit::TableTexels => self.table_texels = value,
             Limit::EvidencePoints => self.evidence_points = value,
@@ -94,6 +99,7 @@ pub enum Limit {
     ProgramSlots,
     ExpressionDepth,
     GoldenBytes,
+    GoldenSize,
     ChecksPerSuite,
     TableTexels,
     EvidencePoints,
@@ -101,13 +107,14 @@ pub enum Limit {
 
 impl Limit {
     /// Every limit, in the order the README lists them.
-    pub const ALL: [Limit; 9] = [
+    pub const ALL: [Limit; 10] = [
         Limit::PointsPerCheck,
         Limit::ProgramOps,
         Limit::StepsPerPoint,
         Limit::ProgramSlots,
         Limit::ExpressionDepth,
         Limit::GoldenBytes,
+        Limit::GoldenSize,
         Limit::ChecksPerSuite,
         Limit::TableTexels,
         Limit::EvidencePoints,
@@ -122,6 +129,7 @@ impl Limit {
             Limit::ProgramSlots => "program_slots",
             Limit::ExpressionDepth => "expression_depth",
             Limit::GoldenBytes => "golden_bytes",
+            Limit::GoldenSize => "golden_size",
             Limit::ChecksPerSuite => "checks_per_suite",
             Limit::TableTexels => "table_texels",
             Limit::EvidencePoints => "evidence_points",
@@ -137,6 +145,7 @@ impl Limit {
             Limit::ProgramSlots => limits.program_slots,
             Limit::ExpressionDepth => u64::from(limits.expression_depth),
             Limit::GoldenBytes => limits.golden_bytes,
+            Limit::GoldenSize => limits.golden_size,
             Limit::ChecksPerSuite => limits.checks_per_suite,
             Limit::TableTexels => limits.table_texels,
             Limit::EvidencePoints => limits.evidence_points,

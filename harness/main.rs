@@ -475,13 +475,20 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
                     continue;
                 }
                 any = true;
-                let path = gate::record(&s, c).map_err(Bad)?;
+                let r = gate::record(&s, c).map_err(Bad)?;
                 eprintln!(
-                    "recorded {} ({} points) -> {}",
+                    "recorded {} ({} points) -> {} ({} bytes)",
                     c.name,
                     c.sweep.len(),
-                    path.display()
+                    r.path.display(),
+                    r.bytes
                 );
+                if let Some(summary) = &r.summary {
+                    eprintln!("  summary -> {}", summary.display());
+                }
+                if let Some(w) = &r.warning {
+                    eprintln!("warning: {w}");
+                }
             }
             if !any {
                 return Err(Bad("no check with a `golden` dataset matches".into()));

@@ -66,12 +66,13 @@ impl CheckPoints {
             });
         }
         if let Some(gpath) = &check.golden {
-            let g = golden::read(&suite.resolve(gpath)).map_err(|d| d.rendered)?;
-            if g.output_columns.len() == got.len() && g.header.points == ev.points.len {
+            let g = golden::open(&suite.resolve(gpath), &suite.limits).map_err(|d| d.rendered)?;
+            if g.outputs.len() == got.len() && g.len() == ev.points.len {
+                let outputs = g.read_outputs(0..g.len()).map_err(|d| d.rendered)?;
                 expected.push(Expected {
                     kind: "golden",
                     against: format!("golden {}", gpath.display()),
-                    want: gate::as_f64(&g.output_columns, &g.outputs),
+                    want: gate::as_f64(&outputs, &g.outputs),
                     tolerance: check.golden_tolerance.clone(),
                 });
             }

@@ -30,10 +30,10 @@ pub use inputs::{
     as_f64, build_of, evaluate, point_range, points_of, reference_arg_columns, reference_columns,
     reference_expr_columns, reference_fits, Build, Evaluated,
 };
-pub use record::record;
+pub use record::{record, Recorded};
 pub use result::{
-    CheckResult, Comparison, Confined, Finding, FindingKind, IssueGroup, Remap, RunResult,
-    ShardPart, Verdict,
+    AlbedoTable, CheckResult, Comparison, Confined, Finding, FindingKind, IssueGroup, Remap,
+    RunResult, ShardPart, Verdict,
 };
 pub use run::{
     compare_functions, compare_versions, run, run_check, run_check_explained, run_check_on,

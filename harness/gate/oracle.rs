@@ -20,7 +20,7 @@ use std::path::Path;
 use std::sync::Arc;
 
 use super::inputs::{as_f64, bind_arg, evaluate_at, Build, Evaluated};
-use super::result::FindingKind;
+use super::result::{AlbedoTable, FindingKind};
 use crate::eval::{bits_to_f64, f64_to_bits, Program, ScalarKind};
 use crate::suite::{Check, Property, PropertyCheck, Suite, Twin};
 use crate::sweep::{Expr, Points};
@@ -34,6 +34,8 @@ pub struct Sides {
     pub want: Vec<Vec<f64>>,
     /// ULPs counted in f16.
     pub half: bool,
+    /// An albedo property's table (the report prints it).
+    pub albedo: Option<AlbedoTable>,
 }
 
 /// `suite:line: check `name`: msg`, for errors of a twin or property key.
@@ -224,6 +226,7 @@ pub fn twin_sides(
         got: got.to_vec(),
         want,
         half,
+        albedo: None,
     })
 }
 
@@ -266,6 +269,147 @@ pub fn hemisphere_nodes() -> Vec<([f64; 3], f64)> {
         }
     }
     out
+}
+
+/// The reference model an albedo table shows beside the function's.
+const ALBEDO_MODEL: &str = "ggx_albedo";
+
+/// The most cells an albedo table has (each evaluates the integrated
+/// reference model once).
+pub const ALBEDO_CELLS: usize = 400;
+
+/// The albedo table of an albedo property check (see [`AlbedoTable`]) from
+/// the integral at each sweep point (`integral[component][point]`). `None`
+/// when the sweep has no direction parameter besides `over` or the table
+/// would have more than [`ALBEDO_CELLS`] cells.
+fn albedo_table(
+    check: &Check,
+    over: &str,
+    p: &Points,
+    integral: &[Vec<f64>],
+) -> Option<AlbedoTable> {
+    let vi = (0..p.names.len()).find(|&i| p.widths[i] == 3 && p.names[i] != over)?;
+    let n = p.len;
+    // Angles from +z in degrees, rounded to 1e-6° so equal sweep angles group.
+    let angle = |i: usize| {
+        let z = p.columns[vi][2][i].clamp(-1.0, 1.0);
+        (z.acos().to_degrees() * 1e6).round() / 1e6
+    };
+    let varies = |k: usize| {
+        let c = &p.columns[k][0];
+        c.iter().any(|&x| x.to_bits() != c[0].to_bits())
+    };
+    let scalar = |name: &str| (0..p.names.len()).find(|&k| p.widths[k] == 1 && p.names[k] == name);
+    let ri = scalar("roughness")
+        .or_else(|| scalar("alpha"))
+        .or_else(|| (0..p.names.len()).find(|&k| p.widths[k] == 1 && varies(k)));
+    let sorted = |mut v: Vec<f64>| {
+        v.sort_by(f64::total_cmp);
+        v.dedup_by(|a, b| a.to_bits() == b.to_bits());
+        v
+    };
+    let angles = sorted((0..n).map(angle).collect());
+    let roughnesses = match ri {
+        Some(k) => sorted(p.columns[k][0].clone()),
+        None => vec![f64::NAN],
+    };
+    if angles.len() * roughnesses.len() > ALBEDO_CELLS {
+        return None;
+    }
+    let find = |v: &[f64], x: f64| v.iter().position(|y| y.to_bits() == x.to_bits());
+    // The largest integral in each cell, and the point where it is.
+    let mut best: Vec<Vec<Option<(f64, usize)>>> =
+        vec![vec![None; roughnesses.len()]; angles.len()];
+    for i in 0..n {
+        let r = find(&angles, angle(i))?;
+        let c = match ri {
+            Some(k) => find(&roughnesses, p.columns[k][0][i])?,
+            None => 0,
+        };
+        let x = integral
+            .iter()
+            .map(|col| col[i])
+            .fold(f64::NEG_INFINITY, |a, b| {
+                if b.is_nan() || a.is_nan() {
+                    f64::NAN
+                } else {
+                    a.max(b)
+                }
+            });
+        let cell = &mut best[r][c];
+        let better = match cell {
+            None => true,
+            Some((y, _)) => x > *y || (x.is_nan() && !y.is_nan()),
+        };
+        if better {
+            *cell = Some((x, i));
+        }
+    }
+    let albedo: Vec<Vec<f64>> = best
+        .iter()
+        .map(|row| row.iter().map(|c| c.map_or(f64::NAN, |(x, _)| x)).collect())
+        .collect();
+    // The reference at the cells' points only: it integrates per point.
+    let at: Vec<usize> = best
+        .iter()
+        .flatten()
+        .filter_map(|c| c.map(|(_, i)| i))
+        .collect();
+    let subset = Points {
+        names: p.names.clone(),
+        widths: p.widths.clone(),
+        columns: p
+            .columns
+            .iter()
+            .map(|cols| {
+                cols.iter()
+                    .map(|c| at.iter().map(|&i| c[i]).collect())
+                    .collect()
+            })
+            .collect(),
+        len: at.len(),
+    };
+    let model = crate::reference::find(ALBEDO_MODEL).expect("the registry has ggx_albedo");
+    let mut exprs = check.reference_args.clone();
+    let view = &p.names[vi];
+    let (reference, note) = match Expr::parse(&format!("{view}.z")) {
+        Ok(e) => {
+            exprs.insert("n_dot_v".to_string(), e);
+            match super::inputs::reference_columns(check, model, &subset, &exprs) {
+                Ok(cols) => {
+                    let mut k = 0;
+                    let table = best
+                        .iter()
+                        .map(|row| {
+                            row.iter()
+                                .map(|c| match c {
+                                    Some(_) => {
+                                        k += 1;
+                                        cols[0][k - 1]
+                                    }
+                                    None => f64::NAN,
+                                })
+                                .collect()
+                        })
+                        .collect();
+                    (Some(table), None)
+                }
+                Err(m) => (None, Some(m)),
+            }
+        }
+        Err(e) => (None, Some(e.message)),
+    };
+    Some(AlbedoTable {
+        over: over.to_string(),
+        view: view.clone(),
+        roughness: ri.map(|k| p.names[k].clone()),
+        angles,
+        roughnesses,
+        albedo,
+        model: ALBEDO_MODEL.to_string(),
+        reference,
+        note,
+    })
 }
 
 /// Per (sweep point, direction) of a masking-identity quadrature: the node's
@@ -375,6 +519,7 @@ pub fn property_sides(
                 got: got.to_vec(),
                 want,
                 half,
+                albedo: None,
             })
         }
         Property::Finite => {
@@ -391,6 +536,7 @@ pub fn property_sides(
                 got: got.to_vec(),
                 want,
                 half,
+                albedo: None,
             })
         }
         Property::Reciprocity { a, b } => {
@@ -435,6 +581,7 @@ pub fn property_sides(
                 got: got.to_vec(),
                 want: as_f64(&other.output_columns, &other.outputs),
                 half,
+                albedo: None,
             })
         }
         Property::Isotropy {
@@ -498,6 +645,7 @@ pub fn property_sides(
                 got: got.to_vec(),
                 want: as_f64(&other.output_columns, &other.outputs),
                 half,
+                albedo: None,
             })
         }
         Property::Hemisphere {
@@ -586,11 +734,17 @@ pub fn property_sides(
                         .collect()
                 })
                 .collect();
+            let albedo = if *equal || masking.is_some() {
+                None
+            } else {
+                albedo_table(check, over, p, &integral)
+            };
             Ok(Sides {
                 against,
                 got: integral,
                 want,
                 half: false,
+                albedo,
             })
         }
         Property::RoundTrip { decode, .. } => {
@@ -629,6 +783,7 @@ pub fn property_sides(
                 got: as_f64(&decoded, &gives),
                 want: as_f64(&ev.input_columns, &ev.inputs),
                 half: gives.iter().any(|(_, k)| *k == ScalarKind::F16),
+                albedo: None,
             })
         }
     }

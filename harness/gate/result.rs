@@ -61,6 +61,94 @@ pub struct CheckResult {
     /// every point.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub shard: Option<ShardPart>,
+    /// An albedo property check's directional albedo by view angle and
+    /// roughness, beside the reference model's (see [`AlbedoTable`]).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub albedo: Option<AlbedoTable>,
+}
+
+/// The directional albedo of an albedo property check (`property = { kind =
+/// "albedo", ... }`) as a table: a row per view angle (the angle from +z of
+/// the sweep's direction parameter that is not integrated over), a column
+/// per value of its roughness parameter, each cell the largest integral over
+/// the other sweep parameters and the result's components (the white
+/// furnace's worst case), beside the reference model's single-scattering
+/// albedo at that same point.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct AlbedoTable {
+    /// The direction integrated over (`over`).
+    pub over: String,
+    /// The view direction's sweep parameter.
+    pub view: String,
+    /// The column parameter (`roughness`, `alpha`, or the first other
+    /// scalar parameter that varies); `None`: one column.
+    pub roughness: Option<String>,
+    /// Row labels: view angles from +z in degrees, ascending.
+    pub angles: Vec<f64>,
+    /// Column labels: the roughness parameter's values, ascending.
+    pub roughnesses: Vec<f64>,
+    /// `albedo[row][column]`: the function's directional albedo; NaN where
+    /// the sweep has no point.
+    pub albedo: Vec<Vec<f64>>,
+    /// The reference model's name (`ggx_albedo`).
+    pub model: String,
+    /// `reference[row][column]`: the model at the cell's point, when its
+    /// parameters could be bound (`n_dot_v` is the view's z, `alpha` the
+    /// sweep parameter of that name).
+    pub reference: Option<Vec<Vec<f64>>>,
+    /// Why `reference` is missing.
+    pub note: Option<String>,
+}
+
+impl AlbedoTable {
+    /// Add the table of the points that follow (the next segment): the rows
+    /// and columns are the union of both, each cell keeps the larger albedo
+    /// with the reference at that cell's point. A cell is NaN only where
+    /// every part is (a part's NaN cell may just have no point there; a NaN
+    /// integral is a failing point the comparison reports anyway). `false`
+    /// when the union passes [`super::oracle::ALBEDO_CELLS`] (no table is
+    /// shown then).
+    pub fn absorb(&mut self, other: AlbedoTable) -> bool {
+        let union = |a: &[f64], b: &[f64]| {
+            let mut v: Vec<f64> = a.iter().chain(b).copied().collect();
+            v.sort_by(f64::total_cmp);
+            v.dedup_by(|x, y| x.to_bits() == y.to_bits());
+            v
+        };
+        let angles = union(&self.angles, &other.angles);
+        let roughnesses = union(&self.roughnesses, &other.roughnesses);
+        if angles.len() * roughnesses.len() > super::oracle::ALBEDO_CELLS {
+            return false;
+        }
+        let at = |v: &[f64], x: f64| {
+            v.iter()
+                .position(|y| y.to_bits() == x.to_bits())
+                .expect("in the union")
+        };
+        let mut albedo = vec![vec![f64::NAN; roughnesses.len()]; angles.len()];
+        let mut reference = vec![vec![f64::NAN; roughnesses.len()]; angles.len()];
+        let has_reference = self.reference.is_some() && other.reference.is_some();
+        for t in [&*self, &other] {
+            for (r, &a) in t.angles.iter().enumerate() {
+                for (c, &g) in t.roughnesses.iter().enumerate() {
+                    let x = t.albedo[r][c];
+                    let (row, col) = (at(&angles, a), at(&roughnesses, g));
+                    let cur = albedo[row][col];
+                    if !x.is_nan() && (cur.is_nan() || x > cur) {
+                        albedo[row][col] = x;
+                        if let Some(rf) = &t.reference {
+                            reference[row][col] = rf[r][c];
+                        }
+                    }
+                }
+            }
+        }
+        self.angles = angles;
+        self.roughnesses = roughnesses;
+        self.albedo = albedo;
+        self.reference = has_reference.then_some(reference);
+        true
+    }
 }
 
 /// Which points of its check's sweep a shard's result covers.

@@ -76,6 +76,7 @@ pub fn run_check_with(
             first: range.start,
             total: check.sweep.len(),
         }),
+        albedo: None,
     };
     match stream::run_into(suite, check, &mut r, backend, explainers, progress) {
         Ok(()) => {
@@ -247,6 +248,7 @@ pub fn compare_functions(
         findings,
         precision: None,
         seconds: start.elapsed().as_secs_f64(),
+        albedo: None,
         shard: None,
     })
 }

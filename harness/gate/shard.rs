@@ -256,6 +256,7 @@ pub fn read_report(file: &str, text: &str) -> Result<RunResult, String> {
             precision: None,
             seconds: c.seconds.map_or(Ok(0.0), |s| s.get()).map_err(at)?,
             shard: c.shard,
+            albedo: None,
         });
     }
     Ok(RunResult {
@@ -424,6 +425,7 @@ fn merge_check(shards: &[(&str, &CheckResult)]) -> Result<CheckResult, String> {
         precision: None,
         seconds: shards.iter().map(|(_, c)| c.seconds).sum(),
         shard: None,
+        albedo: None,
     };
     if let Some((file, c)) = shards.iter().find(|(_, c)| c.verdict == Verdict::Error) {
         r.verdict = Verdict::Error;

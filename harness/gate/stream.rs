@@ -20,6 +20,7 @@
 
 use std::borrow::Cow;
 use std::collections::{BTreeMap, BinaryHeap};
+use std::ops::Range;
 use std::path::{Path, PathBuf};
 use std::sync::Arc;
 
@@ -34,7 +35,7 @@ use super::inputs::{
     Evaluated,
 };
 use super::oracle::{self, Other};
-use super::result::{CheckResult, Comparison, Finding, FindingKind, IssueGroup};
+use super::result::{AlbedoTable, CheckResult, Comparison, Finding, FindingKind, IssueGroup};
 use super::run::Backend;
 use crate::compare::{self, Stats, Tolerance};
 use crate::eval::{Program, ScalarKind};
@@ -128,7 +129,34 @@ impl<'a> Prepared<'a> {
 struct GoldenSource {
     path: PathBuf,
     against: String,
-    g: golden::Golden,
+    g: golden::Record,
+}
+
+impl GoldenSource {
+    /// The recorded output columns at the points of `span`.
+    fn outputs(&self, span: Span) -> Result<Vec<Vec<u32>>, String> {
+        let read = |r: Range<usize>| self.g.read_outputs(r).map_err(|d| d.rendered);
+        match span {
+            Span::Range(a, b) => read(a..b),
+            Span::At(ix) => {
+                let mut cols = vec![Vec::with_capacity(ix.len()); self.g.outputs.len()];
+                let mut k = 0;
+                while k < ix.len() {
+                    let start = ix[k];
+                    let mut end = start + 1;
+                    k += 1;
+                    while k < ix.len() && ix[k] == end {
+                        end += 1;
+                        k += 1;
+                    }
+                    for (col, part) in cols.iter_mut().zip(read(start..end)?) {
+                        col.extend(part);
+                    }
+                }
+                Ok(cols)
+            }
+        }
+    }
 }
 
 /// Which of the sweep's points a set of columns holds.
@@ -147,14 +175,6 @@ impl Span<'_> {
             Span::At(ix) => points_at(check, ix),
         }
     }
-
-    /// The sweep index of the span's point `i`.
-    fn index(&self, i: usize) -> usize {
-        match *self {
-            Span::Range(a, _) => a + i,
-            Span::At(ix) => ix[i],
-        }
-    }
 }
 
 /// One comparison's columns over a span of points, before judging.
@@ -168,6 +188,8 @@ struct Side {
     changed: Option<usize>,
     /// The call-graph explainer may evaluate the shader's other functions.
     context: bool,
+    /// An albedo property's table over this span's points.
+    albedo: Option<AlbedoTable>,
 }
 
 /// Every comparison of a check over one span of points.
@@ -260,6 +282,7 @@ impl Prepared<'_> {
                 model: Some(model),
                 changed: None,
                 context: true,
+                albedo: None,
             });
         }
         if let Some(expr) = &check.reference_expr {
@@ -275,6 +298,7 @@ impl Prepared<'_> {
                 model: None,
                 changed: None,
                 context: false,
+                albedo: None,
             });
         }
         if let Some(kind) = ev.rounded.take() {
@@ -311,6 +335,7 @@ impl Prepared<'_> {
                 model: None,
                 changed: None,
                 context: false,
+                albedo: s.albedo,
             });
         }
         if let Some(gs) = golden {
@@ -344,11 +369,7 @@ impl Prepared<'_> {
                 )
                 .map_err(|d| d.rendered)?;
             }
-            let recorded: Vec<Vec<u32>> =
-                gs.g.output_columns
-                    .iter()
-                    .map(|c| (0..ev.points.len).map(|i| c[span.index(i)]).collect())
-                    .collect();
+            let recorded = gs.outputs(span)?;
             if gs.g.header.shader_hash != ev.shader_hash {
                 findings.push(Finding {
                     against: gs.against.clone(),
@@ -368,6 +389,7 @@ impl Prepared<'_> {
                 model: None,
                 changed: Some(compare::changed_bits(&ev.output_columns, &recorded)),
                 context: false,
+                albedo: None,
             });
         }
         Ok(Materialised {
@@ -393,6 +415,8 @@ struct Part {
     /// Per comparison: the sweep indices of its failing points (only for a
     /// check above the `evidence_points` limit, to sample from).
     failing: Vec<Vec<usize>>,
+    /// An albedo property's table over the segment's points.
+    albedo: Option<AlbedoTable>,
 }
 
 impl Prepared<'_> {
@@ -409,6 +433,7 @@ impl Prepared<'_> {
         let describe = |i: usize| m.ev.points.describe(i);
         let mut sides = Vec::new();
         let mut failing = Vec::new();
+        let albedo = m.sides.iter().find_map(|s| s.albedo.clone());
         for side in &m.sides {
             let mut s =
                 compare::compare(&side.got, &side.want, &side.tolerance, side.half, &describe);
@@ -437,6 +462,7 @@ impl Prepared<'_> {
             findings: m.findings,
             sides,
             failing,
+            albedo,
         })
     }
 }
@@ -590,7 +616,7 @@ pub fn run_into(
     let (golden, golden_error) = match (&check.golden, backend) {
         (Some(gpath), None) => {
             let path = suite.resolve(gpath);
-            match golden::read_with(&path, &suite.limits) {
+            match golden::open(&path, &suite.limits) {
                 Ok(g) => (
                     Some(GoldenSource {
                         path,
@@ -635,9 +661,15 @@ pub fn run_into(
             if part.start == range.start {
                 r.issues = part.issues;
                 r.findings = part.findings;
+                r.albedo = part.albedo;
             } else {
                 absorb_issues(&mut r.issues, part.issues);
                 absorb_findings(&mut r.findings, part.findings);
+                if let (Some(table), Some(more)) = (&mut r.albedo, part.albedo) {
+                    if !table.absorb(more) {
+                        r.albedo = None;
+                    }
+                }
             }
             for (k, ((label, s), failing)) in part.sides.into_iter().zip(part.failing).enumerate() {
                 if large && !failing.is_empty() {

@@ -20,8 +20,18 @@
 //! their bits. The trailing `# end` line proves the file is complete. Only
 //! [`write()`] creates these files; it refuses when the `CI` environment
 //! variable is set and writes a temporary file that is then renamed.
+//!
+//! A golden path ending in `.golden` is written in the compact format of
+//! [`compact`] instead (outputs compressed in blocks, inputs checked by a
+//! hash), with a readable summary beside it ([`summary`], `<name>.golden.txt`).
+//! [`open`] reads either format into a [`Record`] that gives any point range
+//! of the outputs and checks the inputs of a range.
+
+pub mod compact;
+pub mod summary;
 
 use std::io::Write as _;
+use std::ops::Range;
 use std::path::{Path, PathBuf};
 
 use crate::diagnostic::Diagnostic;
@@ -101,8 +111,9 @@ pub fn render(g: &Golden) -> String {
 /// nor `git add goldens/` picks up what a killed `record` left behind.
 pub const TMP_PREFIX: &str = ".shadegate-tmp-";
 
-/// Write a golden dataset atomically (temporary file, then rename), with no
-/// check of where `path` lies; see [`write_in`] for the one `record` uses.
+/// Write a golden dataset atomically (temporary file, then rename), in the
+/// format its extension chooses ([`Format::of`]), with no check of where
+/// `path` lies and no summary; see [`write_in`] for the one `record` uses.
 pub fn write(path: &Path, g: &Golden) -> Result<(), String> {
     if refused_in_ci() {
         return Err(format!(
@@ -114,7 +125,10 @@ pub fn write(path: &Path, g: &Golden) -> Result<(), String> {
         std::fs::create_dir_all(dir)
             .map_err(|e| format!("{}: cannot create folder: {e}", dir.display()))?;
     }
-    replace(path, &render(g))
+    match Format::of(path) {
+        Format::Csv => replace(path, &render(g)),
+        Format::Compact => replace_bytes(path, &compact::render(g, compact::BLOCK_POINTS)),
+    }
 }
 
 /// Write the golden of check `g.header.check` to `root.join(rel)`, where
@@ -125,7 +139,74 @@ pub fn write(path: &Path, g: &Golden) -> Result<(), String> {
 /// golden, anything else). The file is replaced only by a rename of a
 /// complete temporary file, so a failed or killed write leaves the old
 /// golden intact.
-pub fn write_in(root: &Path, rel: &Path, g: &Golden, outside: bool) -> Result<PathBuf, String> {
+pub fn write_in(root: &Path, rel: &Path, g: &Golden, outside: bool) -> Result<Written, String> {
+    let compact = Format::of(rel) == Format::Compact;
+    let bytes = if compact {
+        compact::render(g, compact::BLOCK_POINTS)
+    } else {
+        render(g).into_bytes()
+    };
+    let magic = if compact { compact::MAGIC } else { MAGIC };
+    // Both places are checked before either file is written.
+    let path = place(root, rel, &g.header.check, magic, outside)?;
+    let summary = if compact {
+        let rel = summary::path_of(rel);
+        Some(place(root, &rel, &g.header.check, summary::MAGIC, outside)?)
+    } else {
+        None
+    };
+    replace_bytes(&path, &bytes)?;
+    if let Some(spath) = &summary {
+        replace(spath, &summary::render(g, &path, bytes.len() as u64))?;
+    }
+    Ok(Written {
+        path,
+        bytes: bytes.len() as u64,
+        summary,
+    })
+}
+
+/// What [`write_in`] wrote.
+#[derive(Clone, Debug)]
+pub struct Written {
+    /// The golden's path.
+    pub path: PathBuf,
+    /// The golden's size in bytes.
+    pub bytes: u64,
+    /// The readable summary beside a compact golden.
+    pub summary: Option<PathBuf>,
+}
+
+/// The two golden formats; a golden's path chooses by its extension.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Format {
+    /// `.csv`: every input and output as text (this module's doc).
+    Csv,
+    /// `.golden`: [`compact`].
+    Compact,
+}
+
+impl Format {
+    /// The format of a golden at `path`: compact for `.golden`, else CSV.
+    pub fn of(path: &Path) -> Format {
+        if path.extension().and_then(|e| e.to_str()) == Some(compact::EXTENSION) {
+            Format::Compact
+        } else {
+            Format::Csv
+        }
+    }
+}
+
+/// The checks of [`write_in`] for one file: refused under `CI`, inside the
+/// suite's folder, no link, only over a file of this check whose first line
+/// is `magic`; stale temporary files cleared.
+fn place(
+    root: &Path,
+    rel: &Path,
+    check: &str,
+    magic: &str,
+    outside: bool,
+) -> Result<PathBuf, String> {
     let path = if rel.is_absolute() {
         rel.to_path_buf()
     } else {
@@ -158,11 +239,10 @@ pub fn write_in(root: &Path, rel: &Path, g: &Golden, outside: bool) -> Result<Pa
         Ok(m) if !m.is_file() => {
             return Err(format!("{}: exists and is not a file", path.display()))
         }
-        Ok(_) => own_golden(&path, &g.header.check)?,
+        Ok(_) => own_golden(&path, check, magic)?,
         Err(_) => {}
     }
     clear_stale(&path);
-    replace(&path, &render(g))?;
     Ok(path)
 }
 
@@ -212,17 +292,17 @@ fn inside(root: &Path, rel: &Path) -> Result<(), String> {
     Ok(())
 }
 
-/// An existing file at `path` may be replaced only when it is a golden of
-/// the same check: its first line is the format line and its `# check:`
+/// An existing file at `path` may be replaced only when it is a golden (or
+/// summary) of the same check: its first line is `magic` and its `# check:`
 /// line names `check`. Only the first two lines are read.
-fn own_golden(path: &Path, check: &str) -> Result<(), String> {
+fn own_golden(path: &Path, check: &str, magic: &str) -> Result<(), String> {
     use std::io::{BufRead, Read};
     let f = std::fs::File::open(path)
         .map_err(|e| format!("{}: cannot read the existing file: {e}", path.display()))?;
     let mut head = String::new();
     let mut r = std::io::BufReader::new(f.take(4096));
     let mut ok = false;
-    if r.read_line(&mut head).is_ok() && head.trim_end() == MAGIC {
+    if r.read_line(&mut head).is_ok() && head.trim_end() == magic {
         head.clear();
         ok = r.read_line(&mut head).is_ok() && head.trim_end() == format!("# check: {check}");
     }
@@ -278,6 +358,11 @@ impl Drop for TmpGuard {
 /// [`write_in()`], without their refusal under `CI` (which is the record
 /// command's policy, not the file system's).
 pub fn replace(path: &Path, text: &str) -> Result<(), String> {
+    replace_bytes(path, text.as_bytes())
+}
+
+/// [`replace`] for bytes (a compact golden).
+pub fn replace_bytes(path: &Path, bytes: &[u8]) -> Result<(), String> {
     let tmp = tmp_path(path);
     let mut guard = TmpGuard(Some(tmp.clone()));
     let mut f = std::fs::OpenOptions::new()
@@ -285,7 +370,7 @@ pub fn replace(path: &Path, text: &str) -> Result<(), String> {
         .create_new(true)
         .open(&tmp)
         .map_err(|e| format!("{}: cannot write: {e}", tmp.display()))?;
-    f.write_all(text.as_bytes())
+    f.write_all(bytes)
         .and_then(|_| f.sync_all())
         .map_err(|e| format!("{}: cannot write: {e}", tmp.display()))?;
     drop(f);
@@ -495,6 +580,181 @@ pub fn parse_with(path: &Path, text: &str, limits: &Limits) -> Result<Golden, Di
     })
 }
 
+/// A golden opened for comparison, in either format: its identity, and its
+/// output columns read a point range at a time.
+#[derive(Debug)]
+pub struct Record {
+    pub path: PathBuf,
+    pub header: Header,
+    /// (leaf name, kind) of the inputs and of the outputs.
+    pub inputs: Vec<(String, ScalarKind)>,
+    pub outputs: Vec<(String, ScalarKind)>,
+    body: Body,
+}
+
+#[derive(Debug)]
+enum Body {
+    /// A CSV golden, parsed whole.
+    Csv {
+        input_columns: Vec<Vec<u32>>,
+        output_columns: Vec<Vec<u32>>,
+    },
+    /// A compact golden: header and index read, blocks on demand.
+    Compact(compact::Blocks),
+}
+
+/// Open the golden at `path` in the format its first line names (a CSV
+/// golden is read whole; a compact one only up to its index). Every problem
+/// names the file and the line or block.
+pub fn open(path: &Path, limits: &Limits) -> Result<Record, Diagnostic> {
+    use std::io::Read;
+    let mut first = [0u8; 64];
+    let n = std::fs::File::open(path)
+        .and_then(|f| f.take(first.len() as u64).read(&mut first))
+        .unwrap_or(0);
+    if first[..n].starts_with(compact::MAGIC.as_bytes()) {
+        let (header, inputs, outputs, blocks) = compact::open(path, limits)?;
+        Ok(Record {
+            path: path.to_path_buf(),
+            header,
+            inputs,
+            outputs,
+            body: Body::Compact(blocks),
+        })
+    } else {
+        Ok(Record::from_csv(path, read_with(path, limits)?))
+    }
+}
+
+/// Read a compact golden held in memory (as [`open`] would read the file
+/// `path`).
+pub fn parse_compact(path: &Path, bytes: Vec<u8>, limits: &Limits) -> Result<Record, Diagnostic> {
+    let (header, inputs, outputs, blocks) = compact::parse(path, bytes, limits)?;
+    Ok(Record {
+        path: path.to_path_buf(),
+        header,
+        inputs,
+        outputs,
+        body: Body::Compact(blocks),
+    })
+}
+
+impl Record {
+    /// A record of a CSV golden read from `path`.
+    pub fn from_csv(path: &Path, g: Golden) -> Record {
+        Record {
+            path: path.to_path_buf(),
+            header: g.header,
+            inputs: g.inputs,
+            outputs: g.outputs,
+            body: Body::Csv {
+                input_columns: g.input_columns,
+                output_columns: g.output_columns,
+            },
+        }
+    }
+
+    /// The golden's format.
+    pub fn format(&self) -> Format {
+        match self.body {
+            Body::Csv { .. } => Format::Csv,
+            Body::Compact(_) => Format::Compact,
+        }
+    }
+
+    /// Points recorded.
+    pub fn len(&self) -> usize {
+        match &self.body {
+            Body::Csv { output_columns, .. } => {
+                output_columns.first().map_or(self.header.points, Vec::len)
+            }
+            Body::Compact(_) => self.header.points,
+        }
+    }
+
+    /// Whether the golden holds no points.
+    pub fn is_empty(&self) -> bool {
+        self.len() == 0
+    }
+
+    fn range_err(&self, range: &Range<usize>) -> Diagnostic {
+        Diagnostic::without_position(
+            &self.path,
+            format!(
+                "points {}..{} asked for, but the golden holds {} points",
+                range.start,
+                range.end,
+                self.len()
+            ),
+        )
+    }
+
+    /// The output columns of points `range` (column `c`, element `i` is
+    /// point `range.start + i`), bit-exact. A compact golden decodes only
+    /// the blocks holding them.
+    pub fn read_outputs(&self, range: Range<usize>) -> Result<Vec<Vec<u32>>, Diagnostic> {
+        match &self.body {
+            Body::Csv { output_columns, .. } => {
+                if range.start > range.end || range.end > self.len() {
+                    return Err(self.range_err(&range));
+                }
+                Ok(output_columns
+                    .iter()
+                    .map(|c| c[range.clone()].to_vec())
+                    .collect())
+            }
+            Body::Compact(b) => b.read_outputs(range),
+        }
+    }
+
+    /// Check the check's input columns of points `range` against the
+    /// golden's: a CSV golden compares every value, a compact one the hash
+    /// of every block wholly inside `range`. Returns the number of points
+    /// it could not check (those of a compact golden's blocks that `range`
+    /// cuts: 0 when the range is the whole golden or ends on block bounds).
+    /// A difference names the golden's line (CSV) or block (compact).
+    pub fn check_inputs(
+        &self,
+        range: Range<usize>,
+        input_columns: &[Vec<u32>],
+    ) -> Result<usize, Diagnostic> {
+        let rerecord = format!("re-record with `shadegate record {}`", self.header.check);
+        match &self.body {
+            Body::Csv {
+                input_columns: mine,
+                ..
+            } => {
+                if range.start > range.end
+                    || range.end > self.len()
+                    || input_columns.len() != mine.len()
+                    || input_columns.iter().any(|c| c.len() != range.len())
+                {
+                    return Err(self.range_err(&range));
+                }
+                let differs = |i: usize| {
+                    mine.iter()
+                        .zip(input_columns)
+                        .any(|(a, b)| a[range.start + i] != b[i])
+                };
+                if let Some(i) = (0..range.len()).find(|&i| differs(i)) {
+                    let text = std::fs::read_to_string(&self.path).unwrap_or_default();
+                    let p = range.start + i;
+                    return Err(Diagnostic::at_location(
+                        &self.path,
+                        &text,
+                        (9 + p) as u32,
+                        1,
+                        1,
+                        format!("the golden's inputs differ from the check's at point {p} (the argument expressions changed?); {rerecord}"),
+                    ));
+                }
+                Ok(0)
+            }
+            Body::Compact(b) => b.check_inputs(range, input_columns),
+        }
+    }
+}
+
 /// What a golden must have been recorded from, for [`check_identity`].
 pub struct Identity<'a> {
     pub check: &'a str,
@@ -510,13 +770,20 @@ pub struct Identity<'a> {
     pub first: usize,
 }
 
-/// Check that a golden read from `path` was recorded from `want`: its
-/// check, shader, function, sweep, point count, columns and input values.
-/// A mismatch names the golden's line and the command that re-records it.
+/// Check that the golden `g` (opened from `path`) was recorded from
+/// `want`: its check, shader, function, sweep, point count, columns and the
+/// input values of `want`'s points ([`Record::check_inputs`]). A mismatch
+/// names the golden's line (or block) and the command that re-records it.
 /// (A changed shader hash is not an error: it is what a golden compares.)
-pub fn check_identity(path: &Path, g: &Golden, want: &Identity) -> Result<(), Diagnostic> {
+pub fn check_identity(path: &Path, g: &Record, want: &Identity) -> Result<(), Diagnostic> {
     let h = &g.header;
-    let text = || std::fs::read_to_string(path).unwrap_or_default();
+    let text = || {
+        let mut t = String::new();
+        use std::io::Read;
+        // The header lines are all a located error shows.
+        let _ = std::fs::File::open(path).map(|f| f.take(1 << 20).read_to_string(&mut t));
+        t
+    };
     let rerecord = format!("re-record with `shadegate record {}`", want.check);
     let mismatch = |line: u32, what: &str, found: &str, expected: &str| {
         Err(Diagnostic::at_location(
@@ -540,7 +807,7 @@ pub fn check_identity(path: &Path, g: &Golden, want: &Identity) -> Result<(), Di
     if h.sweep != want.sweep {
         return mismatch(6, "sweep", &h.sweep, want.sweep);
     }
-    let rows = g.output_columns.first().map_or(h.points, Vec::len);
+    let rows = g.len();
     if h.points != want.points || rows != want.points {
         return mismatch(
             7,
@@ -563,23 +830,8 @@ pub fn check_identity(path: &Path, g: &Golden, want: &Identity) -> Result<(), Di
             &cols(&[want.inputs.to_vec(), want.outputs.to_vec()].concat()),
         );
     }
-    let differs = |i: usize| {
-        g.input_columns
-            .iter()
-            .zip(want.input_columns)
-            .any(|(a, b)| a.get(want.first + i) != b.get(i))
-    };
-    let rows = want.input_columns.first().map_or(0, Vec::len);
-    if let Some(i) = (0..rows).find(|&i| differs(i)).map(|i| want.first + i) {
-        return Err(Diagnostic::at_location(
-            path,
-            &text(),
-            (9 + i) as u32,
-            1,
-            1,
-            format!("the golden's inputs differ from the check's at point {i} (the argument expressions changed?); {rerecord}"),
-        ));
-    }
+    let n = want.input_columns.first().map_or(0, Vec::len);
+    g.check_inputs(want.first..want.first + n, want.input_columns)?;
     Ok(())
 }
 
@@ -641,5 +893,220 @@ mod tests {
         )
         .unwrap_err();
         assert_eq!(e.line, 4);
+    }
+
+    /// Every column kind, with NaN payloads (quiet, signalling, negative),
+    /// signed zeros, subnormals and infinities, over `n` points.
+    fn every_kind(n: usize) -> Golden {
+        let f32s = [
+            0x7fc0_0123,
+            0x7f80_0001,
+            0xffc0_0001,
+            (-0.0f32).to_bits(),
+            1,
+            f32::INFINITY.to_bits(),
+            f32::NEG_INFINITY.to_bits(),
+            0.1f32.to_bits(),
+        ];
+        let f16s = [0x7e01, 0x7c01, 0x8000, 0x0001, 0x7c00, 0x3c00, 0xfe00];
+        let col = |f: &dyn Fn(usize) -> u32| (0..n).map(f).collect::<Vec<u32>>();
+        Golden {
+            header: Header {
+                check: "kinds".into(),
+                shader: "s.wgsl".into(),
+                function: "f".into(),
+                shader_hash: "00ff".into(),
+                sweep: "x = linear(0.0, 1.0, N)".into(),
+                points: n,
+            },
+            inputs: vec![("x".into(), ScalarKind::F32)],
+            outputs: vec![
+                ("result.a".into(), ScalarKind::F32),
+                ("result.b".into(), ScalarKind::F16),
+                ("result.c".into(), ScalarKind::I32),
+                ("result.d".into(), ScalarKind::U32),
+                ("result.e".into(), ScalarKind::Bool),
+            ],
+            input_columns: vec![col(&|i| (i as f32 / n as f32).to_bits())],
+            output_columns: vec![
+                col(&|i| {
+                    if i % 3 == 0 {
+                        f32s[i % f32s.len()]
+                    } else {
+                        (i as f32 * 0.37).sin().to_bits()
+                    }
+                }),
+                col(&|i| f16s[i % f16s.len()]),
+                col(&|i| (i as i32).wrapping_mul(-7919).wrapping_add(i32::MIN) as u32),
+                col(&|i| u32::MAX - i as u32),
+                col(&|i| u32::from(i % 5 == 0)),
+            ],
+        }
+    }
+
+    fn compact_of(g: &Golden, block: usize) -> Vec<u8> {
+        compact::render(g, block)
+    }
+
+    fn open_bytes(bytes: Vec<u8>) -> Result<Record, Diagnostic> {
+        parse_compact(Path::new("g.golden"), bytes, &Limits::default())
+    }
+
+    #[test]
+    fn every_column_kind_round_trips_bit_exact_through_the_compact_format() {
+        for (n, block) in [(1000, 64), (4096, 4096), (1, 7), (0, 16), (4097, 4096)] {
+            let g = every_kind(n);
+            let r = open_bytes(compact_of(&g, block)).unwrap_or_else(|d| panic!("{d}"));
+            assert_eq!(r.header, g.header);
+            assert_eq!(r.inputs, g.inputs);
+            assert_eq!(r.outputs, g.outputs);
+            assert_eq!(r.len(), n);
+            assert_eq!(r.read_outputs(0..n).unwrap(), g.output_columns, "n {n}");
+            assert_eq!(r.check_inputs(0..n, &g.input_columns).unwrap(), 0);
+        }
+    }
+
+    #[test]
+    fn range_reads_equal_slices_of_the_full_read() {
+        let g = every_kind(1000);
+        let r = open_bytes(compact_of(&g, 64)).unwrap();
+        let all = r.read_outputs(0..1000).unwrap();
+        let csv = Record::from_csv(Path::new("g.csv"), g.clone());
+        for (a, b) in [
+            (0, 0),
+            (0, 1),
+            (63, 65),
+            (64, 128),
+            (5, 999),
+            (999, 1000),
+            (100, 700),
+        ] {
+            let want: Vec<Vec<u32>> = all.iter().map(|c| c[a..b].to_vec()).collect();
+            assert_eq!(r.read_outputs(a..b).unwrap(), want, "{a}..{b}");
+            assert_eq!(csv.read_outputs(a..b).unwrap(), want, "csv {a}..{b}");
+        }
+        let e = r.read_outputs(990..1001).unwrap_err();
+        assert!(e.message.contains("golden holds 1000 points"), "{e}");
+        assert!(csv.read_outputs(990..1001).is_err());
+    }
+
+    #[test]
+    fn a_changed_input_is_found_by_the_block_hash() {
+        let g = every_kind(1000);
+        let r = open_bytes(compact_of(&g, 64)).unwrap();
+        let mut ins = g.input_columns.clone();
+        ins[0][130] ^= 1;
+        let e = r.check_inputs(0..1000, &ins).unwrap_err();
+        assert!(e.message.contains("block 2 of 16 (points 128..192"), "{e}");
+        assert!(e.message.contains("inputs differ"), "{e}");
+        assert_eq!(e.line, 10);
+        // A range that cuts blocks checks the whole ones inside it and says
+        // how many points it could not check.
+        let part: Vec<Vec<u32>> = g
+            .input_columns
+            .iter()
+            .map(|c| c[100..300].to_vec())
+            .collect();
+        assert_eq!(r.check_inputs(100..300, &part).unwrap(), 28 + 44);
+        let mut bad = part.clone();
+        bad[0][50] ^= 1; // point 150, in block 2, wholly inside
+        assert!(r.check_inputs(100..300, &bad).is_err());
+        // The CSV form compares every value and names the line.
+        let csv = Record::from_csv(Path::new("g.csv"), g.clone());
+        let e = csv.check_inputs(0..1000, &ins).unwrap_err();
+        assert!(e.message.contains("at point 130"), "{e}");
+    }
+
+    /// Where the blocks start in a compact golden's bytes.
+    fn data_start(bytes: &[u8]) -> usize {
+        let head = bytes.windows(8).position(|w| w == b"\n# data\n").unwrap() + 8;
+        let blocks: usize = String::from_utf8_lossy(&bytes[..head])
+            .lines()
+            .find_map(|l| l.strip_prefix("# blocks: "))
+            .unwrap()
+            .parse()
+            .unwrap();
+        head + 20 * blocks
+    }
+
+    #[test]
+    fn corrupt_truncated_and_oversized_compact_goldens_are_located_errors() {
+        let g = every_kind(1000);
+        let good = compact_of(&g, 64);
+        let err = |bytes: Vec<u8>| -> Diagnostic {
+            match open_bytes(bytes) {
+                Err(d) => d,
+                Ok(r) => r.read_outputs(0..r.len()).unwrap_err(),
+            }
+        };
+        // A flipped byte inside block 0's compressed data.
+        let mut b = good.clone();
+        let at = data_start(&b) + 10;
+        b[at] ^= 0x55;
+        let e = err(b);
+        assert!(e.message.contains("block 0 of 16"), "{e}");
+        assert!(e.message.contains("corrupt"), "{e}");
+        assert!(
+            e.message
+                .contains("re-record with `shadegate record kinds`"),
+            "{e}"
+        );
+        // A wrong output hash in the index (entry 3).
+        let mut b = good.clone();
+        let at = data_start(&b) - 20 * 16 + 3 * 20 + 12;
+        b[at] ^= 1;
+        let e = err(b);
+        assert!(
+            e.message.contains("block 3 of 16") && e.message.contains("hash"),
+            "{e}"
+        );
+        // Truncated anywhere: in the blocks, in the index, in the header.
+        for cut in [good.len() - 1, data_start(&good) - 5, 40] {
+            let e = err(good[..cut].to_vec());
+            assert!(e.line >= 1, "{e}");
+            assert!(
+                e.message.contains("truncated") || e.message.contains("expected the header line"),
+                "cut at {cut}: {e}"
+            );
+        }
+        // Trailing bytes.
+        let mut b = good.clone();
+        b.push(0);
+        assert!(err(b).message.contains("trailing bytes"));
+        // Claims beyond the limits or the file: points, block size, blocks.
+        let text = String::from_utf8_lossy(&good[..data_start(&good)]).into_owned();
+        let with = |from: &str, to: &str| {
+            let mut b = good.clone();
+            let at = text.find(from).unwrap();
+            b.splice(at..at + from.len(), to.bytes());
+            b
+        };
+        let e = err(with("# points: 1000", "# points: 1000000000000000000"));
+        assert_eq!(e.line, 7, "{e}");
+        assert!(e.message.contains("`points_per_check` limit"), "{e}");
+        let e = err(with("# block: 64", "# block: 0"));
+        assert_eq!(e.line, 9, "{e}");
+        let e = err(with("# block: 64", "# block: 99999999"));
+        assert_eq!(e.line, 9, "{e}");
+        let e = err(with("# blocks: 16", "# blocks: 17"));
+        assert_eq!(e.line, 10, "{e}");
+        let e = err(with("# points: 1000\n", "# points: 268435456\n"));
+        assert_eq!(e.line, 10, "{e}");
+        // A block that decodes to more than its points need: a length in
+        // the index that swallows the next block makes it corrupt, not big.
+        let mut b = good.clone();
+        let at = data_start(&b) - 20 * 16;
+        let len0 = u32::from_le_bytes(b[at..at + 4].try_into().unwrap());
+        let len1 = u32::from_le_bytes(b[at + 20..at + 24].try_into().unwrap());
+        b[at..at + 4].copy_from_slice(&(len0 + len1).to_le_bytes());
+        b[at + 20..at + 24].copy_from_slice(&0u32.to_le_bytes());
+        let e = err(b);
+        assert!(
+            e.message.contains("block 0 of 16") || e.message.contains("block 1 of 16"),
+            "{e}"
+        );
+        // Not a compact golden at all.
+        let e = err(b"# shadegate golden dataset, format 1\n".to_vec());
+        assert_eq!(e.line, 1, "{e}");
     }
 }

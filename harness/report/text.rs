@@ -6,7 +6,7 @@ use std::fmt::Write as _;
 
 use super::format::{self, count, duration, num, point};
 use super::{Style, Timings};
-use crate::gate::{CheckResult, Comparison, FindingKind, RunResult, Verdict};
+use crate::gate::{AlbedoTable, CheckResult, Comparison, FindingKind, RunResult, Verdict};
 
 /// Indentation of everything under a status line.
 const UNDER: &str = "       ";
@@ -132,6 +132,9 @@ fn body(out: &mut String, c: &CheckResult, st: Style) {
             long(out, k, st);
         }
     }
+    if let Some(t) = &c.albedo {
+        albedo_table(out, t, st);
+    }
     if !c.issues.is_empty() {
         if c.verdict == Verdict::Pass {
             for g in &c.issues {
@@ -176,6 +179,95 @@ fn body(out: &mut String, c: &CheckResult, st: Style) {
                 let _ = writeln!(out, "{UNDER}  - {}", format::finding(f));
             }
         }
+    }
+}
+
+/// A table label: at most 4 decimals, no trailing zeros (sweep values are
+/// rounded to f32, so 0.1 arrives as 0.10000000149).
+fn label(x: f64) -> String {
+    let s = format!("{x:.4}");
+    let s = s.trim_end_matches('0').trim_end_matches('.');
+    if s == "-0" {
+        "0".to_string()
+    } else {
+        s.to_string()
+    }
+}
+
+/// An albedo property's table: a row per view angle, a column per
+/// roughness, each cell the function's directional albedo and the reference
+/// model's single-scattering albedo (`function / model`); `*` marks an
+/// albedo above 1 (energy gained).
+fn albedo_table(out: &mut String, t: &AlbedoTable, st: Style) {
+    let with_model = t.reference.is_some();
+    let _ = writeln!(
+        out,
+        "{UNDER}directional albedo over {} by view angle ({} from +z){}:",
+        t.over,
+        t.view,
+        match (&t.roughness, with_model) {
+            (Some(r), true) => format!(" and {r}, beside {} (single scattering)", t.model),
+            (Some(r), false) => format!(" and {r}"),
+            (None, true) => format!(", beside {} (single scattering)", t.model),
+            (None, false) => String::new(),
+        }
+    );
+    let cell = |r: usize, c: usize| {
+        let a = t.albedo[r][c];
+        let mark = if a > 1.0 { "*" } else { " " };
+        let a = if a.is_nan() {
+            "-".to_string()
+        } else {
+            format!("{a:.4}")
+        };
+        match &t.reference {
+            Some(m) if m[r][c].is_finite() => format!("{a}{mark} / {:.4}", m[r][c]),
+            Some(_) => format!("{a}{mark} / -"),
+            None => format!("{a}{mark}"),
+        }
+    };
+    let heads: Vec<String> = t
+        .roughnesses
+        .iter()
+        .map(|x| match &t.roughness {
+            Some(r) => format!("{r} {}", label(*x)),
+            None => "albedo".to_string(),
+        })
+        .collect();
+    let cells: Vec<Vec<String>> = (0..t.angles.len())
+        .map(|r| (0..t.roughnesses.len()).map(|c| cell(r, c)).collect())
+        .collect();
+    let width: Vec<usize> = (0..heads.len())
+        .map(|c| {
+            cells
+                .iter()
+                .map(|row| row[c].chars().count())
+                .chain([heads[c].chars().count()])
+                .max()
+                .unwrap_or(0)
+        })
+        .collect();
+    let mut line = format!("{UNDER}  {:>8}", "");
+    for (h, w) in heads.iter().zip(&width) {
+        let _ = write!(line, "  {h:<w$}");
+    }
+    let _ = writeln!(out, "{}", line.trim_end());
+    for (r, row) in cells.iter().enumerate() {
+        let mut line = format!("{UNDER}  {:>8}", format!("{}°", label(t.angles[r])));
+        for (x, w) in row.iter().zip(&width) {
+            let _ = write!(line, "  {x:<w$}");
+        }
+        let _ = writeln!(out, "{}", line.trim_end());
+    }
+    if t.albedo.iter().flatten().any(|&a| a > 1.0) {
+        let _ = writeln!(
+            out,
+            "{UNDER}  {}",
+            st.warn("* above 1: the function gains energy")
+        );
+    }
+    if let Some(n) = &t.note {
+        let _ = writeln!(out, "{UNDER}  ({} not shown: {n})", t.model);
     }
 }
 

@@ -60,14 +60,48 @@ pub(super) fn convert(
             }
         },
     };
+    let format = match &rc.golden_format {
+        None => None,
+        Some(f) => match f.get_ref().as_str() {
+            "csv" => Some("csv"),
+            "compact" => Some(crate::golden::compact::EXTENSION),
+            other => {
+                return Err(cx.err(
+                    f.span(),
+                    format!(
+                    "key `golden_format`: unknown format `{other}` (expected `csv` or `compact`)"
+                ),
+                ))
+            }
+        },
+    };
+    if let (Some(f), None | Some(toml::Value::Boolean(false))) =
+        (&rc.golden_format, rc.golden.as_ref().map(|g| g.get_ref()))
+    {
+        return Err(cx.err(
+            f.span(),
+            "key `golden_format`: the check records no golden (add `golden = true`)",
+        ));
+    }
     let golden = match &rc.golden {
         None => None,
         Some(g) => match g.get_ref() {
-            toml::Value::Boolean(true) => Some(PathBuf::from(format!("goldens/{name}.csv"))),
+            toml::Value::Boolean(true) => Some(PathBuf::from(format!(
+                "goldens/{name}.{}",
+                format.unwrap_or("csv")
+            ))),
             toml::Value::Boolean(false) => None,
             toml::Value::String(p) => {
                 golden_path_ok(p, options)
                     .map_err(|m| cx.err(g.span(), format!("key `golden`: {m}")))?;
+                if let (Some(f), Some(fs)) = (format, &rc.golden_format) {
+                    if Path::new(p).extension().and_then(|e| e.to_str()) != Some(f) {
+                        return Err(cx.err(
+                            fs.span(),
+                            format!("key `golden_format`: `{}` disagrees with the path `{p}`; the extension chooses the format (`.csv` or `.golden`), so leave `golden_format` out", fs.get_ref()),
+                        ));
+                    }
+                }
                 Some(PathBuf::from(p))
             }
             _ => {
@@ -466,7 +500,7 @@ fn arithmetic_of(cx: &Ctx, rc: &RawCheck) -> Result<Arithmetic, Diagnostic> {
 
 /// A golden path written in the suite must stay inside the suite's folder
 /// (relative, no `..`) unless `options` allow otherwise, and must be a
-/// `.csv` file, so `record` can never replace the suite, a shader or a file
+/// `.csv` or `.golden` file, so `record` can never replace the suite, a shader or a file
 /// outside the project.
 pub(super) fn golden_path_ok(p: &str, options: Options) -> Result<(), String> {
     use std::path::Component;
@@ -474,9 +508,10 @@ pub(super) fn golden_path_ok(p: &str, options: Options) -> Result<(), String> {
     if p.is_empty() || path.file_name().is_none() {
         return Err(format!("`{p}` is not a file path"));
     }
-    if path.extension().and_then(|e| e.to_str()) != Some("csv") {
+    let ext = path.extension().and_then(|e| e.to_str());
+    if ext != Some("csv") && ext != Some(crate::golden::compact::EXTENSION) {
         return Err(format!(
-            "`{p}` does not end in `.csv`; goldens are CSV files"
+            "`{p}` does not end in `.csv` or `.golden`; goldens are CSV files or compact goldens"
         ));
     }
     if !options.golden_outside {

@@ -277,7 +277,7 @@ pub fn parse_with(path: &Path, text: &str, options: Options) -> Result<Suite, Di
         checks.push(check);
     }
     // A golden may not name the suite file or a shader of the suite: record
-    // would replace that file with CSV.
+    // would replace that file with golden data.
     let suite_name = path.file_name().map(PathBuf::from);
     let mut shaders: std::collections::HashMap<PathBuf, &str> = Default::default();
     for c in &checks {
@@ -299,7 +299,7 @@ pub fn parse_with(path: &Path, text: &str, options: Options) -> Result<Suite, Di
             return Err(cx.err(
                 at.clone(),
                 format!(
-                    "key `golden`: `{}` is {what}; recording would replace it with CSV",
+                    "key `golden`: `{}` is {what}; recording would replace it with golden data",
                     g.display()
                 ),
             ));

@@ -26,6 +26,8 @@ pub(super) struct RawCheck {
     pub(super) seed: Option<u64>,
     pub(super) reference: Option<Spanned<String>>,
     pub(super) golden: Option<Spanned<toml::Value>>,
+    /// `"csv"` or `"compact"`: the file `golden = true` names.
+    pub(super) golden_format: Option<Spanned<String>>,
     #[serde(default)]
     pub(super) args: BTreeMap<Spanned<String>, Spanned<String>>,
     #[serde(default)]

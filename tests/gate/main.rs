@@ -1,8 +1,10 @@
 //! The gate end to end: suite errors, goldens, the CLI, the demo and planted suites, report formats, and the house rules (tidy). One test crate for the whole concern.
 
+mod albedo_table;
 mod cli;
 mod cli_extra;
 mod common;
+mod compact_golden;
 mod demo;
 mod diagnose;
 mod exhaustive;

@@ -90,6 +90,7 @@ fn passing() -> CheckResult {
         precision: None,
         seconds: 0.041,
         shard: None,
+        albedo: None,
     }
 }
 
@@ -199,6 +200,7 @@ fn failing() -> CheckResult {
         precision: None,
         seconds: 0.012,
         shard: None,
+        albedo: None,
     }
 }
 
@@ -216,6 +218,7 @@ fn broken() -> CheckResult {
         precision: None,
         seconds: 0.001,
         shard: None,
+        albedo: None,
     }
 }
 
