@@ -163,7 +163,7 @@ impl Program {
         })?;
         // An output slot may be written straight into the output column when
         // it belongs to no input, constant or other output.
-        let out_kinds = code.result.as_ref().map(|t| t.leaves()).unwrap_or_default();
+        let out_kinds = code.output_kinds();
         let own_output = code
             .output_slots
             .iter()
@@ -215,16 +215,30 @@ impl Program {
             .collect()
     }
 
-    /// Flattened result leaves, named `result`, `result.x`, `result.field`, ...
+    /// Flattened result leaves, named `result`, `result.x`, `result.field`, ...,
+    /// then each `ptr<function, T>` parameter's final value, named after the
+    /// parameter (`out_normal.x`, ...).
     pub fn output_leaves(&self) -> Vec<(String, ScalarKind)> {
-        match &self.code.result {
+        let mut leaves: Vec<(String, ScalarKind)> = match &self.code.result {
             Some(ty) => ty
                 .leaf_names("result")
                 .into_iter()
                 .zip(ty.leaves())
                 .collect(),
             None => Vec::new(),
+        };
+        for (name, ty) in &self.code.out_params {
+            leaves.extend(ty.leaf_names(name).into_iter().zip(ty.leaves()));
         }
+        leaves
+    }
+
+    /// The `ptr<function, T>` parameters: each is also in [`Program::params`]
+    /// (its initial value is an input; a caller with nothing better passes
+    /// zeros, which is what a fresh `var` holds) and its final value is read
+    /// back as outputs after the result's ([`Program::output_leaves`]).
+    pub fn out_params(&self) -> &[(String, Ty)] {
+        &self.code.out_params
     }
 
     /// Number of slots (columns of [`LANES`] u32) one thread works in.

@@ -214,7 +214,13 @@ pub(super) fn convert(
         let mut out = BTreeMap::new();
         for (arg, text) in table {
             let arg = arg.get_ref();
-            let e = Expr::parse_with(text.get_ref(), limits.expression_depth).map_err(|e| {
+            // A function's arguments may be constructors (`Material(...)`).
+            let parsed = if key == "args" || key == "twin.args" {
+                Expr::parse_arg(text.get_ref(), limits.expression_depth)
+            } else {
+                Expr::parse_with(text.get_ref(), limits.expression_depth)
+            };
+            let e = parsed.map_err(|e| {
                 let s = text.span();
                 cx.err(
                     s.start + 1 + e.offset..s.end,

@@ -165,20 +165,23 @@ impl Suite {
     }
 
     /// Every `args` key of `check` must name a parameter of its function
-    /// (`params`): a typo such as `roughnes` would otherwise be ignored and
-    /// the argument silently fed from the sweep.
+    /// (`params`), or a part of one (`m.base`, `xf[1]`: the rest of the path
+    /// is checked against the parameter's type when it is bound): a typo such
+    /// as `roughnes` would otherwise be ignored and the argument silently fed
+    /// from the sweep.
     pub fn check_args<'a>(
         &self,
         check: &Check,
         params: impl IntoIterator<Item = &'a str> + Clone,
     ) -> Result<(), Diagnostic> {
         for (arg, span) in &check.args_at {
-            if !params.clone().into_iter().any(|p| p == arg) {
+            let root = arg.split(['.', '[']).next().unwrap_or(arg);
+            if !params.clone().into_iter().any(|p| p == root) {
                 let have: Vec<&str> = params.clone().into_iter().collect();
                 return Err(self.error_at(
                     span.clone(),
                     format!(
-                        "key `args.{arg}`: `{}` has no parameter `{arg}` (has: {})",
+                        "key `args.{arg}`: `{}` has no parameter `{root}` (has: {})",
                         check.function,
                         have.join(", ")
                     ),

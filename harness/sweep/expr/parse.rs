@@ -22,7 +22,7 @@ struct Parser<'a> {
 /// A parsed node and the height of its tree.
 type Parsed = (Node, u32);
 
-const FUNCTIONS: &[(&str, usize)] = &[
+pub(super) const FUNCTIONS: &[(&str, usize)] = &[
     ("sqrt", 1),
     ("abs", 1),
     ("sin", 1),
