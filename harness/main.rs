@@ -545,9 +545,8 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
             } else {
                 let program = Program::compile_with(&sh, &function, &ov, Arithmetic::Exact)
                     .map_err(|d| Bad(d.rendered))?;
-                let leaves = program.input_leaves();
                 let cols = match input {
-                    Some(path) => table::read_csv(&path, &leaves).map_err(Bad)?,
+                    Some(path) => table::read_program_csv(&path, &program).map_err(Bad)?,
                     None => table::columns_of_points(&program, &points).map_err(Bad)?,
                 };
                 (program, cols, None)
@@ -684,7 +683,7 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
                 out.push_str(&format!(
                     "{}  {}::{}  {}  against {}\n",
                     c.name,
-                    c.shader.display(),
+                    c.shader_label(),
                     c.function,
                     plural(c.sweep.len(), "point"),
                     against.join(" and ")
@@ -849,7 +848,7 @@ fn eval_csv(
             Program::compile_with(&sh, function, overrides, arith).map_err(|d| Bad(d.rendered))?;
         let leaves = program.input_leaves();
         let mut cols = match input {
-            Some(path) => table::read_csv(path, &leaves).map_err(Bad)?,
+            Some(path) => table::read_program_csv(path, &program).map_err(Bad)?,
             None => table::columns_of_points(&program, points).map_err(Bad)?,
         };
         let refs: Vec<&[u32]> = cols.iter().map(|c| &c[..]).collect();

@@ -206,12 +206,22 @@ impl Program {
         self.code.result.as_ref()
     }
 
-    /// Flattened argument leaves in order, named `arg.x`, `arg[1]`, ...
+    /// Flattened argument leaves in order, named `arg.x`, `arg[1]`, ...; a
+    /// `ptr<function, T>` parameter's initial value is named `*arg`,
+    /// `*arg.x`, ... (its final value is the output `arg`, `arg.x`, ...).
     pub fn input_leaves(&self) -> Vec<(String, ScalarKind)> {
         self.code
             .params
             .iter()
-            .flat_map(|(name, ty)| ty.leaf_names(name).into_iter().zip(ty.leaves()))
+            .flat_map(|(name, ty)| {
+                let pointer = self.code.out_params.iter().any(|(n, _)| n == name);
+                let prefix = if pointer {
+                    format!("*{name}")
+                } else {
+                    name.clone()
+                };
+                ty.leaf_names(&prefix).into_iter().zip(ty.leaves())
+            })
             .collect()
     }
 

@@ -91,6 +91,30 @@ pub fn located(
     }
 }
 
+/// The output columns a reference giving `width` values is compared with:
+/// every output, or, for a function with `ptr<function, T>` parameters
+/// whose reference gives as many values as its return value has, only the
+/// return value's (the pointers' final values are then judged by the
+/// golden or a twin, which compare every output).
+pub fn reference_view<'g>(
+    program: &crate::eval::Program,
+    got: &'g [Vec<f64>],
+    width: usize,
+) -> &'g [Vec<f64>] {
+    if width != got.len() && !program.out_params().is_empty() {
+        let r = program.result().map_or(0, Ty::leaf_count);
+        if width == r && r > 0 {
+            return &got[..r];
+        }
+    }
+    got
+}
+
+/// How many values `expr` gives over `points` (1 or 3), when it binds.
+pub fn width_of(expr: &Expr, points: &Points) -> Option<usize> {
+    expr.bind(&points.names, &example(points)).ok().map(|b| b.width)
+}
+
 /// An example value per sweep parameter, for the trial evaluation that
 /// finds an expression's width (1 or 3).
 pub fn example(points: &Points) -> Vec<Value> {
@@ -160,7 +184,7 @@ struct Binder<'a> {
 }
 
 /// The children of a value node: (path, field name, type).
-fn children(path: &str, ty: &Ty) -> Vec<(String, Option<String>, Ty)> {
+pub(crate) fn children(path: &str, ty: &Ty) -> Vec<(String, Option<String>, Ty)> {
     match ty {
         Ty::Struct { members, .. } => members
             .iter()

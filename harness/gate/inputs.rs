@@ -83,10 +83,11 @@ pub fn bindings_of(
 /// The [`Build`] of a check, with its shader file (or `shader_path` instead,
 /// for comparing two versions of a file).
 pub fn build_of(suite: &Suite, check: &Check, shader_path: Option<&Path>) -> Result<Build, String> {
-    let path: PathBuf = shader_path
-        .map(Path::to_path_buf)
-        .unwrap_or_else(|| suite.resolve(&check.shader));
-    let shader = Shader::load_with(&path, &suite.limits).map_err(|d| d.rendered)?;
+    let paths: Vec<PathBuf> = match shader_path {
+        Some(p) => vec![p.to_path_buf()],
+        None => check.shaders.iter().map(|p| suite.resolve(p)).collect(),
+    };
+    let shader = Shader::load_files_with(&paths, &suite.limits).map_err(|d| d.rendered)?;
     let (textures, textures_at) = bindings_of(suite, check, Some(&shader))?;
     Ok(Build {
         shader,

@@ -55,7 +55,7 @@ pub fn run_check_explained(
     let range = point_range(check);
     let mut r = CheckResult {
         name: check.name.clone(),
-        shader: check.shader.display().to_string(),
+        shader: check.shader_label(),
         function: check.function.clone(),
         points: range.len(),
         verdict: Verdict::Error,
@@ -247,15 +247,16 @@ fn run_inner(
     }
     let half = ev.outputs.iter().any(|(_, k)| *k == ScalarKind::F16);
     let got = as_f64(&ev.output_columns, &ev.outputs);
-    r.issues = group_issues(&ev.issues, &check.shader, &ev.points);
+    r.issues = group_issues(&ev.issues, &ev.build.shader, &ev.points);
     if let Some(model) = check.reference {
+        let got = super::args::reference_view(&ev.program, &got, model.outputs);
         reference_fits(check, model, got.len())?;
         check_tolerance(suite, check, &check.tolerance, "tolerance", got.len())?;
         let want = reference_columns(check, model, &ev.points, &check.reference_args)?;
         let (c, findings) = comparison(
             check,
             format!("reference {}", model.name),
-            &got,
+            got,
             &want,
             &check.tolerance,
             half,
@@ -273,6 +274,8 @@ fn run_inner(
         r.findings.extend(findings);
     }
     if let Some(expr) = &check.reference_expr {
+        let width = super::args::width_of(expr, &ev.points).unwrap_or(got.len());
+        let got = super::args::reference_view(&ev.program, &got, width);
         check_tolerance(suite, check, &check.tolerance, "tolerance", got.len())?;
         let want = reference_expr_columns(check, expr, &ev.points, got.len())?;
         // No decomposition of an expression to search: the statistics and
@@ -280,7 +283,7 @@ fn run_inner(
         let (c, findings) = comparison(
             check,
             format!("reference {}", expr.text),
-            &got,
+            got,
             &want,
             &check.tolerance,
             half,
@@ -340,7 +343,7 @@ fn run_inner(
         )?;
         let path = suite.resolve(gpath);
         let mut g = golden::read_with(&path, &suite.limits).map_err(|d| d.rendered)?;
-        let shader = check.shader.display().to_string();
+        let shader = check.shader_label();
         let sweep = check.sweep.to_string();
         golden::check_identity(
             &path,
@@ -449,7 +452,7 @@ pub fn compare_functions(
         "golden_tolerance",
         gb.len(),
     )?;
-    let issues = group_issues(&b.issues, new, &b.points);
+    let issues = group_issues(&b.issues, &b.build.shader, &b.points);
     let changed = compare::changed_bits(&a.output_columns, &b.output_columns);
     let (c, mut findings) = comparison(
         check,

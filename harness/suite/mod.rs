@@ -61,8 +61,12 @@ pub use crate::eval::Arithmetic;
 #[derive(Clone, Debug)]
 pub struct Check {
     pub name: String,
-    /// As written in the suite (relative to the suite's folder).
+    /// As written in the suite (relative to the suite's folder); the first
+    /// file when `shader` lists several.
     pub shader: PathBuf,
+    /// Every file of `shader`, in order (one for a single file): they are
+    /// concatenated before naga sees them (WGSL has no include).
+    pub shaders: Vec<PathBuf>,
     pub function: String,
     pub overrides: BTreeMap<String, f64>,
     pub arithmetic: Arithmetic,
@@ -149,6 +153,19 @@ impl Check {
     /// Whether the check has a reference (a model or an expression).
     pub fn has_reference(&self) -> bool {
         self.reference.is_some() || self.reference_expr.is_some()
+    }
+}
+
+impl Check {
+    /// The check's shader as reports and golden headers name it: the file,
+    /// or the files joined by ` + ` in order.
+    pub fn shader_label(&self) -> String {
+        let names: Vec<String> = self
+            .shaders
+            .iter()
+            .map(|p| p.display().to_string())
+            .collect();
+        names.join(" + ")
     }
 }
 
@@ -284,7 +301,9 @@ pub fn parse_with(path: &Path, text: &str, options: Options) -> Result<Suite, Di
     let suite_name = path.file_name().map(PathBuf::from);
     let mut shaders: std::collections::HashMap<PathBuf, &str> = Default::default();
     for c in &checks {
-        shaders.entry(normalize(&c.shader)).or_insert(&c.name);
+        for f in &c.shaders {
+            shaders.entry(normalize(f)).or_insert(&c.name);
+        }
     }
     for c in &checks {
         let (Some(g), Some(at)) = (&c.golden, &c.golden_at) else {

@@ -18,6 +18,7 @@ mod quillmere;
 mod references;
 mod report_formats;
 mod runner;
+mod shapes;
 mod shards;
 mod suite_errors;
 mod textures;

@@ -219,6 +219,13 @@ mod tests {
     }
 
     #[test]
+    fn a_constructor_is_no_value_of_the_expression_language() {
+        let e = crate::sweep::Expr::parse_arg("Thing(r)", 64).unwrap();
+        let err = e.bind(&["r".into()], &[crate::sweep::Value::S(0.5)]).unwrap_err();
+        assert!(err.contains("can only stand as a whole argument"), "{err}");
+    }
+
+    #[test]
     fn errors_point_into_the_part() {
         let e = parse_arg("Material(vec3(a), r * * r)", 64).unwrap_err();
         // The second `*` of the second part.
