@@ -74,14 +74,22 @@ pub fn located(
     args: &BTreeMap<String, Expr>,
     points: &Points,
 ) -> Result<(), String> {
-    match bind(&check.function, program.params(), program.out_params(), args, points) {
+    match bind(
+        &check.function,
+        program.params(),
+        program.out_params(),
+        args,
+        points,
+    ) {
         Ok(_) => Ok(()),
         Err(e) => {
             let line = e
                 .key
                 .as_ref()
                 .and_then(|k| check.args_at.get(k))
-                .map_or(check.line, |span| crate::suite::line_col(&suite.text, span.start).0);
+                .map_or(check.line, |span| {
+                    crate::suite::line_col(&suite.text, span.start).0
+                });
             Err(format!(
                 "{}:{line}: check `{}`: {e}",
                 suite.path.display(),
@@ -112,7 +120,9 @@ pub fn reference_view<'g>(
 
 /// How many values `expr` gives over `points` (1 or 3), when it binds.
 pub fn width_of(expr: &Expr, points: &Points) -> Option<usize> {
-    expr.bind(&points.names, &example(points)).ok().map(|b| b.width)
+    expr.bind(&points.names, &example(points))
+        .ok()
+        .map(|b| b.width)
 }
 
 /// An example value per sweep parameter, for the trial evaluation that
@@ -151,8 +161,12 @@ pub fn bind(
         leaves: Vec::new(),
         used: BTreeSet::new(),
     };
-    // A key that names no part of any parameter is a typo: say so first.
-    for k in args.keys() {
+    // A key under a parameter that names no part of it is a typo: say so
+    // first. (A key naming no parameter at all is the suite's to refuse,
+    // `Suite::check_args`; a property's quadrature direction is such a
+    // key where the function does not take it.)
+    let is_param = |k: &str| params.iter().any(|(n, _)| n == root_of(k));
+    for k in args.keys().filter(|k| is_param(k)) {
         if !names_a_part(k, params) {
             return Err(unknown_path(k, params));
         }
@@ -161,7 +175,10 @@ pub fn bind(
         let out = out_params.iter().any(|(n, _)| n == name);
         b.node(name, name, None, ty, out)?;
     }
-    if let Some(k) = args.keys().find(|k| !b.used.contains(k.as_str())) {
+    if let Some(k) = args
+        .keys()
+        .find(|k| is_param(k) && !b.used.contains(k.as_str()))
+    {
         return Err(unknown_path(k, params));
     }
     Ok(Inputs {
@@ -259,9 +276,8 @@ impl<'a> Binder<'a> {
         // A scalar or vector leaf with no expression of its own.
         let sweep_name = field.unwrap_or(path);
         if self.points.names.iter().any(|n| n == sweep_name) {
-            let e = Expr::parse(sweep_name).map_err(|e| {
-                self.err(None, format!("sweep parameter `{sweep_name}`: {e}"))
-            })?;
+            let e = Expr::parse(sweep_name)
+                .map_err(|e| self.err(None, format!("sweep parameter `{sweep_name}`: {e}")))?;
             return self.plain(path, ty, &e, None);
         }
         if out {
@@ -345,7 +361,12 @@ impl<'a> Binder<'a> {
                 let (c, r) = (*columns as usize, *rows as usize);
                 if parts.len() == c {
                     for (i, p) in parts.iter().enumerate() {
-                        self.given_part(&format!("{path}[{i}]"), &Ty::Vector(*rows, *kind), p, key)?;
+                        self.given_part(
+                            &format!("{path}[{i}]"),
+                            &Ty::Vector(*rows, *kind),
+                            p,
+                            key,
+                        )?;
                     }
                     Ok(())
                 } else if parts.len() == c * r {
@@ -469,7 +490,12 @@ impl<'a> Binder<'a> {
         Ok(())
     }
 
-    fn bind_expr(&mut self, path: &str, e: &Expr, key: Option<&str>) -> Result<BoundExpr, ArgError> {
+    fn bind_expr(
+        &mut self,
+        path: &str,
+        e: &Expr,
+        key: Option<&str>,
+    ) -> Result<BoundExpr, ArgError> {
         e.bind(&self.points.names, &self.example)
             .map_err(|m| self.err(key, format!("`{path}`: `{}`: {m}", e.text)))
     }
@@ -543,9 +569,11 @@ fn unknown_path(key: &str, params: &[(String, Ty)]) -> ArgError {
     let mut path = root.to_string();
     loop {
         let parts = children(&path, &ty);
-        match parts.iter().find(|(p, _, _)| key.starts_with(p.as_str()) && {
-            let rest = &key[p.len()..];
-            rest.is_empty() || rest.starts_with(['.', '['])
+        match parts.iter().find(|(p, _, _)| {
+            key.starts_with(p.as_str()) && {
+                let rest = &key[p.len()..];
+                rest.is_empty() || rest.starts_with(['.', '['])
+            }
         }) {
             Some((p, _, t)) if p.len() < key.len() => {
                 path = p.clone();
@@ -560,7 +588,10 @@ fn unknown_path(key: &str, params: &[(String, Ty)]) -> ArgError {
                 };
                 return ArgError {
                     key: Some(key.into()),
-                    message: format!("`{path}` ({ty}) has no part `{}`; {has}", &key[path.len()..]),
+                    message: format!(
+                        "`{path}` ({ty}) has no part `{}`; {has}",
+                        &key[path.len()..]
+                    ),
                 };
             }
         }
@@ -614,15 +645,28 @@ mod tests {
         assert_eq!(fields.exprs.len(), 2);
         assert_eq!(fields.exprs[1].var, Some(1));
         let e = bound(material(), &[("m", "Material(d)")]).err().unwrap();
-        assert!(e.message.contains("has 1 parts; `Material` has 2 fields, in order: base: vec3<f32>, roughness: f32"), "{e}");
+        assert!(
+            e.message.contains(
+                "has 1 parts; `Material` has 2 fields, in order: base: vec3<f32>, roughness: f32"
+            ),
+            "{e}"
+        );
         let e = bound(material(), &[("m", "Stuff(d, r)")]).err().unwrap();
-        assert!(e.message.contains("constructs `Stuff`; write `Material(...)`"), "{e}");
+        assert!(
+            e.message
+                .contains("constructs `Stuff`; write `Material(...)`"),
+            "{e}"
+        );
         let e = bound(material(), &[("m", "Material(d, r)"), ("m.base", "d")])
             .err()
             .unwrap();
         assert_eq!(e.key.as_deref(), Some("m.base"));
         let e = bound(material(), &[("m.bsae", "d")]).err().unwrap();
-        assert!(e.message.contains("has no part `.bsae`; its parts are `m.base`, `m.roughness`"), "{e}");
+        assert!(
+            e.message
+                .contains("has no part `.bsae`; its parts are `m.base`, `m.roughness`"),
+            "{e}"
+        );
     }
 
     #[test]
@@ -636,33 +680,91 @@ mod tests {
         let e = bind("f", &[("m".into(), material())], &[], &args(&[]), &p)
             .err()
             .unwrap();
-        assert!(e.message.contains("`m.base` (vec3<f32>) has no expression"), "{e}");
+        assert!(
+            e.message.contains("`m.base` (vec3<f32>) has no expression"),
+            "{e}"
+        );
     }
 
     #[test]
     fn vectors_matrices_and_arrays() {
         let v4 = Ty::Vector(4, ScalarKind::F32);
-        assert_eq!(bound(v4.clone(), &[("m", "vec4(d, 1)")]).unwrap().leaves.len(), 4);
-        assert_eq!(bound(v4.clone(), &[("m", "vec4(r)")]).unwrap().leaves, vec![Leaf::Column(0); 4]);
-        assert_eq!(bound(v4.clone(), &[("m", "vec4(vec2(r, r), vec2(1, 2))")]).unwrap().leaves.len(), 4);
+        assert_eq!(
+            bound(v4.clone(), &[("m", "vec4(d, 1)")])
+                .unwrap()
+                .leaves
+                .len(),
+            4
+        );
+        assert_eq!(
+            bound(v4.clone(), &[("m", "vec4(r)")]).unwrap().leaves,
+            vec![Leaf::Column(0); 4]
+        );
+        assert_eq!(
+            bound(v4.clone(), &[("m", "vec4(vec2(r, r), vec2(1, 2))")])
+                .unwrap()
+                .leaves
+                .len(),
+            4
+        );
         let e = bound(v4.clone(), &[("m", "vec4(d)")]).err().unwrap();
         assert!(e.message.contains("its parts give 3 component(s)"), "{e}");
         let e = bound(v4.clone(), &[("m", "d")]).err().unwrap();
-        assert!(e.message.contains("is vec4<f32>, but `d` gives a vec3"), "{e}");
+        assert!(
+            e.message.contains("is vec4<f32>, but `d` gives a vec3"),
+            "{e}"
+        );
         let e = bound(v4, &[("m", "vec4<i32>(r)")]).err().unwrap();
         assert!(e.message.contains("they are `f32`"), "{e}");
-        let m3 = Ty::Matrix { columns: 3, rows: 3, kind: ScalarKind::F32 };
-        assert_eq!(bound(m3.clone(), &[("m", "mat3x3(d, d, vec3(0, 0, 1))")]).unwrap().leaves.len(), 9);
-        assert_eq!(bound(m3.clone(), &[("m", "mat3x3(1, 0, 0, 0, 1, 0, 0, 0, r)")]).unwrap().leaves.len(), 9);
+        let m3 = Ty::Matrix {
+            columns: 3,
+            rows: 3,
+            kind: ScalarKind::F32,
+        };
         assert_eq!(
-            bound(m3.clone(), &[("m[0]", "d"), ("m[1]", "d"), ("m[2]", "vec3(r)")]).unwrap().leaves.len(),
+            bound(m3.clone(), &[("m", "mat3x3(d, d, vec3(0, 0, 1))")])
+                .unwrap()
+                .leaves
+                .len(),
+            9
+        );
+        assert_eq!(
+            bound(m3.clone(), &[("m", "mat3x3(1, 0, 0, 0, 1, 0, 0, 0, r)")])
+                .unwrap()
+                .leaves
+                .len(),
+            9
+        );
+        assert_eq!(
+            bound(
+                m3.clone(),
+                &[("m[0]", "d"), ("m[1]", "d"), ("m[2]", "vec3(r)")]
+            )
+            .unwrap()
+            .leaves
+            .len(),
             9
         );
         let e = bound(m3, &[("m", "mat3x3(d, d)")]).err().unwrap();
-        assert!(e.message.contains("give 3 columns (vec3) or 9 scalars"), "{e}");
+        assert!(
+            e.message.contains("give 3 columns (vec3) or 9 scalars"),
+            "{e}"
+        );
         let a = Ty::Array(Box::new(Ty::Scalar(ScalarKind::F32)), 3);
-        assert_eq!(bound(a.clone(), &[("m", "array(r, 2, 3)")]).unwrap().leaves.len(), 3);
-        assert_eq!(bound(a.clone(), &[("m[0]", "r"), ("m[1]", "1"), ("m[2]", "2")]).unwrap().leaves.len(), 3);
+        assert_eq!(
+            bound(a.clone(), &[("m", "array(r, 2, 3)")])
+                .unwrap()
+                .leaves
+                .len(),
+            3
+        );
+        assert_eq!(
+            bound(a.clone(), &[("m[0]", "r"), ("m[1]", "1"), ("m[2]", "2")])
+                .unwrap()
+                .leaves
+                .len(),
+            3
+        );
         let e = bound(a, &[("m", "array(r, 2)")]).err().unwrap();
         assert!(e.message.contains("has 2 elements; the array has 3"), "{e}");
     }
@@ -673,19 +775,37 @@ mod tests {
             name: "Layered".into(),
             members: vec![
                 ("top".into(), material()),
-                ("weights".into(), Ty::Array(Box::new(Ty::Scalar(ScalarKind::F32)), 2)),
+                (
+                    "weights".into(),
+                    Ty::Array(Box::new(Ty::Scalar(ScalarKind::F32)), 2),
+                ),
             ],
         };
-        let b = bound(outer.clone(), &[("m", "Layered(Material(d, r), array(r, 1 - r))")]).unwrap();
+        let b = bound(
+            outer.clone(),
+            &[("m", "Layered(Material(d, r), array(r, 1 - r))")],
+        )
+        .unwrap();
         assert_eq!(b.leaves.len(), 6);
-        let b = bound(outer, &[("m.top.base", "d"), ("m.weights", "array(0.5, 0.5)")]).unwrap();
+        let b = bound(
+            outer,
+            &[("m.top.base", "d"), ("m.weights", "array(0.5, 0.5)")],
+        )
+        .unwrap();
         assert_eq!(b.leaves.len(), 6);
     }
 
     #[test]
     fn an_out_parameter_starts_at_zero() {
         let ty = Ty::Vector(3, ScalarKind::F32);
-        let b = bind("f", &[("out_n".into(), ty.clone())], &[("out_n".into(), ty)], &args(&[]), &points()).unwrap();
+        let b = bind(
+            "f",
+            &[("out_n".into(), ty.clone())],
+            &[("out_n".into(), ty)],
+            &args(&[]),
+            &points(),
+        )
+        .unwrap();
         assert_eq!(b.leaves, vec![Leaf::Zero; 3]);
     }
 }

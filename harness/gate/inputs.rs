@@ -352,7 +352,9 @@ fn input_columns(
         .par_iter()
         .zip(kinds.par_iter())
         .map(|(leaf, &k)| match *leaf {
-            super::args::Leaf::Column(c) => f64_cols[c].iter().map(|&x| f64_to_bits(k, x)).collect(),
+            super::args::Leaf::Column(c) => {
+                f64_cols[c].iter().map(|&x| f64_to_bits(k, x)).collect()
+            }
             super::args::Leaf::Zero => vec![f64_to_bits(k, 0.0); points.len],
         })
         .collect())

@@ -49,11 +49,7 @@ pub fn columns_of_points(program: &Program, points: &[String]) -> Result<Vec<Vec
             point_node(pi + 1, name, name, ty, out, &given, &mut used, &mut row)?;
         }
         if let Some(extra) = given.keys().find(|k| !used.contains(k)) {
-            let names: Vec<String> = program
-                .input_leaves()
-                .into_iter()
-                .map(|l| l.0)
-                .collect();
+            let names: Vec<String> = program.input_leaves().into_iter().map(|l| l.0).collect();
             return Err(format!(
                 "--point {}: `{}` has no argument or part `{extra}` (its input leaves: {})",
                 pi + 1,
@@ -125,7 +121,9 @@ fn point_node(
         )
     };
     if path == param {
-        Err(format!("--point {point}: missing argument `{param}` ({ty}){how}"))
+        Err(format!(
+            "--point {point}: missing argument `{param}` ({ty}){how}"
+        ))
     } else {
         Err(format!(
             "--point {point}: missing `{path}` ({ty}) of argument `{param}`{how}"
@@ -169,16 +167,16 @@ fn read_csv_with(
             continue;
         }
         let i = found.ok_or_else(|| {
-                format!(
-                    "{}:1: no column `{name}` (the function's inputs are: {})",
-                    path.display(),
-                    leaves
-                        .iter()
-                        .map(|l| l.0.as_str())
-                        .collect::<Vec<_>>()
-                        .join(", ")
-                )
-            })?;
+            format!(
+                "{}:1: no column `{name}` (the function's inputs are: {})",
+                path.display(),
+                leaves
+                    .iter()
+                    .map(|l| l.0.as_str())
+                    .collect::<Vec<_>>()
+                    .join(", ")
+            )
+        })?;
         index.push(Some(i));
     }
     for (row, rec) in r.records().enumerate() {

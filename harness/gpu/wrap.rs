@@ -159,8 +159,7 @@ pub fn wrap(shader: &Shader, function: &str) -> Result<Wrapped, WrapError> {
     }
     let result = match &func.result {
         Some(res) => Some(
-            ty_of(module, res.ty)
-                .map_err(|e| WrapError(format!("result of `{function}`: {e}")))?,
+            ty_of(module, res.ty).map_err(|e| WrapError(format!("result of `{function}`: {e}")))?,
         ),
         None => None,
     };

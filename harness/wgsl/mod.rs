@@ -268,8 +268,7 @@ fn front_end(
                 }
                 let mut d = map.diagnostic(span, format!("validation failed: {message}"));
                 if map.single() {
-                    let naga_text =
-                        e.emit_to_string_with_path(source, &path.display().to_string());
+                    let naga_text = e.emit_to_string_with_path(source, &path.display().to_string());
                     d.rendered = format!("{}\n{}", d.rendered, naga_text);
                 } else {
                     for (s, label) in e.spans() {

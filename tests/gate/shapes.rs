@@ -50,7 +50,12 @@ fn a_struct_given_whole_or_by_fields_passes_and_a_wrong_formula_fails() {
         "shade",
         &format!("args = {{ \"m.base\" = \"vec3(albedo, 0, 0)\" }}\nreference = \"albedo * roughness + x\"\n{TOL}[check.sweep]\nalbedo = {{ linear = [0.0, 1.0, 5] }}\nroughness = {{ linear = [0.1, 1.0, 4] }}\nx = {{ list = [0.0, 0.5] }}\n"),
     );
-    assert_eq!(run("fields", &fields).verdict, Verdict::Pass, "{:#?}", run("fields", &fields));
+    assert_eq!(
+        run("fields", &fields).verdict,
+        Verdict::Pass,
+        "{:#?}",
+        run("fields", &fields)
+    );
     let wrong = check(
         "shade",
         &format!("args = {{ m = \"Material(vec3(albedo), r * r)\" }}\nreference = \"albedo * r + x\"\n{TOL}{sweep}"),
@@ -78,8 +83,14 @@ fn nested_structs_with_arrays_vectors_and_matrices() {
     assert_eq!(run("uv", &uv).verdict, Verdict::Pass);
     // Rotation about z, written as columns and as nine scalars.
     for (test, m) in [
-        ("columns", "mat3x3(vec3(cos(a), sin(a), 0), vec3(-sin(a), cos(a), 0), vec3(0, 0, 1))"),
-        ("scalars", "mat3x3(cos(a), sin(a), 0, -sin(a), cos(a), 0, 0, 0, 1)"),
+        (
+            "columns",
+            "mat3x3(vec3(cos(a), sin(a), 0), vec3(-sin(a), cos(a), 0), vec3(0, 0, 1))",
+        ),
+        (
+            "scalars",
+            "mat3x3(cos(a), sin(a), 0, -sin(a), cos(a), 0, 0, 0, 1)",
+        ),
     ] {
         let rot = check(
             "apply",
@@ -99,7 +110,12 @@ fn out_parameters_are_outputs_judged_by_the_reference() {
     // A function with no return value: its out-parameter is its output.
     let sweep = "[check.sweep]\nx = { linear = [-2.0, 2.0, 9] }\n";
     let right = check("split", &format!("args = {{ x = \"w + f\" }}\nreference = \"w\"\n{TOL}[check.sweep]\nw = {{ list = [-2.0, -1.0, 0.0, 1.0] }}\nf = {{ list = [0.0, 0.25, 0.75] }}\n"));
-    assert_eq!(run("split", &right).verdict, Verdict::Pass, "{:#?}", run("split", &right));
+    assert_eq!(
+        run("split", &right).verdict,
+        Verdict::Pass,
+        "{:#?}",
+        run("split", &right)
+    );
     let wrong = right.replace("\"split\"", "\"split_wrong\"");
     let r = run("split_wrong", &wrong);
     assert_eq!(r.verdict, Verdict::Fail);
@@ -139,7 +155,9 @@ fn a_function_without_arguments_needs_no_sweep() {
 /// The error of the first check, which must fail to run.
 fn error(test: &str, body: &str) -> String {
     let r = run(test, body);
-    r.error.clone().unwrap_or_else(|| panic!("no error: {r:#?}"))
+    r.error
+        .clone()
+        .unwrap_or_else(|| panic!("no error: {r:#?}"))
 }
 
 #[test]
@@ -148,35 +166,65 @@ fn malformed_shapes_are_located_errors() {
     let sweep = "[check.sweep]\nr = { linear = [0.1, 1.0, 4] }\nx = { list = [0.0] }\n";
     let e = error(
         "parts",
-        &check("shade", &format!("args = {{ m = \"Material(vec3(r))\" }}\nreference = \"r\"\n{TOL}{sweep}")),
+        &check(
+            "shade",
+            &format!("args = {{ m = \"Material(vec3(r))\" }}\nreference = \"r\"\n{TOL}{sweep}"),
+        ),
     );
-    assert!(e.contains(&at(5)) && e.contains("key `args.m`") && e.contains("`Material` has 2 fields, in order: base: vec3<f32>, roughness: f32"), "{e}");
+    assert!(
+        e.contains(&at(5))
+            && e.contains("key `args.m`")
+            && e.contains("`Material` has 2 fields, in order: base: vec3<f32>, roughness: f32"),
+        "{e}"
+    );
     let e = error(
         "field",
         &check("shade", &format!("reference = \"r\"\n{TOL}{sweep}")),
     );
-    assert!(e.contains("`m.base` (vec3<f32>) has no expression") && e.contains("the whole `m = \"Material(...)\"`"), "{e}");
+    assert!(
+        e.contains("`m.base` (vec3<f32>) has no expression")
+            && e.contains("the whole `m = \"Material(...)\"`"),
+        "{e}"
+    );
     let e = error(
         "typo",
         &check("shade", &format!("args = {{ \"m.rough\" = \"r\", \"m.base\" = \"vec3(r)\" }}\nreference = \"r\"\n{TOL}{sweep}")),
     );
-    assert!(e.contains(&at(5)) && e.contains("`m` (Material) has no part `.rough`; its parts are `m.base`, `m.roughness`"), "{e}");
+    assert!(
+        e.contains(&at(5))
+            && e.contains(
+                "`m` (Material) has no part `.rough`; its parts are `m.base`, `m.roughness`"
+            ),
+        "{e}"
+    );
     let e = error(
         "vec4",
-        &check("luma", &format!("args = {{ c = \"vec4(vec3(r), r, r)\" }}\nreference = \"r\"\n{TOL}{sweep}")),
+        &check(
+            "luma",
+            &format!("args = {{ c = \"vec4(vec3(r), r, r)\" }}\nreference = \"r\"\n{TOL}{sweep}"),
+        ),
     );
-    assert!(e.contains("`c` is vec4<f32>, but its parts give 5 component(s)"), "{e}");
+    assert!(
+        e.contains("`c` is vec4<f32>, but its parts give 5 component(s)"),
+        "{e}"
+    );
     // A constructor inside an expression is refused when the suite is read.
     let e = super::common::project(
         "shapes",
         "inside",
         LIB,
-        &check("luma", &format!("args = {{ c = \"vec4(r) * 2\" }}\nreference = \"r\"\n{TOL}{sweep}")),
+        &check(
+            "luma",
+            &format!("args = {{ c = \"vec4(r) * 2\" }}\nreference = \"r\"\n{TOL}{sweep}"),
+        ),
     )
     .err()
     .unwrap();
-    assert!(e.rendered.contains("shadegate.toml:5:15: error: key `args.c`: unknown function `vec4`"), "{e}");
-
+    assert!(
+        e.rendered
+            .contains("shadegate.toml:5:15: error: key `args.c`: unknown function `vec4`"),
+        "{e}"
+    );
 }
 
 #[test]
@@ -189,24 +237,50 @@ fn eval_takes_structs_by_parts_and_prints_out_parameters() {
     )
     .unwrap();
     let out = super::common::shadegate(
-        &["eval", "lib.wgsl", "shade", "--point", "m.base=1;2;3,m.roughness=0.5,x=0.25"],
+        &[
+            "eval",
+            "lib.wgsl",
+            "shade",
+            "--point",
+            "m.base=1;2;3,m.roughness=0.5,x=0.25",
+        ],
         &dir,
     );
     let text = String::from_utf8_lossy(&out.stdout);
-    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
-    assert_eq!(text, "m.base.x,m.base.y,m.base.z,m.roughness,x,result\n1.0,2.0,3.0,0.5,0.25,0.75\n");
-    let out = super::common::shadegate(&["eval", "lib.wgsl", "shade", "--point", "m=0.5;0;0;2,x=0"], &dir);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    assert_eq!(
+        text,
+        "m.base.x,m.base.y,m.base.z,m.roughness,x,result\n1.0,2.0,3.0,0.5,0.25,0.75\n"
+    );
+    let out = super::common::shadegate(
+        &["eval", "lib.wgsl", "shade", "--point", "m=0.5;0;0;2,x=0"],
+        &dir,
+    );
     assert!(String::from_utf8_lossy(&out.stdout).ends_with("0.5,0.0,0.0,2.0,0.0,1.0\n"));
-    let out = super::common::shadegate(&["eval", "lib.wgsl", "frac_and_whole", "--point", "x=2.75"], &dir);
+    let out = super::common::shadegate(
+        &["eval", "lib.wgsl", "frac_and_whole", "--point", "x=2.75"],
+        &dir,
+    );
     assert_eq!(
         String::from_utf8_lossy(&out.stdout),
         "x,*whole,result,whole\n2.75,0.0,0.75,2.0\n"
     );
+    // One value for a vector is the splat: a grey of 0.5 with alpha 0.5.
     let out = super::common::shadegate(&["eval", "lib.wgsl", "luma", "--point", "c=0.5"], &dir);
-    assert!(String::from_utf8_lossy(&out.stdout).ends_with("0.5,0.5,0.5,0.5,0.125\n"));
-    let out = super::common::shadegate(&["eval", "lib.wgsl", "shade", "--point", "m.base=1;2;3,x=0"], &dir);
+    assert!(String::from_utf8_lossy(&out.stdout).ends_with("\n0.5,0.5,0.5,0.5,0.25\n"));
+    let out = super::common::shadegate(
+        &["eval", "lib.wgsl", "shade", "--point", "m.base=1;2;3,x=0"],
+        &dir,
+    );
     let err = String::from_utf8_lossy(&out.stderr);
-    assert!(err.contains("missing `m.roughness` (f32) of argument `m`"), "{err}");
+    assert!(
+        err.contains("missing `m.roughness` (f32) of argument `m`"),
+        "{err}"
+    );
 }
 
 #[test]
@@ -219,13 +293,22 @@ fn several_files_are_one_shader_and_every_diagnostic_names_its_own_file() {
     )
     .unwrap();
     let write = |name: &str, text: &str| std::fs::write(dir.join(name), text).unwrap();
-    write("common.wgsl", "const SCALE: f32 = 2.0;\nfn twice(x: f32) -> f32 { return SCALE * x; }\n");
+    write(
+        "common.wgsl",
+        "const SCALE: f32 = 2.0;\nfn twice(x: f32) -> f32 { return SCALE * x; }\n",
+    );
     write(
         "main.wgsl",
         "// uses common.wgsl\nfn four_times(x: f32) -> f32 { return twice(twice(x)); }\nfn guarded(x: f32) -> f32 {\n    let a = array<f32, 2>(1.0, 2.0);\n    return a[i32(x)];\n}\n",
     );
-    write("broken.wgsl", "fn oops(x: f32) -> f32 {\n    return x +;\n}\n");
-    write("invalid.wgsl", "fn bad(x: f32) -> f32 {\n    return twice(true);\n}\n");
+    write(
+        "broken.wgsl",
+        "fn oops(x: f32) -> f32 {\n    return x +;\n}\n",
+    );
+    write(
+        "invalid.wgsl",
+        "fn bad(x: f32) -> f32 {\n    return twice(true);\n}\n",
+    );
     let suite = |function: &str, files: &str, body: &str| {
         format!("[[check]]\nname = \"c\"\nshader = {files}\nfunction = \"{function}\"\n{body}")
     };
@@ -254,12 +337,20 @@ fn several_files_are_one_shader_and_every_diagnostic_names_its_own_file() {
     ));
     assert_eq!(r.verdict, Verdict::Pass, "{r:#?}");
     // A parse error in the second file names it and its own line.
-    let r = run(&suite("oops", "[\"common.wgsl\", \"broken.wgsl\"]", "golden = true\n[check.sweep]\nx = { list = [1.0] }\n"));
+    let r = run(&suite(
+        "oops",
+        "[\"common.wgsl\", \"broken.wgsl\"]",
+        "golden = true\n[check.sweep]\nx = { list = [1.0] }\n",
+    ));
     let e = r.error.unwrap();
     assert!(e.contains("broken.wgsl:2:"), "{e}");
     assert!(!e.contains("common.wgsl:"), "{e}");
     // A validation error too.
-    let r = run(&suite("bad", "[\"common.wgsl\", \"invalid.wgsl\"]", "golden = true\n[check.sweep]\nx = { list = [1.0] }\n"));
+    let r = run(&suite(
+        "bad",
+        "[\"common.wgsl\", \"invalid.wgsl\"]",
+        "golden = true\n[check.sweep]\nx = { list = [1.0] }\n",
+    ));
     let e = r.error.unwrap();
     assert!(e.contains("invalid.wgsl:2:"), "{e}");
     // A per-point issue (an index out of bounds) in the second file.
@@ -269,11 +360,55 @@ fn several_files_are_one_shader_and_every_diagnostic_names_its_own_file() {
         &format!("reference = \"1\"\n{TOL}[check.sweep]\nx = {{ list = [0.0, 5.0] }}\n"),
     ));
     assert!(
-        r.issues.iter().any(|g| g.location.ends_with("/main.wgsl:5:12")),
+        r.issues
+            .iter()
+            .any(|g| g.location.ends_with("/main.wgsl:5:12")),
         "{:#?}",
         r.issues
     );
     // A missing file is named.
-    let r = run(&suite("oops", "[\"common.wgsl\", \"nope.wgsl\"]", "golden = true\n[check.sweep]\nx = { list = [1.0] }\n"));
-    assert!(r.error.unwrap().contains("nope.wgsl: error: cannot read WGSL file"));
+    let r = run(&suite(
+        "oops",
+        "[\"common.wgsl\", \"nope.wgsl\"]",
+        "golden = true\n[check.sweep]\nx = { list = [1.0] }\n",
+    ));
+    assert!(r
+        .error
+        .unwrap()
+        .contains("nope.wgsl: error: cannot read WGSL file"));
+}
+
+#[test]
+fn eval_of_a_check_with_several_files_uses_all_of_them() {
+    let dir = std::env::temp_dir().join(format!(
+        "shadegate-gate-shapes-{}-eval-files",
+        std::process::id()
+    ));
+    let _ = std::fs::remove_dir_all(&dir);
+    std::fs::create_dir_all(&dir).unwrap();
+    std::fs::write(
+        dir.join("common.wgsl"),
+        "fn twice(x: f32) -> f32 { return 2.0 * x; }\n",
+    )
+    .unwrap();
+    std::fs::write(
+        dir.join("main.wgsl"),
+        "fn four_times(x: f32) -> f32 { return twice(twice(x)); }\n",
+    )
+    .unwrap();
+    std::fs::write(
+        dir.join("shadegate.toml"),
+        format!("[[check]]\nname = \"c\"\nshader = [\"common.wgsl\", \"main.wgsl\"]\nfunction = \"four_times\"\nreference = \"4 * x\"\n{TOL}[check.sweep]\nx = {{ list = [0.5, 1.0] }}\n"),
+    )
+    .unwrap();
+    let out = super::common::shadegate(&["eval", "main.wgsl", "four_times", "--check", "c"], &dir);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    assert_eq!(
+        String::from_utf8_lossy(&out.stdout),
+        "x,result\n0.5,2.0\n1.0,4.0\n"
+    );
 }

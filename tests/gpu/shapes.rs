@@ -25,7 +25,10 @@ fn both(x: f32, acc: ptr<function, vec2<f32>>) -> f32 {
 "#;
 
 fn column(values: &[f32]) -> Vec<u32> {
-    values.iter().map(|&v| f64_to_bits(ScalarKind::F32, f64::from(v))).collect()
+    values
+        .iter()
+        .map(|&v| f64_to_bits(ScalarKind::F32, f64::from(v)))
+        .collect()
 }
 
 #[test]

@@ -11,7 +11,8 @@
 //! `primary := number | name | name '(' args ')' | '(' expr ')'`.
 //! Constants: `pi`. Functions: sqrt, abs, sin, cos, tan, asin, acos, atan,
 //! atan2, exp, log, pow, min, max, clamp, saturate, radians, degrees, dot,
-//! cross, length, normalize, vec3, mix.
+//! cross, length, normalize, vec3 (`vec3(x)` is the splat), mix. A function argument may
+//! also be a constructor of its type as a whole ([`Expr::parse_arg`], see `shape`).
 //!
 //! A *reference expression* ([`Expr::parse_reference`]) may also call the
 //! reference models of [`crate::reference`] by name: `lambert * n_dot_l`,

@@ -86,7 +86,10 @@ struct Call {
 /// parenthesis is the last character, else `None`.
 fn whole_call(t: &str) -> Option<Call> {
     let b = t.as_bytes();
-    if !b.first().is_some_and(|c| c.is_ascii_alphabetic() || *c == b'_') {
+    if !b
+        .first()
+        .is_some_and(|c| c.is_ascii_alphabetic() || *c == b'_')
+    {
         return None;
     }
     let mut i = 0;
@@ -181,7 +184,10 @@ mod tests {
     fn constructors_keep_their_parts() {
         assert_eq!(
             ctor("Material(vec3(albedo), r * r)"),
-            ("Material".into(), vec!["vec3(albedo)".into(), "r * r".into()])
+            (
+                "Material".into(),
+                vec!["vec3(albedo)".into(), "r * r".into()]
+            )
         );
         assert_eq!(
             ctor(" vec4<f32>(c, 1) "),
@@ -205,10 +211,7 @@ mod tests {
     fn ordinary_expressions_stay_ordinary() {
         for text in ["vec3(a, b, c)", "normalize(v + l)", "r * r", "f(a) + g(b)"] {
             let n = parse_arg(text, 64);
-            assert!(
-                !matches!(n, Ok(Node::Construct(..))),
-                "{text}: {n:?}"
-            );
+            assert!(!matches!(n, Ok(Node::Construct(..))), "{text}: {n:?}");
         }
         // The splat is the vec3 of one value three times.
         let x = Node::Var("x".into());
@@ -221,7 +224,9 @@ mod tests {
     #[test]
     fn a_constructor_is_no_value_of_the_expression_language() {
         let e = crate::sweep::Expr::parse_arg("Thing(r)", 64).unwrap();
-        let err = e.bind(&["r".into()], &[crate::sweep::Value::S(0.5)]).unwrap_err();
+        let err = e
+            .bind(&["r".into()], &[crate::sweep::Value::S(0.5)])
+            .unwrap_err();
         assert!(err.contains("can only stand as a whole argument"), "{err}");
     }
 
@@ -233,6 +238,9 @@ mod tests {
         let e = parse_arg("vec4(a, , b)", 64).unwrap_err();
         assert!(e.message.contains("empty part"), "{e}");
         let deep = format!("{}1{}", "A(".repeat(10), ")".repeat(10));
-        assert!(parse_arg(&deep, 4).unwrap_err().message.contains("nested deeper"));
+        assert!(parse_arg(&deep, 4)
+            .unwrap_err()
+            .message
+            .contains("nested deeper"));
     }
 }
