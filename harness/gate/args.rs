@@ -290,7 +290,7 @@ impl<'a> Binder<'a> {
             return Err(self.err(
                 None,
                 format!(
-                    "argument `{param}` ({ty}) of `{}` has no expression and no sweep parameter of that name (sweep: {sweep})",
+                    "argument `{param}` has no expression and no sweep parameter of that name (`{param}`: {ty} of `{}`; sweep: {sweep})",
                     self.function
                 ),
             ));

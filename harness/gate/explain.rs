@@ -590,12 +590,18 @@ fn attribute_call(
 }
 
 /// The evaluator's per-point issues grouped by kind, message and source site.
-/// Each issue's place is its own file and line ([`Shader::location`]), also
-/// when the shader is several files.
-pub fn group_issues(issues: &[LaneIssue], shader: &Shader, points: &Points) -> Vec<IssueGroup> {
+/// Each issue's place is its own file and line, also when the shader is
+/// several files, each file named as in `names` (the suite's spelling; see
+/// [`Shader::location_named`]).
+pub fn group_issues(
+    issues: &[LaneIssue],
+    shader: &Shader,
+    names: &[std::path::PathBuf],
+    points: &Points,
+) -> Vec<IssueGroup> {
     let mut groups: Vec<IssueGroup> = Vec::new();
     for i in issues {
-        let location = shader.location(i.line, i.column);
+        let location = shader.location_named(i.line, i.column, names);
         let kind = serde_json::to_value(i.kind)
             .ok()
             .and_then(|v| v.as_str().map(str::to_string))

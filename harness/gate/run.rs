@@ -247,7 +247,7 @@ fn run_inner(
     }
     let half = ev.outputs.iter().any(|(_, k)| *k == ScalarKind::F16);
     let got = as_f64(&ev.output_columns, &ev.outputs);
-    r.issues = group_issues(&ev.issues, &ev.build.shader, &ev.points);
+    r.issues = group_issues(&ev.issues, &ev.build.shader, &check.shaders, &ev.points);
     if let Some(model) = check.reference {
         let got = super::args::reference_view(&ev.program, &got, model.outputs);
         reference_fits(check, model, got.len())?;
@@ -452,7 +452,7 @@ pub fn compare_functions(
         "golden_tolerance",
         gb.len(),
     )?;
-    let issues = group_issues(&b.issues, &b.build.shader, &b.points);
+    let issues = group_issues(&b.issues, &b.build.shader, &[new.to_path_buf()], &b.points);
     let changed = compare::changed_bits(&a.output_columns, &b.output_columns);
     let (c, mut findings) = comparison(
         check,

@@ -340,11 +340,27 @@ impl Shader {
     /// `file:line:column` of a line and column of the (concatenated)
     /// source; just `file` for line 0 (no position).
     pub fn location(&self, line: u32, column: u32) -> String {
+        self.location_named(line, column, &[])
+    }
+
+    /// [`Shader::location`] with each file named as in `names` (one per
+    /// part, e.g. as the suite writes them) instead of its loaded path;
+    /// loaded paths when the counts differ.
+    pub fn location_named(&self, line: u32, column: u32, names: &[PathBuf]) -> String {
+        let named = names.len() == self.parts.len();
         if line == 0 {
+            if named {
+                let all: Vec<String> = names.iter().map(|p| p.display().to_string()).collect();
+                return all.join(" + ");
+            }
             return self.path.display().to_string();
         }
-        let (file, l) = self.place(line);
-        format!("{}:{l}:{column}", file.display())
+        let i = self.parts.partition_point(|p| p.first_line <= line);
+        let Some(part) = self.parts.get(i.wrapping_sub(1)) else {
+            return format!("{}:{line}:{column}", self.path.display());
+        };
+        let file = if named { &names[i - 1] } else { &part.path };
+        format!("{}:{}:{column}", file.display(), line - part.first_line + 1)
     }
 }
 
