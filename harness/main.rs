@@ -556,15 +556,14 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
                 c.function = function.clone();
                 c.overrides.extend(ov.clone());
                 c.arithmetic = Arithmetic::Exact;
-                let ev = gate::evaluate(&s, &c, Some(&shader)).map_err(Bad)?;
+                let ev = gate::evaluate(&s, &c, own_files(&s, &c, &shader)).map_err(Bad)?;
                 let budget = shadegate::precision::budget_of_check(&s, &c, &ev).map_err(Bad)?;
                 (ev.program, ev.input_columns, Some(budget))
             } else {
                 let program = Program::compile_with(&sh, &function, &ov, Arithmetic::Exact)
                     .map_err(|d| Bad(d.rendered))?;
-                let leaves = program.input_leaves();
                 let cols = match input {
-                    Some(path) => table::read_csv(&path, &leaves).map_err(Bad)?,
+                    Some(path) => table::read_program_csv(&path, &program).map_err(Bad)?,
                     None => table::columns_of_points(&program, &points).map_err(Bad)?,
                 };
                 (std::sync::Arc::new(program), cols, None)
@@ -701,7 +700,7 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
                 out.push_str(&format!(
                     "{}  {}::{}  {}  against {}\n",
                     c.name,
-                    c.shader.display(),
+                    c.shader_label(),
                     c.function,
                     plural(c.sweep.len(), "point"),
                     against.join(" and ")
@@ -847,7 +846,7 @@ fn eval_csv(
         c.function = function.to_string();
         c.overrides.extend(overrides.clone());
         c.arithmetic = arith;
-        let ev = gate::evaluate(&s, &c, Some(shader)).map_err(Bad)?;
+        let ev = gate::evaluate(&s, &c, own_files(&s, &c, shader)).map_err(Bad)?;
         if want.judge {
             let detail = shadegate::detail::CheckPoints::judge(&s, &c, ev).map_err(Bad)?;
             judged = Some(detail.judge_columns());
@@ -866,7 +865,7 @@ fn eval_csv(
             Program::compile_with(&sh, function, overrides, arith).map_err(|d| Bad(d.rendered))?;
         let leaves = program.input_leaves();
         let mut cols = match input {
-            Some(path) => table::read_csv(path, &leaves).map_err(Bad)?,
+            Some(path) => table::read_program_csv(path, &program).map_err(Bad)?,
             None => table::columns_of_points(&program, points).map_err(Bad)?,
         };
         let refs: Vec<&[u32]> = cols.iter().map(|c| &c[..]).collect();
@@ -881,6 +880,21 @@ fn eval_csv(
     let csv = table::write_csv_with(&leaves, &cols, want.bits, extra).map_err(Bad)?;
     cols.clear();
     Ok((csv, issues.len()))
+}
+
+/// The shader file to evaluate a check's function in: `shader`, or `None`
+/// (the check's own files, all of them in order) when the check lists
+/// several files and `shader` is one of them.
+fn own_files<'a>(s: &Suite, c: &Check, shader: &'a Path) -> Option<&'a Path> {
+    let same = |p: &Path| match (p.canonicalize(), shader.canonicalize()) {
+        (Ok(a), Ok(b)) => a == b,
+        _ => false,
+    };
+    if c.shaders.len() > 1 && c.shaders.iter().any(|p| same(&s.resolve(p))) {
+        None
+    } else {
+        Some(shader)
+    }
 }
 
 fn print_issues(issues: &[shadegate::eval::LaneIssue]) {

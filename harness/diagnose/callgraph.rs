@@ -419,6 +419,7 @@ pub fn capture(
         source: shader.source.clone(),
         module,
         info,
+        parts: shader.parts.clone(),
     };
 
     let mut columns = Vec::new();

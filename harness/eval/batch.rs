@@ -159,11 +159,7 @@ impl Program {
     }
 
     fn output_kinds(&self) -> Vec<ScalarKind> {
-        self.code
-            .result
-            .as_ref()
-            .map(|t| t.leaves())
-            .unwrap_or_default()
+        self.code.output_kinds()
     }
 
     fn load_batch(

@@ -152,6 +152,9 @@ pub(crate) struct Code {
     /// One slot per input leaf, in [`Code::params`] order.
     pub input_slots: Vec<Slot>,
     pub result: Option<Ty>,
+    /// The `ptr<function, T>` parameters (also in `params`: their initial
+    /// values are inputs), whose final values are outputs after the result's.
+    pub out_params: Vec<(String, Ty)>,
     /// One slot per output leaf (may be an input or constant slot when the
     /// function returns one unchanged).
     pub output_slots: Vec<Slot>,
@@ -159,4 +162,16 @@ pub(crate) struct Code {
     pub root_mask: Slot,
     /// Constant slots and their bit patterns, written once per machine.
     pub consts: Vec<(Slot, u32)>,
+}
+
+impl Code {
+    /// The kind of every output leaf: the result's, then each pointer
+    /// parameter's final value.
+    pub fn output_kinds(&self) -> Vec<crate::values::ScalarKind> {
+        let mut kinds = self.result.as_ref().map(|t| t.leaves()).unwrap_or_default();
+        for (_, t) in &self.out_params {
+            kinds.extend(t.leaves());
+        }
+        kinds
+    }
 }

@@ -163,7 +163,7 @@ impl Program {
         })?;
         // An output slot may be written straight into the output column when
         // it belongs to no input, constant or other output.
-        let out_kinds = code.result.as_ref().map(|t| t.leaves()).unwrap_or_default();
+        let out_kinds = code.output_kinds();
         let own_output = code
             .output_slots
             .iter()
@@ -206,25 +206,49 @@ impl Program {
         self.code.result.as_ref()
     }
 
-    /// Flattened argument leaves in order, named `arg.x`, `arg[1]`, ...
+    /// Flattened argument leaves in order, named `arg.x`, `arg[1]`, ...; a
+    /// `ptr<function, T>` parameter's initial value is named `*arg`,
+    /// `*arg.x`, ... (its final value is the output `arg`, `arg.x`, ...).
     pub fn input_leaves(&self) -> Vec<(String, ScalarKind)> {
         self.code
             .params
             .iter()
-            .flat_map(|(name, ty)| ty.leaf_names(name).into_iter().zip(ty.leaves()))
+            .flat_map(|(name, ty)| {
+                let pointer = self.code.out_params.iter().any(|(n, _)| n == name);
+                let prefix = if pointer {
+                    format!("*{name}")
+                } else {
+                    name.clone()
+                };
+                ty.leaf_names(&prefix).into_iter().zip(ty.leaves())
+            })
             .collect()
     }
 
-    /// Flattened result leaves, named `result`, `result.x`, `result.field`, ...
+    /// Flattened result leaves, named `result`, `result.x`, `result.field`, ...,
+    /// then each `ptr<function, T>` parameter's final value, named after the
+    /// parameter (`out_normal.x`, ...).
     pub fn output_leaves(&self) -> Vec<(String, ScalarKind)> {
-        match &self.code.result {
+        let mut leaves: Vec<(String, ScalarKind)> = match &self.code.result {
             Some(ty) => ty
                 .leaf_names("result")
                 .into_iter()
                 .zip(ty.leaves())
                 .collect(),
             None => Vec::new(),
+        };
+        for (name, ty) in &self.code.out_params {
+            leaves.extend(ty.leaf_names(name).into_iter().zip(ty.leaves()));
         }
+        leaves
+    }
+
+    /// The `ptr<function, T>` parameters: each is also in [`Program::params`]
+    /// (its initial value is an input; a caller with nothing better passes
+    /// zeros, which is what a fresh `var` holds) and its final value is read
+    /// back as outputs after the result's ([`Program::output_leaves`]).
+    pub fn out_params(&self) -> &[(String, Ty)] {
+        &self.code.out_params
     }
 
     /// Number of slots (columns of [`LANES`] u32) one thread works in.

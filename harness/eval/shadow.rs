@@ -405,7 +405,7 @@ impl<'a> Shadow<'a> {
         self.abandoned = [false; LANES];
         self.exec(&code.ops, mode, obs);
         self.flush(obs);
-        let out_kinds = code.result.as_ref().map(|t| t.leaves()).unwrap_or_default();
+        let out_kinds = code.output_kinds();
         let mut out = BatchOut {
             working: Vec::new(),
             shadow: Vec::new(),

@@ -480,6 +480,7 @@ mod tests {
             params: Vec::new(),
             input_slots: vec![1, 2],
             result: None,
+            out_params: Vec::new(),
             output_slots: outputs,
             root_mask: 0,
             consts: Vec::new(),

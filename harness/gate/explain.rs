@@ -9,7 +9,6 @@
 //! added.
 
 use std::collections::BTreeMap;
-use std::path::Path;
 
 use super::inputs::{reference_arg_columns, reference_columns, Evaluated};
 use super::result::{Confined, Finding, FindingKind, IssueGroup, Remap};
@@ -19,6 +18,7 @@ use crate::eval::{LaneIssue, ScalarKind};
 use crate::reference::Model;
 use crate::suite::{Check, Suite};
 use crate::sweep::{Expr, Points};
+use crate::wgsl::Shader;
 
 /// What an explainer sees of one comparison.
 pub struct Evidence<'a> {
@@ -596,14 +596,18 @@ fn attribute_call(
 }
 
 /// The evaluator's per-point issues grouped by kind, message and source site.
-pub fn group_issues(issues: &[LaneIssue], shader: &Path, points: &Points) -> Vec<IssueGroup> {
+/// Each issue's place is its own file and line, also when the shader is
+/// several files, each file named as in `names` (the suite's spelling; see
+/// [`Shader::location_named`]).
+pub fn group_issues(
+    issues: &[LaneIssue],
+    shader: &Shader,
+    names: &[std::path::PathBuf],
+    points: &Points,
+) -> Vec<IssueGroup> {
     let mut groups: Vec<IssueGroup> = Vec::new();
     for i in issues {
-        let location = if i.line > 0 {
-            format!("{}:{}:{}", shader.display(), i.line, i.column)
-        } else {
-            shader.display().to_string()
-        };
+        let location = shader.location_named(i.line, i.column, names);
         let kind = serde_json::to_value(i.kind)
             .ok()
             .and_then(|v| v.as_str().map(str::to_string))

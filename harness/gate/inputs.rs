@@ -15,7 +15,7 @@ use std::sync::Arc;
 
 use rayon::prelude::*;
 
-use crate::eval::{bits_to_f64, f64_to_bits, Arithmetic, LaneIssue, Program, ScalarKind, Ty};
+use crate::eval::{bits_to_f64, f64_to_bits, Arithmetic, LaneIssue, Program, ScalarKind};
 use crate::limits::Limits;
 use crate::reference::{Model, ParamKind};
 use crate::suite::{Check, Suite};
@@ -84,10 +84,11 @@ pub fn bindings_of(
 /// The [`Build`] of a check, with its shader file (or `shader_path` instead,
 /// for comparing two versions of a file).
 pub fn build_of(suite: &Suite, check: &Check, shader_path: Option<&Path>) -> Result<Build, String> {
-    let path: PathBuf = shader_path
-        .map(Path::to_path_buf)
-        .unwrap_or_else(|| suite.resolve(&check.shader));
-    let shader = Shader::load_with(&path, &suite.limits).map_err(|d| d.rendered)?;
+    let paths: Vec<PathBuf> = match shader_path {
+        Some(p) => vec![p.to_path_buf()],
+        None => check.shaders.iter().map(|p| suite.resolve(p)).collect(),
+    };
+    let shader = Shader::load_files_with(&paths, &suite.limits).map_err(|d| d.rendered)?;
     let (textures, textures_at) = bindings_of(suite, check, Some(&shader))?;
     Ok(Build {
         shader,
@@ -171,19 +172,7 @@ fn round_to_f32(points: &mut Points) {
     }
 }
 
-fn example(points: &Points) -> Vec<Value> {
-    points
-        .widths
-        .iter()
-        .map(|&w| {
-            if w == 1 {
-                Value::S(0.5)
-            } else {
-                Value::V([0.0, 0.6, 0.8])
-            }
-        })
-        .collect()
-}
+use super::args::example;
 
 /// Bind an argument: its expression, or the sweep parameter of the same name.
 pub(crate) fn bind_arg(
@@ -318,28 +307,15 @@ pub fn evaluate_at(
     args: &BTreeMap<String, Expr>,
     points: Points,
 ) -> Result<Evaluated, String> {
-    let mut bound = Vec::new();
-    let mut kinds = Vec::new();
-    for (name, ty) in program.params() {
-        let b = bind_arg(args, name, &points, "argument")
-            .map_err(|m| format!("check `{}`: {m}", check.name))?;
-        let leaves = ty.leaves();
-        let fits = matches!(ty, Ty::Scalar(_) | Ty::Vector(3, _)) && leaves.len() == b.width;
-        if !fits {
-            return Err(format!(
-                "check `{}`: argument `{name}` of `{}` has type {ty} but its expression gives {} value(s); only scalars and vec3 can be fed from a sweep",
-                check.name, build.function, b.width
-            ));
-        }
-        kinds.extend(leaves);
-        bound.push(b);
-    }
-    let f64_cols = columns(&bound, &points)?;
-    let input_columns: Vec<Vec<u32>> = f64_cols
-        .par_iter()
-        .zip(kinds.par_iter())
-        .map(|(c, &k)| c.iter().map(|&x| f64_to_bits(k, x)).collect())
-        .collect();
+    let inputs = super::args::bind(
+        &build.function,
+        program.params(),
+        program.out_params(),
+        args,
+        &points,
+    )
+    .map_err(|e| format!("check `{}`: {e}", check.name))?;
+    let input_columns = input_columns(&inputs, &program, &points)?;
     let refs: Vec<&[u32]> = input_columns.iter().map(|c| &c[..]).collect();
     let mut output_columns = Vec::new();
     let mut issues = program
@@ -373,6 +349,28 @@ pub fn evaluate_at(
         issues,
         rounded: None,
     })
+}
+
+/// The function's input columns (one per input leaf, in its encoding) from
+/// bound arguments.
+fn input_columns(
+    inputs: &super::args::Inputs,
+    program: &Program,
+    points: &Points,
+) -> Result<Vec<Vec<u32>>, String> {
+    let f64_cols = columns(&inputs.exprs, points)?;
+    let kinds: Vec<ScalarKind> = program.input_leaves().into_iter().map(|l| l.1).collect();
+    Ok(inputs
+        .leaves
+        .par_iter()
+        .zip(kinds.par_iter())
+        .map(|(leaf, &k)| match *leaf {
+            super::args::Leaf::Column(c) => {
+                f64_cols[c].iter().map(|&x| f64_to_bits(k, x)).collect()
+            }
+            super::args::Leaf::Zero => vec![f64_to_bits(k, 0.0); points.len],
+        })
+        .collect())
 }
 
 /// Evaluate the reference model of a check at every point.

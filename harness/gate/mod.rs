@@ -1,5 +1,7 @@
 //! The regression gate: runs the checks of a suite. One way, per check:
 //!
+//! - [`args`]: binding argument expressions (constructors, parts by path,
+//!   sweep parameters) to parameters of any value type;
 //! - [`inputs`]: the sweep's points, the argument columns, the [`Build`] of
 //!   the check (the one place its overrides and number model reach a back
 //!   end), the CPU evaluation and the reference model's columns;
@@ -16,6 +18,7 @@
 //! - [`table`]: the point tables (CSV) of `shadegate eval`;
 //! - [`result`]: the types reports read.
 
+pub mod args;
 pub mod explain;
 pub mod inputs;
 pub mod oracle;

@@ -59,8 +59,11 @@ pub fn build_other(
     function: &str,
     line: u32,
 ) -> Result<Other, String> {
-    let path = suite.resolve(shader.unwrap_or(&check.shader));
-    let shader = Shader::load_with(&path, &suite.limits)
+    let paths: Vec<_> = match shader {
+        Some(p) => vec![suite.resolve(p)],
+        None => check.shaders.iter().map(|p| suite.resolve(p)).collect(),
+    };
+    let shader = Shader::load_files_with(&paths, &suite.limits)
         .map_err(|d| located(suite, line, check, d.rendered))?;
     // The check's tables bind the same variables in the other function.
     let (textures, textures_at) = super::inputs::bindings_of(suite, check, None)?;

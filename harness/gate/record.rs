@@ -38,7 +38,7 @@ pub fn record(suite: &Suite, check: &Check) -> Result<Recorded, String> {
     let g = Golden {
         header: Header {
             check: check.name.clone(),
-            shader: check.shader.display().to_string(),
+            shader: check.shader_label(),
             function: check.function.clone(),
             shader_hash: ev.shader_hash.clone(),
             sweep: check.sweep.to_string(),

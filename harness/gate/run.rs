@@ -60,7 +60,7 @@ pub fn run_check_with(
     let range = point_range(check);
     let mut r = CheckResult {
         name: check.name.clone(),
-        shader: check.shader.display().to_string(),
+        shader: check.shader_label(),
         function: check.function.clone(),
         points: range.len(),
         verdict: Verdict::Error,
@@ -209,7 +209,7 @@ pub fn compare_functions(
         "golden_tolerance",
         gb.len(),
     )?;
-    let issues = group_issues(&b.issues, new, &b.points);
+    let issues = group_issues(&b.issues, &b.build.shader, &[new.to_path_buf()], &b.points);
     let changed = compare::changed_bits(&a.output_columns, &b.output_columns);
     let (c, mut findings) = comparison(
         check,

@@ -85,6 +85,10 @@ impl<'a> Prepared<'a> {
         let decoder = oracle::decoder_of(suite, check)?;
         let names = check.sweep.points_in(0..0);
         let (half, rounded) = oracle::half_params(check, &program, twin.as_ref(), &names);
+        let args = main_args(check);
+        // Arguments that do not fit their parameters are the suite's error,
+        // at the line of the `args` key.
+        super::args::located(suite, check, &program, &args, &names)?;
         let per_point = match &check.property {
             Some(pc) => oracle::evaluations_per_point(suite, check, pc, point_range(check).len())?,
             None => 1,
@@ -94,7 +98,7 @@ impl<'a> Prepared<'a> {
             check,
             build: Arc::new(build),
             program: Arc::new(program),
-            args: main_args(check),
+            args,
             half,
             rounded,
             twin,
@@ -271,12 +275,15 @@ impl Prepared<'_> {
         let got = as_f64(&ev.output_columns, &ev.outputs);
         let mut sides = Vec::new();
         if let Some(model) = check.reference {
+            // A reference that gives the return value alone judges it
+            // without the out-pointers' values.
+            let got = super::args::reference_view(&ev.program, &got, model.outputs);
             reference_fits(check, model, got.len())?;
             check_tolerance(suite, check, &check.tolerance, "tolerance", got.len())?;
             sides.push(Side {
                 against: format!("reference {}", model.name),
                 tolerance: check.tolerance.clone(),
-                got: got.clone(),
+                got: got.to_vec(),
                 want: reference_columns(check, model, &ev.points, &check.reference_args)?,
                 half,
                 model: Some(model),
@@ -286,13 +293,15 @@ impl Prepared<'_> {
             });
         }
         if let Some(expr) = &check.reference_expr {
+            let width = super::args::width_of(expr, &ev.points).unwrap_or(got.len());
+            let got = super::args::reference_view(&ev.program, &got, width);
             check_tolerance(suite, check, &check.tolerance, "tolerance", got.len())?;
             // No decomposition of an expression to search: the statistics
             // and the locality explainers only.
             sides.push(Side {
                 against: format!("reference {}", expr.text),
                 tolerance: check.tolerance.clone(),
-                got: got.clone(),
+                got: got.to_vec(),
                 want: reference_expr_columns(check, expr, &ev.points, got.len())?,
                 half,
                 model: None,
@@ -350,7 +359,7 @@ impl Prepared<'_> {
                 let Span::Range(first, _) = span else {
                     unreachable!("pass 1 runs over ranges")
                 };
-                let shader = check.shader.display().to_string();
+                let shader = check.shader_label();
                 let sweep = check.sweep.to_string();
                 golden::check_identity(
                     &gs.path,
@@ -458,7 +467,12 @@ impl Prepared<'_> {
         Ok(Part {
             start,
             end,
-            issues: group_issues(&m.ev.issues, &self.check.shader, &m.ev.points),
+            issues: group_issues(
+                &m.ev.issues,
+                &m.ev.build.shader,
+                &self.check.shaders,
+                &m.ev.points,
+            ),
             findings: m.findings,
             sides,
             failing,

@@ -26,7 +26,11 @@ pub fn parse_overrides(list: &[String]) -> Result<BTreeMap<String, f64>, String>
 }
 
 /// Input columns of `program` from points written `name=value,...`
-/// (vectors as `n=0;0;1`), one per entry of `points`.
+/// (vectors as `n=0;0;1`, or one value for every component), one per entry of
+/// `points`. A struct, matrix or array is given whole (all its leaves,
+/// `;`-separated) or by parts named as in the CSV header (`m.base=...`,
+/// `m.roughness=...`, `xf[0]=...`); a `ptr<function, T>` parameter not
+/// given starts at zero.
 pub fn columns_of_points(program: &Program, points: &[String]) -> Result<Vec<Vec<u32>>, String> {
     let mut cols: Vec<Vec<u32>> = vec![Vec::new(); program.input_leaves().len()];
     for (pi, p) in points.iter().enumerate() {
@@ -38,44 +42,117 @@ pub fn columns_of_points(program: &Program, points: &[String]) -> Result<Vec<Vec
             let vals = v.split(';').collect();
             given.insert(k.trim().to_string(), vals);
         }
-        let mut used = 0;
+        let mut used = Vec::new();
+        let mut row = Vec::new();
         for (name, ty) in program.params() {
-            let vals = given
-                .get(name)
-                .ok_or_else(|| format!("--point {}: missing argument `{name}` ({ty})", pi + 1))?;
-            if vals.len() != ty.leaf_count() {
-                return Err(format!(
-                    "--point {}: `{name}` is {ty} and needs {} value(s) separated by `;`, got {}",
-                    pi + 1,
-                    ty.leaf_count(),
-                    vals.len()
-                ));
-            }
-            for (k, v) in ty.leaves().into_iter().zip(vals) {
-                // Read for the leaf's own type: strict integers, one rounding to f32.
-                let bits = crate::eval::parse_value(k, v)
-                    .map_err(|e| format!("--point {}: `{name}`: {e}", pi + 1))?;
-                cols[used].push(bits);
-                used += 1;
-            }
+            let out = program.out_params().iter().any(|(n, _)| n == name);
+            point_node(pi + 1, name, name, ty, out, &given, &mut used, &mut row)?;
         }
-        if let Some(extra) = given
-            .keys()
-            .find(|k| !program.params().iter().any(|(n, _)| n == *k))
-        {
+        if let Some(extra) = given.keys().find(|k| !used.contains(k)) {
+            let names: Vec<String> = program.input_leaves().into_iter().map(|l| l.0).collect();
             return Err(format!(
-                "--point {}: `{}` has no argument `{extra}`",
+                "--point {}: `{}` has no argument or part `{extra}` (its input leaves: {})",
                 pi + 1,
-                program.function()
+                program.function(),
+                names.join(", ")
             ));
+        }
+        for (c, b) in cols.iter_mut().zip(row) {
+            c.push(b);
         }
     }
     Ok(cols)
 }
 
+/// The values of the value at `path` of one `--point`: its own entry, else
+/// its parts', else zeros for an out-parameter.
+#[allow(clippy::too_many_arguments)]
+fn point_node(
+    point: usize,
+    param: &str,
+    path: &str,
+    ty: &crate::eval::Ty,
+    out: bool,
+    given: &BTreeMap<String, Vec<&str>>,
+    used: &mut Vec<String>,
+    row: &mut Vec<u32>,
+) -> Result<(), String> {
+    if let Some(vals) = given.get(path) {
+        used.push(path.to_string());
+        let n = ty.leaf_count();
+        let splat = vals.len() == 1 && matches!(ty, crate::eval::Ty::Vector(..));
+        if vals.len() != n && !splat {
+            return Err(format!(
+                "--point {point}: `{path}` is {ty} and needs {n} value(s) separated by `;`{}, got {}",
+                if matches!(ty, crate::eval::Ty::Vector(..)) { " (or one for every component)" } else { "" },
+                vals.len()
+            ));
+        }
+        for (i, k) in ty.leaves().into_iter().enumerate() {
+            let v = vals[if splat { 0 } else { i }];
+            // Read for the leaf's own type: strict integers, one rounding to f32.
+            let bits = crate::eval::parse_value(k, v)
+                .map_err(|e| format!("--point {point}: `{path}`: {e}"))?;
+            row.push(bits);
+        }
+        return Ok(());
+    }
+    let parts = super::args::children(path, ty);
+    if !parts.is_empty() && given.keys().any(|k| k.starts_with(path)) {
+        for (p, _, t) in &parts {
+            point_node(point, param, p, t, out, given, used, row)?;
+        }
+        return Ok(());
+    }
+    if out {
+        for k in ty.leaves() {
+            row.push(crate::eval::f64_to_bits(k, 0.0));
+        }
+        return Ok(());
+    }
+    let how = if parts.is_empty() {
+        String::new()
+    } else {
+        let names: Vec<&str> = parts.iter().map(|p| p.0.as_str()).collect();
+        format!(
+            " (all {} values `;`-separated, or its parts: {})",
+            ty.leaf_count(),
+            names.join(", ")
+        )
+    };
+    if path == param {
+        Err(format!(
+            "--point {point}: missing argument `{param}` ({ty}){how}"
+        ))
+    } else {
+        Err(format!(
+            "--point {point}: missing `{path}` ({ty}) of argument `{param}`{how}"
+        ))
+    }
+}
+
 /// Input columns for `leaves` from a CSV file with one column per leaf
 /// (other columns are ignored).
 pub fn read_csv(path: &Path, leaves: &[(String, ScalarKind)]) -> Result<Vec<Vec<u32>>, String> {
+    read_csv_with(path, leaves, &[])
+}
+
+/// [`read_csv`] for `program`'s inputs: the leaves of a `ptr<function, T>`
+/// parameter (`*name`, `*name.x`, ...) may be left out (they start at zero).
+pub fn read_program_csv(path: &Path, program: &Program) -> Result<Vec<Vec<u32>>, String> {
+    let optional: Vec<String> = program
+        .out_params()
+        .iter()
+        .flat_map(|(n, t)| t.leaf_names(&format!("*{n}")))
+        .collect();
+    read_csv_with(path, &program.input_leaves(), &optional)
+}
+
+fn read_csv_with(
+    path: &Path,
+    leaves: &[(String, ScalarKind)],
+    optional: &[String],
+) -> Result<Vec<Vec<u32>>, String> {
     let mut cols: Vec<Vec<u32>> = vec![Vec::new(); leaves.len()];
     let mut r = csv::Reader::from_path(path).map_err(|e| format!("{}: {e}", path.display()))?;
     let headers = r
@@ -84,26 +161,32 @@ pub fn read_csv(path: &Path, leaves: &[(String, ScalarKind)]) -> Result<Vec<Vec<
         .clone();
     let mut index = Vec::new();
     for (name, _) in leaves {
-        let i = headers
-            .iter()
-            .position(|h| h.trim() == name)
-            .ok_or_else(|| {
-                format!(
-                    "{}:1: no column `{name}` (the function's inputs are: {})",
-                    path.display(),
-                    leaves
-                        .iter()
-                        .map(|l| l.0.as_str())
-                        .collect::<Vec<_>>()
-                        .join(", ")
-                )
-            })?;
-        index.push(i);
+        let found = headers.iter().position(|h| h.trim() == name);
+        if found.is_none() && optional.contains(name) {
+            index.push(None);
+            continue;
+        }
+        let i = found.ok_or_else(|| {
+            format!(
+                "{}:1: no column `{name}` (the function's inputs are: {})",
+                path.display(),
+                leaves
+                    .iter()
+                    .map(|l| l.0.as_str())
+                    .collect::<Vec<_>>()
+                    .join(", ")
+            )
+        })?;
+        index.push(Some(i));
     }
     for (row, rec) in r.records().enumerate() {
         let line = row + 2;
         let rec = rec.map_err(|e| format!("{}:{line}: {e}", path.display()))?;
         for (j, (&i, (name, k))) in index.iter().zip(leaves).enumerate() {
+            let Some(i) = i else {
+                cols[j].push(crate::eval::f64_to_bits(*k, 0.0));
+                continue;
+            };
             let text = rec
                 .get(i)
                 .ok_or_else(|| format!("{}:{line}: missing value for `{name}`", path.display()))?;

@@ -466,8 +466,10 @@ impl Kernel<'_> {
         &self.wrapped.params
     }
 
-    pub fn result(&self) -> &Ty {
-        &self.wrapped.result
+    /// The return type; `None` for a function that only writes through
+    /// `ptr<function, T>` parameters.
+    pub fn result(&self) -> Option<&Ty> {
+        self.wrapped.result.as_ref()
     }
 
     pub fn input_kinds(&self) -> &[ScalarKind] {

@@ -6,7 +6,9 @@
 //! point count, and an `@compute @workgroup_size(64)` function that, for
 //! invocation `i`, rebuilds every argument leaf by leaf from
 //! `input[leaf * count + i]`, calls the function and stores each result leaf
-//! at `output[leaf * count + i]`. Leaves follow [`Ty::leaves`] (vector
+//! at `output[leaf * count + i]`, then each `ptr<function, T>` parameter's
+//! final value (such a parameter is a `var` of the entry point, initialised
+//! from its input leaves and passed by address). Leaves follow [`Ty::leaves`] (vector
 //! components, matrices column-major, array elements, struct members in
 //! order), so the columns are exactly the CPU evaluator's.
 //!
@@ -77,7 +79,8 @@ pub struct Wrapped {
     pub group: u32,
     /// The function's parameters, as the evaluator names and types them.
     pub params: Vec<(String, Ty)>,
-    pub result: Ty,
+    /// The return type (`None`: the function only writes through pointers).
+    pub result: Option<Ty>,
     pub input_kinds: Vec<ScalarKind>,
     pub output_kinds: Vec<ScalarKind>,
     /// Whether the module uses f16 (the device needs the `shader-f16` feature).
@@ -130,29 +133,49 @@ pub fn wrap(shader: &Shader, function: &str) -> Result<Wrapped, WrapError> {
         }
     }
     let mut params = Vec::new();
+    // Per parameter: whether it is a `ptr<function, T>` (an out- or in-out
+    // parameter: a `var` of the entry point, passed by address, its
+    // initial value read like an argument and its final value written
+    // after the result, as the CPU evaluator does).
+    let mut pointer = Vec::new();
     for (i, a) in func.arguments.iter().enumerate() {
         let name = a.name.clone().unwrap_or_else(|| format!("arg{i}"));
-        let ty = ty_of(module, a.ty)
+        let h = match module.types[a.ty].inner {
+            TypeInner::Pointer {
+                base,
+                space: AddressSpace::Function,
+            } => {
+                pointer.push(true);
+                base
+            }
+            _ => {
+                pointer.push(false);
+                a.ty
+            }
+        };
+        let ty = ty_of(module, h)
             .map_err(|e| WrapError(format!("parameter `{name}` of `{function}`: {e}")))?;
         params.push((name, ty));
     }
-    let Some(res) = &func.result else {
-        return Err(WrapError(format!(
-            "`{function}` returns nothing, so there is nothing to compare"
-        )));
+    let result = match &func.result {
+        Some(res) => Some(
+            ty_of(module, res.ty).map_err(|e| WrapError(format!("result of `{function}`: {e}")))?,
+        ),
+        None => None,
     };
-    let result =
-        ty_of(module, res.ty).map_err(|e| WrapError(format!("result of `{function}`: {e}")))?;
 
     let prefix = unique_prefix(&shader.source);
     let group = free_group(module).ok_or_else(|| {
         WrapError("every bind group 0..4 is taken by the module's own resources".into())
     })?;
     let input_kinds: Vec<ScalarKind> = params.iter().flat_map(|(_, t)| t.leaves()).collect();
-    let output_kinds = result.leaves();
+    let mut output_kinds = result.as_ref().map(Ty::leaves).unwrap_or_default();
+    for ((_, t), _) in params.iter().zip(&pointer).filter(|(_, p)| **p) {
+        output_kinds.extend(t.leaves());
+    }
     if output_kinds.is_empty() {
         return Err(WrapError(format!(
-            "`{function}` returns a value without leaves"
+            "`{function}` returns nothing and writes through no pointer, so there is nothing to compare"
         )));
     }
     let uses_f16 = module_uses_f16(module, &shader.source);
@@ -199,12 +222,29 @@ pub fn wrap(shader: &Shader, function: &str) -> Result<Wrapped, WrapError> {
     let mut args = Vec::new();
     for (k, (_, ty)) in params.iter().enumerate() {
         let e = read_expr(ty, &mut leaf, p);
-        let _ = writeln!(s, "    let {p}a{k} = {e};");
-        args.push(format!("{p}a{k}"));
+        if pointer[k] {
+            let _ = writeln!(s, "    var {p}a{k} = {e};");
+            args.push(format!("&{p}a{k}"));
+        } else {
+            let _ = writeln!(s, "    let {p}a{k} = {e};");
+            args.push(format!("{p}a{k}"));
+        }
     }
-    let _ = writeln!(s, "    let {p}r = {function}({});", args.join(", "));
     let mut leaf = 0u32;
-    write_leaves(&result, &format!("{p}r"), &mut leaf, p, &mut s);
+    match &result {
+        Some(r) => {
+            let _ = writeln!(s, "    let {p}r = {function}({});", args.join(", "));
+            write_leaves(r, &format!("{p}r"), &mut leaf, p, &mut s);
+        }
+        None => {
+            let _ = writeln!(s, "    {function}({});", args.join(", "));
+        }
+    }
+    for (k, (_, ty)) in params.iter().enumerate() {
+        if pointer[k] {
+            write_leaves(ty, &format!("{p}a{k}"), &mut leaf, p, &mut s);
+        }
+    }
     s.push_str("}\n");
 
     Ok(Wrapped {

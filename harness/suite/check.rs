@@ -248,7 +248,13 @@ pub(super) fn convert(
         let mut out = BTreeMap::new();
         for (arg, text) in table {
             let arg = arg.get_ref();
-            let e = Expr::parse_with(text.get_ref(), limits.expression_depth).map_err(|e| {
+            // A function's arguments may be constructors (`Material(...)`).
+            let parsed = if key == "args" || key == "twin.args" {
+                Expr::parse_arg(text.get_ref(), limits.expression_depth)
+            } else {
+                Expr::parse_with(text.get_ref(), limits.expression_depth)
+            };
+            let e = parsed.map_err(|e| {
                 let s = text.span();
                 cx.err(
                     s.start + 1 + e.offset..s.end,
@@ -398,9 +404,20 @@ pub(super) fn convert(
         None => Tolerance::exact("a golden is a bit-exact record of this evaluator's output"),
     };
     let textures = super::textures::parse(cx, rc.textures, rc.samplers, limits)?;
+    let shaders: Vec<PathBuf> = match rc.shader.get_ref() {
+        super::raw::RawShader::One(p) => vec![PathBuf::from(p)],
+        super::raw::RawShader::Many(list) => list.iter().map(PathBuf::from).collect(),
+    };
+    if shaders.is_empty() || shaders.iter().any(|p| p.as_os_str().is_empty()) {
+        return Err(cx.err(
+            rc.shader.span(),
+            "key `shader`: give a WGSL file, or a list of files concatenated in order",
+        ));
+    }
     Ok(Check {
         name,
-        shader: PathBuf::from(rc.shader.get_ref()),
+        shader: shaders[0].clone(),
+        shaders,
         function: rc.function.get_ref().clone(),
         overrides: rc.overrides,
         arithmetic,

@@ -61,8 +61,12 @@ pub use crate::eval::Arithmetic;
 #[derive(Clone, Debug)]
 pub struct Check {
     pub name: String,
-    /// As written in the suite (relative to the suite's folder).
+    /// As written in the suite (relative to the suite's folder); the first
+    /// file when `shader` lists several.
     pub shader: PathBuf,
+    /// Every file of `shader`, in order (one for a single file): they are
+    /// concatenated before naga sees them (WGSL has no include).
+    pub shaders: Vec<PathBuf>,
     pub function: String,
     pub overrides: BTreeMap<String, f64>,
     pub arithmetic: Arithmetic,
@@ -152,6 +156,19 @@ impl Check {
     }
 }
 
+impl Check {
+    /// The check's shader as reports and golden headers name it: the file,
+    /// or the files joined by ` + ` in order.
+    pub fn shader_label(&self) -> String {
+        let names: Vec<String> = self
+            .shaders
+            .iter()
+            .map(|p| p.display().to_string())
+            .collect();
+        names.join(" + ")
+    }
+}
+
 impl Suite {
     /// A located error about the suite text at byte span `span`.
     pub fn error_at(&self, span: std::ops::Range<usize>, msg: impl Into<String>) -> Diagnostic {
@@ -165,20 +182,23 @@ impl Suite {
     }
 
     /// Every `args` key of `check` must name a parameter of its function
-    /// (`params`): a typo such as `roughnes` would otherwise be ignored and
-    /// the argument silently fed from the sweep.
+    /// (`params`), or a part of one (`m.base`, `xf[1]`: the rest of the path
+    /// is checked against the parameter's type when it is bound): a typo such
+    /// as `roughnes` would otherwise be ignored and the argument silently fed
+    /// from the sweep.
     pub fn check_args<'a>(
         &self,
         check: &Check,
         params: impl IntoIterator<Item = &'a str> + Clone,
     ) -> Result<(), Diagnostic> {
         for (arg, span) in &check.args_at {
-            if !params.clone().into_iter().any(|p| p == arg) {
+            let root = arg.split(['.', '[']).next().unwrap_or(arg);
+            if !params.clone().into_iter().any(|p| p == root) {
                 let have: Vec<&str> = params.clone().into_iter().collect();
                 return Err(self.error_at(
                     span.clone(),
                     format!(
-                        "key `args.{arg}`: `{}` has no parameter `{arg}` (has: {})",
+                        "key `args.{arg}`: `{}` has no parameter `{root}` (has: {})",
                         check.function,
                         have.join(", ")
                     ),
@@ -281,7 +301,9 @@ pub fn parse_with(path: &Path, text: &str, options: Options) -> Result<Suite, Di
     let suite_name = path.file_name().map(PathBuf::from);
     let mut shaders: std::collections::HashMap<PathBuf, &str> = Default::default();
     for c in &checks {
-        shaders.entry(normalize(&c.shader)).or_insert(&c.name);
+        for f in &c.shaders {
+            shaders.entry(normalize(f)).or_insert(&c.name);
+        }
     }
     for c in &checks {
         let (Some(g), Some(at)) = (&c.golden, &c.golden_at) else {

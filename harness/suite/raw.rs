@@ -14,11 +14,20 @@ pub(super) struct RawSuite {
     pub(super) limits: Option<Spanned<toml::Table>>,
 }
 
+/// `shader = "a.wgsl"` or `shader = ["common.wgsl", "a.wgsl"]` (several
+/// files concatenated in order).
+#[derive(Deserialize)]
+#[serde(untagged)]
+pub(super) enum RawShader {
+    One(String),
+    Many(Vec<String>),
+}
+
 #[derive(Deserialize)]
 #[serde(deny_unknown_fields)]
 pub(super) struct RawCheck {
     pub(super) name: Spanned<String>,
-    pub(super) shader: Spanned<String>,
+    pub(super) shader: Spanned<RawShader>,
     pub(super) function: Spanned<String>,
     #[serde(default)]
     pub(super) overrides: BTreeMap<String, f64>,

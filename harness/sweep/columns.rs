@@ -85,7 +85,7 @@ fn eval(n: &Node, points: &Points, range: &Range<usize>) -> Option<Col> {
                 ])
             }
         }
-        Node::Var(_) | Node::Model(..) => return None,
+        Node::Var(_) | Node::Model(..) | Node::Construct(..) => return None,
         Node::Neg(a) => map(ev(a)?, |x| -x),
         Node::Member(a, k) => {
             let [x, y, z] = vector(ev(a)?)?;

@@ -11,11 +11,30 @@ pub use crate::diagnostic::Diagnostic;
 use crate::limits::{Limit, Limits};
 
 /// A parsed and validated WGSL module together with its source text.
+///
+/// A shader may be made of several files, concatenated in order (WGSL has
+/// no include): `source` is then their concatenation, `parts` says where
+/// each file's text lies in it, and `path` reads `a.wgsl + b.wgsl`. Every
+/// diagnostic and every reported line goes through `parts` back to its
+/// own file and line ([`Shader::diagnostic`], [`Shader::place`]).
 pub struct Shader {
     pub path: PathBuf,
     pub source: String,
     pub module: naga::Module,
     pub info: ModuleInfo,
+    /// The files of `source`, in order (one for a single file).
+    pub parts: Vec<Part>,
+}
+
+/// One file of a [`Shader`]'s source: its path, where its text starts in
+/// the concatenated source and how long it is, and the line of the
+/// concatenation its first line is.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Part {
+    pub path: PathBuf,
+    pub start: usize,
+    pub len: usize,
+    pub first_line: u32,
 }
 
 impl fmt::Debug for Shader {
@@ -40,6 +59,35 @@ impl Shader {
         Self::from_source_with(path, source, limits)
     }
 
+    /// Read several WGSL files, concatenate them in order (each ends with a
+    /// line break), then parse and validate the whole under `limits`. One
+    /// file is [`Shader::load_with`].
+    pub fn load_files_with(paths: &[PathBuf], limits: &Limits) -> Result<Shader, Diagnostic> {
+        if let [one] = paths {
+            return Self::load_with(one, limits);
+        }
+        let mut source = String::new();
+        let mut parts = Vec::new();
+        for path in paths {
+            let text = std::fs::read_to_string(path).map_err(|e| {
+                Diagnostic::without_position(path, format!("cannot read WGSL file: {e}"))
+            })?;
+            let first_line = source.matches('\n').count() as u32 + 1;
+            parts.push(Part {
+                path: path.clone(),
+                start: source.len(),
+                len: text.len(),
+                first_line,
+            });
+            source.push_str(&text);
+            if !text.ends_with('\n') {
+                source.push('\n');
+            }
+        }
+        let label: Vec<String> = paths.iter().map(|p| p.display().to_string()).collect();
+        Self::build(PathBuf::from(label.join(" + ")), source, parts, limits)
+    }
+
     /// Parse and validate WGSL source text under the default limits; `path`
     /// is used in diagnostics only.
     pub fn from_source(path: impl Into<PathBuf>, source: String) -> Result<Shader, Diagnostic> {
@@ -57,15 +105,29 @@ impl Shader {
         limits: &Limits,
     ) -> Result<Shader, Diagnostic> {
         let path = path.into();
+        let parts = vec![Part {
+            path: path.clone(),
+            start: 0,
+            len: source.len(),
+            first_line: 1,
+        }];
+        Self::build(path, source, parts, limits)
+    }
+
+    fn build(
+        path: PathBuf,
+        source: String,
+        parts: Vec<Part>,
+        limits: &Limits,
+    ) -> Result<Shader, Diagnostic> {
+        let map = SourceMap {
+            source: &source,
+            parts: &parts,
+        };
         if let Some(deep) = nesting(&source, limits.expression_depth) {
-            let (line, col) = line_col(&source, deep.offset);
             let l = Limit::ExpressionDepth;
-            return Err(Diagnostic::at_location(
-                &path,
-                &source,
-                line,
-                col,
-                1,
+            return Err(map.diagnostic(
+                naga::Span::new(deep.offset as u32, deep.offset as u32 + 1),
                 format!(
                     "this expression is nested deeper than {} levels (operators chained in one expression count as levels too; the `{l}` limit); split it into `let` steps, or {}",
                     limits.expression_depth,
@@ -77,7 +139,7 @@ impl Shader {
             std::thread::Builder::new()
                 .name("naga front end".into())
                 .stack_size(FRONT_END_STACK)
-                .spawn_scoped(scope, || front_end(&path, &source))
+                .spawn_scoped(scope, || front_end(&path, &source, &map))
                 .map_err(|e| {
                     Diagnostic::without_position(
                         &path,
@@ -92,7 +154,50 @@ impl Shader {
             source,
             module,
             info,
+            parts,
         })
+    }
+}
+
+/// A concatenated source and its files: byte offsets and lines of the
+/// whole back to each file's own.
+struct SourceMap<'a> {
+    source: &'a str,
+    parts: &'a [Part],
+}
+
+impl SourceMap<'_> {
+    /// The file holding byte `offset` of the whole source.
+    fn part_at(&self, offset: usize) -> &Part {
+        let i = self.parts.partition_point(|p| p.start <= offset);
+        &self.parts[i.saturating_sub(1)]
+    }
+
+    /// A diagnostic at `span` of the whole source, in its own file.
+    fn diagnostic(&self, span: naga::Span, message: impl Into<String>) -> Diagnostic {
+        let Some(range) = span.to_range() else {
+            return Diagnostic::without_position(&self.parts[0].path, message);
+        };
+        let part = self.part_at(range.start);
+        let text = &self.source[part.start..part.start + part.len];
+        let start = (range.start - part.start).min(text.len());
+        let end = (range.end.saturating_sub(part.start)).clamp(start, text.len());
+        Diagnostic::at_span(
+            &part.path,
+            text,
+            naga::Span::new(start as u32, end as u32),
+            message,
+        )
+    }
+
+    /// `file:line:col` of a span of the whole source.
+    fn place(&self, span: naga::Span) -> String {
+        let d = self.diagnostic(span, "");
+        format!("{}:{}:{}", d.file.display(), d.line, d.column)
+    }
+
+    fn single(&self) -> bool {
+        self.parts.len() == 1
     }
 }
 
@@ -100,9 +205,33 @@ impl Shader {
 pub const FRONT_END_STACK: usize = 256 << 20;
 
 /// Parse and validate with naga, every problem a located diagnostic.
-fn front_end(path: &Path, source: &str) -> Result<(naga::Module, ModuleInfo), Diagnostic> {
+fn front_end(
+    path: &Path,
+    source: &str,
+    map: &SourceMap,
+) -> Result<(naga::Module, ModuleInfo), Diagnostic> {
     {
         let module = naga::front::wgsl::parse_str(source).map_err(|e| {
+            if !map.single() {
+                // naga's rendering would number the lines of the
+                // concatenation: place the error and each label in its file.
+                let span = e
+                    .labels()
+                    .map(|(s, _)| s)
+                    .find(|s| s.is_defined())
+                    .unwrap_or_else(|| {
+                        let at = deepest(source) as u32;
+                        naga::Span::new(at, at + 1)
+                    });
+                let mut d = map.diagnostic(span, e.message());
+                for (s, label) in e.labels() {
+                    if s.is_defined() && !label.is_empty() {
+                        d.rendered
+                            .push_str(&format!("{}: note: {label}\n", map.place(s)));
+                    }
+                }
+                return d;
+            }
             // naga reports its parser's recursion limit without a position:
             // point at the most deeply nested place instead.
             let (line, column, length) = e
@@ -137,14 +266,18 @@ fn front_end(path: &Path, source: &str) -> Result<(naga::Module, ModuleInfo), Di
                     message.push_str(&next.to_string());
                     src = next;
                 }
-                let mut d = Diagnostic::at_span(
-                    path,
-                    source,
-                    span,
-                    format!("validation failed: {message}"),
-                );
-                let naga_text = e.emit_to_string_with_path(source, &path.display().to_string());
-                d.rendered = format!("{}\n{}", d.rendered, naga_text);
+                let mut d = map.diagnostic(span, format!("validation failed: {message}"));
+                if map.single() {
+                    let naga_text = e.emit_to_string_with_path(source, &path.display().to_string());
+                    d.rendered = format!("{}\n{}", d.rendered, naga_text);
+                } else {
+                    for (s, label) in e.spans() {
+                        if s.is_defined() && !label.is_empty() {
+                            d.rendered
+                                .push_str(&format!("{}: note: {label}\n", map.place(*s)));
+                        }
+                    }
+                }
                 d
             })?;
         Ok((module, info))
@@ -179,9 +312,55 @@ impl Shader {
         (loc.line_number, loc.line_position)
     }
 
-    /// A diagnostic at `span` of this shader.
+    /// A diagnostic at `span` of this shader, in the file the span lies in.
     pub fn diagnostic(&self, span: naga::Span, message: impl Into<String>) -> Diagnostic {
-        Diagnostic::at_span(&self.path, &self.source, span, message)
+        if self.parts.len() <= 1 {
+            return Diagnostic::at_span(&self.path, &self.source, span, message);
+        }
+        self.map().diagnostic(span, message)
+    }
+
+    fn map(&self) -> SourceMap<'_> {
+        SourceMap {
+            source: &self.source,
+            parts: &self.parts,
+        }
+    }
+
+    /// The file and its own line of `line` of the (concatenated) source,
+    /// as [`Shader::line_col`] and the evaluator's sites number lines.
+    pub fn place(&self, line: u32) -> (&Path, u32) {
+        let i = self.parts.partition_point(|p| p.first_line <= line);
+        match self.parts.get(i.wrapping_sub(1)) {
+            Some(p) => (&p.path, line - p.first_line + 1),
+            None => (&self.path, line),
+        }
+    }
+
+    /// `file:line:column` of a line and column of the (concatenated)
+    /// source; just `file` for line 0 (no position).
+    pub fn location(&self, line: u32, column: u32) -> String {
+        self.location_named(line, column, &[])
+    }
+
+    /// [`Shader::location`] with each file named as in `names` (one per
+    /// part, e.g. as the suite writes them) instead of its loaded path;
+    /// loaded paths when the counts differ.
+    pub fn location_named(&self, line: u32, column: u32, names: &[PathBuf]) -> String {
+        let named = names.len() == self.parts.len();
+        if line == 0 {
+            if named {
+                let all: Vec<String> = names.iter().map(|p| p.display().to_string()).collect();
+                return all.join(" + ");
+            }
+            return self.path.display().to_string();
+        }
+        let i = self.parts.partition_point(|p| p.first_line <= line);
+        let Some(part) = self.parts.get(i.wrapping_sub(1)) else {
+            return format!("{}:{line}:{column}", self.path.display());
+        };
+        let file = if named { &names[i - 1] } else { &part.path };
+        format!("{}:{}:{column}", file.display(), line - part.first_line + 1)
     }
 }
 

@@ -20,6 +20,7 @@ mod quillmere;
 mod references;
 mod report_formats;
 mod runner;
+mod shapes;
 mod shards;
 mod stream;
 mod suite_errors;

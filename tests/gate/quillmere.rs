@@ -8,7 +8,8 @@
 //! division by 3 instead of π is a factor π/3 = 1.047198; a GGX NDF without
 //! its 1/π integrates to π over the hemisphere (B. Walter et al., EGSR 2007,
 //! D is normalised); sRGB decoding by a 2.2 power is not the inverse of the
-//! IEC 61966-2-1 encoding.
+//! IEC 61966-2-1 encoding; the planted wear's 10-year constant gives more wear
+//! than 12 years at every age > 0 (exp is decreasing).
 
 use std::path::Path;
 
@@ -46,13 +47,13 @@ fn the_library_passes_and_the_planted_copy_fails_through_the_binary() {
     let out = shadegate(&["run"], &demo("quillmere-planted"));
     assert_eq!(out.status.code(), Some(1));
     let text = String::from_utf8_lossy(&out.stdout);
-    assert!(text.contains("1 passed · 10 failed"), "{text}");
+    assert!(text.contains("1 passed · 13 failed"), "{text}");
 }
 
 #[test]
 fn every_function_of_the_library_is_judged_by_an_oracle_and_passes() {
     let all = run("quillmere");
-    assert_eq!(all.len(), 11);
+    assert_eq!(all.len(), 14);
     for c in &all {
         assert_eq!(c.verdict, Verdict::Pass, "{c:#?}");
         // No golden anywhere: each check is judged by a model, an
@@ -124,4 +125,19 @@ fn each_planted_mistake_fails_its_check_with_an_explanation() {
     let w = c.comparisons[0].stats.worst.as_ref().unwrap();
     assert!(w.got[0] > 1.0 && w.want[0] == 1.0, "{w:#?}");
     assert_eq!(check(&all, "fog_tone").verdict, Verdict::Fail);
+    // A struct argument over two files: the plank calls the planted
+    // stone_lit of the first file, so each component is off by π/3.
+    for name in ["dock_plank", "dock_plank_fields"] {
+        let c = check(&all, name);
+        assert_eq!(c.verdict, Verdict::Fail);
+        assert_eq!(c.shader, "shaders/harbour.wgsl + shaders/dock.wgsl");
+        let k = factor(c).expect("a constant factor");
+        assert!((k - std::f64::consts::PI / 3.0).abs() < 1e-5, "{k}");
+    }
+    // The out-parameter: 1 - exp(-age / 10) wears faster than the model's
+    // 12-year constant, so the worst point has more wear than expected.
+    let c = check(&all, "plank_wear");
+    assert_eq!(c.verdict, Verdict::Fail);
+    let w = c.comparisons[0].stats.worst.as_ref().unwrap();
+    assert!(w.got[0] > w.want[0], "{w:#?}");
 }

@@ -5,4 +5,5 @@ mod common;
 mod corpus;
 mod device;
 mod gate;
+mod shapes;
 mod wrap;

@@ -126,7 +126,7 @@ fn f16_leaves_use_the_low_half_and_need_the_feature() {
 }
 
 #[test]
-fn refuses_what_cannot_be_fed_and_says_why() {
+fn refuses_what_cannot_be_fed_and_says_why_and_feeds_pointers() {
     let s = shader(
         "@group(0) @binding(0) var<uniform> scale: f32;\n\
          fn scaled(x: f32) -> f32 { return x * scale; }\n\
@@ -140,10 +140,20 @@ fn refuses_what_cannot_be_fed_and_says_why() {
     );
     let e = gpu::wrap(&s, "scaled").unwrap_err().0;
     assert!(e.contains("resource `scale`"), "{e}");
-    let e = gpu::wrap(&s, "by_ptr").unwrap_err().0;
-    assert!(e.contains("parameter `p`") && e.contains("pointer"), "{e}");
+    // A `ptr<function, T>` parameter is fed (a `var` of the entry point)
+    // and read back after the result, as the CPU evaluator does.
+    let w = gpu::wrap(&s, "by_ptr").expect("wraps");
+    assert_eq!(w.output_kinds.len(), 2);
+    assert!(
+        w.source.contains("by_ptr(&shadegate_gpu_a0)"),
+        "{}",
+        w.source
+    );
     let e = gpu::wrap(&s, "nothing").unwrap_err().0;
-    assert!(e.contains("returns nothing"), "{e}");
+    assert!(
+        e.contains("returns nothing and writes through no pointer"),
+        "{e}"
+    );
 }
 
 #[test]

@@ -232,15 +232,45 @@ impl<'m> Compiler<'m> {
         let mut params = Vec::new();
         let mut input_slots = Vec::new();
         let mut args = Vec::new();
+        // A `ptr<function, T>` parameter (an out- or in-out parameter) is a
+        // variable of this call: its initial value is an input like any
+        // argument's, copied into the variable first, and its final value is
+        // an output after the result's.
+        let mut out_params = Vec::new();
+        let mut out_regions: Vec<(Vec<Slot>, Rc<[Slot]>)> = Vec::new();
         for (i, a) in func.arguments.iter().enumerate() {
             let span = fspan;
+            let name = a.name.clone().unwrap_or_else(|| format!("arg{i}"));
+            if let TypeInner::Pointer { base, space } = module.types[a.ty].inner {
+                if space != naga::AddressSpace::Function {
+                    return Err(c.err(format!(
+                        "parameter `{name}` points into the {space:?} address space; only \
+                         `ptr<function, T>` parameters can be evaluated (they are read back \
+                         as extra outputs)"
+                    )));
+                }
+                let ty = c.ty_of_handle(base, span)?;
+                let init = c.variable_slots(ty.leaf_count(), "this pointer parameter")?;
+                let region: Rc<[Slot]> = c
+                    .variable_slots(ty.leaf_count(), "this pointer parameter")?
+                    .into();
+                input_slots.extend(&init);
+                params.push((name.clone(), ty.clone()));
+                out_params.push((name, ty.clone()));
+                out_regions.push((init, region.clone()));
+                args.push(Item::Place(Place {
+                    region,
+                    offset: 0,
+                    dynamic: None,
+                    ty,
+                    own_local: false,
+                }));
+                continue;
+            }
             let ty = c.ty_of_handle(a.ty, span)?;
             let slots = c.variable_slots(ty.leaf_count(), "this argument")?;
             input_slots.extend(&slots);
-            params.push((
-                a.name.clone().unwrap_or_else(|| format!("arg{i}")),
-                ty.clone(),
-            ));
+            params.push((name, ty.clone()));
             args.push(Item::Value(Val { ty, slots }));
         }
         let result = match &func.result {
@@ -287,11 +317,16 @@ impl<'m> Compiler<'m> {
             root,
         };
         c.masks.push((Role::Root, root));
+        for (init, region) in &out_regions {
+            for (&src, &dst) in init.iter().zip(region.iter()) {
+                c.emit(&mut body, Op::Copy { dst, src });
+            }
+        }
         c.init_locals(&mut frame, &mut body)?;
         c.block(&mut frame, &func.body, &mut body)?;
         c.masks.pop();
         let mut ops = std::mem::take(&mut c.prologue);
-        let output_slots = match c.direct_result[0].take() {
+        let mut output_slots = match c.direct_result[0].take() {
             Some(direct) => direct,
             None => {
                 // Returns copy into the result under their masks: start it
@@ -300,6 +335,9 @@ impl<'m> Compiler<'m> {
                 output_slots
             }
         };
+        for (_, region) in &out_regions {
+            output_slots.extend(region.iter());
+        }
         ops.extend(body);
         Ok(Code {
             consts: std::mem::take(&mut c.consts),
@@ -307,6 +345,7 @@ impl<'m> Compiler<'m> {
             slot_count: c.next as usize,
             sites: c.sites,
             params,
+            out_params,
             input_slots,
             result,
             output_slots,

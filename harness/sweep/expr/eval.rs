@@ -126,6 +126,11 @@ pub(super) fn eval(
                 }
             }
         }
+        Node::Construct(name, _) => {
+            return Err(format!(
+                "`{name}(...)` constructs a value for a function argument; it can only stand as a whole argument of the function (or a part of one), not inside an expression"
+            ))
+        }
         Node::Call(f, args) => {
             let a: Vec<Value> = args.iter().map(eval).collect::<Result<_, _>>()?;
             match f.as_str() {

@@ -11,7 +11,8 @@
 //! `primary := number | name | name '(' args ')' | '(' expr ')'`.
 //! Constants: `pi`. Functions: sqrt, abs, sin, cos, tan, asin, acos, atan,
 //! atan2, exp, log, pow, min, max, clamp, saturate, radians, degrees, dot,
-//! cross, length, normalize, vec3, mix.
+//! cross, length, normalize, vec3 (`vec3(x)` is the splat), mix. A function argument may
+//! also be a constructor of its type as a whole ([`Expr::parse_arg`], see `shape`).
 //!
 //! A *reference expression* ([`Expr::parse_reference`]) may also call the
 //! reference models of [`crate::reference`] by name: `lambert * n_dot_l`,
@@ -28,6 +29,7 @@
 
 mod eval;
 mod parse;
+mod shape;
 
 pub use eval::BoundExpr;
 
@@ -82,6 +84,11 @@ pub(super) enum Node {
     Bin(char, Box<Node>, Box<Node>),
     Call(String, Vec<Node>),
     Member(Box<Node>, usize),
+    /// A constructor of a function argument (`Material(...)`, `vec4(...)`,
+    /// `mat3x3(...)`, `array(...)`; see `shape`): its name as written (type
+    /// parameters included) and its parts with their texts. Only
+    /// `gate::args` takes it apart; evaluating it is an error.
+    Construct(String, Vec<(Node, String)>),
     /// A reference model called with its arguments (named or positional
     /// until [`Expr::fill_models`] puts them all in parameter order).
     Model(ModelRef, Vec<(Option<String>, Node)>),
@@ -123,6 +130,35 @@ impl Expr {
         Self::parse_in(text, depth_limit, false)
     }
 
+    /// Parse a function argument's expression: [`Expr::parse_with`], or a
+    /// constructor of the argument's type as a whole (`Material(...)`,
+    /// `vec4(c, 1)`, `mat3x3(...)`, `array(...)`; `vec3(x)` is the splat).
+    pub fn parse_arg(text: &str, depth_limit: u32) -> Result<Expr, ExprError> {
+        Ok(Expr {
+            text: text.to_string(),
+            root: shape::parse_arg(text, depth_limit)?,
+        })
+    }
+
+    /// A constructor's name as written (`Material`, `vec4<f32>`) and its
+    /// parts, each an expression of its own; `None` for an ordinary
+    /// expression.
+    pub fn constructor(&self) -> Option<(&str, Vec<Expr>)> {
+        match &self.root {
+            Node::Construct(name, parts) => Some((
+                name,
+                parts
+                    .iter()
+                    .map(|(n, t)| Expr {
+                        text: t.clone(),
+                        root: n.clone(),
+                    })
+                    .collect(),
+            )),
+            _ => None,
+        }
+    }
+
     /// Parse a reference expression: [`Expr::parse_with`] where the names
     /// of reference models may also be used (see the module doc).
     pub fn parse_reference(text: &str, depth_limit: u32) -> Result<Expr, ExprError> {
@@ -152,6 +188,7 @@ impl Expr {
                     walk(b, out)
                 }
                 Node::Call(_, args) => args.iter().for_each(|a| walk(a, out)),
+                Node::Construct(_, parts) => parts.iter().for_each(|(a, _)| walk(a, out)),
                 Node::Model(_, args) => args.iter().for_each(|(_, a)| walk(a, out)),
             }
         }
@@ -171,6 +208,7 @@ impl Expr {
                     walk(b, out)
                 }
                 Node::Call(_, args) => args.iter().for_each(|a| walk(a, out)),
+                Node::Construct(_, parts) => parts.iter().for_each(|(a, _)| walk(a, out)),
                 Node::Model(m, args) => {
                     if !out.iter().any(|x| std::ptr::eq(*x, m.0)) {
                         out.push(m.0);
@@ -198,6 +236,13 @@ impl Expr {
                 Node::Call(name, args) => {
                     Node::Call(name.clone(), args.iter().map(f).collect::<Result<_, _>>()?)
                 }
+                Node::Construct(name, parts) => Node::Construct(
+                    name.clone(),
+                    parts
+                        .iter()
+                        .map(|(a, t)| Ok((f(a)?, t.clone())))
+                        .collect::<Result<_, String>>()?,
+                ),
                 Node::Model(m, args) => {
                     let positional = args.iter().take_while(|(k, _)| k.is_none()).count();
                     if args[positional..].iter().any(|(k, _)| k.is_none()) {
@@ -274,6 +319,13 @@ impl Expr {
                         .map(|a| resolve(a, names))
                         .collect::<Result<_, _>>()?,
                 ),
+                Node::Construct(name, parts) => Node::Construct(
+                    name.clone(),
+                    parts
+                        .iter()
+                        .map(|(a, t)| Ok((resolve(a, names)?, t.clone())))
+                        .collect::<Result<_, String>>()?,
+                ),
                 Node::Model(m, args) => Node::Model(
                     *m,
                     args.iter()
@@ -306,6 +358,13 @@ impl Expr {
                 Node::Call(f, args) => {
                     Node::Call(f.clone(), args.iter().map(|a| sub(a, name, with)).collect())
                 }
+                Node::Construct(f, parts) => Node::Construct(
+                    f.clone(),
+                    parts
+                        .iter()
+                        .map(|(a, t)| (sub(a, name, with), t.clone()))
+                        .collect(),
+                ),
                 Node::Model(m, args) => Node::Model(
                     *m,
                     args.iter()

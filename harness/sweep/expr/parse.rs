@@ -22,7 +22,7 @@ struct Parser<'a> {
 /// A parsed node and the height of its tree.
 type Parsed = (Node, u32);
 
-const FUNCTIONS: &[(&str, usize)] = &[
+pub(super) const FUNCTIONS: &[(&str, usize)] = &[
     ("sqrt", 1),
     ("abs", 1),
     ("sin", 1),
@@ -258,6 +258,11 @@ impl<'a> Parser<'a> {
                         }
                     }
                     self.nest -= 1;
+                    if name == "vec3" && args.len() == 1 {
+                        // The splat: one value in every component.
+                        let x = args.remove(0);
+                        return self.node(Node::Call(name, vec![x.clone(), x.clone(), x]), h + 1);
+                    }
                     if args.len() != arity {
                         return Err(ExprError {
                             offset: at,
