@@ -50,6 +50,12 @@ impl Kernel {
 /// has no separate f16 form (see [`Opcode::has_half`]).
 type Half = f32;
 
+/// An f32 result of a fused chain of operations (`FMulAdd`, ...): rounded
+/// to f32 after each operation of the chain, so it has no f16 form (its
+/// f16 version would have to round the intermediate to binary16 too), and
+/// fusion never applies to f16 code.
+type Single = f32;
+
 /// A value that lives in a lane as 32 bits. f16 values live as the f32 that
 /// holds them exactly (see `arith`).
 pub trait Lane: Copy {
@@ -373,6 +379,9 @@ unary {
     UFirstLeading(x: u32) -> u32 { arith::first_leading_bit_u(x) }
     IFirstLeading(x: i32) -> i32 { arith::first_leading_bit_i(x) }
     UFirstTrailing(x: u32) -> u32 { arith::first_trailing_bit(x) }
+    // Chosen by `fuse` (never by lowering): the same bits as the plain ops.
+    FSq(x: f32) -> Single { x * x }
+    FOneMinus(x: f32) -> Single { 1.0 - x }
 }
 
 binary {
@@ -443,6 +452,18 @@ ternary {
     HFma(x: f32, y: f32, z: f32) -> Half {
         half::f16::from_f64(f64::from(x) * f64::from(y) + f64::from(z)).to_f32()
     }
+    // Fused chains, chosen by `fuse` (never by lowering): two operations in
+    // one pass over the lanes, each rounded to f32 as the plain ops round
+    // them (never one rounding like `fma`), operands in the order the plain
+    // ops take them, so every bit, NaN payloads included, is the same.
+    FMulAdd(x: f32, y: f32, z: f32) -> Single { (x * y) + z }
+    FAddMul(z: f32, x: f32, y: f32) -> Single { z + (x * y) }
+    FMulSub(x: f32, y: f32, z: f32) -> Single { (x * y) - z }
+    FSubMul(z: f32, x: f32, y: f32) -> Single { z - (x * y) }
+    FMulMul(x: f32, y: f32, z: f32) -> Single { (x * y) * z }
+    FMulBy(z: f32, x: f32, y: f32) -> Single { z * (x * y) }
+    FDivBy(z: f32, x: f32, y: f32) -> Single { z / (x * y) }
+    FDiffMul(x: f32, y: f32, z: f32) -> Single { (x - y) * z }
     // select(f, t, cond): bit patterns, so it serves every type.
     Select(f: u32, t: u32, c: bool) -> u32 { if c { t } else { f } }
 }

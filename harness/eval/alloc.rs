@@ -1,0 +1,233 @@
+//! Slot allocation by liveness: temporaries whose lives do not overlap share
+//! one slot, so the columns a program works in stay few and in the first
+//! level of cache.
+//!
+//! Lowering gives every value a slot of its own; [`allocate`] renumbers the
+//! slots of a [`Code`] the executor runs. Ops are numbered in the order the
+//! executor meets them (an op, then the blocks nested in it; a loop's
+//! `break if` condition after its continuing block; the outputs, read after
+//! the last op). A slot's *life* runs from its first to its last use in that
+//! order, and two slots whose lives are disjoint get the same new number.
+//!
+//! Why that is sound, given what the verifier proves of the code it runs on
+//! (the input of this pass is verified, and so is its output):
+//!
+//! - A slot first used inside a construct (a side of an `If`, a loop, a
+//!   switch case) is defined only inside it (verifier rule 5), so it is not
+//!   read after the construct; every read follows, in this order, a write in
+//!   every lane that runs whenever the read does (branches skip whole blocks,
+//!   never single ops).
+//! - A masked write ([`Use::Update`]: masked copies, scatters,
+//!   perturbations) keeps the old value in other lanes, so it is a read too:
+//!   it extends the life of the value before it.
+//! - A slot used inside a loop whose life starts before the loop is live on
+//!   the loop's back edge: its life is stretched to the loop's end, so no
+//!   value of a later iteration can overwrite it.
+//! - A slot first written inside a loop and read later in the same loop is
+//!   written before it is read in every iteration (rule 5 for the first
+//!   iteration; the same straight-line order for every later one), so a
+//!   value from the previous iteration is never needed.
+//! - Inputs, constants, outputs, the root mask and every mask keep a slot
+//!   of their own for the whole program: inputs and outputs may be bound to
+//!   the caller's columns, constants are written once per machine, and masks
+//!   are read by sites (NaN tracing) and by constructs at times this
+//!   ordering does not see.
+//! - Operands and the destination of one op are both live at that op, so
+//!   they never share a slot (verifier rule 2 still holds).
+
+use std::cmp::Reverse;
+use std::collections::BinaryHeap;
+
+use super::ir::{Code, Op, Slot, Use};
+
+/// Never assigned: marks a slot number not yet renumbered.
+const NONE: Slot = Slot::MAX;
+
+/// The life of one slot in op order, both ends included.
+#[derive(Clone, Copy)]
+struct Life {
+    first: usize,
+    last: usize,
+}
+
+/// Renumber the slots of `code` so that slots with disjoint lives share a
+/// number. Returns the code with its new `slot_count`.
+pub(crate) fn allocate(mut code: Code) -> Code {
+    let n = code.slot_count;
+    let mut pinned = vec![false; n];
+    for &s in code
+        .input_slots
+        .iter()
+        .chain(&code.output_slots)
+        .chain(code.consts.iter().map(|c| &c.0))
+        .chain([&code.root_mask])
+        .chain(code.sites.iter().map(|s| &s.mask))
+    {
+        pinned[s as usize] = true;
+    }
+    let mut walk = Walk {
+        lives: vec![None; n],
+        pinned,
+        loops: Vec::new(),
+        pos: 0,
+    };
+    walk.block(&mut code.ops);
+    let end = walk.pos;
+    for &s in &code.output_slots {
+        walk.touch(s, end);
+    }
+    let Walk {
+        mut lives,
+        pinned,
+        loops,
+        ..
+    } = walk;
+    stretch_over_loops(&mut lives, &loops);
+
+    // Pinned slots first, in their old order, each a number of its own.
+    let mut map = vec![NONE; n];
+    let mut next: Slot = 0;
+    for (s, &p) in pinned.iter().enumerate() {
+        if p {
+            map[s] = next;
+            next += 1;
+        }
+    }
+    // Then the others, by linear scan over lives sorted by start.
+    let mut order: Vec<(Life, usize)> = lives
+        .iter()
+        .enumerate()
+        .filter(|&(s, l)| !pinned[s] && l.is_some())
+        .map(|(s, l)| (l.expect("filtered"), s))
+        .collect();
+    order.sort_by_key(|&(l, s)| (l.first, s));
+    // Slots in use, by the end of their life; numbers free again.
+    let mut active: BinaryHeap<Reverse<(usize, Slot)>> = BinaryHeap::new();
+    let mut free: BinaryHeap<Reverse<Slot>> = BinaryHeap::new();
+    for (life, s) in order {
+        while let Some(&Reverse((last, slot))) = active.peek() {
+            if last >= life.first {
+                break;
+            }
+            active.pop();
+            free.push(Reverse(slot));
+        }
+        let slot = match free.pop() {
+            Some(Reverse(f)) => f,
+            None => {
+                next += 1;
+                next - 1
+            }
+        };
+        map[s] = slot;
+        active.push(Reverse((life.last, slot)));
+    }
+
+    let rename = |s: &mut Slot| {
+        let m = map[*s as usize];
+        assert_ne!(m, NONE, "slot {s} is used but was given no new number");
+        *s = m;
+    };
+    rename_block(&mut code.ops, &rename);
+    for s in code
+        .input_slots
+        .iter_mut()
+        .chain(code.output_slots.iter_mut())
+        .chain(code.consts.iter_mut().map(|c| &mut c.0))
+        .chain([&mut code.root_mask])
+        .chain(code.sites.iter_mut().map(|s| &mut s.mask))
+    {
+        rename(s);
+    }
+    code.slot_count = next as usize;
+    code
+}
+
+fn rename_block(ops: &mut [Op], rename: &dyn Fn(&mut Slot)) {
+    for op in ops {
+        op.own_slots(&mut |s, _| rename(s));
+        for b in op.blocks_mut() {
+            rename_block(b, rename);
+        }
+    }
+}
+
+/// A loop's ops in op order: from the loop op to its `break if`.
+struct LoopSpan {
+    start: usize,
+    end: usize,
+}
+
+/// A life that starts before a loop and reaches into it is live on the
+/// back edge: it lasts to the loop's end. Repeated until nothing changes,
+/// since stretching over an inner loop may reach into an outer one's end.
+fn stretch_over_loops(lives: &mut [Option<Life>], loops: &[LoopSpan]) {
+    let mut changed = true;
+    while changed {
+        changed = false;
+        for l in lives.iter_mut().flatten() {
+            for lp in loops {
+                if l.first < lp.start && l.last >= lp.start && l.last < lp.end {
+                    l.last = lp.end;
+                    changed = true;
+                }
+            }
+        }
+    }
+}
+
+struct Walk {
+    lives: Vec<Option<Life>>,
+    pinned: Vec<bool>,
+    loops: Vec<LoopSpan>,
+    pos: usize,
+}
+
+impl Walk {
+    fn touch(&mut self, s: Slot, at: usize) {
+        let l = self.lives[s as usize].get_or_insert(Life {
+            first: at,
+            last: at,
+        });
+        l.first = l.first.min(at);
+        l.last = l.last.max(at);
+    }
+
+    fn block(&mut self, ops: &mut [Op]) {
+        for op in ops {
+            let at = self.pos;
+            self.pos += 1;
+            let mut break_if = None;
+            // (slot, whether it is a mask), collected first: the closure
+            // cannot borrow `self`.
+            let mut used = Vec::new();
+            op.own_slots(&mut |s, u| match u {
+                Use::BreakIf => break_if = Some(*s),
+                Use::Mask => used.push((*s, true)),
+                Use::Read | Use::Write | Use::Update => used.push((*s, false)),
+            });
+            for (s, mask) in used {
+                if mask {
+                    self.pinned[s as usize] = true;
+                } else {
+                    self.touch(s, at);
+                }
+            }
+            let is_loop = matches!(op, Op::Loop { .. });
+            for b in op.blocks_mut() {
+                self.block(b);
+            }
+            if let Some(b) = break_if {
+                let end = self.pos;
+                self.pos += 1;
+                self.touch(b, end);
+            }
+            if is_loop {
+                self.loops.push(LoopSpan {
+                    start: at,
+                    end: self.pos - 1,
+                });
+            }
+        }
+    }
+}
