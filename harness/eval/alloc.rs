@@ -231,3 +231,227 @@ impl Walk {
         }
     }
 }
+
+#[cfg(test)]
+pub(crate) mod tests {
+    //! Hand-made programs: temporaries share slots, and the reuses that
+    //! would be wrong (a value a masked write blends, a value carried
+    //! around a loop) are not made; each program computes the same before
+    //! and after.
+    use super::*;
+    use crate::eval::exec::{Machine, Verified};
+    use crate::eval::ir::{Code, Site};
+    use crate::eval::lanes::{Lanes, Opcode, LANES};
+
+    /// Slots: 0 root mask, 1 and 2 inputs, then `extra` more.
+    pub(crate) fn code(
+        ops: Vec<Op>,
+        extra: usize,
+        outputs: Vec<Slot>,
+        consts: Vec<(Slot, u32)>,
+    ) -> Code {
+        Code {
+            ops,
+            slot_count: 3 + extra,
+            sites: vec![Site {
+                line: 1,
+                column: 1,
+                what: String::new(),
+                mask: 0,
+            }],
+            params: Vec::new(),
+            input_slots: vec![1, 2],
+            result: None,
+            output_slots: outputs,
+            root_mask: 0,
+            consts,
+        }
+    }
+
+    pub(crate) fn k(op: Opcode, dst: Slot, a: Slot, b: Slot) -> Op {
+        Op::Kernel {
+            op,
+            half: false,
+            dst,
+            args: [a, b, 0, 0],
+            at: 0,
+        }
+    }
+
+    /// Inputs per lane: `a` = lane / 4, `b` = 3 - lane / 8 (f32).
+    pub(crate) fn inputs() -> [Lanes; 2] {
+        let mut a = [0; LANES];
+        let mut b = [0; LANES];
+        for l in 0..LANES {
+            a[l] = (l as f32 / 4.0).to_bits();
+            b[l] = (3.0 - l as f32 / 8.0).to_bits();
+        }
+        [a, b]
+    }
+
+    /// Run `code` (verified) on [`inputs`]; its output columns.
+    pub(crate) fn run(code: Code) -> Vec<Lanes> {
+        let v = Verified::new(code).unwrap_or_else(|e| panic!("{e}"));
+        let mut m = Machine::new(&v, 1000);
+        let ins = inputs();
+        for (&s, col) in v.input_slots.iter().zip(&ins) {
+            *m.own_mut(s) = *col;
+        }
+        *m.own_mut(v.root_mask) = [1; LANES];
+        m.run(&v);
+        v.output_slots.iter().map(|&s| *m.lanes(s)).collect()
+    }
+
+    /// Every destination written by the ops of `ops`, nested ones included.
+    fn written(ops: &mut [Op], out: &mut Vec<Slot>) {
+        for op in ops {
+            op.own_slots(&mut |s, u| {
+                if matches!(u, Use::Write | Use::Update) {
+                    out.push(*s);
+                }
+            });
+            for b in op.blocks_mut() {
+                written(b, out);
+            }
+        }
+    }
+
+    #[test]
+    fn temporaries_share_slots_and_the_result_is_the_same() {
+        use Opcode::*;
+        let ops = vec![
+            k(FAdd, 3, 1, 2),
+            k(FMul, 4, 3, 1),
+            k(FAdd, 5, 4, 2),
+            k(FMul, 6, 5, 5),
+            k(FSub, 7, 6, 1),
+        ];
+        let c = code(ops, 5, vec![7], vec![]);
+        let before = run(c.clone());
+        let after = allocate(c);
+        // Root, two inputs, the output; two temporaries alive at once.
+        assert_eq!(after.slot_count, 6);
+        assert_eq!(run(after), before);
+    }
+
+    #[test]
+    fn a_value_a_masked_write_blends_keeps_its_slot() {
+        use Opcode::*;
+        // v = a; if a < b { t = a * b; u = t + b; v = u (masked) }; out = v + b.
+        // Read as plain writes, v would be dead between its copy and the
+        // masked copy, and t could take its slot.
+        let ops = vec![
+            k(FLt, 3, 1, 2),
+            Op::Copy { dst: 4, src: 1 },
+            Op::If {
+                cond: 3,
+                parent: 0,
+                then_mask: 5,
+                else_mask: 6,
+                accept: vec![
+                    k(FMul, 7, 1, 2),
+                    k(FAdd, 8, 7, 2),
+                    Op::MaskedCopy {
+                        dst: 4,
+                        src: 8,
+                        mask: 5,
+                    },
+                ],
+                reject: Vec::new(),
+            },
+            k(FAdd, 9, 4, 2),
+        ];
+        let c = code(ops, 7, vec![9], vec![]);
+        let before = run(c.clone());
+        let mut after = allocate(c);
+        let Op::Copy { dst: v, .. } = after.ops[1] else {
+            panic!("the copy moved")
+        };
+        let Op::If { accept, .. } = &mut after.ops[2] else {
+            panic!("the branch moved")
+        };
+        let mut inside = Vec::new();
+        written(accept, &mut inside);
+        assert_eq!(
+            inside.iter().filter(|&&s| s == v).count(),
+            1,
+            "only the blend writes v"
+        );
+        let out = run(after);
+        assert_eq!(out, before);
+        // Both sides really ran: some lanes took the branch, some did not.
+        let [a, b] = inputs();
+        let lane = |l: usize| f32::from_bits(out[0][l]);
+        let (a0, b0) = (f32::from_bits(a[0]), f32::from_bits(b[0]));
+        assert_eq!(lane(0), (a0 * b0 + b0) + b0);
+        let l = LANES - 1;
+        let (al, bl) = (f32::from_bits(a[l]), f32::from_bits(b[l]));
+        assert!(al >= bl);
+        assert_eq!(lane(l), al + bl);
+    }
+
+    /// `c = a * b; r = 0; n = 0; loop { t = c + a; w = t * t; r = w (masked);
+    /// n = n + 1 (masked) } continuing { break if n >= 3 }; out = r`.
+    /// `c` is last read at the top of the body; without stretching its life
+    /// over the loop, `w` could take its slot and the second iteration
+    /// would read `w` for `c`.
+    pub(crate) fn loop_program() -> Code {
+        use Opcode::*;
+        let ops = vec![
+            k(FMul, 3, 1, 2),
+            Op::Fill { dst: 9, bits: 0 },
+            Op::Fill { dst: 7, bits: 0 },
+            Op::Loop {
+                parent: 0,
+                lmask: 4,
+                imask: 5,
+                body: vec![
+                    k(FAdd, 6, 3, 1),
+                    k(FMul, 8, 6, 6),
+                    Op::MaskedCopy {
+                        dst: 9,
+                        src: 8,
+                        mask: 5,
+                    },
+                    k(IAdd, 10, 7, 12),
+                    Op::MaskedCopy {
+                        dst: 7,
+                        src: 10,
+                        mask: 5,
+                    },
+                ],
+                continuing: vec![k(UGe, 11, 7, 13)],
+                break_if: Some(11),
+                kill: vec![4, 5].into(),
+                at: 0,
+            },
+        ];
+        code(ops, 11, vec![9], vec![(12, 1), (13, 3)])
+    }
+
+    #[test]
+    fn a_value_carried_around_a_loop_keeps_its_slot() {
+        let c = loop_program();
+        let before = run(c.clone());
+        let mut after = allocate(c);
+        let Op::Kernel { dst: c_slot, .. } = after.ops[0] else {
+            panic!("the product moved")
+        };
+        let Op::Loop { body, .. } = &mut after.ops[3] else {
+            panic!("the loop moved")
+        };
+        let mut inside = Vec::new();
+        written(body, &mut inside);
+        assert!(
+            !inside.contains(&c_slot),
+            "{c_slot} is overwritten in the loop"
+        );
+        assert!(after.slot_count < 3 + 11, "something is shared");
+        let out = run(after);
+        assert_eq!(out, before);
+        let [a, b] = inputs();
+        let (a1, b1) = (f32::from_bits(a[1]), f32::from_bits(b[1]));
+        let t = a1 * b1 + a1;
+        assert_eq!(f32::from_bits(out[0][1]), t * t);
+    }
+}

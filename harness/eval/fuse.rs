@@ -341,3 +341,243 @@ fn single(op: &mut Op, one: &[Slot]) {
         args[1] = 0;
     }
 }
+
+#[cfg(test)]
+mod tests {
+    //! Each fused kernel against its chain of plain kernels, bit for bit,
+    //! over special values; and the pass: what it fuses, what it leaves.
+    use super::*;
+    use crate::eval::alloc::tests::{code, k, run};
+    use crate::eval::lanes::{Kernel, Lanes, LANES};
+
+    /// Special f32 values (IEEE 754 binary32): NaNs with payloads and
+    /// signs (quiet and signalling), infinities, zeros, subnormals, the
+    /// extremes of the normal range, and a few ordinary numbers.
+    const SPECIAL: [u32; 18] = [
+        0x7fc0_0000, // quiet NaN
+        0xffc0_0001, // negative quiet NaN with a payload
+        0x7f80_0001, // signalling NaN
+        0x7f80_0000, // +inf
+        0xff80_0000, // -inf
+        0x0000_0000, // +0
+        0x8000_0000, // -0
+        0x0000_0001, // smallest subnormal
+        0x807f_ffff, // largest subnormal, negative
+        0x0080_0000, // smallest normal
+        0x7f7f_ffff, // largest finite
+        0xff7f_ffff, // most negative finite
+        0x3f80_0000, // 1
+        0xbf80_0000, // -1
+        0x3f80_0001, // 1 + ulp
+        0x3eaa_aaab, // 1/3
+        0x5f00_0000, // 2^63 (its square overflows with a factor 2^65)
+        0x1f80_0000, // 2^-64 (its square is subnormal territory)
+    ];
+
+    fn un(op: Opcode, a: &Lanes) -> Lanes {
+        let mut d = [0; LANES];
+        match op.kernel(false) {
+            Kernel::Unary(f) => f(&mut d, a),
+            _ => panic!("{} is not unary", op.name()),
+        }
+        d
+    }
+
+    fn bin(op: Opcode, a: &Lanes, b: &Lanes) -> Lanes {
+        let mut d = [0; LANES];
+        match op.kernel(false) {
+            Kernel::Binary(f) => f(&mut d, a, b),
+            _ => panic!("{} is not binary", op.name()),
+        }
+        d
+    }
+
+    fn ter(op: Opcode, a: &Lanes, b: &Lanes, c: &Lanes) -> Lanes {
+        let mut d = [0; LANES];
+        match op.kernel(false) {
+            Kernel::Ternary(f) => f(&mut d, a, b, c),
+            _ => panic!("{} is not ternary", op.name()),
+        }
+        d
+    }
+
+    /// Every (x, y, z) of [`SPECIAL`], `LANES` at a time.
+    fn triples() -> Vec<[Lanes; 3]> {
+        let n = SPECIAL.len();
+        let all: Vec<[u32; 3]> = (0..n * n * n)
+            .map(|i| [SPECIAL[i / (n * n)], SPECIAL[i / n % n], SPECIAL[i % n]])
+            .collect();
+        all.chunks(LANES)
+            .map(|c| {
+                let mut cols = [[0; LANES]; 3];
+                for (l, t) in c.iter().enumerate() {
+                    for j in 0..3 {
+                        cols[j][l] = t[j];
+                    }
+                }
+                cols
+            })
+            .collect()
+    }
+
+    #[test]
+    fn each_fused_kernel_is_its_chain_bit_for_bit() {
+        for baseline in [true, false] {
+            crate::eval::lanes::set_baseline_only(baseline);
+            fused_against_chains();
+        }
+        crate::eval::lanes::set_baseline_only(false);
+    }
+
+    fn fused_against_chains() {
+        use Opcode as O;
+        let firsts = [O::FMul, O::FSub, O::FAdd, O::FDiv];
+        let seconds = [O::FAdd, O::FSub, O::FMul, O::FDiv];
+        let mut fused = 0;
+        for first in firsts {
+            for second in seconds {
+                for pos in 0..2 {
+                    let Some((op, order)) = chain(first, second, pos) else {
+                        continue;
+                    };
+                    fused += 1;
+                    for [x, y, z] in triples() {
+                        let t = bin(first, &x, &y);
+                        let want = if pos == 0 {
+                            bin(second, &t, &z)
+                        } else {
+                            bin(second, &z, &t)
+                        };
+                        let got = match order {
+                            Order::XYZ => ter(op, &x, &y, &z),
+                            Order::ZXY => ter(op, &z, &x, &y),
+                        };
+                        assert_eq!(
+                            got,
+                            want,
+                            "{} against {} then {}",
+                            op.name(),
+                            first.name(),
+                            second.name()
+                        );
+                    }
+                }
+            }
+        }
+        assert_eq!(fused, 8, "every row of `chain` was tested");
+        for [x, ..] in triples() {
+            assert_eq!(un(O::FSq, &x), bin(O::FMul, &x, &x));
+            assert_eq!(
+                un(O::FOneMinus, &x),
+                bin(O::FSub, &[1f32.to_bits(); LANES], &x)
+            );
+        }
+    }
+
+    #[test]
+    fn fused_kernels_have_no_f16_form() {
+        for op in [
+            Opcode::FSq,
+            Opcode::FOneMinus,
+            Opcode::FMulAdd,
+            Opcode::FDivBy,
+        ] {
+            assert!(!op.has_half(), "{}", op.name());
+        }
+    }
+
+    /// The kernels of `ops` (top level), by opcode.
+    fn opcodes(c: &Code) -> Vec<Opcode> {
+        c.ops
+            .iter()
+            .filter_map(|o| match o {
+                Op::Kernel { op, .. } => Some(*op),
+                _ => None,
+            })
+            .collect()
+    }
+
+    #[test]
+    fn a_chain_with_a_dead_intermediate_is_fused_and_computes_the_same() {
+        use Opcode::*;
+        // t = a * b; u = b + a; out = u - t: the reader of t is two ops on.
+        let c = code(
+            vec![k(FMul, 3, 1, 2), k(FAdd, 4, 2, 1), k(FSub, 5, 4, 3)],
+            3,
+            vec![5],
+            vec![],
+        );
+        let before = run(c.clone());
+        let f = fuse(c);
+        assert_eq!(opcodes(&f), vec![FAdd, FSubMul]);
+        assert_eq!(run(f), before);
+    }
+
+    #[test]
+    fn a_chain_is_left_alone_where_fusing_would_be_wrong() {
+        use Opcode::*;
+        // t read twice.
+        let twice = code(vec![k(FMul, 3, 1, 2), k(FAdd, 4, 3, 3)], 2, vec![4], vec![]);
+        assert_eq!(opcodes(&fuse(twice)), vec![FMul, FAdd]);
+        // t an output.
+        let out = code(
+            vec![k(FMul, 3, 1, 2), k(FAdd, 4, 3, 1)],
+            2,
+            vec![4, 3],
+            vec![],
+        );
+        assert_eq!(opcodes(&fuse(out)), vec![FMul, FAdd]);
+        // An f16 operation: the intermediate would round to binary16.
+        let mut half = code(vec![k(FMul, 3, 1, 2), k(FAdd, 4, 3, 1)], 2, vec![4], vec![]);
+        if let Op::Kernel { half, .. } = &mut half.ops[1] {
+            *half = true;
+        }
+        assert_eq!(opcodes(&fuse(half)), vec![FMul, FAdd]);
+        // An op in between overwrites an operand of the first (through a
+        // variable written twice, so the copy is not forwarded either).
+        let clobber = code(
+            vec![
+                Op::Copy { dst: 6, src: 1 },
+                k(FMul, 3, 6, 2),
+                Op::Copy { dst: 6, src: 2 },
+                k(FAdd, 4, 3, 6),
+            ],
+            4,
+            vec![4],
+            vec![],
+        );
+        let before = run(clobber.clone());
+        let f = fuse(clobber);
+        assert_eq!(opcodes(&f), vec![FMul, FAdd]);
+        assert_eq!(run(f), before);
+    }
+
+    #[test]
+    fn copies_are_forwarded_and_unread_callee_masks_dropped() {
+        use Opcode::*;
+        // m = enter(root); x = copy a; out = x * b.
+        let mut c = code(
+            vec![
+                Op::Enter { mask: 5, parent: 0 },
+                Op::Copy { dst: 3, src: 1 },
+                k(FMul, 4, 3, 2),
+            ],
+            3,
+            vec![4],
+            vec![],
+        );
+        c.sites[0].mask = 5;
+        let before = run(c.clone());
+        let f = fuse(c);
+        assert_eq!(f.ops.len(), 1, "only the product is left");
+        assert!(matches!(
+            f.ops[0],
+            Op::Kernel {
+                args: [1, 2, ..],
+                ..
+            }
+        ));
+        assert_eq!(f.sites[0].mask, 0, "the site names the parent mask");
+        assert_eq!(run(f), before);
+    }
+}
