@@ -36,23 +36,24 @@ const WINDOW: usize = 3;
 fn chain(first: Opcode, second: Opcode, pos: usize) -> Option<(Opcode, Order)> {
     use Opcode as O;
     Some(match (first, second, pos) {
-        (O::FMul, O::FAdd, 0) => (O::FMulAdd, Order::XYZ),
-        (O::FMul, O::FAdd, 1) => (O::FAddMul, Order::ZXY),
-        (O::FMul, O::FSub, 0) => (O::FMulSub, Order::XYZ),
-        (O::FMul, O::FSub, 1) => (O::FSubMul, Order::ZXY),
-        (O::FMul, O::FMul, 0) => (O::FMulMul, Order::XYZ),
-        (O::FMul, O::FMul, 1) => (O::FMulBy, Order::ZXY),
-        (O::FMul, O::FDiv, 1) => (O::FDivBy, Order::ZXY),
-        (O::FSub, O::FMul, 0) => (O::FDiffMul, Order::XYZ),
+        (O::FMul, O::FAdd, 0) => (O::FMulAdd, Order::ProductFirst),
+        (O::FMul, O::FAdd, 1) => (O::FAddMul, Order::ProductLast),
+        (O::FMul, O::FSub, 0) => (O::FMulSub, Order::ProductFirst),
+        (O::FMul, O::FSub, 1) => (O::FSubMul, Order::ProductLast),
+        (O::FMul, O::FMul, 0) => (O::FMulMul, Order::ProductFirst),
+        (O::FMul, O::FMul, 1) => (O::FMulBy, Order::ProductLast),
+        (O::FMul, O::FDiv, 1) => (O::FDivBy, Order::ProductLast),
+        (O::FSub, O::FMul, 0) => (O::FDiffMul, Order::ProductFirst),
         _ => return None,
     })
 }
 
-/// Operand order of a fused op: `(x, y, z)` or `(z, x, y)`.
+/// Operand order of a fused op: the first op's operands first, `(x, y, z)`,
+/// or last, `(z, x, y)`.
 #[derive(Clone, Copy)]
 enum Order {
-    XYZ,
-    ZXY,
+    ProductFirst,
+    ProductLast,
 }
 
 /// Forward copies, drop unread callee masks and fuse the chains of `code`
@@ -306,8 +307,8 @@ fn fuse_at(ops: &mut [Op], i: usize, counts: &Counts) -> bool {
             return false;
         };
         let args = match order {
-            Order::XYZ => [x, y, z, 0],
-            Order::ZXY => [z, x, y, 0],
+            Order::ProductFirst => [x, y, z, 0],
+            Order::ProductLast => [z, x, y, 0],
         };
         ops[j] = Op::Kernel {
             op: fused,
@@ -411,8 +412,8 @@ mod tests {
             .map(|c| {
                 let mut cols = [[0; LANES]; 3];
                 for (l, t) in c.iter().enumerate() {
-                    for j in 0..3 {
-                        cols[j][l] = t[j];
+                    for (col, &v) in cols.iter_mut().zip(t) {
+                        col[l] = v;
                     }
                 }
                 cols
@@ -449,8 +450,8 @@ mod tests {
                             bin(second, &z, &t)
                         };
                         let got = match order {
-                            Order::XYZ => ter(op, &x, &y, &z),
-                            Order::ZXY => ter(op, &z, &x, &y),
+                            Order::ProductFirst => ter(op, &x, &y, &z),
+                            Order::ProductLast => ter(op, &z, &x, &y),
                         };
                         assert_eq!(
                             got,
