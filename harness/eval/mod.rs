@@ -444,7 +444,9 @@ impl Program {
         shadow::Shadow::new(&self.code, self.step_budget, self.seed)
     }
 
-    /// The verified code (for the precision analysis).
+    /// The verified lowered code, one op per source operation (for the
+    /// precision analysis; the executor runs its fused, liveness-allocated
+    /// form).
     pub(crate) fn code(&self) -> &Verified {
         &self.code
     }
