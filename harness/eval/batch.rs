@@ -168,6 +168,7 @@ impl Program {
             .unwrap_or_default()
     }
 
+    #[allow(clippy::too_many_arguments)]
     fn load_batch(
         &self,
         m: &mut Machine,
