@@ -278,13 +278,14 @@ pub(crate) mod tests {
         }
     }
 
-    /// Inputs per lane: `a` = lane / 4, `b` = 3 - lane / 8 (f32).
+    /// Inputs per lane: `a` = lane / 4, `b` = (LANES - 1 - lane) / 8 (f32),
+    /// so `a < b` in the first lane and not in the last at any `LANES`.
     pub(crate) fn inputs() -> [Lanes; 2] {
         let mut a = [0; LANES];
         let mut b = [0; LANES];
         for l in 0..LANES {
             a[l] = (l as f32 / 4.0).to_bits();
-            b[l] = (3.0 - l as f32 / 8.0).to_bits();
+            b[l] = ((LANES - 1 - l) as f32 / 8.0).to_bits();
         }
         [a, b]
     }
