@@ -370,8 +370,10 @@ fn main() {
         100.0 * bsame as f64 / N as f64
     );
     println!(
-        "slots per thread: GGX {}, BRDF {} (x {} lanes x 4 bytes)",
+        "slots per thread (lowered -> shared by liveness, fused): GGX {} -> {}, BRDF {} -> {} (x {} lanes x 4 bytes)",
+        ggx.lowered_slot_count(),
         ggx.slot_count(),
+        bp.lowered_slot_count(),
         bp.slot_count(),
         shadegate::eval::LANES
     );

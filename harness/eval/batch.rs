@@ -15,6 +15,7 @@
 //! while the machine holds a pointer into it.
 
 use super::exec::{Machine, RawKind};
+use super::ir::Code;
 use super::lanes::{Lanes, LANES};
 use super::{in_place, to_external, to_lane, IssueKind, LaneIssue, Program, ScalarKind};
 
@@ -40,7 +41,7 @@ impl Program {
         n: usize,
         first_point: usize,
     ) -> Vec<LaneIssue> {
-        let code = &self.code;
+        let code = &self.fast;
         let in_kinds = self.input_kinds();
         let out_kinds = self.output_kinds();
         let mut issues = Vec::new();
@@ -71,10 +72,11 @@ impl Program {
             }
 
             // Run.
-            self.load_batch(m, ins, &in_kinds, start, len, bound);
+            self.load_batch(m, code, ins, &in_kinds, start, len, bound);
             m.issues.clear();
             m.run(code);
             let mut abandoned = [false; LANES];
+            let mut any_abandoned = false;
             let mut flagged = [false; LANES];
             for raw in m.issues.drain(..) {
                 if raw.lane >= len {
@@ -84,6 +86,7 @@ impl Program {
                 let kind = match raw.kind {
                     RawKind::StepBudget => {
                         abandoned[raw.lane] = true;
+                        any_abandoned = true;
                         IssueKind::StepBudget
                     }
                     RawKind::OutOfBounds => IssueKind::OutOfBounds,
@@ -99,11 +102,11 @@ impl Program {
                 });
             }
 
-            // Trace (re-runs the batch; it computes the same bits).
+            // Trace (re-runs the batch on a machine of its own; it computes
+            // the same bits).
             if let Some(suspicious) = self.nonfinite_lanes(m, &in_kinds, &out_kinds, len, &flagged)
             {
                 issues.extend(self.trace_batch(
-                    m,
                     ins,
                     &in_kinds,
                     start,
@@ -113,7 +116,6 @@ impl Program {
                 ));
             }
 
-            let any_abandoned = abandoned.iter().any(|&a| a);
             // Mark abandoned points and copy out: after this nothing writes
             // this batch's range of the output columns.
             for (j, (&slot, &k)) in code.output_slots.iter().zip(&out_kinds).enumerate() {
@@ -162,16 +164,18 @@ impl Program {
         self.code.output_kinds()
     }
 
+    #[allow(clippy::too_many_arguments)]
     fn load_batch(
         &self,
         m: &mut Machine,
+        code: &Code,
         ins: &[&[u32]],
         kinds: &[ScalarKind],
         start: usize,
         len: usize,
         bound: bool,
     ) {
-        for (i, (&slot, &k)) in self.code.input_slots.iter().zip(kinds).enumerate() {
+        for (i, (&slot, &k)) in code.input_slots.iter().zip(kinds).enumerate() {
             if bound && in_place(k) {
                 continue;
             }
@@ -184,7 +188,7 @@ impl Program {
             let first = dst[0];
             dst[len..].fill(first);
         }
-        let root = m.own_mut(self.code.root_mask);
+        let root = m.own_mut(code.root_mask);
         root[..len].fill(1);
         root[len..].fill(0);
     }
@@ -200,18 +204,24 @@ impl Program {
         // An exponent of all ones marks NaN and infinity (IEEE 754 binary32);
         // f16 lives in lanes as f32, so the same test serves both.
         const EXP: u32 = 0x7f80_0000;
-        let mut bad = [0u32; LANES];
-        for (&o, k) in self.code.output_slots.iter().zip(out_kinds) {
-            if k.is_float() {
-                let col = m.lanes(o);
-                for i in 0..LANES {
-                    bad[i] |= u32::from(col[i] & EXP == EXP);
-                }
-            }
-        }
-        // Branch-free OR over the batch: the common case is "all finite".
-        if bad[..len].iter().fold(0, |a, &b| a | b) == 0 {
+        // Branch-free OR over the batch first: the common case is "all
+        // finite".
+        let floats = || {
+            self.fast
+                .output_slots
+                .iter()
+                .zip(out_kinds)
+                .filter(|(_, k)| k.is_float())
+                .map(|(&o, _)| &m.lanes(o)[..len])
+        };
+        if !floats().any(|col| col.iter().fold(0, |a, &b| a | u32::from(b & EXP == EXP)) != 0) {
             return None;
+        }
+        let mut bad = [0u32; LANES];
+        for col in floats() {
+            for (b, &x) in bad.iter_mut().zip(col) {
+                *b |= u32::from(x & EXP == EXP);
+            }
         }
         let mut s = [false; LANES];
         for lane in 0..len {
@@ -219,7 +229,7 @@ impl Program {
                 continue;
             }
             s[lane] = self
-                .code
+                .fast
                 .input_slots
                 .iter()
                 .zip(in_kinds)
@@ -228,10 +238,12 @@ impl Program {
         s.iter().any(|&x| x).then_some(s)
     }
 
-    #[allow(clippy::too_many_arguments)]
+    /// Re-run the batch with NaN tracing on the lowered code (one op per
+    /// source operation, so the first operation that made a NaN is named
+    /// even where the executor's code fuses it with the next), on a machine
+    /// of its own with nothing bound.
     fn trace_batch(
         &self,
-        m: &mut Machine,
         ins: &[&[u32]],
         in_kinds: &[ScalarKind],
         start: usize,
@@ -239,7 +251,9 @@ impl Program {
         suspicious: &[bool; LANES],
         first_point: usize,
     ) -> Vec<LaneIssue> {
-        self.load_batch(m, ins, in_kinds, start, len, len == LANES);
+        let mut m = Machine::new(&self.code, self.step_budget);
+        m.seed = self.seed;
+        self.load_batch(&mut m, &self.code, ins, in_kinds, start, len, false);
         m.trace = Some(vec![None; LANES]);
         m.run(&self.code);
         m.issues.clear();

@@ -144,6 +144,7 @@ pub(crate) struct Case {
 }
 
 /// One lowered function: the program a machine runs.
+#[derive(Clone)]
 pub(crate) struct Code {
     pub ops: Vec<Op>,
     pub slot_count: usize,
@@ -173,5 +174,168 @@ impl Code {
             kinds.extend(t.leaves());
         }
         kinds
+    }
+}
+
+/// How an operation uses one of its slots (see [`Op::own_slots`]).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub(crate) enum Use {
+    /// Read.
+    Read,
+    /// Written in every lane.
+    Write,
+    /// Written in some lanes only, the others keeping their value: a read
+    /// and a write (masked copies, scatters, perturbations).
+    Update,
+    /// A mask of a construct, read or written by the construct, an exit or
+    /// a step-budget kill.
+    Mask,
+    /// A loop's `break if` condition, read after its continuing block.
+    BreakIf,
+}
+
+impl Op {
+    /// Call `f` on every slot this operation names itself (not those of the
+    /// ops nested in it), with how it is used. The one list of an op's
+    /// slots for the passes that analyse or renumber them
+    /// ([`super::alloc`], [`super::fuse`]).
+    pub fn own_slots(&mut self, f: &mut dyn FnMut(&mut Slot, Use)) {
+        match self {
+            Op::Fill { dst, .. } => f(dst, Use::Write),
+            Op::Copy { dst, src } => {
+                f(src, Use::Read);
+                f(dst, Use::Write);
+            }
+            Op::Enter { mask, parent } => {
+                f(parent, Use::Mask);
+                f(mask, Use::Mask);
+            }
+            Op::Kernel { op, dst, args, .. } => {
+                for a in &mut args[..op.arity()] {
+                    f(a, Use::Read);
+                }
+                f(dst, Use::Write);
+            }
+            Op::PerLane { dst, args, .. } => {
+                for a in args.iter_mut() {
+                    f(a, Use::Read);
+                }
+                for d in dst.iter_mut() {
+                    f(d, Use::Write);
+                }
+            }
+            Op::MaskedCopy { dst, src, mask } => {
+                f(src, Use::Read);
+                f(mask, Use::Mask);
+                f(dst, Use::Update);
+            }
+            Op::Gather { dst, src, offset } => {
+                f(offset, Use::Read);
+                for s in src.iter_mut() {
+                    f(s, Use::Read);
+                }
+                for d in dst.iter_mut() {
+                    f(d, Use::Write);
+                }
+            }
+            Op::Scatter {
+                dst,
+                src,
+                offset,
+                mask,
+            } => {
+                f(offset, Use::Read);
+                f(mask, Use::Mask);
+                for s in src.iter_mut() {
+                    f(s, Use::Read);
+                }
+                for d in dst.iter_mut() {
+                    f(d, Use::Update);
+                }
+            }
+            Op::CheckIndex { dst, idx, mask, .. } => {
+                f(idx, Use::Read);
+                f(mask, Use::Mask);
+                f(dst, Use::Write);
+            }
+            Op::If {
+                cond,
+                parent,
+                then_mask,
+                else_mask,
+                ..
+            } => {
+                f(cond, Use::Read);
+                f(parent, Use::Mask);
+                f(then_mask, Use::Mask);
+                f(else_mask, Use::Mask);
+            }
+            Op::Loop {
+                parent,
+                lmask,
+                imask,
+                break_if,
+                kill,
+                ..
+            } => {
+                f(parent, Use::Mask);
+                f(lmask, Use::Mask);
+                f(imask, Use::Mask);
+                for m in kill.iter_mut() {
+                    f(m, Use::Mask);
+                }
+                if let Some(b) = break_if {
+                    f(b, Use::BreakIf);
+                }
+            }
+            Op::Switch {
+                sel,
+                parent,
+                smask,
+                cases,
+            } => {
+                f(sel, Use::Read);
+                f(parent, Use::Mask);
+                f(smask, Use::Mask);
+                for c in cases.iter_mut() {
+                    f(&mut c.mask, Use::Mask);
+                }
+            }
+            Op::Exit { current, masks } => {
+                f(current, Use::Mask);
+                for m in masks.iter_mut() {
+                    f(m, Use::Mask);
+                }
+            }
+            Op::Perturb(p) => {
+                f(&mut p.arg, Use::Read);
+                f(&mut p.dst, Use::Update);
+            }
+            Op::Texture(t) => {
+                for c in &mut t.coords {
+                    f(c, Use::Read);
+                }
+                if let Some(l) = &mut t.level {
+                    f(l, Use::Read);
+                }
+                f(&mut t.mask, Use::Mask);
+                for d in &mut t.dst {
+                    f(d, Use::Write);
+                }
+            }
+        }
+    }
+
+    /// The blocks nested in this op, in the order the executor runs them
+    /// (a loop's body, then its continuing block).
+    pub fn blocks_mut(&mut self) -> Vec<&mut Vec<Op>> {
+        match self {
+            Op::If { accept, reject, .. } => vec![accept, reject],
+            Op::Loop {
+                body, continuing, ..
+            } => vec![body, continuing],
+            Op::Switch { cases, .. } => cases.iter_mut().map(|c| &mut c.body).collect(),
+            _ => Vec::new(),
+        }
     }
 }

@@ -50,6 +50,32 @@ impl Kernel {
 /// has no separate f16 form (see [`Opcode::has_half`]).
 type Half = f32;
 
+/// An f32 result of a fused chain of operations (`FMulAdd`, ...): rounded
+/// to f32 after each operation of the chain, so it has no f16 form (its
+/// f16 version would have to round the intermediate to binary16 too), and
+/// fusion never applies to f16 code.
+type Single = f32;
+
+/// `r`, the result of an operation whose first operand is `a`, with the NaN
+/// the plain kernel of that operation gives when `a` is a NaN: `a`
+/// quietened. On x86-64 an arithmetic instruction returns its first NaN
+/// operand, quietened (the architecture's NaN rule, stated here from
+/// memory and checked on each machine by the tests in `fuse.rs`), and the plain
+/// kernels keep the source operand order; inside a fused kernel the
+/// compiler may swap the operands of `+` and `*`, which would change which
+/// NaN comes out when both are NaNs, so the fused kernels say it here. Where
+/// `a` is no NaN, either order gives the same bits. The fused kernels'
+/// tests (`fuse.rs`) compare them with the plain kernels bit for bit, NaN
+/// payloads included, on the machine that runs them.
+#[inline(always)]
+fn nan_first(a: f32, r: f32) -> f32 {
+    if a.is_nan() {
+        f32::from_bits(a.to_bits() | 0x0040_0000)
+    } else {
+        r
+    }
+}
+
 /// A value that lives in a lane as 32 bits. f16 values live as the f32 that
 /// holds them exactly (see `arith`).
 pub trait Lane: Copy {
@@ -373,6 +399,9 @@ unary {
     UFirstLeading(x: u32) -> u32 { arith::first_leading_bit_u(x) }
     IFirstLeading(x: i32) -> i32 { arith::first_leading_bit_i(x) }
     UFirstTrailing(x: u32) -> u32 { arith::first_trailing_bit(x) }
+    // Chosen by `fuse` (never by lowering): the same bits as the plain ops.
+    FSq(x: f32) -> Single { x * x }
+    FOneMinus(x: f32) -> Single { 1.0 - x }
 }
 
 binary {
@@ -443,6 +472,18 @@ ternary {
     HFma(x: f32, y: f32, z: f32) -> Half {
         half::f16::from_f64(f64::from(x) * f64::from(y) + f64::from(z)).to_f32()
     }
+    // Fused chains, chosen by `fuse` (never by lowering): two operations in
+    // one pass over the lanes, each rounded to f32 as the plain ops round
+    // them (never one rounding like `fma`), and each NaN result the one the
+    // plain op gives (`nan_first`), so every bit is the same.
+    FMulAdd(x: f32, y: f32, z: f32) -> Single { let t = nan_first(x, x * y); nan_first(t, t + z) }
+    FAddMul(z: f32, x: f32, y: f32) -> Single { let t = nan_first(x, x * y); nan_first(z, z + t) }
+    FMulSub(x: f32, y: f32, z: f32) -> Single { let t = nan_first(x, x * y); nan_first(t, t - z) }
+    FSubMul(z: f32, x: f32, y: f32) -> Single { let t = nan_first(x, x * y); nan_first(z, z - t) }
+    FMulMul(x: f32, y: f32, z: f32) -> Single { let t = nan_first(x, x * y); nan_first(t, t * z) }
+    FMulBy(z: f32, x: f32, y: f32) -> Single { let t = nan_first(x, x * y); nan_first(z, z * t) }
+    FDivBy(z: f32, x: f32, y: f32) -> Single { let t = nan_first(x, x * y); z / t }
+    FDiffMul(x: f32, y: f32, z: f32) -> Single { let t = nan_first(x, x - y); nan_first(t, t * z) }
     // select(f, t, cond): bit patterns, so it serves every type.
     Select(f: u32, t: u32, c: bool) -> u32 { if c { t } else { f } }
 }

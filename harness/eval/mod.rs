@@ -9,8 +9,10 @@
 //! [`crate::values`]; they are re-exported here (`eval::ty`, `eval::text` included) so
 //! code written against the evaluator keeps its paths.
 
+pub(crate) mod alloc;
 mod batch;
 pub(crate) mod exec;
+pub(crate) mod fuse;
 pub(crate) mod ir;
 pub(crate) mod lanes;
 pub(crate) mod lower;
@@ -82,7 +84,13 @@ pub enum Arithmetic {
 
 pub struct Program {
     seed: u64,
+    /// The lowered code, one slot per value and one op per source
+    /// operation: what the shadow executor, the precision analysis and NaN
+    /// tracing run.
     code: Verified,
+    /// The same code fused and with slots shared by liveness
+    /// ([`fuse`], [`alloc`]): what the executor runs.
+    fast: Verified,
     own_output: Vec<bool>,
     path: PathBuf,
     function: String,
@@ -155,28 +163,32 @@ impl Program {
         };
         let code =
             lower::Compiler::compile(shader, function, overrides, spec_bounds, limits, bindings)?;
-        let code = Verified::new(code).map_err(|e| {
+        let fast = alloc::allocate(fuse::fuse(code.clone()));
+        let internal = |e: verify::VerifyError| {
             Diagnostic::without_position(
                 &shader.path,
                 format!("internal error lowering `{function}`: {e}"),
             )
-        })?;
+        };
+        let code = Verified::new(code).map_err(internal)?;
+        let fast = Verified::new(fast).map_err(internal)?;
         // An output slot may be written straight into the output column when
         // it belongs to no input, constant or other output.
-        let out_kinds = code.output_kinds();
-        let own_output = code
+        let out_kinds = fast.output_kinds();
+        let own_output = fast
             .output_slots
             .iter()
             .zip(&out_kinds)
             .map(|(s, &k)| {
                 in_place(k)
-                    && !code.input_slots.contains(s)
-                    && !code.consts.iter().any(|c| c.0 == *s)
-                    && code.output_slots.iter().filter(|o| *o == s).count() == 1
+                    && !fast.input_slots.contains(s)
+                    && !fast.consts.iter().any(|c| c.0 == *s)
+                    && fast.output_slots.iter().filter(|o| *o == s).count() == 1
             })
             .collect();
         Ok(Program {
             code,
+            fast,
             own_output,
             path: shader.path.clone(),
             function: function.to_string(),
@@ -253,6 +265,12 @@ impl Program {
 
     /// Number of slots (columns of [`LANES`] u32) one thread works in.
     pub fn slot_count(&self) -> usize {
+        self.fast.slot_count
+    }
+
+    /// Number of slots of the lowered code, before fusion and sharing by
+    /// liveness (one per value): what the shadow executor works in.
+    pub fn lowered_slot_count(&self) -> usize {
         self.code.slot_count
     }
 
@@ -320,7 +338,7 @@ impl Program {
     }
 
     fn machine(&self) -> Machine {
-        let mut m = Machine::new(&self.code, self.step_budget);
+        let mut m = Machine::new(&self.fast, self.step_budget);
         m.seed = self.seed;
         m
     }
@@ -338,8 +356,13 @@ impl Program {
         );
         outputs.resize_with(self.code.output_slots.len(), Vec::new);
         for c in outputs.iter_mut() {
-            c.clear();
-            c.resize(n, 0);
+            // Every value is written by the evaluation (a bound output
+            // column by the machine, the others by the copy-out), so a
+            // column of the right length is reused as it is.
+            if c.len() != n {
+                c.clear();
+                c.resize(n, 0);
+            }
         }
         n
     }
@@ -445,7 +468,9 @@ impl Program {
         shadow::Shadow::new(&self.code, self.step_budget, self.seed)
     }
 
-    /// The verified code (for the precision analysis).
+    /// The verified lowered code, one op per source operation (for the
+    /// precision analysis; the executor runs its fused, liveness-allocated
+    /// form).
     pub(crate) fn code(&self) -> &Verified {
         &self.code
     }

@@ -224,6 +224,19 @@ fn sem(op: Opcode) -> Sem {
             t * t * (3.0 - 2.0 * t)
         }),
         O::FFma | O::HFma => F3(libm::fma),
+        // Fused chains (chosen by `fuse` for the executor's code only: the
+        // shadow executor runs the lowered code, one op per operation, so
+        // these are here for the match to be whole and are never met).
+        O::FSq => F1(|x| x * x),
+        O::FOneMinus => F1(|x| 1.0 - x),
+        O::FMulAdd => F3(|x, y, z| x * y + z),
+        O::FAddMul => F3(|z, x, y| z + x * y),
+        O::FMulSub => F3(|x, y, z| x * y - z),
+        O::FSubMul => F3(|z, x, y| z - x * y),
+        O::FMulMul => F3(|x, y, z| x * y * z),
+        O::FMulBy => F3(|z, x, y| z * (x * y)),
+        O::FDivBy => F3(|z, x, y| z / (x * y)),
+        O::FDiffMul => F3(|x, y, z| (x - y) * z),
         O::Select => Select,
         O::IToB
         | O::BToI
