@@ -260,6 +260,7 @@ pub(crate) mod tests {
                 mask: 0,
             }],
             params: Vec::new(),
+            out_params: Vec::new(),
             input_slots: vec![1, 2],
             result: None,
             output_slots: outputs,
