@@ -161,6 +161,10 @@ fn same_nonfinite(a: f64, b: f64) -> bool {
     (a.is_nan() && b.is_nan()) || (a.is_infinite() && a == b)
 }
 
+/// The worst point while [`compare`] runs: index, badness, component and
+/// its (abs, rel, ULP) errors.
+type Worst = (usize, f64, usize, (f64, f64, f64));
+
 /// Compare `got` with `want` (one column per output component, same
 /// lengths). `half` selects f16 ULPs. `describe(i)` names point i's
 /// parameters for the listed points.
@@ -193,7 +197,7 @@ pub fn compare(
     let bounds = Bounds::of(tol, comps);
     // The worst point so far: (index, badness, component, errors); its
     // report (which formats the point's parameters) is made once, at the end.
-    let mut worst: Option<(usize, f64, usize, (f64, f64, f64))> = None;
+    let mut worst: Option<Worst> = None;
     for i in 0..n {
         let p = bounds.assess(got, want, i, tol.nan, half);
         s.max_abs = s.max_abs.max(p.max_abs);
