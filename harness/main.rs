@@ -549,7 +549,9 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
                 ));
             }
             let sh = Shader::load(&shader).map_err(|d| Bad(d.rendered))?;
-            let (program, cols, budget) = if let Some(name) = check {
+            // The source and files lines are reported in: the check's own
+            // files when it has several.
+            let (program, cols, budget, source, files) = if let Some(name) = check {
                 let s = load_suite(&suite)?;
                 let c = find_check(&s, &name, &suite)?;
                 let mut c = c.clone();
@@ -558,7 +560,9 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
                 c.arithmetic = Arithmetic::Exact;
                 let ev = gate::evaluate(&s, &c, own_files(&s, &c, &shader)).map_err(Bad)?;
                 let budget = shadegate::precision::budget_of_check(&s, &c, &ev).map_err(Bad)?;
-                (ev.program, ev.input_columns, Some(budget))
+                let files = shadegate::precision::files_of(&ev.build.shader);
+                let source = ev.build.shader.source.clone();
+                (ev.program, ev.input_columns, Some(budget), source, files)
             } else {
                 let program = Program::compile_with(&sh, &function, &ov, Arithmetic::Exact)
                     .map_err(|d| Bad(d.rendered))?;
@@ -566,7 +570,13 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
                     Some(path) => table::read_program_csv(&path, &program).map_err(Bad)?,
                     None => table::columns_of_points(&program, &points).map_err(Bad)?,
                 };
-                (std::sync::Arc::new(program), cols, None)
+                (
+                    std::sync::Arc::new(program),
+                    cols,
+                    None,
+                    sh.source.clone(),
+                    Vec::new(),
+                )
             };
             let twin = match twin {
                 Some(t) => Some(
@@ -579,10 +589,11 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
             let a = shadegate::precision::analyse(
                 &program,
                 &refs,
-                &sh.source,
+                &source,
                 twin.as_ref(),
                 &shadegate::precision::Options {
                     budget,
+                    files,
                     ..Default::default()
                 },
             )

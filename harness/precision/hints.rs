@@ -97,7 +97,8 @@ pub(super) fn hints(
                     let from_dot = matches!(defs.get(&x), Some((Opcode::FAdd, _)));
                     let p = a.cancel_at.as_ref().map(|c| c.0).unwrap_or(0);
                     let evidence = format!(
-                        "`1 - x*x` on line {line} cancels up to {:.1} bits (at {}); {} of {} evaluations lose {} bits or more",
+                        "`1 - x*x` on {} cancels up to {:.1} bits (at {}); {} of {} evaluations lose {} bits or more",
+                        super::place(&opts.files, line),
                         a.max_cancel,
                         describe(p),
                         a.cancellations,
@@ -128,8 +129,9 @@ pub(super) fn hints(
                     line,
                     cure: "reorder so intermediate values stay below 65504 in f16 (divide before multiplying, or scale the operands)".into(),
                     evidence: format!(
-                        "{} on line {line} overflows f16 at {} of {} points (first at {}, f64 value {:.6e}){}",
+                        "{} on {} overflows f16 at {} of {} points (first at {}, f64 value {:.6e}){}",
                         op.name(),
+                        super::place(&opts.files, line),
                         a.overflow,
                         a.count,
                         describe(o.0),
@@ -149,7 +151,8 @@ pub(super) fn hints(
                 line,
                 cure: "clamp the denominator away from zero (e.g. max(d, 1e-4)): a small denominator turns its absolute error into a large relative one".into(),
                 evidence: format!(
-                    "division on line {line} by denominators down to {:.3e}; the quotient's relative error there reaches {:.3e} (at {})",
+                    "division on {} by denominators down to {:.3e}; the quotient's relative error there reaches {:.3e} (at {})",
+                    super::place(&opts.files, line),
                     a.amp_factor, a.amp_rel, describe(g.0)
                 ),
                 measured,

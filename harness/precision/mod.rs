@@ -74,6 +74,8 @@ use observe::{min_normal, rel, Acc, Collector};
 #[derive(Clone, Debug, PartialEq, Serialize)]
 pub struct Analysis {
     pub function: String,
+    /// The files of a shader made of several (see [`Options::files`]).
+    pub files: Vec<(String, u32)>,
     pub points: usize,
     /// The final error over the sweep, against the f64 shadow.
     pub final_error: FinalError,
@@ -246,6 +248,42 @@ pub struct Options {
     pub budget: Option<BudgetSpec>,
     /// Failing points listed in the budget.
     pub misses: usize,
+    /// The files of a shader made of several (path, the line of the
+    /// concatenated source its first line is; `wgsl::Shader::parts`), so
+    /// lines are reported in their own file; empty for one file.
+    pub files: Vec<(String, u32)>,
+}
+
+/// How a report names line `line` of the analysed source: `line 12` for a
+/// one-file shader, `b.wgsl:12` (the line in its own file) for several.
+pub fn place(files: &[(String, u32)], line: u32) -> String {
+    let i = files.partition_point(|(_, first)| *first <= line);
+    match files.get(i.wrapping_sub(1)) {
+        Some((path, first)) if files.len() > 1 => format!("{path}:{}", line - first + 1),
+        _ => format!("line {line}"),
+    }
+}
+
+/// [`place`] for a table column: `line   12` (the number right-aligned in
+/// four places) for one file.
+pub fn place_column(files: &[(String, u32)], line: u32) -> String {
+    if files.len() > 1 {
+        place(files, line)
+    } else {
+        format!("line {line:>4}")
+    }
+}
+
+/// [`Options::files`] of a loaded shader.
+pub fn files_of(shader: &crate::wgsl::Shader) -> Vec<(String, u32)> {
+    if shader.parts.len() < 2 {
+        return Vec::new();
+    }
+    shader
+        .parts
+        .iter()
+        .map(|p| (p.path.display().to_string(), p.first_line))
+        .collect()
 }
 
 impl Default for Options {
@@ -258,6 +296,7 @@ impl Default for Options {
             share_seed: 1,
             budget: None,
             misses: 5,
+            files: Vec::new(),
         }
     }
 }
@@ -643,6 +682,7 @@ pub fn analyse(
     fe.mean_rel = e_work;
     let hints = hints::hints(program, &col.acc, opts, e_work, twin_error, &describe);
     Ok(Analysis {
+        files: opts.files.clone(),
         function: program.function().to_string(),
         points: n,
         final_error: fe,
@@ -699,6 +739,7 @@ pub fn of_check(
     let cols: Vec<&[u32]> = ev.input_columns.iter().map(|c| &c[..]).collect();
     let opts = Options {
         budget: Some(budget_of_check(suite, check, &ev)?),
+        files: files_of(&ev.build.shader),
         ..Options::default()
     };
     analyse(&ev.program, &cols, &ev.build.shader.source, None, &opts)

@@ -58,7 +58,9 @@ fn shares_heading(a: &Analysis) -> String {
 }
 
 /// The f16 budget in full.
-fn budget_text(b: &Budget) -> String {
+fn budget_text(b: &Budget, files: &[(String, u32)]) -> String {
+    let at = |l: u32| super::place(files, l);
+    let column = |l: u32| super::place_column(files, l);
     let mut s = String::new();
     let _ = writeln!(
         s,
@@ -85,8 +87,11 @@ fn budget_text(b: &Budget) -> String {
     for l in order {
         let _ = writeln!(
             s,
-            "  line {:>4} uses {:>8.3}× of the tolerance on average, at most {:.3}× (at {})",
-            l.line, l.mean, l.max, l.max_inputs
+            "  {} uses {:>8.3}× of the tolerance on average, at most {:.3}× (at {})",
+            column(l.line),
+            l.mean,
+            l.max,
+            l.max_inputs
         );
     }
     for m in &b.misses {
@@ -99,7 +104,7 @@ fn budget_text(b: &Budget) -> String {
             m.want,
             m.component,
             match m.line {
-                Some(l) => format!("; line {l} accounts for {:.3}× of it", m.line_part),
+                Some(l) => format!("; {} accounts for {:.3}× of it", at(l), m.line_part),
                 None => String::new(),
             }
         );
@@ -109,7 +114,9 @@ fn budget_text(b: &Budget) -> String {
 
 /// The budget in a run's report: the count, the worst misses with their
 /// line, the `top` lines by use.
-fn budget_summary(b: &Budget, top: usize) -> Vec<String> {
+fn budget_summary(b: &Budget, top: usize, files: &[(String, u32)]) -> Vec<String> {
+    let at = |l: u32| super::place(files, l);
+    let column = |l: u32| super::place_column(files, l);
     let mut out = vec![format!(
         "  f16 budget against {} (tolerance {}): {} of {} points miss it",
         b.against, b.tolerance, b.failing, b.points
@@ -118,8 +125,10 @@ fn budget_summary(b: &Budget, top: usize) -> Vec<String> {
     order.sort_by(|x, y| y.mean.total_cmp(&x.mean).then(y.max.total_cmp(&x.max)));
     for l in order.into_iter().take(top) {
         out.push(format!(
-            "    line {:>4} uses {:.3}× of the tolerance on average, at most {:.3}×",
-            l.line, l.mean, l.max
+            "    {} uses {:.3}× of the tolerance on average, at most {:.3}×",
+            column(l.line),
+            l.mean,
+            l.max
         ));
     }
     for m in b.misses.iter().take(top) {
@@ -128,7 +137,7 @@ fn budget_summary(b: &Budget, top: usize) -> Vec<String> {
             m.inputs,
             m.used,
             m.line
-                .map_or(String::new(), |l| format!(", mostly line {l}"))
+                .map_or(String::new(), |l| format!(", mostly {}", at(l)))
         ));
     }
     out
@@ -136,6 +145,8 @@ fn budget_summary(b: &Budget, top: usize) -> Vec<String> {
 
 /// Plain-text rendering of an analysis.
 pub fn text(a: &Analysis) -> String {
+    let at = |l: u32| super::place(&a.files, l);
+    let column = |l: u32| super::place_column(&a.files, l);
     let mut s = String::new();
     let fe = &a.final_error;
     let _ = writeln!(
@@ -164,8 +175,8 @@ pub fn text(a: &Analysis) -> String {
         let carried = l.ops.iter().map(|o| o.max_carried_rel).fold(0.0, f64::max);
         let _ = writeln!(
             s,
-            "  line {:>4}  share {:>6.1} %{}  {}\n             alone {:.1} %, {} operations, local error max {:.2} ULP, carried relative error max {:.3e}",
-            l.line,
+            "  {}  share {:>6.1} %{}  {}\n             alone {:.1} %, {} operations, local error max {:.2} ULP, carried relative error max {:.3e}",
+            column(l.line),
             100.0 * l.share,
             plus_minus(l.share_error),
             l.text,
@@ -197,7 +208,7 @@ pub fn text(a: &Analysis) -> String {
             if let Some(ov) = &o.overflow {
                 let hidden = match (&ov.hidden_by, ov.hidden) {
                     (_, 0) => String::new(),
-                    (Some((l, op)), h) => format!(", hidden by {op} on line {l} at {h} points"),
+                    (Some((l, op)), h) => format!(", hidden by {op} on {} at {h} points", at(*l)),
                     (None, h) => format!(", hidden at {h} points"),
                 };
                 notes.push(format!(
@@ -256,13 +267,15 @@ pub fn text(a: &Analysis) -> String {
         }
     }
     if let Some(b) = &a.budget {
-        s.push_str(&budget_text(b));
+        s.push_str(&budget_text(b, &a.files));
     }
     for h in &a.hints {
         let _ = writeln!(
             s,
-            "hint (line {}): {}\n  because {}",
-            h.line, h.cure, h.evidence
+            "hint ({}): {}\n  because {}",
+            at(h.line),
+            h.cure,
+            h.evidence
         );
         if let Some((f, t)) = h.measured {
             let _ = writeln!(
@@ -278,6 +291,8 @@ pub fn text(a: &Analysis) -> String {
 /// operation whose cancellation carries error, hidden overflow or underflow,
 /// and the hints.
 pub fn summary(a: &Analysis, top: usize) -> Vec<String> {
+    let place = |l: u32| super::place(&a.files, l);
+    let column = |l: u32| super::place_column(&a.files, l);
     let fe = &a.final_error;
     let mut out = vec![format!(
         "precision: final error max {:.1} ULP, mean {:.2} ULP (mean relative {:.3e}){}",
@@ -298,15 +313,15 @@ pub fn summary(a: &Analysis, top: usize) -> Vec<String> {
     }
     for l in order.into_iter().take(top) {
         out.push(format!(
-            "    line {:>4} {:>6.1} %{}  {}",
-            l.line,
+            "    {} {:>6.1} %{}  {}",
+            column(l.line),
             100.0 * l.share,
             plus_minus(l.share_error),
             l.text
         ));
     }
     if let Some(b) = &a.budget {
-        out.extend(budget_summary(b, top));
+        out.extend(budget_summary(b, top, &a.files));
     }
     for o in a.lines.iter().flat_map(|l| &l.ops) {
         if o.max_cancel_bits >= a.cancel_bits && o.max_carried_rel > 16.0 * eps(o.half) {
@@ -315,19 +330,21 @@ pub fn summary(a: &Analysis, top: usize) -> Vec<String> {
                 .as_ref()
                 .map_or(String::new(), |w| format!(" at {}", w.inputs));
             out.push(format!(
-                "  line {}: {} cancels up to {:.1} bits{at}",
-                o.line, o.op, o.max_cancel_bits
+                "  {}: {} cancels up to {:.1} bits{at}",
+                place(o.line),
+                o.op,
+                o.max_cancel_bits
             ));
         }
         if let Some(ov) = &o.overflow {
             out.push(format!(
-                "  line {}: {} overflows at {} points{} (first at {})",
-                o.line,
+                "  {}: {} overflows at {} points{} (first at {})",
+                place(o.line),
                 o.op,
                 ov.count,
                 match &ov.hidden_by {
                     Some((l, op)) if ov.hidden > 0 =>
-                        format!(", hidden by {op} on line {l} at {}", ov.hidden),
+                        format!(", hidden by {op} on {} at {}", place(*l), ov.hidden),
                     _ => String::new(),
                 },
                 ov.first.inputs
@@ -335,8 +352,8 @@ pub fn summary(a: &Analysis, top: usize) -> Vec<String> {
         }
         if let Some(u) = &o.underflow {
             out.push(format!(
-                "  line {}: {} underflows at {} points ({} flushed to zero)",
-                o.line,
+                "  {}: {} underflows at {} points ({} flushed to zero)",
+                place(o.line),
                 o.op,
                 u.subnormal + u.flushed,
                 u.flushed
@@ -344,7 +361,7 @@ pub fn summary(a: &Analysis, top: usize) -> Vec<String> {
         }
     }
     for h in &a.hints {
-        out.push(format!("  hint (line {}): {}", h.line, h.cure));
+        out.push(format!("  hint ({}): {}", place(h.line), h.cure));
     }
     out
 }

@@ -410,3 +410,39 @@ fn eval_of_a_check_with_several_files_uses_all_of_them() {
         "x,result\n0.5,2.0\n1.0,4.0\n"
     );
 }
+
+/// The precision analysis of a check over two files names each line in its
+/// own file: `dock_plank` multiplies on dock.wgsl's line 12 and calls
+/// `stone_lit` in harbour.wgsl.
+#[test]
+fn a_precision_report_of_two_files_names_each_line_in_its_own_file() {
+    let s = shadegate::suite::load(std::path::Path::new(concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/demos/quillmere/shadegate.toml"
+    )))
+    .unwrap_or_else(|d| panic!("{d}"));
+    let check = s
+        .checks
+        .iter()
+        .find(|c| c.name == "dock_plank")
+        .expect("the demo has dock_plank");
+    let a = shadegate::precision::of_check(&s, check).unwrap();
+    let text = shadegate::precision::text(&a);
+    let dock = a
+        .lines
+        .iter()
+        .map(|l| shadegate::precision::place(&a.files, l.line))
+        .collect::<Vec<_>>();
+    assert!(
+        dock.iter().any(|p| p.ends_with("dock.wgsl:12")),
+        "{dock:?}\n{text}"
+    );
+    assert!(
+        dock.iter().any(|p| p.contains("harbour.wgsl:")),
+        "{dock:?}\n{text}"
+    );
+    assert!(text.contains("dock.wgsl:12"), "{text}");
+    // One file: lines keep their plain numbers.
+    assert_eq!(shadegate::precision::place(&[], 87), "line 87");
+    assert_eq!(shadegate::precision::place_column(&[], 87), "line   87");
+}
