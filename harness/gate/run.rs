@@ -3,18 +3,17 @@
 //! comparisons → statistics) and, when it fails, its explanation
 //! ([`super::stream`]); and comparing two versions of a function.
 
-use std::collections::BTreeMap;
 use std::path::Path;
 use std::time::Instant;
 
-use super::explain::{self, failing_points, group_issues, Evidence, Explainer, Reevaluate};
+use super::explain::{self, failing_points, group_issues, Evidence, Explainer};
 use super::inputs::{as_f64, evaluate, point_range, Build};
 use super::result::{CheckResult, Comparison, Finding, IssueGroup, RunResult, ShardPart, Verdict};
-use super::stream::{self, check_tolerance, Progress};
+use super::stream::{self, check_tolerance, NoReference, Progress};
 use crate::compare::{self, Tolerance};
 use crate::eval::ScalarKind;
 use crate::suite::{Check, Suite};
-use crate::sweep::{Expr, Points};
+use crate::sweep::Points;
 
 /// Another back end for a check's function: given the check's [`Build`]
 /// (shader, function, overrides, number model) and the CPU evaluator's
@@ -91,23 +90,6 @@ pub fn run_check_with(
     Finding::rank(&mut r.findings);
     r.seconds = start.elapsed().as_secs_f64();
     r
-}
-
-/// Nothing to re-evaluate (two versions of a function).
-struct NoReference;
-
-impl Reevaluate for NoReference {
-    fn reference_with(
-        &self,
-        _: &BTreeMap<String, Expr>,
-        _: &Points,
-    ) -> Result<Vec<Vec<f64>>, String> {
-        Err("no reference model to re-evaluate".into())
-    }
-
-    fn reference_args(&self, _: &Points) -> Result<Vec<Vec<f64>>, String> {
-        Err("no reference model".into())
-    }
 }
 
 /// One comparison of two versions: statistics, then its explanation.

@@ -144,16 +144,8 @@ impl GoldenSource {
             Span::Range(a, b) => read(a..b),
             Span::At(ix) => {
                 let mut cols = vec![Vec::with_capacity(ix.len()); self.g.outputs.len()];
-                let mut k = 0;
-                while k < ix.len() {
-                    let start = ix[k];
-                    let mut end = start + 1;
-                    k += 1;
-                    while k < ix.len() && ix[k] == end {
-                        end += 1;
-                        k += 1;
-                    }
-                    for (col, part) in cols.iter_mut().zip(read(start..end)?) {
+                for run in crate::sweep::runs(ix) {
+                    for (col, part) in cols.iter_mut().zip(read(run)?) {
                         col.extend(part);
                     }
                 }
@@ -593,8 +585,9 @@ impl Reevaluate for ReferenceOf<'_> {
     }
 }
 
-/// Nothing to re-evaluate (goldens, twins, properties).
-struct NoReference;
+/// Nothing to re-evaluate (goldens, twins, properties, two versions of a
+/// function).
+pub(super) struct NoReference;
 
 impl Reevaluate for NoReference {
     fn reference_with(

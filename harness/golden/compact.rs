@@ -182,15 +182,9 @@ fn columns_line(inputs: &[(String, ScalarKind)], outputs: &[(String, ScalarKind)
 }
 
 fn header_text(g: &Golden, block: usize, nblocks: usize) -> String {
-    let h = &g.header;
     format!(
-        "{MAGIC}\n# check: {}\n# shader: {}\n# function: {}\n# shader-hash: {}\n# sweep: {}\n# points: {}\n# columns: {}\n# block: {block}\n# blocks: {nblocks}\n# data\n",
-        h.check,
-        h.shader,
-        h.function,
-        h.shader_hash,
-        h.sweep,
-        h.points,
+        "{MAGIC}\n{}# columns: {}\n# block: {block}\n# blocks: {nblocks}\n# data\n",
+        g.header.lines(),
         columns_line(&g.inputs, &g.outputs)
     )
 }
@@ -445,14 +439,7 @@ fn parse_header(
             format!("{what}: the index's {nblocks} blocks end at byte {offset} but the file has {size} bytes"),
         ));
     }
-    let header = Header {
-        check: fields[0].clone(),
-        shader: fields[1].clone(),
-        function: fields[2].clone(),
-        shader_hash: fields[3].clone(),
-        sweep: fields[4].clone(),
-        points,
-    };
+    let header = Header::from_fields(&fields, points);
     let nout = outputs.len();
     Ok((
         header,

@@ -51,6 +51,31 @@ pub struct Header {
     pub points: usize,
 }
 
+impl Header {
+    /// The identity lines every golden file starts with after its magic
+    /// line (CSV, compact, and the compact golden's summary alike):
+    /// `# check: …` to `# points: …`, each ending in a newline.
+    pub fn lines(&self) -> String {
+        format!(
+            "# check: {}\n# shader: {}\n# function: {}\n# shader-hash: {}\n# sweep: {}\n# points: {}\n",
+            self.check, self.shader, self.function, self.shader_hash, self.sweep, self.points
+        )
+    }
+
+    /// The header read back from the values of those lines (check, shader,
+    /// function, shader hash, sweep; in that order) and the point count.
+    pub(crate) fn from_fields(fields: &[String], points: usize) -> Header {
+        Header {
+            check: fields[0].clone(),
+            shader: fields[1].clone(),
+            function: fields[2].clone(),
+            shader_hash: fields[3].clone(),
+            sweep: fields[4].clone(),
+            points,
+        }
+    }
+}
+
 /// A golden dataset in the evaluator's column encoding.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Golden {
@@ -70,19 +95,9 @@ pub fn refused_in_ci() -> bool {
 /// The text of a golden dataset (see the module doc for the format).
 pub fn render(g: &Golden) -> String {
     let mut text = String::new();
-    let h = &g.header;
     text.push_str(MAGIC);
     text.push('\n');
-    for (k, v) in [
-        ("check", h.check.as_str()),
-        ("shader", &h.shader),
-        ("function", &h.function),
-        ("shader-hash", &h.shader_hash),
-        ("sweep", &h.sweep),
-    ] {
-        text.push_str(&format!("# {k}: {v}\n"));
-    }
-    text.push_str(&format!("# points: {}\n", h.points));
+    text.push_str(&g.header.lines());
     let cols: Vec<String> = g
         .inputs
         .iter()
@@ -93,7 +108,7 @@ pub fn render(g: &Golden) -> String {
     text.push('\n');
     let kinds: Vec<ScalarKind> = g.inputs.iter().chain(&g.outputs).map(|c| c.1).collect();
     let all: Vec<&Vec<u32>> = g.input_columns.iter().chain(&g.output_columns).collect();
-    for i in 0..h.points {
+    for i in 0..g.header.points {
         let row: Vec<String> = all
             .iter()
             .zip(&kinds)
@@ -501,14 +516,7 @@ pub fn parse_with(path: &Path, text: &str, limits: &Limits) -> Result<Golden, Di
         ));
     }
     let points = points as usize;
-    let header = Header {
-        check: fields[0].clone(),
-        shader: fields[1].clone(),
-        function: fields[2].clone(),
-        shader_hash: fields[3].clone(),
-        sweep: fields[4].clone(),
-        points,
-    };
+    let header = Header::from_fields(&fields, points);
     let names_line = lines.get(7).copied().unwrap_or("");
     let mut cols = Vec::new();
     for c in names_line.split(',') {
@@ -613,14 +621,7 @@ pub fn open(path: &Path, limits: &Limits) -> Result<Record, Diagnostic> {
         .and_then(|f| f.take(first.len() as u64).read(&mut first))
         .unwrap_or(0);
     if first[..n].starts_with(compact::MAGIC.as_bytes()) {
-        let (header, inputs, outputs, blocks) = compact::open(path, limits)?;
-        Ok(Record {
-            path: path.to_path_buf(),
-            header,
-            inputs,
-            outputs,
-            body: Body::Compact(blocks),
-        })
+        compact::open(path, limits).map(|parts| Record::compact(path, parts))
     } else {
         Ok(Record::from_csv(path, read_with(path, limits)?))
     }
@@ -629,17 +630,22 @@ pub fn open(path: &Path, limits: &Limits) -> Result<Record, Diagnostic> {
 /// Read a compact golden held in memory (as [`open`] would read the file
 /// `path`).
 pub fn parse_compact(path: &Path, bytes: Vec<u8>, limits: &Limits) -> Result<Record, Diagnostic> {
-    let (header, inputs, outputs, blocks) = compact::parse(path, bytes, limits)?;
-    Ok(Record {
-        path: path.to_path_buf(),
-        header,
-        inputs,
-        outputs,
-        body: Body::Compact(blocks),
-    })
+    compact::parse(path, bytes, limits).map(|parts| Record::compact(path, parts))
 }
 
 impl Record {
+    /// A record of a compact golden read from `path`: what `compact::open`
+    /// and `compact::parse` give.
+    fn compact(path: &Path, (header, inputs, outputs, blocks): compact::Opened) -> Record {
+        Record {
+            path: path.to_path_buf(),
+            header,
+            inputs,
+            outputs,
+            body: Body::Compact(blocks),
+        }
+    }
+
     /// A record of a CSV golden read from `path`.
     pub fn from_csv(path: &Path, g: Golden) -> Record {
         Record {

@@ -47,16 +47,7 @@ pub fn render(g: &Golden, path: &Path, bytes: u64) -> String {
     let mut t = String::new();
     t.push_str(MAGIC);
     t.push('\n');
-    for (k, v) in [
-        ("check", h.check.as_str()),
-        ("shader", &h.shader),
-        ("function", &h.function),
-        ("shader-hash", &h.shader_hash),
-        ("sweep", &h.sweep),
-    ] {
-        t.push_str(&format!("# {k}: {v}\n"));
-    }
-    t.push_str(&format!("# points: {}\n", h.points));
+    t.push_str(&h.lines());
     let name = path.file_name().unwrap_or_default().to_string_lossy();
     t.push_str(&format!(
         "# file: {name}, {bytes} bytes, blocks of {} points\n\n",

@@ -163,8 +163,16 @@ mod tests {
         assert!(!colour_wanted(false, None));
     }
 
+    /// A writer that keeps what it is given, for the progress tests here
+    /// and in `pace`.
     #[derive(Clone, Default)]
-    struct Sink(Arc<Mutex<Vec<u8>>>);
+    pub(super) struct Sink(pub(super) Arc<Mutex<Vec<u8>>>);
+
+    impl Sink {
+        pub(super) fn text(&self) -> String {
+            String::from_utf8(self.0.lock().unwrap().clone()).unwrap()
+        }
+    }
 
     impl Write for Sink {
         fn write(&mut self, b: &[u8]) -> std::io::Result<usize> {
@@ -183,8 +191,10 @@ mod tests {
         assert!(p.is_shown());
         p.step(1, 2, "ggx_lobe");
         p.step(2, 2, "fresnel");
-        let text = String::from_utf8(sink.0.lock().unwrap().clone()).unwrap();
-        assert_eq!(text, "[1/2] checking ggx_lobe…\n[2/2] checking fresnel…\n");
+        assert_eq!(
+            sink.text(),
+            "[1/2] checking ggx_lobe…\n[2/2] checking fresnel…\n"
+        );
     }
 
     #[test]

@@ -7,6 +7,8 @@ use std::io::Write;
 use std::sync::Mutex;
 use std::time::{Duration, Instant};
 
+use super::format::count;
+
 /// A check estimated to take longer than this is announced.
 pub const LONG: Duration = Duration::from_secs(10);
 /// The estimate waits for this much of the run, so it rests on a measurement.
@@ -87,9 +89,9 @@ impl Pace {
             return Some(format!(
                 "check `{}`: {} points, about {} in all at the pace of its first {} points",
                 s.name,
-                thousands(total),
+                count(total),
                 human(whole),
-                thousands(done)
+                count(done)
             ));
         }
         if elapsed.saturating_sub(s.last) < EVERY {
@@ -100,25 +102,12 @@ impl Pace {
             "check `{}`: {:.0} % ({} of {} points) in {}, about {} left",
             s.name,
             100.0 * done as f64 / total as f64,
-            thousands(done),
-            thousands(total),
+            count(done),
+            count(total),
             human(elapsed),
             human(left)
         ))
     }
-}
-
-/// `4,278,190,081`.
-pub fn thousands(n: usize) -> String {
-    let digits = n.to_string();
-    let mut out = String::new();
-    for (i, c) in digits.chars().enumerate() {
-        if i > 0 && (digits.len() - i).is_multiple_of(3) {
-            out.push(',');
-        }
-        out.push(c);
-    }
-    out
 }
 
 /// `45 s`, `3 min 20 s`, `1 h 05 min`.
@@ -133,25 +122,8 @@ pub fn human(d: Duration) -> String {
 
 #[cfg(test)]
 mod tests {
+    use super::super::tests::Sink;
     use super::*;
-    use std::sync::Arc;
-
-    #[derive(Clone, Default)]
-    struct Sink(Arc<Mutex<Vec<u8>>>);
-
-    impl Write for Sink {
-        fn write(&mut self, b: &[u8]) -> std::io::Result<usize> {
-            self.0.lock().unwrap().extend_from_slice(b);
-            Ok(b.len())
-        }
-        fn flush(&mut self) -> std::io::Result<()> {
-            Ok(())
-        }
-    }
-
-    fn text(s: &Sink) -> String {
-        String::from_utf8(s.0.lock().unwrap().clone()).unwrap()
-    }
 
     #[test]
     fn a_short_check_says_nothing() {
@@ -161,7 +133,7 @@ mod tests {
         // 2 s for half: 4 s in all, under `LONG`.
         pace.points_after(50, 100, Duration::from_secs(2));
         pace.points_after(100, 100, Duration::from_secs(4));
-        assert_eq!(text(&sink), "");
+        assert_eq!(sink.text(), "");
     }
 
     #[test]
@@ -171,14 +143,14 @@ mod tests {
         pace.begin("every_f32");
         // Too early to estimate.
         pace.points_after(1_000, 4_278_190_081, Duration::from_millis(500));
-        assert_eq!(text(&sink), "");
+        assert_eq!(sink.text(), "");
         // 1 % in 2 s: 200 s in all.
         pace.points_after(42_781_900, 4_278_190_081, Duration::from_secs(2));
         // Within `EVERY` of the estimate: quiet.
         pace.points_after(85_563_800, 4_278_190_081, Duration::from_secs(4));
         // Half in 100 s: 100 s left.
         pace.points_after(2_139_095_040, 4_278_190_081, Duration::from_secs(100));
-        let t = text(&sink);
+        let t = sink.text();
         let lines: Vec<&str> = t.lines().collect();
         assert_eq!(lines.len(), 2, "{t}");
         assert_eq!(
@@ -192,11 +164,11 @@ mod tests {
     }
 
     #[test]
-    fn numbers_read_as_people_write_them() {
-        assert_eq!(thousands(0), "0");
-        assert_eq!(thousands(999), "999");
-        assert_eq!(thousands(1000), "1,000");
-        assert_eq!(thousands(4_278_190_081), "4,278,190,081");
+    fn counts_and_durations_read_as_people_write_them() {
+        assert_eq!(count(0), "0");
+        assert_eq!(count(999), "999");
+        assert_eq!(count(1000), "1,000");
+        assert_eq!(count(4_278_190_081), "4,278,190,081");
         assert_eq!(human(Duration::from_secs(59)), "59 s");
         assert_eq!(human(Duration::from_secs(200)), "3 min 20 s");
         assert_eq!(human(Duration::from_secs(3900)), "1 h 05 min");

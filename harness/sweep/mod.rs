@@ -424,19 +424,27 @@ impl Sweep {
     /// here as there.
     pub fn points_at(&self, indices: &[usize]) -> Points {
         let mut out = self.points_in(0..0);
-        let mut k = 0;
-        while k < indices.len() {
-            let start = indices[k];
-            let mut end = start + 1;
-            k += 1;
-            while k < indices.len() && indices[k] == end {
-                end += 1;
-                k += 1;
-            }
-            out.append(self.points_in(start..end));
+        for run in runs(indices) {
+            out.append(self.points_in(run));
         }
         out
     }
+}
+
+/// The runs of consecutive values of ascending `indices`, as ranges:
+/// `[1, 2, 3, 7, 9, 10]` gives `1..4`, `7..8`, `9..11`.
+pub fn runs(indices: &[usize]) -> impl Iterator<Item = std::ops::Range<usize>> + '_ {
+    let mut k = 0;
+    std::iter::from_fn(move || {
+        let start = *indices.get(k)?;
+        let mut end = start + 1;
+        k += 1;
+        while indices.get(k) == Some(&end) {
+            end += 1;
+            k += 1;
+        }
+        Some(start..end)
+    })
 }
 
 impl Points {
@@ -611,6 +619,13 @@ mod tests {
                 }
             }
         }
+    }
+
+    #[test]
+    fn runs_are_the_consecutive_stretches() {
+        let r: Vec<_> = runs(&[1, 2, 3, 7, 9, 10]).collect();
+        assert_eq!(r, vec![1..4, 7..8, 9..11]);
+        assert_eq!(runs(&[]).count(), 0);
     }
 
     #[test]
