@@ -49,6 +49,7 @@ pub mod plot;
 pub mod precision;
 pub mod reference;
 pub mod report;
+pub mod scratch;
 pub mod suite;
 pub mod sweep;
 pub mod table;

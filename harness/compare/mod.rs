@@ -428,10 +428,12 @@ impl Bounds {
                 continue;
             }
             let abs = (g - w).abs();
+            if abs == 0.0 {
+                // Every error and the badness are 0: nothing to record.
+                continue;
+            }
             let rel = if w != 0.0 {
                 abs / w.abs()
-            } else if abs == 0.0 {
-                0.0
             } else {
                 f64::INFINITY
             };
@@ -446,11 +448,6 @@ impl Bounds {
                     bad = bad.min(ratio(err, *t));
                 }
             }
-            let bad = if bad == f64::INFINITY && abs == 0.0 {
-                0.0
-            } else {
-                bad
-            };
             if bad > p.badness {
                 (p.badness, p.component, p.err) = (bad, c, (abs, rel, ulp));
             }

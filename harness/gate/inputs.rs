@@ -18,6 +18,7 @@ use rayon::prelude::*;
 use crate::eval::{bits_to_f64, f64_to_bits, Arithmetic, LaneIssue, Program, ScalarKind};
 use crate::limits::Limits;
 use crate::reference::{Model, ParamKind};
+use crate::scratch;
 use crate::suite::{Check, Suite};
 use crate::sweep::{expr::BoundExpr, Expr, Points, Value};
 use crate::wgsl::Shader;
@@ -199,66 +200,67 @@ pub(crate) fn bind_arg(
 const CHUNK: usize = 4096;
 
 /// Evaluate bound expressions at every point into f64 columns (one per
-/// component), in parallel.
+/// component): a range of at most [`CHUNK`] points (a streamed check's
+/// segment) on the calling thread, a larger one in parallel chunks.
 fn columns(exprs: &[BoundExpr], points: &Points) -> Result<Vec<Vec<f64>>, String> {
-    let width: usize = exprs.iter().map(|e| e.width).sum();
-    let mut cols = vec![vec![0.0; points.len]; width];
-    let mut c0 = 0;
+    let n = points.len;
+    let mut cols = Vec::with_capacity(exprs.iter().map(|e| e.width).sum());
     for e in exprs {
         if let Some(p) = e.var {
             for k in 0..e.width {
-                cols[c0 + k].copy_from_slice(&points.columns[p][k]);
+                let mut c = scratch::column(n);
+                c.extend_from_slice(&points.columns[p][k]);
+                cols.push(c);
             }
+        } else if n <= CHUNK {
+            cols.extend(expr_columns(e, points, 0..n)?);
         } else {
-            let mut outs: Vec<&mut [f64]> = cols[c0..c0 + e.width]
-                .iter_mut()
-                .map(|c| &mut c[..])
-                .collect();
-            let mut chunks: Vec<Vec<&mut [f64]>> = Vec::new();
-            while !outs.is_empty() && !outs[0].is_empty() {
-                let mut head = Vec::new();
-                let mut tail = Vec::new();
-                for o in outs {
-                    let n = CHUNK.min(o.len());
-                    let (h, t) = o.split_at_mut(n);
-                    head.push(h);
-                    tail.push(t);
+            let parts = (0..n.div_ceil(CHUNK))
+                .into_par_iter()
+                .map(|k| expr_columns(e, points, k * CHUNK..((k + 1) * CHUNK).min(n)))
+                .collect::<Result<Vec<_>, String>>()?;
+            for c in 0..e.width {
+                let mut col = scratch::column(n);
+                for part in &parts {
+                    col.extend_from_slice(&part[c]);
                 }
-                chunks.push(head);
-                outs = tail;
+                cols.push(col);
             }
-            chunks.into_par_iter().enumerate().try_for_each(
-                |(k, mut chunk)| -> Result<(), String> {
-                    // The whole chunk at once where the expression allows.
-                    let range = k * CHUNK..k * CHUNK + chunk[0].len();
-                    if let Some(cols) = crate::sweep::columns::eval_range(e, points, range) {
-                        for (out, col) in chunk.iter_mut().zip(cols) {
-                            out.copy_from_slice(&col);
-                        }
-                        return Ok(());
-                    }
-                    let mut vals = vec![Value::S(0.0); points.names.len()];
-                    for j in 0..chunk[0].len() {
-                        let i = k * CHUNK + j;
-                        for (p, v) in vals.iter_mut().enumerate() {
-                            *v = points.value(p, i);
-                        }
-                        match e.eval(&vals)? {
-                            Value::S(x) => chunk[0][j] = x,
-                            Value::V(v) => {
-                                for (c, x) in v.into_iter().enumerate() {
-                                    chunk[c][j] = x;
-                                }
-                            }
-                        }
-                    }
-                    Ok(())
-                },
-            )?;
+            for part in parts {
+                scratch::recycle_all(part);
+            }
         }
-        c0 += e.width;
     }
     Ok(cols)
+}
+
+/// One expression's columns over `range`: the whole range at once where the
+/// expression allows ([`crate::sweep::columns::eval_range`]), else point by
+/// point.
+fn expr_columns(
+    e: &BoundExpr,
+    points: &Points,
+    range: std::ops::Range<usize>,
+) -> Result<Vec<Vec<f64>>, String> {
+    if let Some(cols) = crate::sweep::columns::eval_range(e, points, range.clone()) {
+        return Ok(cols);
+    }
+    let mut out: Vec<Vec<f64>> = (0..e.width).map(|_| scratch::column(range.len())).collect();
+    let mut vals = vec![Value::S(0.0); points.names.len()];
+    for i in range {
+        for (p, v) in vals.iter_mut().enumerate() {
+            *v = points.value(p, i);
+        }
+        match e.eval(&vals)? {
+            Value::S(x) => out[0].push(x),
+            Value::V(v) => {
+                for (c, x) in v.into_iter().enumerate() {
+                    out[c].push(x);
+                }
+            }
+        }
+    }
+    Ok(out)
 }
 
 /// Load the shader, compile the function and evaluate it over the sweep.
@@ -317,7 +319,9 @@ pub fn evaluate_at(
     .map_err(|e| format!("check `{}`: {e}", check.name))?;
     let input_columns = input_columns(&inputs, &program, &points)?;
     let refs: Vec<&[u32]> = input_columns.iter().map(|c| &c[..]).collect();
-    let mut output_columns = Vec::new();
+    let mut output_columns: Vec<Vec<u32>> = (0..program.output_leaves().len())
+        .map(|_| scratch::column(points.len))
+        .collect();
     let mut issues = program
         .try_eval(&refs, &mut output_columns)
         .map_err(|m| format!("check `{}`: {m}", check.name))?;
@@ -360,17 +364,21 @@ fn input_columns(
 ) -> Result<Vec<Vec<u32>>, String> {
     let f64_cols = columns(&inputs.exprs, points)?;
     let kinds: Vec<ScalarKind> = program.input_leaves().into_iter().map(|l| l.1).collect();
-    Ok(inputs
+    let cols = inputs
         .leaves
-        .par_iter()
-        .zip(kinds.par_iter())
+        .iter()
+        .zip(&kinds)
         .map(|(leaf, &k)| match *leaf {
             super::args::Leaf::Column(c) => {
-                f64_cols[c].iter().map(|&x| f64_to_bits(k, x)).collect()
+                let mut col = scratch::column(points.len);
+                col.extend(f64_cols[c].iter().map(|&x| f64_to_bits(k, x)));
+                col
             }
-            super::args::Leaf::Zero => vec![f64_to_bits(k, 0.0); points.len],
+            super::args::Leaf::Zero => scratch::filled(points.len, f64_to_bits(k, 0.0)),
         })
-        .collect())
+        .collect();
+    scratch::recycle_all(f64_cols);
+    Ok(cols)
 }
 
 /// Evaluate the reference model of a check at every point.
@@ -382,31 +390,39 @@ pub fn reference_columns(
 ) -> Result<Vec<Vec<f64>>, String> {
     let args = reference_arg_columns(check, model, points, ref_args)?;
     let n = points.len;
-    let mut out = vec![vec![0.0; n]; model.outputs];
-    let results: Vec<Vec<f64>> = (0..n.div_ceil(CHUNK))
-        .into_par_iter()
-        .map(|k| {
-            let (start, end) = (k * CHUNK, ((k + 1) * CHUNK).min(n));
-            let mut point_args = vec![0.0; args.len()];
-            let mut values = vec![0.0; model.outputs];
-            let mut flat = Vec::with_capacity((end - start) * model.outputs);
-            for i in start..end {
-                for (j, c) in args.iter().enumerate() {
-                    point_args[j] = c[i];
-                }
-                (model.eval)(&point_args, &mut values);
-                flat.extend_from_slice(&values);
-            }
-            flat
-        })
+    let mut out: Vec<Vec<f64>> = (0..model.outputs)
+        .map(|_| scratch::filled(n, 0.0))
         .collect();
-    for (k, flat) in results.iter().enumerate() {
-        for (j, vals) in flat.chunks(model.outputs).enumerate() {
-            for (c, &v) in vals.iter().enumerate() {
-                out[c][k * CHUNK + j] = v;
+    let fill = |start: usize, outs: &mut [&mut [f64]]| {
+        let mut point_args = vec![0.0; args.len()];
+        let mut values = vec![0.0; model.outputs];
+        for j in 0..outs.first().map_or(0, |o| o.len()) {
+            for (a, c) in point_args.iter_mut().zip(&args) {
+                *a = c[start + j];
+            }
+            (model.eval)(&point_args, &mut values);
+            for (o, &v) in outs.iter_mut().zip(&values) {
+                o[j] = v;
             }
         }
+    };
+    if n <= CHUNK {
+        let mut outs: Vec<&mut [f64]> = out.iter_mut().map(|c| &mut c[..]).collect();
+        fill(0, &mut outs);
+    } else {
+        // Chunk k of every output column, filled in parallel.
+        let mut chunks: Vec<Vec<&mut [f64]>> = (0..n.div_ceil(CHUNK)).map(|_| Vec::new()).collect();
+        for col in out.iter_mut() {
+            for (k, part) in col.chunks_mut(CHUNK).enumerate() {
+                chunks[k].push(part);
+            }
+        }
+        chunks
+            .into_par_iter()
+            .enumerate()
+            .for_each(|(k, mut outs)| fill(k * CHUNK, &mut outs));
     }
+    scratch::recycle_all(args);
     Ok(out)
 }
 
@@ -445,9 +461,13 @@ pub fn reference_fits(check: &Check, model: &Model, outputs: usize) -> Result<()
 
 /// Output columns in the evaluator's encoding as f64 columns.
 pub fn as_f64(cols: &[Vec<u32>], kinds: &[(String, ScalarKind)]) -> Vec<Vec<f64>> {
-    cols.par_iter()
-        .zip(kinds.par_iter())
-        .map(|(c, (_, k))| c.iter().map(|&b| bits_to_f64(*k, b)).collect())
+    cols.iter()
+        .zip(kinds)
+        .map(|(c, (_, k))| {
+            let mut col = scratch::column(c.len());
+            col.extend(c.iter().map(|&b| bits_to_f64(*k, b)));
+            col
+        })
         .collect()
 }
 

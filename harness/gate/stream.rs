@@ -41,12 +41,13 @@ use crate::compare::{self, Stats, Tolerance};
 use crate::eval::{Program, ScalarKind};
 use crate::golden;
 use crate::reference::Model;
+use crate::scratch;
 use crate::suite::{Check, Suite};
 use crate::sweep::{Expr, Points};
 
 /// Points per segment on the CPU (divided by the evaluations each point
 /// costs: a hemisphere property's quadrature directions).
-pub const SEGMENT: usize = 1 << 14;
+pub const SEGMENT: usize = 1 << 12;
 /// Points per segment on another back end (one dispatch each).
 pub const BACKEND_SEGMENT: usize = 1 << 20;
 
@@ -401,6 +402,23 @@ impl Prepared<'_> {
     }
 }
 
+impl Materialised {
+    /// Hand the segment's columns back for the next segment
+    /// ([`crate::scratch`]); the findings stay.
+    fn recycle(&mut self) {
+        let ev = &mut self.ev;
+        for p in std::mem::take(&mut ev.points.columns) {
+            scratch::recycle_all(p);
+        }
+        scratch::recycle_all(std::mem::take(&mut ev.input_columns));
+        scratch::recycle_all(std::mem::take(&mut ev.output_columns));
+        for side in std::mem::take(&mut self.sides) {
+            scratch::recycle_all(side.got);
+            scratch::recycle_all(side.want);
+        }
+    }
+}
+
 /// Label, tolerance, model and whether the call graph may be searched: what
 /// pass 2 needs of a comparison.
 type Label = (String, Tolerance, Option<&'static Model>, bool);
@@ -430,7 +448,7 @@ impl Prepared<'_> {
         golden: Option<&GoldenSource>,
         large: bool,
     ) -> Result<Part, String> {
-        let m = self.materialise(Span::Range(start, end), backend, golden, true)?;
+        let mut m = self.materialise(Span::Range(start, end), backend, golden, true)?;
         let describe = |i: usize| m.ev.points.describe(i);
         let mut sides = Vec::new();
         let mut failing = Vec::new();
@@ -456,15 +474,17 @@ impl Prepared<'_> {
             );
             sides.push((label, s));
         }
+        let issues = group_issues(
+            &m.ev.issues,
+            &m.ev.build.shader,
+            &self.check.shaders,
+            &m.ev.points,
+        );
+        m.recycle();
         Ok(Part {
             start,
             end,
-            issues: group_issues(
-                &m.ev.issues,
-                &m.ev.build.shader,
-                &self.check.shaders,
-                &m.ev.points,
-            ),
+            issues,
             findings: m.findings,
             sides,
             failing,

@@ -351,28 +351,32 @@ impl Sweep {
         let mut columns: Vec<Vec<Vec<f64>>> = self
             .params
             .iter()
-            .map(|(_, d)| (0..d.width()).map(|_| Vec::with_capacity(n)).collect())
+            .map(|(_, d)| (0..d.width()).map(|_| crate::scratch::column(n)).collect())
             .collect();
         if start < grid {
-            // Mixed-radix decomposition of the first index, last parameter
-            // fastest; then the digits count up like an odometer.
-            let mut idx = vec![0; counts.len()];
-            let mut rest = start;
+            // Parameter p's value index at point i is (i / stride) % count,
+            // the last parameter fastest: each column is filled run by run
+            // (a run repeats one grid value `stride` times).
+            let last = end.min(grid);
+            let mut stride = 1;
             for p in (0..counts.len()).rev() {
-                idx[p] = rest % counts[p];
-                rest /= counts[p];
-            }
-            for _ in start..end.min(grid) {
-                for (p, src) in sources.iter().enumerate() {
-                    src.push(&mut columns[p], idx[p]);
-                }
-                for p in (0..counts.len()).rev() {
-                    idx[p] += 1;
-                    if idx[p] < counts[p] {
-                        break;
+                let mut k = (start / stride) % counts[p];
+                let mut i = start;
+                while i < last {
+                    if stride == 1 {
+                        // The fastest parameter: consecutive grid values.
+                        let run = (counts[p] - k).min(last - i);
+                        sources[p].extend(&mut columns[p], k..k + run);
+                        i += run;
+                        k = 0;
+                        continue;
                     }
-                    idx[p] = 0;
+                    let run = (stride - i % stride).min(last - i);
+                    sources[p].repeat(&mut columns[p], k, run);
+                    i += run;
+                    k = if k + 1 == counts[p] { 0 } else { k + 1 };
                 }
+                stride *= counts[p];
             }
         }
         if let Some(r) = self.random {
@@ -404,15 +408,32 @@ enum Source {
 }
 
 impl Source {
-    /// Append grid value `k` to a parameter's columns.
-    fn push(&self, cols: &mut [Vec<f64>], k: usize) {
+    /// Append grid values `ks` (in order) to a parameter's columns.
+    fn extend(&self, cols: &mut [Vec<f64>], ks: std::ops::Range<usize>) {
         match self {
             Source::Table(t) => {
                 for (c, t) in cols.iter_mut().zip(t) {
-                    c.push(t[k]);
+                    c.extend_from_slice(&t[ks.clone()]);
                 }
             }
-            Source::Every(format, first) => cols[0].push(format.value(first + k as i64)),
+            Source::Every(format, first) => {
+                cols[0].extend(ks.map(|k| format.value(first + k as i64)));
+            }
+        }
+    }
+
+    /// Append grid value `k` to a parameter's columns `times` times.
+    fn repeat(&self, cols: &mut [Vec<f64>], k: usize, times: usize) {
+        match self {
+            Source::Table(t) => {
+                for (c, t) in cols.iter_mut().zip(t) {
+                    c.extend(std::iter::repeat_n(t[k], times));
+                }
+            }
+            Source::Every(format, first) => {
+                let v = format.value(first + k as i64);
+                cols[0].extend(std::iter::repeat_n(v, times));
+            }
         }
     }
 }
@@ -601,6 +622,18 @@ mod tests {
         };
         let whole = s.points();
         assert_eq!(whole.len, 3 * 6 + 25);
+        // The grid part is the cartesian product, written out as nested loops.
+        let dirs = s.params[1].1.cache();
+        let mut k = 0;
+        for a in [1.0, 2.0, 3.0] {
+            for d in 0..6 {
+                assert_eq!(whole.columns[0][0][k], a);
+                for (got, want) in whole.columns[1].iter().zip(&dirs) {
+                    assert_eq!(got[k], want[d]);
+                }
+                k += 1;
+            }
+        }
         for (a, b) in [
             (0, 43),
             (0, 0),

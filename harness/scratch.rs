@@ -1,0 +1,122 @@
+//! Column buffers reused from one segment of a check to the next.
+//!
+//! A streamed check ([`crate::gate::stream`]) builds the same columns for
+//! every segment: the sweep's points, the argument and input columns, the
+//! outputs, the reference's columns. Allocated afresh each time, they cost
+//! more than filling them: the allocator hands freed memory back to the
+//! system and every new column starts with page faults on zeroed pages (a
+//! profile of the demo's 1M-point BRDF check put a quarter of its time in
+//! the kernel's page-fault handler). Here each thread keeps the columns a
+//! segment hands back and gives them to the next one.
+//!
+//! The pool is bounded: at most [`KEEP`] buffers of each element type per
+//! thread, none longer than [`MAX_LEN`] elements, so it holds a few
+//! segments' worth of memory whatever the check's size. A buffer taken here
+//! and never handed back is simply freed; one handed back on another thread
+//! joins that thread's pool.
+
+use std::cell::RefCell;
+
+/// Buffers kept per thread and element type.
+pub const KEEP: usize = 96;
+/// Longest buffer (in elements) worth keeping.
+pub const MAX_LEN: usize = 1 << 18;
+
+thread_local! {
+    static F64: RefCell<Vec<Vec<f64>>> = const { RefCell::new(Vec::new()) };
+    static U32: RefCell<Vec<Vec<u32>>> = const { RefCell::new(Vec::new()) };
+}
+
+/// An element type the pool keeps buffers of.
+pub trait Pooled: Copy + 'static {
+    #[doc(hidden)]
+    fn with_pool<R>(f: impl FnOnce(&mut Vec<Vec<Self>>) -> R) -> R;
+}
+
+impl Pooled for f64 {
+    fn with_pool<R>(f: impl FnOnce(&mut Vec<Vec<f64>>) -> R) -> R {
+        F64.with_borrow_mut(f)
+    }
+}
+
+impl Pooled for u32 {
+    fn with_pool<R>(f: impl FnOnce(&mut Vec<Vec<u32>>) -> R) -> R {
+        U32.with_borrow_mut(f)
+    }
+}
+
+/// An empty column with room for `capacity` elements: a kept buffer when
+/// one is large enough, else a new one.
+pub fn column<T: Pooled>(capacity: usize) -> Vec<T> {
+    let kept = T::with_pool(|p| {
+        let i = p.iter().rposition(|v| v.capacity() >= capacity)?;
+        Some(p.swap_remove(i))
+    });
+    match kept {
+        Some(mut v) => {
+            v.clear();
+            v
+        }
+        None => Vec::with_capacity(capacity),
+    }
+}
+
+/// A column of `len` copies of `x`.
+pub fn filled<T: Pooled>(len: usize, x: T) -> Vec<T> {
+    let mut v = column(len);
+    v.resize(len, x);
+    v
+}
+
+/// Hand a column back for the next segment on this thread.
+pub fn recycle<T: Pooled>(v: Vec<T>) {
+    if v.capacity() == 0 || v.capacity() > MAX_LEN {
+        return;
+    }
+    T::with_pool(|p| {
+        if p.len() < KEEP {
+            p.push(v);
+        }
+    });
+}
+
+/// Hand back every column of a list.
+pub fn recycle_all<T: Pooled>(cols: impl IntoIterator<Item = Vec<T>>) {
+    for c in cols {
+        recycle(c);
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn a_handed_back_buffer_is_reused_empty() {
+        let mut v: Vec<f64> = column(1000);
+        v.extend((0..1000).map(f64::from));
+        let at = v.as_ptr();
+        recycle(v);
+        let w: Vec<f64> = column(500);
+        assert!(w.is_empty());
+        assert_eq!(w.as_ptr(), at, "the kept buffer comes back");
+        // Too small for the request: a new buffer instead.
+        recycle(w);
+        let big: Vec<f64> = column(5000);
+        assert!(big.capacity() >= 5000);
+        assert_ne!(big.as_ptr(), at);
+    }
+
+    #[test]
+    fn the_pool_is_bounded() {
+        let huge: Vec<u32> = Vec::with_capacity(MAX_LEN + 1);
+        recycle(huge);
+        U32.with_borrow(|p| assert!(p.iter().all(|v| v.capacity() <= MAX_LEN)));
+        for _ in 0..KEEP + 10 {
+            recycle(Vec::<u32>::with_capacity(8));
+        }
+        U32.with_borrow(|p| assert_eq!(p.len(), KEEP));
+        let f = filled(7, 3u32);
+        assert_eq!(f, vec![3; 7]);
+    }
+}
