@@ -141,20 +141,29 @@ pub struct Stats {
 /// How many failing (and non-finite) points are listed.
 pub const LISTED: usize = 5;
 
-/// Spacing of f32 (or f16) values at |x|, in f64.
+/// Spacing of f32 (or f16) values at |x|, in f64: a power of two, that of
+/// the binade `|x|` rounds into (the smallest one's below the normal range,
+/// the largest finite one's for values that round to infinity, so that an
+/// error near the format's largest value still counts in ULPs).
 pub fn ulp_at(x: f64, half: bool) -> f64 {
-    let a = x.abs();
     if half {
-        let h = half::f16::from_f64(a);
-        let h = if h.is_infinite() { half::f16::MAX } else { h };
-        let e = half::f16::from_bits(h.to_bits() + 1).to_f64() - h.to_f64();
-        e.max(2f64.powi(-24))
+        let e = i64::from((half::f16::from_f64(x.abs()).to_bits() >> 10) & 0x1f).clamp(1, 30);
+        // f16: 10 fraction bits, exponent bias 15.
+        f64::from_bits(((e - 25 + 1023) as u64) << 52)
     } else {
-        let f = a as f32;
-        let f = if f.is_infinite() { f32::MAX } else { f };
-        (f64::from(f32::from_bits(f.to_bits() + 1)) - f64::from(f))
-            .max(f64::from(f32::from_bits(1)))
+        1.0 / inv_ulp_f32(x)
     }
+}
+
+/// `1 / ulp_at(x, false)`, exactly: the f32 spacing is `2^(e − 150)` for
+/// the biased exponent `e` (clamped to the finite normal range) of `|x|`
+/// rounded to f32, so its reciprocal is the power of two `2^(150 − e)` and
+/// `err * inv_ulp_f32(x)` is bit for bit `err / ulp_at(x, false)` (both are
+/// the correctly rounded value of the same real number).
+fn inv_ulp_f32(x: f64) -> f64 {
+    let f = x.abs() as f32;
+    let e = i64::from(((f.to_bits() >> 23) & 0xff) as u16).clamp(1, 254);
+    f64::from_bits(((150 - e + 1023) as u64) << 52)
 }
 
 fn same_nonfinite(a: f64, b: f64) -> bool {
@@ -437,7 +446,11 @@ impl Bounds {
             } else {
                 f64::INFINITY
             };
-            let ulp = abs / ulp_at(w, half);
+            let ulp = if half {
+                abs / ulp_at(w, true)
+            } else {
+                abs * inv_ulp_f32(w)
+            };
             p.max_abs = p.max_abs.max(abs);
             p.max_rel = p.max_rel.max(rel);
             p.max_ulp = p.max_ulp.max(ulp);
@@ -578,6 +591,73 @@ mod tests {
 
     fn d(_: usize) -> String {
         String::new()
+    }
+
+    #[test]
+    fn spacings_are_the_formats_own() {
+        // IEEE 754 binary32 / binary16: 1 has spacing 2^-23 / 2^-10; the
+        // smallest subnormal is the spacing below the normal range; the
+        // largest finite values 3.4028235e38 / 65504 have spacing 2^104 / 32.
+        assert_eq!(ulp_at(1.0, false), 2f64.powi(-23));
+        assert_eq!(ulp_at(-1.5, false), 2f64.powi(-23));
+        assert_eq!(ulp_at(0.0, false), 2f64.powi(-149));
+        assert_eq!(ulp_at(1e-42, false), 2f64.powi(-149));
+        assert_eq!(ulp_at(f64::from(f32::MAX), false), 2f64.powi(104));
+        assert_eq!(ulp_at(1e300, false), 2f64.powi(104));
+        assert_eq!(ulp_at(1.0, true), 2f64.powi(-10));
+        assert_eq!(ulp_at(0.0, true), 2f64.powi(-24));
+        assert_eq!(ulp_at(65504.0, true), 32.0);
+        assert_eq!(ulp_at(1e9, true), 32.0);
+        // A value that rounds up into the next binade takes its spacing.
+        assert_eq!(ulp_at(2.0 - 1e-12, false), 2f64.powi(-22));
+        // Against the neighbours of every f32 in a sample of binades.
+        for k in 1..5000u32 {
+            let f = f32::from_bits(k * 427_000);
+            if f.is_finite() && f < f32::MAX {
+                let next = f32::from_bits(f.to_bits() + 1);
+                assert_eq!(
+                    ulp_at(f64::from(f), false),
+                    f64::from(next) - f64::from(f),
+                    "{f:e}"
+                );
+            }
+        }
+    }
+
+    #[test]
+    fn the_reciprocal_f32_spacing_is_exact() {
+        // Every binade's edges and middle, zero, subnormals, the largest
+        // finite value and values that round to infinity: the product with
+        // the reciprocal is bit for bit the quotient by the spacing.
+        let mut xs = vec![
+            0.0,
+            f64::MIN_POSITIVE,
+            1e-300,
+            1e300,
+            f64::from(f32::MAX),
+            3.5e38,
+        ];
+        for e in -150..=128 {
+            let p = 2f64.powi(e);
+            xs.extend([
+                p,
+                p * 1.5,
+                p * (1.0 - f64::EPSILON),
+                p * (1.0 + f64::EPSILON),
+            ]);
+        }
+        xs.extend((1..1000).map(|k| f64::from(f32::from_bits(k * 4_294_967))));
+        for &x in &xs {
+            for x in [x, -x] {
+                for err in [1.0, 0.1, 3e-310, 7e-45, 1.0e30, f64::MAX] {
+                    assert_eq!(
+                        (err * inv_ulp_f32(x)).to_bits(),
+                        (err / ulp_at(x, false)).to_bits(),
+                        "x = {x:e}, err = {err:e}"
+                    );
+                }
+            }
+        }
     }
 
     #[test]
