@@ -184,6 +184,19 @@ pub fn compare(
     half: bool,
     describe: &dyn Fn(usize) -> String,
 ) -> Stats {
+    compare_with(got, want, tol, half, describe, true)
+}
+
+/// [`compare`], with or without the division-free path for points below the
+/// floor (`quick`; the tests compare the two).
+fn compare_with(
+    got: &[Vec<f64>],
+    want: &[Vec<f64>],
+    tol: &Tolerance,
+    half: bool,
+    describe: &dyn Fn(usize) -> String,
+    quick: bool,
+) -> Stats {
     let n = got.first().map_or(0, |c| c.len());
     let comps = got.len();
     let mut s = Stats {
@@ -207,7 +220,19 @@ pub fn compare(
     // The worst point so far: (index, badness, component, errors); its
     // report (which formats the point's parameters) is made once, at the end.
     let mut worst: Option<Worst> = None;
+    // Points surely below `min(worst badness, 1)` need no badness: see
+    // `Below`. Recomputed when the worst point changes.
+    let mut below: Option<Below> = None;
     for i in 0..n {
+        if let Some(b) = &below {
+            if let Some(q) = b.quick(got, want, i, half, s.max_rel) {
+                s.max_abs = s.max_abs.max(q.max_abs);
+                s.max_rel = s.max_rel.max(q.max_rel);
+                s.max_ulp = s.max_ulp.max(q.max_ulp);
+                sum_sq.add(q.sum_sq);
+                continue;
+            }
+        }
         let p = bounds.assess(got, want, i, tol.nan, half);
         s.max_abs = s.max_abs.max(p.max_abs);
         s.max_rel = s.max_rel.max(p.max_rel);
@@ -249,6 +274,7 @@ pub fn compare(
         };
         if worse {
             worst = Some((i, point_bad, point_comp, point_err));
+            below = Below::new(&bounds, point_bad.min(1.0)).filter(|_| quick);
         }
     }
     if let Some((i, bad, comp, err)) = worst {
@@ -469,6 +495,95 @@ impl Bounds {
     }
 }
 
+/// A point's errors without its badness: what [`compare`] needs of a point
+/// that can neither fail nor be the worst.
+struct Quick {
+    max_abs: f64,
+    max_rel: f64,
+    max_ulp: f64,
+    sum_sq: f64,
+}
+
+/// Thresholds below which an error's ratio to its bound is surely under a
+/// floor `f` (`0 < f ≤ 1`, the worst badness so far capped at 1): per
+/// component and bound, `f · t · (1 − 10⁻¹²)` (−1 for an absent bound).
+/// An error under it has `err / t < f` in exact arithmetic with a margin far
+/// wider than the division's rounding, so the rounded ratio is under `f`
+/// too. A point whose every component has some error under its threshold
+/// has a badness under `f`: it does not fail (`f ≤ 1`) and is not the worst
+/// (`f` ≤ the worst badness), so [`compare`] needs only its maxima and sum,
+/// which cost no division by a bound. Every other point is judged by
+/// [`Bounds::assess`], so the statistics are bit for bit the same.
+struct Below(Vec<[f64; 3]>);
+
+impl Below {
+    fn new(bounds: &Bounds, floor: f64) -> Option<Below> {
+        if floor.is_nan() || floor <= 0.0 {
+            return None;
+        }
+        Some(Below(
+            bounds
+                .0
+                .iter()
+                .map(|b| b.map(|t| t.map_or(-1.0, |t| floor * t * (1.0 - 1e-12))))
+                .collect(),
+        ))
+    }
+
+    /// Point `i`'s maxima and sum when it is surely below the floor, with
+    /// every value finite; `None` sends it to [`Bounds::assess`]. The
+    /// relative error is divided out only where it may exceed `max_rel`
+    /// (the largest so far) or decide the floor test: `abs < x · |w|` with
+    /// the same margin bounds `abs / |w|` below `x`.
+    fn quick(
+        &self,
+        got: &[Vec<f64>],
+        want: &[Vec<f64>],
+        i: usize,
+        half: bool,
+        max_rel: f64,
+    ) -> Option<Quick> {
+        let rel_below = max_rel * (1.0 - 1e-12);
+        let mut q = Quick {
+            max_abs: 0.0,
+            max_rel: 0.0,
+            max_ulp: 0.0,
+            sum_sq: 0.0,
+        };
+        for (c, thr) in self.0.iter().enumerate() {
+            let (g, w) = (got[c][i], want[c][i]);
+            if !w.is_finite() || !g.is_finite() {
+                return None;
+            }
+            // The same errors, in the same operations, as `Bounds::assess`.
+            let abs = (g - w).abs();
+            if abs == 0.0 {
+                continue;
+            }
+            let aw = w.abs();
+            let ulp = if half {
+                abs / ulp_at(w, true)
+            } else {
+                abs * inv_ulp_f32(w)
+            };
+            if !(abs < thr[0] || abs < thr[1] * aw || ulp < thr[2]) {
+                return None;
+            }
+            // False for NaN products (∞ · 0): then the division decides.
+            let rel_surely_below = abs < rel_below * aw;
+            if !rel_surely_below {
+                // As `Bounds::assess` computes it (∞ where w = 0).
+                let rel = if w != 0.0 { abs / aw } else { f64::INFINITY };
+                q.max_rel = q.max_rel.max(rel);
+            }
+            q.max_abs = q.max_abs.max(abs);
+            q.max_ulp = q.max_ulp.max(ulp);
+            q.sum_sq += abs * abs;
+        }
+        Some(q)
+    }
+}
+
 fn ratio(err: f64, bound: f64) -> f64 {
     if err == 0.0 {
         0.0
@@ -591,6 +706,85 @@ mod tests {
 
     fn d(_: usize) -> String {
         String::new()
+    }
+
+    #[test]
+    fn the_division_free_path_changes_no_statistic() {
+        // Errors spread over many scales (some exactly at a bound, some
+        // zero, some non-finite), against tolerances with one, two or three
+        // bounds, zero bounds and none: the statistics with the quick path
+        // are those of judging every point in full.
+        let mut rng = crate::sweep::Rng::new(5);
+        let n = 4000;
+        let want: Vec<Vec<f64>> = (0..3)
+            .map(|_| {
+                (0..n)
+                    .map(|_| (rng.unit() - 0.2) * 10f64.powi((rng.next() % 9) as i32 - 4))
+                    .collect()
+            })
+            .collect();
+        let got: Vec<Vec<f64>> = want
+            .iter()
+            .map(|col| {
+                col.iter()
+                    .enumerate()
+                    .map(|(i, &w)| match rng.next() % 400 {
+                        0..=9 => w,
+                        10 => f64::NAN,
+                        11..=14 => w + 1e-3,
+                        15..=18 => w * (1.0 + 1e-4),
+                        19..=30 => w * (1.0 + (rng.unit() - 0.5) * 10f64.powi(-((i % 9) as i32))),
+                        _ => w * (1.0 + (rng.unit() - 0.5) * 1e-7),
+                    })
+                    .collect()
+            })
+            .collect();
+        // A second set whose errors grow point by point (each a new
+        // maximum), all inside the looser bounds.
+        let rising: Vec<Vec<f64>> = want
+            .iter()
+            .map(|col| {
+                col.iter()
+                    .enumerate()
+                    .map(|(i, &w)| w * (1.0 + 1e-9 * i as f64))
+                    .collect()
+            })
+            .collect();
+        let tol = |abs: Option<f64>, rel: Option<f64>, ulp: Option<f64>| Tolerance {
+            abs: abs.map(|x| vec![x]),
+            rel: rel.map(|x| vec![x]),
+            ulp: ulp.map(|x| vec![x]),
+            ..Tolerance::exact("test")
+        };
+        let tols = [
+            tol(Some(1e-3), None, None),
+            tol(None, Some(1e-4), None),
+            tol(Some(1e-6), Some(1e-4), None),
+            tol(None, None, Some(4.0)),
+            tol(Some(1e-2), Some(1e-1), Some(1e6)),
+            tol(Some(0.0), None, None),
+            tol(None, None, None),
+            Tolerance {
+                rel: Some(vec![1e-5, 1e-1, 0.0]),
+                ..tol(None, None, None)
+            },
+        ];
+        for t in &tols {
+            for half in [false, true] {
+                // Most points pass well inside the bounds, so the floor
+                // settles early and the quick path is taken.
+                for got in [&got, &rising] {
+                    let fast = compare_with(got, &want, t, half, &d, true);
+                    let full = compare_with(got, &want, t, half, &d, false);
+                    // Debug text: NaN results in the listed points compare equal.
+                    assert_eq!(
+                        format!("{fast:?}"),
+                        format!("{full:?}"),
+                        "{t:?} half {half}"
+                    );
+                }
+            }
+        }
     }
 
     #[test]

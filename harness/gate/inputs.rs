@@ -9,6 +9,7 @@
 //! expressions are then evaluated in f64 (for the reference) and rounded to the
 //! argument's type (for the function).
 
+use std::borrow::Cow;
 use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 use std::sync::Arc;
@@ -202,18 +203,15 @@ const CHUNK: usize = 4096;
 /// Evaluate bound expressions at every point into f64 columns (one per
 /// component): a range of at most [`CHUNK`] points (a streamed check's
 /// segment) on the calling thread, a larger one in parallel chunks.
-fn columns(exprs: &[BoundExpr], points: &Points) -> Result<Vec<Vec<f64>>, String> {
+/// A sweep parameter's own column is borrowed, not copied.
+fn columns<'p>(exprs: &[BoundExpr], points: &'p Points) -> Result<Vec<Cow<'p, [f64]>>, String> {
     let n = points.len;
     let mut cols = Vec::with_capacity(exprs.iter().map(|e| e.width).sum());
     for e in exprs {
         if let Some(p) = e.var {
-            for k in 0..e.width {
-                let mut c = scratch::column(n);
-                c.extend_from_slice(&points.columns[p][k]);
-                cols.push(c);
-            }
+            cols.extend(points.columns[p].iter().map(|c| Cow::Borrowed(&c[..])));
         } else if n <= CHUNK {
-            cols.extend(expr_columns(e, points, 0..n)?);
+            cols.extend(expr_columns(e, points, 0..n)?.into_iter().map(Cow::Owned));
         } else {
             let parts = (0..n.div_ceil(CHUNK))
                 .into_par_iter()
@@ -224,7 +222,7 @@ fn columns(exprs: &[BoundExpr], points: &Points) -> Result<Vec<Vec<f64>>, String
                 for part in &parts {
                     col.extend_from_slice(&part[c]);
                 }
-                cols.push(col);
+                cols.push(Cow::Owned(col));
             }
             for part in parts {
                 scratch::recycle_all(part);
@@ -232,6 +230,20 @@ fn columns(exprs: &[BoundExpr], points: &Points) -> Result<Vec<Vec<f64>>, String
         }
     }
     Ok(cols)
+}
+
+/// Hand back the columns [`columns`] made (the borrowed ones stay).
+fn recycle(cols: Vec<Cow<'_, [f64]>>) {
+    for c in cols {
+        if let Cow::Owned(v) = c {
+            scratch::recycle(v);
+        }
+    }
+}
+
+/// Columns as owned vectors.
+fn owned(cols: Vec<Cow<'_, [f64]>>) -> Vec<Vec<f64>> {
+    cols.into_iter().map(Cow::into_owned).collect()
 }
 
 /// One expression's columns over `range`: the whole range at once where the
@@ -377,7 +389,7 @@ fn input_columns(
             super::args::Leaf::Zero => scratch::filled(points.len, f64_to_bits(k, 0.0)),
         })
         .collect();
-    scratch::recycle_all(f64_cols);
+    recycle(f64_cols);
     Ok(cols)
 }
 
@@ -388,7 +400,7 @@ pub fn reference_columns(
     points: &Points,
     ref_args: &BTreeMap<String, Expr>,
 ) -> Result<Vec<Vec<f64>>, String> {
-    let args = reference_arg_columns(check, model, points, ref_args)?;
+    let args = reference_args(check, model, points, ref_args)?;
     let n = points.len;
     let mut out: Vec<Vec<f64>> = (0..model.outputs)
         .map(|_| scratch::filled(n, 0.0))
@@ -422,7 +434,7 @@ pub fn reference_columns(
             .enumerate()
             .for_each(|(k, mut outs)| fill(k * CHUNK, &mut outs));
     }
-    scratch::recycle_all(args);
+    recycle(args);
     Ok(out)
 }
 
@@ -444,7 +456,7 @@ pub fn reference_expr_columns(
             check.name, check.function, expr.text, b.width
         ));
     }
-    columns(&[b], points)
+    columns(&[b], points).map(owned)
 }
 
 /// A reference model must give as many values as the function returns;
@@ -479,6 +491,16 @@ pub fn reference_arg_columns(
     points: &Points,
     ref_args: &BTreeMap<String, Expr>,
 ) -> Result<Vec<Vec<f64>>, String> {
+    reference_args(check, model, points, ref_args).map(owned)
+}
+
+/// [`reference_arg_columns`], borrowing the sweep parameters' own columns.
+fn reference_args<'p>(
+    check: &Check,
+    model: &Model,
+    points: &'p Points,
+    ref_args: &BTreeMap<String, Expr>,
+) -> Result<Vec<Cow<'p, [f64]>>, String> {
     let mut bound = Vec::new();
     for p in model.params {
         let b = bind_arg(ref_args, p.name, points, "reference parameter")
