@@ -88,10 +88,13 @@ fn main() {
     );
     println!("  evaluator alone            {:>8.1} ms", 1e3 * evaluator);
     println!(
-        "  inputs + evaluator         {:>8.1} ms",
+        "  inputs + evaluator, whole  {:>8.1} ms  (every point at once, as record and eval do)",
         1e3 * build_inputs
     );
-    println!("  reference columns          {:>8.1} ms", 1e3 * reference);
+    println!(
+        "  reference columns, whole   {:>8.1} ms  (the f64 model alone, every point at once)",
+        1e3 * reference
+    );
     println!("  whole check (run_check)    {:>8.1} ms", 1e3 * end_to_end);
     println!(
         "  whole check / evaluator    {:>8.1}×  (target ≤ 2×, and ≤ 300 ms)",

@@ -20,7 +20,7 @@ use std::cell::RefCell;
 /// Buffers kept per thread and element type.
 pub const KEEP: usize = 96;
 /// Longest buffer (in elements) worth keeping.
-pub const MAX_LEN: usize = 1 << 18;
+pub const MAX_LEN: usize = 1 << 14;
 
 thread_local! {
     static F64: RefCell<Vec<Vec<f64>>> = const { RefCell::new(Vec::new()) };
