@@ -467,16 +467,8 @@ impl Bounds {
                 // Every error and the badness are 0: nothing to record.
                 continue;
             }
-            let rel = if w != 0.0 {
-                abs / w.abs()
-            } else {
-                f64::INFINITY
-            };
-            let ulp = if half {
-                abs / ulp_at(w, true)
-            } else {
-                abs * inv_ulp_f32(w)
-            };
+            let rel = rel_error(abs, w);
+            let ulp = ulp_error(abs, w, half);
             p.max_abs = p.max_abs.max(abs);
             p.max_rel = p.max_rel.max(rel);
             p.max_ulp = p.max_ulp.max(ulp);
@@ -561,26 +553,40 @@ impl Below {
                 continue;
             }
             let aw = w.abs();
-            let ulp = if half {
-                abs / ulp_at(w, true)
-            } else {
-                abs * inv_ulp_f32(w)
-            };
+            let ulp = ulp_error(abs, w, half);
             if !(abs < thr[0] || abs < thr[1] * aw || ulp < thr[2]) {
                 return None;
             }
             // False for NaN products (∞ · 0): then the division decides.
             let rel_surely_below = abs < rel_below * aw;
             if !rel_surely_below {
-                // As `Bounds::assess` computes it (∞ where w = 0).
-                let rel = if w != 0.0 { abs / aw } else { f64::INFINITY };
-                q.max_rel = q.max_rel.max(rel);
+                q.max_rel = q.max_rel.max(rel_error(abs, w));
             }
             q.max_abs = q.max_abs.max(abs);
             q.max_ulp = q.max_ulp.max(ulp);
             q.sum_sq += abs * abs;
         }
         Some(q)
+    }
+}
+
+/// The relative error of a non-zero absolute error `abs` against `w` (∞
+/// where `w` is 0); [`Bounds::assess`] and [`Below::quick`] share it, so
+/// both compute the same bits.
+fn rel_error(abs: f64, w: f64) -> f64 {
+    if w != 0.0 {
+        abs / w.abs()
+    } else {
+        f64::INFINITY
+    }
+}
+
+/// The error `abs` in ULPs of the format at `w` (f16 when `half`).
+fn ulp_error(abs: f64, w: f64, half: bool) -> f64 {
+    if half {
+        abs / ulp_at(w, true)
+    } else {
+        abs * inv_ulp_f32(w)
     }
 }
 
