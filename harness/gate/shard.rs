@@ -23,7 +23,8 @@ use std::collections::BTreeMap;
 use serde::Deserialize;
 
 use super::result::{
-    CheckResult, Comparison, Finding, FindingKind, IssueGroup, RunResult, ShardPart, Verdict,
+    AlbedoTable, CheckResult, Comparison, Finding, FindingKind, IssueGroup, RunResult, ShardPart,
+    Verdict,
 };
 use crate::compare::{ExactSum, NanPolicy, PointReport, Stats, Tolerance};
 use crate::suite::Suite;
@@ -86,6 +87,49 @@ struct CheckDoc {
     findings: Vec<serde_json::Value>,
     precision: Option<serde_json::Value>,
     shard: Option<ShardPart>,
+    #[serde(default)]
+    albedo: Option<AlbedoDoc>,
+}
+
+#[derive(Deserialize)]
+struct AlbedoDoc {
+    over: String,
+    view: String,
+    roughness: Option<String>,
+    angles: Vec<Num>,
+    roughnesses: Vec<Num>,
+    albedo: Vec<Vec<Num>>,
+    model: String,
+    reference: Option<Vec<Vec<Num>>>,
+    note: Option<String>,
+}
+
+impl AlbedoDoc {
+    fn get(&self) -> Result<AlbedoTable, String> {
+        let rows = |m: &[Vec<Num>]| m.iter().map(|r| nums(r)).collect::<Result<Vec<_>, _>>();
+        let t = AlbedoTable {
+            over: self.over.clone(),
+            view: self.view.clone(),
+            roughness: self.roughness.clone(),
+            angles: nums(&self.angles)?,
+            roughnesses: nums(&self.roughnesses)?,
+            albedo: rows(&self.albedo)?,
+            model: self.model.clone(),
+            reference: self.reference.as_deref().map(rows).transpose()?,
+            note: self.note.clone(),
+        };
+        let shape = |m: &[Vec<f64>]| {
+            m.len() == t.angles.len() && m.iter().all(|r| r.len() == t.roughnesses.len())
+        };
+        if !shape(&t.albedo) || !t.reference.as_deref().is_none_or(shape) {
+            return Err(format!(
+                "the albedo table is not {} rows of {} cells",
+                t.angles.len(),
+                t.roughnesses.len()
+            ));
+        }
+        Ok(t)
+    }
 }
 
 #[derive(Deserialize)]
@@ -256,7 +300,7 @@ pub fn read_report(file: &str, text: &str) -> Result<RunResult, String> {
             precision: None,
             seconds: c.seconds.map_or(Ok(0.0), |s| s.get()).map_err(at)?,
             shard: c.shard,
-            albedo: None,
+            albedo: c.albedo.as_ref().map(|a| a.get().map_err(at)).transpose()?,
         });
     }
     Ok(RunResult {
@@ -374,6 +418,26 @@ pub fn merge(parts: &[Part]) -> Result<RunResult, String> {
     })
 }
 
+/// The albedo tables of a check's shards joined as the stream joins its
+/// segments' ([`AlbedoTable::absorb`]: the larger albedo per cell); none
+/// when a shard with points has none (the table grew past its size limit
+/// there, so it does for the whole) or when the union does.
+fn merged_albedo(shards: &[(&str, &CheckResult)]) -> Option<AlbedoTable> {
+    let mut whole: Option<AlbedoTable> = None;
+    for (_, c) in shards.iter().filter(|(_, c)| c.points > 0) {
+        let t = c.albedo.clone()?;
+        match &mut whole {
+            None => whole = Some(t),
+            Some(w) => {
+                if !w.absorb(t) {
+                    return None;
+                }
+            }
+        }
+    }
+    whole
+}
+
 /// One check from its shards, in shard order.
 fn merge_check(shards: &[(&str, &CheckResult)]) -> Result<CheckResult, String> {
     let (file0, c0) = shards[0];
@@ -427,6 +491,7 @@ fn merge_check(shards: &[(&str, &CheckResult)]) -> Result<CheckResult, String> {
         shard: None,
         albedo: None,
     };
+    r.albedo = merged_albedo(shards);
     if let Some((file, c)) = shards.iter().find(|(_, c)| c.verdict == Verdict::Error) {
         r.verdict = Verdict::Error;
         r.error = Some(format!(

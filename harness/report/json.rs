@@ -38,7 +38,10 @@ pub const VERSION: u32 = 1;
 ///                              exact sum's text form); points as
 ///                              { "index", "params", "got", "want", "component",
 ///                                "abs", "rel", "ulp" } } } ],
-///                 "shard": { "index", "of", "first", "total" } (run --shard only) } ] }
+///                 "shard": { "index", "of", "first", "total" } (run --shard only),
+///                 "albedo": { "over", "view", "roughness", "angles", "roughnesses",
+///                             "albedo", "model", "reference", "note" }
+///                           (an albedo property only) } ] }
 /// ```
 ///
 /// Every field of the result types appears under its own name. Non-finite numbers are
@@ -147,6 +150,41 @@ struct Check<'a> {
     /// Which share of the sweep a shard's result covers (`run --shard`).
     #[serde(skip_serializing_if = "Option::is_none")]
     shard: Option<crate::gate::ShardPart>,
+    /// An albedo property's table (`gate::AlbedoTable`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    albedo: Option<Albedo<'a>>,
+}
+
+/// [`crate::gate::AlbedoTable`], field for field, its numbers through [`Num`]
+/// (an empty cell is `"NaN"`).
+#[derive(Serialize)]
+struct Albedo<'a> {
+    over: &'a str,
+    view: &'a str,
+    roughness: Option<&'a str>,
+    angles: Nums<'a>,
+    roughnesses: Nums<'a>,
+    albedo: Vec<Nums<'a>>,
+    model: &'a str,
+    reference: Option<Vec<Nums<'a>>>,
+    note: Option<&'a str>,
+}
+
+impl<'a> From<&'a crate::gate::AlbedoTable> for Albedo<'a> {
+    fn from(t: &'a crate::gate::AlbedoTable) -> Albedo<'a> {
+        let rows = |m: &'a [Vec<f64>]| m.iter().map(|r| Nums(r)).collect();
+        Albedo {
+            over: &t.over,
+            view: &t.view,
+            roughness: t.roughness.as_deref(),
+            angles: Nums(&t.angles),
+            roughnesses: Nums(&t.roughnesses),
+            albedo: rows(&t.albedo),
+            model: &t.model,
+            reference: t.reference.as_deref().map(rows),
+            note: t.note.as_deref(),
+        }
+    }
 }
 
 impl<'a> From<&'a CheckResult> for Check<'a> {
@@ -163,6 +201,7 @@ impl<'a> From<&'a CheckResult> for Check<'a> {
             issues: &c.issues,
             precision: c.precision.as_ref(),
             shard: c.shard,
+            albedo: c.albedo.as_ref().map(Albedo::from),
             findings: c
                 .findings
                 .iter()

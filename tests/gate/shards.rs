@@ -45,6 +45,13 @@ fn assert_same_numbers(whole: &RunResult, merged: &RunResult) {
         assert_eq!(a.verdict, b.verdict, "{}", a.name);
         assert_eq!(a.points, b.points, "{}", a.name);
         assert_eq!(a.issues, b.issues, "{}", a.name);
+        // An albedo property's table (NaN cells equal through Debug).
+        assert_eq!(
+            format!("{:?}", a.albedo),
+            format!("{:?}", b.albedo),
+            "{}",
+            a.name
+        );
         assert_eq!(a.comparisons.len(), b.comparisons.len(), "{}", a.name);
         for (x, y) in a.comparisons.iter().zip(&b.comparisons) {
             // Through Debug, which prints every f64 exactly (shortest
@@ -79,6 +86,52 @@ fn the_demo_suite_as_three_shards_merges_into_the_same_report() {
     assert_eq!(
         report::text_with(&whole, false, Timings::Omit),
         report::text_with(&m, false, Timings::Omit)
+    );
+}
+
+#[test]
+fn an_albedo_table_survives_the_json_report_and_the_merge() {
+    // Quillmere's white-furnace check: its table (view angle x alpha, beside
+    // ggx_albedo) is in the JSON report, reads back, and the shards' tables
+    // join into the whole run's, cell for cell, for splits that cut its
+    // view angles apart.
+    let s = load("demos/quillmere/shadegate.toml");
+    let filter = Some("cobble_furnace");
+    let whole = gate::run(&s, filter, |_, _, _| {});
+    let table = whole.checks[0].albedo.as_ref().expect("a table");
+    assert!(table.angles.len() > 1 && table.reference.is_some());
+    let json = report::json_with(&whole, Timings::Omit);
+    assert!(json.contains("\"albedo\": {"), "{json}");
+    assert!(json.contains("\"model\": \"ggx_albedo\""), "{json}");
+    let back = shard::read_report("whole.json", &json).unwrap_or_else(|e| panic!("{e}"));
+    assert_eq!(
+        format!("{:?}", back.checks[0].albedo),
+        format!("{:?}", whole.checks[0].albedo)
+    );
+    for n in [2, 5] {
+        let m = merged(&s, filter, n);
+        assert_same_numbers(&whole, &m);
+        assert_eq!(
+            report::text_with(&whole, false, Timings::Omit),
+            report::text_with(&m, false, Timings::Omit)
+        );
+    }
+}
+
+#[test]
+fn a_malformed_albedo_table_in_a_report_is_an_error() {
+    let s = load("demos/quillmere/shadegate.toml");
+    let whole = gate::run(&s, Some("cobble_furnace"), |_, _, _| {});
+    let json = report::json_with(&whole, Timings::Omit);
+    // Drop the last row's cells: rows no longer match the angles.
+    let v: serde_json::Value = serde_json::from_str(&json).unwrap();
+    let mut v = v;
+    let rows = v["checks"][0]["albedo"]["albedo"].as_array_mut().unwrap();
+    rows.pop();
+    let e = shard::read_report("cut.json", &v.to_string()).unwrap_err();
+    assert!(
+        e.contains("cut.json") && e.contains("cobble_furnace") && e.contains("albedo table"),
+        "{e}"
     );
 }
 
