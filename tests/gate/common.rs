@@ -38,11 +38,29 @@ pub fn run_first(area: &str, test: &str, lib: &str, suite_text: &str) -> CheckRe
 
 /// Run `shadegate ARGS` in `dir`, outside CI and without colour.
 pub fn shadegate(args: &[&str], dir: &Path) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_shadegate"))
-        .args(args)
-        .current_dir(dir)
-        .env_remove("CI")
-        .env("NO_COLOR", "1")
-        .output()
-        .expect("run shadegate")
+    shadegate_ci(dir, args, false)
+}
+
+/// Run `shadegate ARGS` in `dir` without colour, under CI (`CI=true`) or
+/// outside it.
+pub fn shadegate_ci(dir: &Path, args: &[&str], ci: bool) -> Output {
+    let mut cmd = Command::new(env!("CARGO_BIN_EXE_shadegate"));
+    cmd.args(args).current_dir(dir).env("NO_COLOR", "1");
+    if ci {
+        cmd.env("CI", "true");
+    } else {
+        cmd.env_remove("CI");
+    }
+    cmd.output().expect("the shadegate binary runs")
+}
+
+/// A command's exit code, standard output and standard error, for
+/// assertion messages.
+pub fn output_text(o: &Output) -> String {
+    format!(
+        "exit {:?}\nstdout:\n{}\nstderr:\n{}",
+        o.status.code(),
+        String::from_utf8_lossy(&o.stdout),
+        String::from_utf8_lossy(&o.stderr)
+    )
 }

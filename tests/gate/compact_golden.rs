@@ -7,7 +7,9 @@
 //! suite keys are located errors when malformed.
 
 use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
+use std::process::Output;
+
+use super::common::{output_text as text, shadegate_ci as shadegate};
 
 use shadegate::{gate, golden, suite};
 
@@ -35,26 +37,6 @@ fn project(test: &str, suite: &str) -> PathBuf {
     std::fs::write(dir.join("lib.wgsl"), SHADER).unwrap();
     std::fs::write(dir.join("shadegate.toml"), suite).unwrap();
     dir
-}
-
-fn shadegate(dir: &Path, args: &[&str], ci: bool) -> Output {
-    let mut cmd = Command::new(env!("CARGO_BIN_EXE_shadegate"));
-    cmd.args(args).current_dir(dir).env("NO_COLOR", "1");
-    if ci {
-        cmd.env("CI", "true");
-    } else {
-        cmd.env_remove("CI");
-    }
-    cmd.output().expect("the shadegate binary runs")
-}
-
-fn text(o: &Output) -> String {
-    format!(
-        "exit {:?}\nstdout:\n{}\nstderr:\n{}",
-        o.status.code(),
-        String::from_utf8_lossy(&o.stdout),
-        String::from_utf8_lossy(&o.stderr)
-    )
 }
 
 fn recorded(test: &str, suite: &str) -> (PathBuf, Output) {

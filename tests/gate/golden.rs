@@ -4,8 +4,9 @@
 //! mismatched golden is an error that names the file and the line, and a shader edit that
 //! changes no bit is proven to change nothing while one that does is caught.
 
-use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
+use std::path::PathBuf;
+
+use super::common::{output_text as text, shadegate_ci as shadegate};
 
 use shadegate::{gate, golden, suite};
 
@@ -42,26 +43,6 @@ fn project(test: &str) -> PathBuf {
 
 /// Run the `shadegate` command in `dir`. `ci` sets or clears the CI variable (the test
 /// command itself runs under CI=true in `.ci/run`).
-fn shadegate(dir: &Path, args: &[&str], ci: bool) -> Output {
-    let mut cmd = Command::new(env!("CARGO_BIN_EXE_shadegate"));
-    cmd.args(args).current_dir(dir).env_remove("NO_COLOR");
-    if ci {
-        cmd.env("CI", "true");
-    } else {
-        cmd.env_remove("CI");
-    }
-    cmd.output().expect("the shadegate binary runs")
-}
-
-fn text(o: &Output) -> String {
-    format!(
-        "exit {:?}\nstdout:\n{}\nstderr:\n{}",
-        o.status.code(),
-        String::from_utf8_lossy(&o.stdout),
-        String::from_utf8_lossy(&o.stderr)
-    )
-}
-
 fn recorded(test: &str) -> (PathBuf, PathBuf) {
     let dir = project(test);
     let o = shadegate(&dir, &["record"], false);
