@@ -318,31 +318,12 @@ fn parse_header(
             format!("not a compact golden (expected the first line `{MAGIC}`)"),
         ));
     }
-    let keys = [
-        "check",
-        "shader",
-        "function",
-        "shader-hash",
-        "sweep",
-        "points",
-        "columns",
-        "block",
-        "blocks",
-    ];
-    let mut fields = Vec::new();
-    for (i, key) in keys.iter().enumerate() {
-        let line = lines.get(i + 1).copied().unwrap_or("");
-        let prefix = format!("# {key}: ");
-        match line.strip_prefix(&prefix) {
-            Some(v) => fields.push(v.to_string()),
-            None => {
-                return Err(err(
-                    i as u32 + 2,
-                    format!("expected the header line `{prefix}…`, found `{line}`"),
-                ))
-            }
-        }
-    }
+    let keys: Vec<&str> = super::IDENTITY_KEYS
+        .iter()
+        .chain(&["columns", "block", "blocks"])
+        .copied()
+        .collect();
+    let fields = super::header_fields(&lines, &keys).map_err(|(line, m)| err(line as u32, m))?;
     if lines.get(LINE_DATA as usize - 1) != Some(&"# data") || lines.len() != LINE_DATA as usize {
         return Err(err(
             LINE_DATA.min(lines.len() as u32 + 1),

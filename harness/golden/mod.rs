@@ -51,6 +51,38 @@ pub struct Header {
     pub points: usize,
 }
 
+/// The keys of the identity lines ([`Header::lines`]), in order.
+pub(crate) const IDENTITY_KEYS: [&str; 6] = [
+    "check",
+    "shader",
+    "function",
+    "shader-hash",
+    "sweep",
+    "points",
+];
+
+/// The values of the header lines `# KEY: value`, one per key of `keys` in
+/// order, from the second line of `lines` on (the first is the magic line).
+/// A missing or different line is the error: its 1-based line number and
+/// what was expected there.
+pub(crate) fn header_fields(lines: &[&str], keys: &[&str]) -> Result<Vec<String>, (usize, String)> {
+    keys.iter()
+        .enumerate()
+        .map(|(i, key)| {
+            let line = lines.get(i + 1).copied().unwrap_or("");
+            let prefix = format!("# {key}: ");
+            line.strip_prefix(&prefix)
+                .map(str::to_string)
+                .ok_or_else(|| {
+                    (
+                        i + 2,
+                        format!("expected the header line `{prefix}…`, found `{line}`"),
+                    )
+                })
+        })
+        .collect()
+}
+
 impl Header {
     /// The identity lines every golden file starts with after its magic
     /// line (CSV, compact, and the compact golden's summary alike):
@@ -477,30 +509,7 @@ pub fn parse_with(path: &Path, text: &str, limits: &Limits) -> Result<Golden, Di
             format!("not a shadegate golden dataset (expected the first line `{MAGIC}`)"),
         ));
     }
-    let mut fields = Vec::new();
-    for (i, key) in [
-        "check",
-        "shader",
-        "function",
-        "shader-hash",
-        "sweep",
-        "points",
-    ]
-    .iter()
-    .enumerate()
-    {
-        let line = lines.get(i + 1).copied().unwrap_or("");
-        let prefix = format!("# {key}: ");
-        match line.strip_prefix(&prefix) {
-            Some(v) => fields.push(v.to_string()),
-            None => {
-                return Err(err(
-                    i + 2,
-                    format!("expected the header line `{prefix}…`, found `{line}`"),
-                ))
-            }
-        }
-    }
+    let fields = header_fields(&lines, &IDENTITY_KEYS).map_err(|(line, m)| err(line, m))?;
     let points: u64 = fields[5]
         .parse()
         .map_err(|_| err(7, format!("`{}` is not a point count", fields[5])))?;
