@@ -30,6 +30,7 @@ mod error;
 pub mod wrap;
 
 use std::collections::BTreeMap;
+use std::sync::atomic::{AtomicUsize, Ordering};
 use std::sync::{mpsc, Arc, Mutex};
 use std::time::{Duration, Instant};
 
@@ -104,6 +105,8 @@ pub struct Gpu {
     setup: Duration,
     /// Errors no error scope caught (e.g. from another thread's work).
     uncaptured: Arc<Mutex<Vec<String>>>,
+    /// Pipelines compiled by [`Gpu::prepare`] so far (successful or not).
+    compiled: AtomicUsize,
 }
 
 impl std::fmt::Debug for Gpu {
@@ -210,11 +213,18 @@ impl Gpu {
             limits,
             setup: start.elapsed(),
             uncaptured,
+            compiled: AtomicUsize::new(0),
         })
     }
 
     pub fn adapter(&self) -> &AdapterReport {
         &self.report
+    }
+
+    /// How many times [`Gpu::prepare`] has compiled a function into a
+    /// pipeline on this device.
+    pub fn pipelines_compiled(&self) -> usize {
+        self.compiled.load(Ordering::Relaxed)
     }
 
     /// Time [`Gpu::new`] took (instance, adapter, device).
@@ -244,6 +254,7 @@ impl Gpu {
         overrides: &BTreeMap<String, f64>,
     ) -> Result<Kernel<'_>, GpuError> {
         let start = Instant::now();
+        self.compiled.fetch_add(1, Ordering::Relaxed);
         let file = shader.path.display().to_string();
         let wrapped = wrap::wrap(shader, function).map_err(|e| GpuError::Wrap {
             file: file.clone(),
@@ -385,6 +396,11 @@ impl Gpu {
 
     /// Run the checks of `suite` whose name contains `filter` with this
     /// device as the back end (see [`crate::gate::run_on`]).
+    ///
+    /// A check reaches the device segment by segment; each function is
+    /// compiled once and its pipeline reused for the following segments (the
+    /// last [`KEPT_KERNELS`] functions are kept, so a twin check's two sides
+    /// both stay compiled).
     pub fn run_suite(
         &self,
         suite: &crate::suite::Suite,
@@ -392,17 +408,32 @@ impl Gpu {
         progress: impl FnMut(usize, usize, &str),
     ) -> crate::gate::RunResult {
         let label = self.adapter().to_string();
-        let device = Mutex::new(self);
+        // Most recently used last. The device runs one segment at a time, so
+        // the lock is held through compilation and evaluation.
+        let kernels: Mutex<Vec<(KernelKey, Kernel<'_>)>> = Mutex::new(Vec::new());
         let call = |build: &crate::gate::Build,
                     inputs: &[&[u32]]|
          -> Result<(Vec<Vec<u32>>, String), String> {
-            let gpu = device
+            let mut kept = kernels
                 .lock()
                 .map_err(|_| "the device lock is poisoned".to_string())?;
-            let cols = gpu
-                .prepare_build(build)?
-                .eval(inputs)
-                .map_err(|e| e.to_string())?;
+            let key = KernelKey::of(build);
+            let at = match kept.iter().position(|(k, _)| *k == key) {
+                Some(i) => {
+                    let hit = kept.remove(i);
+                    kept.push(hit);
+                    kept.len() - 1
+                }
+                None => {
+                    let kernel = self.prepare_build(build)?;
+                    if kept.len() == KEPT_KERNELS {
+                        kept.remove(0);
+                    }
+                    kept.push((key, kernel));
+                    kept.len() - 1
+                }
+            };
+            let cols = kept[at].1.eval(inputs).map_err(|e| e.to_string())?;
             Ok((cols, label.clone()))
         };
         crate::gate::run_on(suite, filter, progress, Some(&call))
@@ -414,6 +445,34 @@ impl Gpu {
             None
         } else {
             Some(std::mem::take(&mut *v).join("; "))
+        }
+    }
+}
+
+/// Compiled functions [`Gpu::run_suite`] keeps for reuse.
+pub const KEPT_KERNELS: usize = 8;
+
+/// What a pipeline is compiled from: the shader's files and text, the
+/// function and the override values (by their bits).
+#[derive(PartialEq)]
+struct KernelKey {
+    path: std::path::PathBuf,
+    source: String,
+    function: String,
+    overrides: Vec<(String, u64)>,
+}
+
+impl KernelKey {
+    fn of(build: &crate::gate::Build) -> KernelKey {
+        KernelKey {
+            path: build.shader.path.clone(),
+            source: build.shader.source.clone(),
+            function: build.function.clone(),
+            overrides: build
+                .overrides
+                .iter()
+                .map(|(k, v)| (k.clone(), v.to_bits()))
+                .collect(),
         }
     }
 }

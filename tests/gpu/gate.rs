@@ -144,3 +144,57 @@ fn planted_mistakes_fail_on_both_back_ends() {
     }
     assert!(failing >= 3, "only {failing} planted mistakes were caught");
 }
+
+/// `Gpu::run_suite` compiles each function once per run, not once per
+/// call: a failing check reaches the device twice (its points, then its
+/// evidence points for the explanation), and a check longer than
+/// `BACKEND_SEGMENT` once per segment. Two checks of one function with
+/// different overrides make two pipelines; the second check's reference is
+/// off by 2× so that it fails and is re-evaluated.
+#[test]
+fn run_suite_compiles_each_function_once() {
+    if gpu_common::device().is_none() {
+        return;
+    }
+    // Its own device: the shared one's count moves with other tests.
+    let dev = gpu::Gpu::new(None).unwrap_or_else(|e| panic!("{e}"));
+    let dir = std::env::temp_dir().join(format!("shadegate-gpu-kernels-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&dir);
+    std::fs::create_dir_all(&dir).unwrap();
+    std::fs::write(
+        dir.join("lib.wgsl"),
+        "override scale: f32 = 1.0;\nfn scaled(x: f32) -> f32 { return x * scale; }\n",
+    )
+    .unwrap();
+    let check = |name: &str, scale: f64, want: f64| {
+        format!(
+            r#"
+[[check]]
+name = "{name}"
+shader = "lib.wgsl"
+function = "scaled"
+overrides = {{ scale = {scale:?} }}
+reference = "smith_schlick_k_from_alpha"
+reference_args = {{ alpha = "x * {:?}" }}
+[check.sweep]
+x = {{ linear = [0.0, 1.0, 12289] }}
+[check.tolerance]
+rel = 1e-6
+reason = "one multiplication by a power of two is exact"
+"#,
+            2.0 * want
+        )
+    };
+    std::fs::write(
+        dir.join("shadegate.toml"),
+        check("twice", 2.0, 2.0) + &check("four_times", 4.0, 8.0),
+    )
+    .unwrap();
+    let s = suite::load(&dir.join("shadegate.toml")).unwrap_or_else(|d| panic!("{d}"));
+    let r = dev.run_suite(&s, None, |_, _, _| {});
+    assert_eq!(r.checks.len(), 2);
+    assert_eq!(r.passed(), 1, "{:#?}", r.checks);
+    assert_eq!(r.failed(), 1, "{:#?}", r.checks);
+    assert_eq!(dev.pipelines_compiled(), 2);
+    let _ = std::fs::remove_dir_all(&dir);
+}
