@@ -548,10 +548,20 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
                         .into(),
                 ));
             }
-            let sh = Shader::load(&shader).map_err(|d| Bad(d.rendered))?;
             // The source and files lines are reported in: the check's own
-            // files when it has several.
-            let (program, cols, budget, source, files) = if let Some(name) = check {
+            // files when it has several (SHADER alone may not compile then:
+            // it can call functions of the check's other files).
+            // The twin is compiled from the same files as the function: the
+            // check's own when it has several.
+            let twin_of = |sh: &Shader| -> Result<Option<Program>, Bad> {
+                twin.as_ref()
+                    .map(|t| {
+                        Program::compile_with(sh, t, &ov, Arithmetic::Exact)
+                            .map_err(|d| Bad(d.rendered))
+                    })
+                    .transpose()
+            };
+            let (program, cols, budget, source, files, twin) = if let Some(name) = check {
                 let s = load_suite(&suite)?;
                 let c = find_check(&s, &name, &suite)?;
                 let mut c = c.clone();
@@ -562,8 +572,17 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
                 let budget = shadegate::precision::budget_of_check(&s, &c, &ev).map_err(Bad)?;
                 let files = shadegate::precision::files_of(&ev.build.shader);
                 let source = ev.build.shader.source.clone();
-                (ev.program, ev.input_columns, Some(budget), source, files)
+                let twin = twin_of(&ev.build.shader)?;
+                (
+                    ev.program,
+                    ev.input_columns,
+                    Some(budget),
+                    source,
+                    files,
+                    twin,
+                )
             } else {
+                let sh = Shader::load(&shader).map_err(|d| Bad(d.rendered))?;
                 let program = Program::compile_with(&sh, &function, &ov, Arithmetic::Exact)
                     .map_err(|d| Bad(d.rendered))?;
                 let cols = match input {
@@ -576,14 +595,8 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
                     None,
                     sh.source.clone(),
                     Vec::new(),
+                    twin_of(&sh)?,
                 )
-            };
-            let twin = match twin {
-                Some(t) => Some(
-                    Program::compile_with(&sh, &t, &ov, Arithmetic::Exact)
-                        .map_err(|d| Bad(d.rendered))?,
-                ),
-                None => None,
             };
             let refs: Vec<&[u32]> = cols.iter().map(|c| &c[..]).collect();
             let a = shadegate::precision::analyse(

@@ -114,7 +114,12 @@ pub fn wrap(shader: &Shader, function: &str) -> Result<Wrapped, WrapError> {
             .filter_map(|(_, f)| f.name.clone())
             .collect();
         return Err(WrapError(format!(
-            "no function named `{function}` (functions in this file: {})",
+            "no function named `{function}` (functions in {}: {})",
+            if shader.parts.len() > 1 {
+                "these files"
+            } else {
+                "this file"
+            },
             known.join(", ")
         )));
     };

@@ -274,6 +274,16 @@ pub fn place_column(files: &[(String, u32)], line: u32) -> String {
     }
 }
 
+/// How a report names an operation at `line`, `column`: `12:14` for a
+/// one-file shader, `b.wgsl:3:14` (the line in its own file) for several.
+pub fn place_op(files: &[(String, u32)], line: u32, column: u32) -> String {
+    if files.len() > 1 {
+        format!("{}:{column}", place(files, line))
+    } else {
+        format!("{line}:{column}")
+    }
+}
+
 /// [`Options::files`] of a loaded shader.
 pub fn files_of(shader: &crate::wgsl::Shader) -> Vec<(String, u32)> {
     if shader.parts.len() < 2 {

@@ -255,9 +255,8 @@ pub fn text(a: &Analysis) -> String {
             }
             let _ = writeln!(
                 s,
-                "    {}:{} {}{} (local error max {:.2} ULP, carried relative error max {:.3e})\n      {}",
-                o.line,
-                o.column,
+                "    {} {}{} (local error max {:.2} ULP, carried relative error max {:.3e})\n      {}",
+                super::place_op(&a.files, o.line, o.column),
                 o.op,
                 if o.half { " f16" } else { "" },
                 o.max_local_ulp,

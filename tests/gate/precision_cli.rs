@@ -181,3 +181,84 @@ fn run_with_precision_gives_the_f16_budget() {
     assert_eq!(b["failing"], 27);
     assert_eq!(b["lines"].as_array().unwrap().len(), 3);
 }
+
+/// A check made of two files: `precision --check` compiles the function from
+/// the check's files (SHADER alone does not compile: it calls `keep` from
+/// the other file), and `--twin` finds its rewritten form in the other file.
+/// Lines and operations are named in their own files. Before, the command
+/// loaded SHADER alone and stopped at `keep`, and the twin was looked up in
+/// SHADER only.
+#[test]
+fn precision_command_takes_the_function_and_its_twin_from_a_checks_files() {
+    let dir = std::env::temp_dir().join(format!(
+        "shadegate-gate-precision-files-{}",
+        std::process::id()
+    ));
+    let _ = std::fs::remove_dir_all(&dir);
+    std::fs::create_dir_all(&dir).unwrap();
+    std::fs::write(
+        dir.join("base.wgsl"),
+        "fn keep(x: f32) -> f32 {\n    return x;\n}\n\n\
+         fn sin2_factored(c: f32) -> f32 {\n    return keep((1.0 - c) * (1.0 + c));\n}\n",
+    )
+    .unwrap();
+    std::fs::write(
+        dir.join("lib.wgsl"),
+        "fn sin2_naive(c: f32) -> f32 {\n    let s = 1.0 - c * c;\n    return keep(s);\n}\n",
+    )
+    .unwrap();
+    std::fs::write(
+        dir.join("shadegate.toml"),
+        r#"
+[[check]]
+name = "sin2"
+shader = ["base.wgsl", "lib.wgsl"]
+function = "sin2_naive"
+reference = "(1 - c) * (1 + c)"
+[check.sweep]
+c = { linear = [0.99, 0.99999, 50] }
+[check.tolerance]
+rel = 1e-1
+reason = "1 - c*c cancels near c = 1: about 6e-8 / (1 - c^2) relative, 3e-3 at the sweep's end"
+"#,
+    )
+    .unwrap();
+    let args = |twin: &'static str| {
+        [
+            "precision",
+            "lib.wgsl",
+            "sin2_naive",
+            "--check",
+            "sin2",
+            "--twin",
+            twin,
+        ]
+    };
+    let out = shadegate(&args("sin2_factored"), &dir);
+    let t = String::from_utf8_lossy(&out.stdout);
+    assert_eq!(
+        out.status.code(),
+        Some(0),
+        "{t}{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    assert!(
+        t.contains("lib.wgsl:2  share  100.0 %  let s = 1.0 - c * c;"),
+        "{t}"
+    );
+    assert!(t.contains("    lib.wgsl:2:13 FSub "), "{t}");
+    assert!(
+        t.contains("hint (lib.wgsl:2): write 1 - x*x as (1 - x) * (1 + x)"),
+        "{t}"
+    );
+    assert!(t.contains("in the rewritten twin"), "{t}");
+
+    let missing = shadegate(&args("sin2_nowhere"), &dir);
+    let e = String::from_utf8_lossy(&missing.stderr);
+    assert_eq!(missing.status.code(), Some(2), "{e}");
+    assert!(
+        e.contains("base.wgsl + lib.wgsl: error: no function named `sin2_nowhere` (functions in these files: keep, sin2_factored, sin2_naive)"),
+        "{e}"
+    );
+    let _ = std::fs::remove_dir_all(&dir);
+}

@@ -180,7 +180,14 @@ impl<'m> Compiler<'m> {
             let known = shader.function_names().join(", ");
             return Err(Diagnostic::without_position(
                 &shader.path,
-                format!("no function named `{name}` (functions in this file: {known})"),
+                format!(
+                    "no function named `{name}` (functions in {}: {known})",
+                    if shader.parts.len() > 1 {
+                        "these files"
+                    } else {
+                        "this file"
+                    }
+                ),
             ));
         };
         let mut c = Compiler {
