@@ -568,7 +568,8 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
                 c.function = function.clone();
                 c.overrides.extend(ov.clone());
                 c.arithmetic = Arithmetic::Exact;
-                let ev = gate::evaluate(&s, &c, own_files(&s, &c, &shader)).map_err(Bad)?;
+                let files = gate::files_with(&s, &c, &[&shader]).map_err(Bad)?;
+                let ev = gate::evaluate(&s, &c, Some(&files[0])).map_err(Bad)?;
                 let budget = shadegate::precision::budget_of_check(&s, &c, &ev).map_err(Bad)?;
                 let files = shadegate::precision::files_of(&ev.build.shader);
                 let source = ev.build.shader.source.clone();
@@ -870,7 +871,8 @@ fn eval_csv(
         c.function = function.to_string();
         c.overrides.extend(overrides.clone());
         c.arithmetic = arith;
-        let ev = gate::evaluate(&s, &c, own_files(&s, &c, shader)).map_err(Bad)?;
+        let files = gate::files_with(&s, &c, &[shader]).map_err(Bad)?;
+        let ev = gate::evaluate(&s, &c, Some(&files[0])).map_err(Bad)?;
         if want.judge {
             let detail = shadegate::detail::CheckPoints::judge(&s, &c, ev).map_err(Bad)?;
             judged = Some(detail.judge_columns());
@@ -909,18 +911,6 @@ fn eval_csv(
 /// The shader file to evaluate a check's function in: `shader`, or `None`
 /// (the check's own files, all of them in order) when the check lists
 /// several files and `shader` is one of them.
-fn own_files<'a>(s: &Suite, c: &Check, shader: &'a Path) -> Option<&'a Path> {
-    let same = |p: &Path| match (p.canonicalize(), shader.canonicalize()) {
-        (Ok(a), Ok(b)) => a == b,
-        _ => false,
-    };
-    if c.shaders.len() > 1 && c.shaders.iter().any(|p| same(&s.resolve(p))) {
-        None
-    } else {
-        Some(shader)
-    }
-}
-
 fn print_issues(issues: &[shadegate::eval::LaneIssue]) {
     for i in issues.iter().take(10) {
         eprintln!(

@@ -83,11 +83,60 @@ pub fn bindings_of(
     Ok((bindings, Some(format!("{}:{line}", suite.path.display()))))
 }
 
-/// The [`Build`] of a check, with its shader file (or `shader_path` instead,
-/// for comparing two versions of a file).
-pub fn build_of(suite: &Suite, check: &Check, shader_path: Option<&Path>) -> Result<Build, String> {
-    let paths: Vec<PathBuf> = match shader_path {
-        Some(p) => vec![p.to_path_buf()],
+/// The files of a check with each of `versions` standing in for one of them
+/// (comparing two versions of a file; evaluating or analysing one function
+/// of the check's files), one list per version. A check of one file is
+/// replaced whole. In a check of several, the versions replace the file
+/// that the first of them is (the same file), or else the file that has the
+/// same name as the first of them that has one; a version that is neither is
+/// an error naming the check's files.
+pub fn files_with(
+    suite: &Suite,
+    check: &Check,
+    versions: &[&Path],
+) -> Result<Vec<Vec<PathBuf>>, String> {
+    let own: Vec<PathBuf> = check.shaders.iter().map(|p| suite.resolve(p)).collect();
+    if own.len() < 2 {
+        return Ok(versions.iter().map(|v| vec![v.to_path_buf()]).collect());
+    }
+    let same = |a: &Path, b: &Path| match (a.canonicalize(), b.canonicalize()) {
+        (Ok(a), Ok(b)) => a == b,
+        _ => false,
+    };
+    let by_path = versions
+        .iter()
+        .find_map(|v| own.iter().position(|o| same(o, v)));
+    let by_name = || {
+        versions.iter().find_map(|v| {
+            let name = v.file_name()?;
+            own.iter().position(|o| o.file_name() == Some(name))
+        })
+    };
+    let Some(slot) = by_path.or_else(by_name) else {
+        let listed: Vec<String> = own.iter().map(|p| p.display().to_string()).collect();
+        let given: Vec<String> = versions.iter().map(|p| p.display().to_string()).collect();
+        return Err(format!(
+            "check `{}` is made of {}: {} must be one of them, or a version of one with the same file name",
+            check.name,
+            listed.join(" + "),
+            given.join(" and ")
+        ));
+    };
+    Ok(versions
+        .iter()
+        .map(|v| {
+            let mut files = own.clone();
+            files[slot] = v.to_path_buf();
+            files
+        })
+        .collect())
+}
+
+/// The [`Build`] of a check, from its own files or from `files` instead (see
+/// [`files_with`]).
+pub fn build_of(suite: &Suite, check: &Check, files: Option<&[PathBuf]>) -> Result<Build, String> {
+    let paths: Vec<PathBuf> = match files {
+        Some(f) => f.to_vec(),
         None => check.shaders.iter().map(|p| suite.resolve(p)).collect(),
     };
     let shader = Shader::load_files_with(&paths, &suite.limits).map_err(|d| d.rendered)?;
@@ -284,9 +333,9 @@ fn expr_columns(
 pub fn evaluate(
     suite: &Suite,
     check: &Check,
-    shader_path: Option<&Path>,
+    files: Option<&[PathBuf]>,
 ) -> Result<Evaluated, String> {
-    let prepared = super::stream::Prepared::new(suite, check, shader_path)?;
+    let prepared = super::stream::Prepared::new(suite, check, files)?;
     prepared.evaluate(points_of(check))
 }
 

@@ -7,7 +7,7 @@ use std::path::Path;
 use std::time::Instant;
 
 use super::explain::{self, failing_points, group_issues, Evidence, Explainer};
-use super::inputs::{as_f64, evaluate, point_range, Build};
+use super::inputs::{as_f64, evaluate, files_with, point_range, Build};
 use super::result::{CheckResult, Comparison, Finding, IssueGroup, RunResult, ShardPart, Verdict};
 use super::stream::{self, check_tolerance, NoReference, Progress};
 use crate::compare::{self, Tolerance};
@@ -166,9 +166,12 @@ pub fn compare_functions(
     };
     let (old_check, new_check) = (side(old.1), side(new.1));
     let same_function = old.1 == new.1;
+    let [old_files, new_files] = &files_with(suite, check, &[old.0, new.0])?[..] else {
+        unreachable!("one list of files per version")
+    };
     let (old, new) = (old.0, new.0);
-    let a = evaluate(suite, &old_check, Some(old))?;
-    let b = evaluate(suite, &new_check, Some(new))?;
+    let a = evaluate(suite, &old_check, Some(old_files))?;
+    let b = evaluate(suite, &new_check, Some(new_files))?;
     if a.outputs.len() != b.outputs.len() || (same_function && a.outputs != b.outputs) {
         return Err(format!(
             "the two versions return different types ({:?} vs {:?})",
@@ -191,7 +194,7 @@ pub fn compare_functions(
         "golden_tolerance",
         gb.len(),
     )?;
-    let issues = group_issues(&b.issues, &b.build.shader, &[new.to_path_buf()], &b.points);
+    let issues = group_issues(&b.issues, &b.build.shader, new_files, &b.points);
     let changed = compare::changed_bits(&a.output_columns, &b.output_columns);
     let (c, mut findings) = comparison(
         check,

@@ -21,7 +21,7 @@
 use std::borrow::Cow;
 use std::collections::{BTreeMap, BinaryHeap};
 use std::ops::Range;
-use std::path::{Path, PathBuf};
+use std::path::PathBuf;
 use std::sync::Arc;
 
 use rayon::prelude::*;
@@ -70,14 +70,14 @@ pub struct Prepared<'a> {
 
 impl<'a> Prepared<'a> {
     /// Load the shader, compile the function (and its twin or decoder) and
-    /// check the argument names; `shader_path` replaces the check's shader
-    /// (comparing two versions of a file).
+    /// check the argument names; `files` replace the check's own (see
+    /// [`super::inputs::files_with`]).
     pub fn new(
         suite: &'a Suite,
         check: &'a Check,
-        shader_path: Option<&Path>,
+        files: Option<&[PathBuf]>,
     ) -> Result<Prepared<'a>, String> {
-        let build = build_of(suite, check, shader_path)?;
+        let build = build_of(suite, check, files)?;
         let program = build.program()?;
         suite
             .check_args(check, program.params().iter().map(|(n, _)| n.as_str()))

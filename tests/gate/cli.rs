@@ -314,3 +314,64 @@ fn compare_list_models_and_ledger() {
     assert_eq!(code(&ledger), 2);
     assert!(text(&ledger.stdout).contains("a handful of f32 operations"));
 }
+
+/// `compare` on a check made of two files (Quillmere's `plank_wear`:
+/// harbour.wgsl + dock.wgsl): the two versions of dock.wgsl each stand in
+/// for the check's dock.wgsl, with harbour.wgsl still before them. The
+/// planted dock.wgsl uses a 10-year constant instead of 12, so every point
+/// but age 0 changes. Before, each version was compiled alone. A file that is
+/// none of the check's, by path or name, is an error naming the check's files.
+#[test]
+fn compare_on_a_check_of_two_files_replaces_the_file_of_the_same_name() {
+    let dir = root().join("demos/quillmere");
+    let o = shadegate(
+        &[
+            "compare",
+            "shaders/dock.wgsl",
+            "../quillmere-planted/shaders/dock.wgsl",
+            "--check",
+            "plank_wear",
+            "--format",
+            "json",
+        ],
+        &dir,
+    );
+    assert_eq!(code(&o), 1, "{}", text(&o.stderr));
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    assert_eq!(v["checks"][0]["comparisons"][0]["stats"]["changed"], 40);
+    assert_eq!(v["checks"][0]["comparisons"][0]["stats"]["points"], 41);
+
+    let other = shadegate(
+        &[
+            "compare",
+            "shaders/dock.wgsl",
+            "../quillmere-planted/shadegate.toml",
+            "--check",
+            "plank_wear",
+        ],
+        &dir,
+    );
+    // Matched by the first version's path: the second takes its place and
+    // is not WGSL.
+    assert_eq!(code(&other), 2, "{}", text(&other.stdout));
+    let lost = shadegate(
+        &[
+            "compare",
+            "../quillmere-planted/shadegate.toml",
+            "../../README.md",
+            "--check",
+            "plank_wear",
+        ],
+        &dir,
+    );
+    assert_eq!(code(&lost), 2, "{}", text(&lost.stdout));
+    assert!(
+        text(&lost.stderr).contains(
+            "check `plank_wear` is made of shaders/harbour.wgsl + shaders/dock.wgsl: \
+             ../quillmere-planted/shadegate.toml and ../../README.md must be one of them, \
+             or a version of one with the same file name"
+        ),
+        "{}",
+        text(&lost.stderr)
+    );
+}

@@ -42,7 +42,7 @@ fn planted(path: &Path) -> PathBuf {
 /// reference comparison (None without a reference).
 fn gpu_check(suite: &Suite, check: &Check, shader_path: &Path) -> Option<(bool, bool)> {
     let dev = gpu_common::device()?;
-    let ev = gate::evaluate(suite, check, Some(shader_path))
+    let ev = gate::evaluate(suite, check, Some(&[shader_path.to_path_buf()]))
         .unwrap_or_else(|e| panic!("check `{}`: {e}", check.name));
     let shader = Shader::load(shader_path).unwrap_or_else(|d| panic!("{d}"));
     let cols: Vec<&[u32]> = ev.input_columns.iter().map(|c| c.as_slice()).collect();
