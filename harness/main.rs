@@ -121,6 +121,11 @@ enum Command {
         shader: PathBuf,
         /// The function to evaluate.
         function: String,
+        /// Other WGSL files the function needs (their functions, structs and
+        /// constants), joined with SHADER in order before it; repeatable. With
+        /// --check the check's own files are used.
+        #[arg(long = "with", value_name = "FILE")]
+        with: Vec<PathBuf>,
         /// A point as `name=value,...` (vectors as `n=0;0;1`); repeatable.
         #[arg(long = "point")]
         points: Vec<String>,
@@ -160,6 +165,11 @@ enum Command {
         shader: PathBuf,
         /// The function to analyse.
         function: String,
+        /// Other WGSL files the function needs (their functions, structs and
+        /// constants), joined with SHADER in order before it; repeatable. With
+        /// --check the check's own files are used.
+        #[arg(long = "with", value_name = "FILE")]
+        with: Vec<PathBuf>,
         /// A point as `name=value,...` (vectors as `n=0;0;1`); repeatable.
         #[arg(long = "point")]
         points: Vec<String>,
@@ -498,6 +508,7 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
         Command::Eval {
             shader,
             function,
+            with,
             points,
             input,
             check,
@@ -511,8 +522,9 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
             let ov = table::parse_overrides(&overrides).map_err(Bad)?;
             let arith =
                 spec_bounds.map_or(Arithmetic::Exact, |seed| Arithmetic::SpecBounds { seed });
+            let files = shader_files(&shader, with, check.is_some())?;
             let (csv, issues) = eval_csv(
-                &shader,
+                &files,
                 &function,
                 &points,
                 input.as_deref(),
@@ -529,6 +541,7 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
         Command::Precision {
             shader,
             function,
+            with,
             points,
             input,
             check,
@@ -539,6 +552,7 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
             output,
         } => {
             let ov = table::parse_overrides(&overrides).map_err(Bad)?;
+            let shader_files = shader_files(&shader, with, check.is_some())?;
             let sources = usize::from(!points.is_empty())
                 + usize::from(input.is_some())
                 + usize::from(check.is_some());
@@ -583,7 +597,8 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
                     twin,
                 )
             } else {
-                let sh = Shader::load(&shader).map_err(|d| Bad(d.rendered))?;
+                let sh = Shader::load_files_with(&shader_files, &Default::default())
+                    .map_err(|d| Bad(d.rendered))?;
                 let program = Program::compile_with(&sh, &function, &ov, Arithmetic::Exact)
                     .map_err(|d| Bad(d.rendered))?;
                 let cols = match input {
@@ -595,7 +610,7 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
                     cols,
                     None,
                     sh.source.clone(),
-                    Vec::new(),
+                    shadegate::precision::files_of(&sh),
                     twin_of(&sh)?,
                 )
             };
@@ -841,9 +856,22 @@ fn write_failing_points(s: &Suite, run: &RunResult, dir: &Path) -> Result<(), Ba
     Ok(())
 }
 
+/// SHADER after the `--with` files, in order; `--with` is refused with
+/// `--check`, whose own files are used.
+fn shader_files(shader: &Path, with: Vec<PathBuf>, check: bool) -> Result<Vec<PathBuf>, Bad> {
+    if check && !with.is_empty() {
+        return Err(Bad(
+            "--with is for --point and --input: with --check the check's own files are used".into(),
+        ));
+    }
+    let mut files = with;
+    files.push(shader.to_path_buf());
+    Ok(files)
+}
+
 #[allow(clippy::too_many_arguments)]
 fn eval_csv(
-    shader: &Path,
+    shader: &[PathBuf],
     function: &str,
     points: &[String],
     input: Option<&Path>,
@@ -871,6 +899,9 @@ fn eval_csv(
         c.function = function.to_string();
         c.overrides.extend(overrides.clone());
         c.arithmetic = arith;
+        let [shader] = shader else {
+            unreachable!("--with is refused with --check")
+        };
         let files = gate::files_with(&s, &c, &[shader]).map_err(Bad)?;
         let ev = gate::evaluate(&s, &c, Some(&files[0])).map_err(Bad)?;
         if want.judge {
@@ -886,7 +917,8 @@ fn eval_csv(
             (ev.inputs, cols, ev.program, ev.issues)
         }
     } else {
-        let sh = Shader::load(shader).map_err(|d| Bad(d.rendered))?;
+        let sh =
+            Shader::load_files_with(shader, &Default::default()).map_err(|d| Bad(d.rendered))?;
         let program =
             Program::compile_with(&sh, function, overrides, arith).map_err(|d| Bad(d.rendered))?;
         let leaves = program.input_leaves();

@@ -375,3 +375,59 @@ fn compare_on_a_check_of_two_files_replaces_the_file_of_the_same_name() {
         text(&lost.stderr)
     );
 }
+
+/// `eval` and `precision` of a function that calls into another file: the
+/// other file comes with `--with`, and lines are named in their own files.
+/// Quillmere's dock.wgsl calls harbour.wgsl's `stone_lit`, so dock.wgsl
+/// alone does not compile. `dock_plank` is `m.base * max(n_dot_l, 0) / pi`:
+/// at n_dot_l = 0.5 and base (1, 0.5, 0.25) the f32 results are
+/// 0.5/pi, 0.25/pi and 0.125/pi rounded (0.15915494, 0.07957747,
+/// 0.039788734). With --check, --with is refused: the check names its files.
+#[test]
+fn eval_and_precision_take_other_files_with_with() {
+    let dir = root().join("demos/quillmere");
+    let point = "m=1;0.5;0.25;0.5,n_dot_l=0.5";
+    let alone = shadegate(
+        &["eval", "shaders/dock.wgsl", "dock_plank", "--point", point],
+        &dir,
+    );
+    assert_eq!(code(&alone), 2);
+    assert!(
+        text(&alone.stderr).contains("no definition in scope for identifier: `stone_lit`"),
+        "{}",
+        text(&alone.stderr)
+    );
+    let with = ["--with", "shaders/harbour.wgsl"];
+    let mut args = vec!["eval", "shaders/dock.wgsl", "dock_plank", "--point", point];
+    args.extend(with);
+    let e = shadegate(&args, &dir);
+    assert_eq!(code(&e), 0, "{}", text(&e.stderr));
+    assert_eq!(
+        text(&e.stdout),
+        "m.base.x,m.base.y,m.base.z,m.roughness,n_dot_l,result.x,result.y,result.z\n\
+         1.0,0.5,0.25,0.5,0.5,0.15915494,0.07957747,0.039788734\n"
+    );
+
+    args[0] = "precision";
+    let p = shadegate(&args, &dir);
+    assert_eq!(code(&p), 0, "{}", text(&p.stderr));
+    let t = text(&p.stdout);
+    assert!(t.contains("  shaders/harbour.wgsl:10  share"), "{t}");
+    assert!(t.contains("  shaders/dock.wgsl:12  share"), "{t}");
+
+    let mut checked = vec![
+        "eval",
+        "shaders/dock.wgsl",
+        "dock_plank",
+        "--check",
+        "dock_plank",
+    ];
+    checked.extend(with);
+    let refused = shadegate(&checked, &dir);
+    assert_eq!(code(&refused), 2);
+    assert!(
+        text(&refused.stderr).contains("--with is for --point and --input"),
+        "{}",
+        text(&refused.stderr)
+    );
+}
