@@ -3,17 +3,14 @@
 //! comparisons → statistics) and, when it fails, its explanation
 //! ([`super::stream`]); and comparing two versions of a function.
 
-use std::path::Path;
+use std::path::{Path, PathBuf};
 use std::time::Instant;
 
-use super::explain::{self, failing_points, group_issues, Evidence, Explainer};
-use super::inputs::{as_f64, evaluate, files_with, point_range, Build};
-use super::result::{CheckResult, Comparison, Finding, IssueGroup, RunResult, ShardPart, Verdict};
-use super::stream::{self, check_tolerance, NoReference, Progress};
-use crate::compare::{self, Tolerance};
-use crate::eval::ScalarKind;
+use super::explain::{self, Explainer};
+use super::inputs::{files_with, point_range, Build};
+use super::result::{CheckResult, Finding, RunResult, ShardPart, Verdict};
+use super::stream::{self, Progress};
 use crate::suite::{Check, Suite};
-use crate::sweep::Points;
 
 /// Another back end for a check's function: given the check's [`Build`]
 /// (shader, function, overrides, number model) and the CPU evaluator's
@@ -92,52 +89,6 @@ pub fn run_check_with(
     r
 }
 
-/// One comparison of two versions: statistics, then its explanation.
-#[allow(clippy::too_many_arguments)]
-fn comparison(
-    check: &Check,
-    against: String,
-    got: &[Vec<f64>],
-    want: &[Vec<f64>],
-    tolerance: &Tolerance,
-    half: bool,
-    points: &Points,
-    issues: &[IssueGroup],
-    changed: Option<usize>,
-) -> (Comparison, Vec<Finding>) {
-    let describe = |i: usize| points.describe(i);
-    let mut stats = compare::compare(got, want, tolerance, half, &describe);
-    stats.changed = changed;
-    let failing = if stats.failed > 0 {
-        failing_points(got, want, tolerance, half)
-    } else {
-        Vec::new()
-    };
-    let evidence = Evidence {
-        check,
-        against: &against,
-        stats: &stats,
-        points,
-        got,
-        want,
-        tolerance,
-        half,
-        failing: &failing,
-        issues,
-        model: None,
-        context: None,
-    };
-    let findings = explain::explain_with(explain::EXPLAINERS, &evidence, &NoReference);
-    (
-        Comparison {
-            against,
-            tolerance: tolerance.clone(),
-            stats,
-        },
-        findings,
-    )
-}
-
 /// Compare two versions of a WGSL file over a check's sweep.
 pub fn compare_versions(
     suite: &Suite,
@@ -151,6 +102,11 @@ pub fn compare_versions(
 /// [`compare_versions`] of two functions, each named with its file: an `f16`
 /// port against its `f32` original, a fast form against the exact one. Both
 /// take the check's sweep and argument expressions.
+///
+/// The two run as one stream ([`stream::run_prepared`]): segment by
+/// segment, the new version's outputs are judged against the old one's
+/// under the check's `golden_tolerance`, so memory stays flat in the point
+/// count; a failing comparison is explained from its evidence points.
 pub fn compare_functions(
     suite: &Suite,
     check: &Check,
@@ -158,66 +114,32 @@ pub fn compare_functions(
     new: (&Path, &str),
 ) -> Result<CheckResult, String> {
     let start = Instant::now();
-    let side = |function: &str| Check {
-        function: function.to_string(),
-        twin: None,
-        property: None,
-        ..check.clone()
-    };
-    let (old_check, new_check) = (side(old.1), side(new.1));
-    let same_function = old.1 == new.1;
     let [old_files, new_files] = &files_with(suite, check, &[old.0, new.0])?[..] else {
         unreachable!("one list of files per version")
     };
-    let (old, new) = (old.0, new.0);
-    let a = evaluate(suite, &old_check, Some(old_files))?;
-    let b = evaluate(suite, &new_check, Some(new_files))?;
-    if a.outputs.len() != b.outputs.len() || (same_function && a.outputs != b.outputs) {
-        return Err(format!(
-            "the two versions return different types ({:?} vs {:?})",
-            a.outputs, b.outputs
-        ));
-    }
-    let half = a
-        .outputs
-        .iter()
-        .chain(&b.outputs)
-        .any(|(_, k)| *k == ScalarKind::F16);
-    let (ga, gb) = (
-        as_f64(&a.output_columns, &a.outputs),
-        as_f64(&b.output_columns, &b.outputs),
-    );
-    check_tolerance(
-        suite,
-        check,
-        &check.golden_tolerance,
-        "golden_tolerance",
-        gb.len(),
-    )?;
-    let issues = group_issues(&b.issues, &b.build.shader, new_files, &b.points);
-    let changed = compare::changed_bits(&a.output_columns, &b.output_columns);
-    let (c, mut findings) = comparison(
-        check,
-        if same_function {
-            format!("old version {}", old.display())
-        } else {
-            format!("{} in {}", old_check.function, old.display())
-        },
-        &gb,
-        &ga,
-        &check.golden_tolerance,
-        half,
-        &b.points,
-        &issues,
-        Some(changed),
-    );
-    Finding::rank(&mut findings);
-    let verdict = if c.stats.failed > 0 {
-        Verdict::Fail
-    } else {
-        Verdict::Pass
+    // Each version alone, with none of the check's own oracles.
+    let side = |function: &str, files: &[PathBuf]| Check {
+        function: function.to_string(),
+        shaders: files.to_vec(),
+        reference: None,
+        reference_expr: None,
+        golden: None,
+        twin: None,
+        property: None,
+        shard: None,
+        ..check.clone()
     };
-    Ok(CheckResult {
+    let (old_check, new_check) = (side(old.1, old_files), side(new.1, new_files));
+    let same_function = old.1 == new.1;
+    let (old, new) = (old.0, new.0);
+    let against = if same_function {
+        format!("old version {}", old.display())
+    } else {
+        format!("{} in {}", old_check.function, old.display())
+    };
+    let old_prep = stream::Prepared::new(suite, &old_check, Some(old_files))?;
+    let prep = stream::Prepared::new(suite, &new_check, Some(new_files))?.versus(old_prep, against);
+    let mut r = CheckResult {
         name: check.name.clone(),
         shader: format!("{} → {}", old.display(), new.display()),
         function: if same_function {
@@ -225,17 +147,26 @@ pub fn compare_functions(
         } else {
             format!("{} → {}", old_check.function, new_check.function)
         },
-        points: b.points.len,
-        verdict,
+        points: check.sweep.len(),
+        verdict: Verdict::Error,
         error: None,
-        comparisons: vec![c],
-        issues,
-        findings,
+        comparisons: Vec::new(),
+        issues: Vec::new(),
+        findings: Vec::new(),
         precision: None,
-        seconds: start.elapsed().as_secs_f64(),
+        seconds: 0.0,
         albedo: None,
         shard: None,
-    })
+    };
+    stream::run_prepared(&prep, &mut r, None, explain::EXPLAINERS, None)?;
+    r.verdict = if r.comparisons.iter().any(|c| c.stats.failed > 0) {
+        Verdict::Fail
+    } else {
+        Verdict::Pass
+    };
+    Finding::rank(&mut r.findings);
+    r.seconds = start.elapsed().as_secs_f64();
+    Ok(r)
 }
 
 /// Run every check whose name contains `filter` (all when `None`).

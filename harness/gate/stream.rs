@@ -66,6 +66,17 @@ pub struct Prepared<'a> {
     decoder: Option<Other>,
     /// Evaluations of the function per point (quadrature directions).
     per_point: usize,
+    /// Another version of the function, compared with this one bit for
+    /// bit under the check's `golden_tolerance` (`shadegate compare`).
+    versus: Option<Versus<'a>>,
+}
+
+/// The other side of a comparison of two versions: prepared as a check of
+/// its own (its files, its function, its rounding of `f16` parameters) and
+/// the label of its comparison.
+struct Versus<'a> {
+    prep: Box<Prepared<'a>>,
+    against: String,
 }
 
 impl<'a> Prepared<'a> {
@@ -105,7 +116,18 @@ impl<'a> Prepared<'a> {
             twin,
             decoder,
             per_point,
+            versus: None,
         })
+    }
+
+    /// This check compared with `old`, another version of its function over
+    /// the same sweep, instead of with its oracles (the caller clears them).
+    pub fn versus(mut self, old: Prepared<'a>, against: String) -> Prepared<'a> {
+        self.versus = Some(Versus {
+            prep: Box::new(old),
+            against,
+        });
+        self
     }
 
     /// The check's function evaluated at `points` (values already rounded
@@ -338,6 +360,38 @@ impl Prepared<'_> {
                 changed: None,
                 context: false,
                 albedo: s.albedo,
+            });
+        }
+        if let Some(v) = &self.versus {
+            let old = v.prep.evaluate(span.points(v.prep.check))?;
+            let same_function = v.prep.check.function == check.function;
+            if old.outputs.len() != ev.outputs.len() || (same_function && old.outputs != ev.outputs)
+            {
+                return Err(format!(
+                    "the two versions return different types ({:?} vs {:?})",
+                    old.outputs, ev.outputs
+                ));
+            }
+            check_tolerance(
+                suite,
+                check,
+                &check.golden_tolerance,
+                "golden_tolerance",
+                got.len(),
+            )?;
+            sides.push(Side {
+                against: v.against.clone(),
+                tolerance: check.golden_tolerance.clone(),
+                got: got.clone(),
+                want: as_f64(&old.output_columns, &old.outputs),
+                half: half || old.outputs.iter().any(|(_, k)| *k == ScalarKind::F16),
+                model: None,
+                changed: Some(compare::changed_bits(
+                    &ev.output_columns,
+                    &old.output_columns,
+                )),
+                context: false,
+                albedo: None,
             });
         }
         if let Some(gs) = golden {
@@ -638,6 +692,19 @@ pub fn run_into(
     progress: Option<Progress>,
 ) -> Result<(), String> {
     let prep = Prepared::new(suite, check, None)?;
+    run_prepared(&prep, r, backend, explainers, progress)
+}
+
+/// [`run_into`] with the check already prepared (its files, or another
+/// version to compare with: [`Prepared::versus`]).
+pub fn run_prepared(
+    prep: &Prepared,
+    r: &mut CheckResult,
+    backend: Option<Backend>,
+    explainers: &[&dyn Explainer],
+    progress: Option<Progress>,
+) -> Result<(), String> {
+    let (suite, check) = (prep.suite, prep.check);
     // A golden that cannot be read is the check's error, reported after
     // the other comparisons ran (their statistics stay in the result).
     let (golden, golden_error) = match (&check.golden, backend) {

@@ -98,3 +98,50 @@ fn points_at_equals_the_points_of_their_ranges() {
         }
     }
 }
+
+/// `compare` runs as a stream too: over 10,001 points (three segments) the
+/// new version changes exactly the points above 0.75, x = i / 10000 for
+/// i = 7501..=10000 (2,500 of them; 0.75 itself is exact in f32 and stays),
+/// each by half its value. The merged statistics count them all, the first
+/// failures listed are the first in sweep order, and the same file on both
+/// sides changes nothing.
+#[test]
+fn compare_streams_its_segments_into_one_comparison() {
+    let lib = "fn ramp(x: f32) -> f32 { return x; }\n\
+               fn ramp_new(x: f32) -> f32 { if (x > 0.75) { return x * 1.5; } return x; }\n";
+    let suite_text = r#"
+[[check]]
+name = "ramp"
+shader = "lib.wgsl"
+function = "ramp"
+golden = true
+[check.sweep]
+x = { linear = [0.0, 1.0, 10001] }
+"#;
+    let (dir, s) = crate::common::project("stream", "compare", lib, suite_text)
+        .unwrap_or_else(|d| panic!("{}", d.rendered));
+    let file = dir.join("lib.wgsl");
+    let c = &s.checks[0];
+    assert!(c.sweep.len() > 2 * gate::stream::SEGMENT);
+    let r = gate::compare_functions(&s, c, (&file, "ramp"), (&file, "ramp_new")).unwrap();
+    assert_eq!(r.verdict, Verdict::Fail);
+    let st = &r.comparisons[0].stats;
+    assert_eq!(
+        (st.points, st.failed, st.changed),
+        (10001, 2500, Some(2500))
+    );
+    // x * 1.5 rounds to f32 once: (1.5 x (1 + e) - x) / x = 0.5 + 1.5 e with
+    // |e| <= 2^-24.
+    assert!(
+        (st.max_rel - 0.5).abs() <= 1.5 * 2f64.powi(-24),
+        "{}",
+        st.max_rel
+    );
+    let first: Vec<usize> = st.first_failures.iter().map(|p| p.index).collect();
+    assert_eq!(first, vec![7501, 7502, 7503, 7504, 7505]);
+
+    let same = gate::compare_functions(&s, c, (&file, "ramp"), (&file, "ramp")).unwrap();
+    assert_eq!(same.verdict, Verdict::Pass);
+    assert_eq!(same.comparisons[0].stats.changed, Some(0));
+    let _ = std::fs::remove_dir_all(&dir);
+}
