@@ -393,6 +393,12 @@ impl Prepared<'_> {
                 context: false,
                 albedo: None,
             });
+            // Its columns go back to the pool as the segment's own do.
+            for p in old.points.columns {
+                scratch::recycle_all(p);
+            }
+            scratch::recycle_all(old.input_columns);
+            scratch::recycle_all(old.output_columns);
         }
         if let Some(gs) = golden {
             check_tolerance(
