@@ -211,6 +211,33 @@ struct Side {
     albedo: Option<AlbedoTable>,
 }
 
+impl Side {
+    /// The function's outputs (`got`, in the evaluator's encoding `mine`)
+    /// judged against other outputs of a function under the check's
+    /// `golden_tolerance`, with the points whose bits changed counted: a
+    /// golden's recorded outputs, or another version's.
+    fn outputs(
+        against: String,
+        check: &Check,
+        got: &[Vec<f64>],
+        mine: &[Vec<u32>],
+        (other, kinds): (&[Vec<u32>], &[(String, ScalarKind)]),
+        half: bool,
+    ) -> Side {
+        Side {
+            against,
+            tolerance: check.golden_tolerance.clone(),
+            got: got.to_vec(),
+            want: as_f64(other, kinds),
+            half,
+            model: None,
+            changed: Some(compare::changed_bits(mine, other)),
+            context: false,
+            albedo: None,
+        }
+    }
+}
+
 /// Every comparison of a check over one span of points.
 struct Materialised {
     ev: Evaluated,
@@ -379,20 +406,14 @@ impl Prepared<'_> {
                 "golden_tolerance",
                 got.len(),
             )?;
-            sides.push(Side {
-                against: v.against.clone(),
-                tolerance: check.golden_tolerance.clone(),
-                got: got.clone(),
-                want: as_f64(&old.output_columns, &old.outputs),
-                half: half || old.outputs.iter().any(|(_, k)| *k == ScalarKind::F16),
-                model: None,
-                changed: Some(compare::changed_bits(
-                    &ev.output_columns,
-                    &old.output_columns,
-                )),
-                context: false,
-                albedo: None,
-            });
+            sides.push(Side::outputs(
+                v.against.clone(),
+                check,
+                &got,
+                &ev.output_columns,
+                (&old.output_columns, &old.outputs),
+                half || old.outputs.iter().any(|(_, k)| *k == ScalarKind::F16),
+            ));
             // Its columns go back to the pool as the segment's own do.
             for p in old.points.columns {
                 scratch::recycle_all(p);
@@ -442,17 +463,14 @@ impl Prepared<'_> {
                     },
                 });
             }
-            sides.push(Side {
-                against: gs.against.clone(),
-                tolerance: check.golden_tolerance.clone(),
-                got: got.clone(),
-                want: as_f64(&recorded, &gs.g.outputs),
+            sides.push(Side::outputs(
+                gs.against.clone(),
+                check,
+                &got,
+                &ev.output_columns,
+                (&recorded, &gs.g.outputs),
                 half,
-                model: None,
-                changed: Some(compare::changed_bits(&ev.output_columns, &recorded)),
-                context: false,
-                albedo: None,
-            });
+            ));
         }
         Ok(Materialised {
             ev,
