@@ -577,13 +577,15 @@ fn dispatch(cmd: Command) -> Result<u8, Bad> {
             };
             let (program, cols, budget, source, files, twin) = if let Some(name) = check {
                 let s = load_suite(&suite)?;
-                let c = find_check(&s, &name, &suite)?;
-                let mut c = c.clone();
-                c.function = function.clone();
-                c.overrides.extend(ov.clone());
-                c.arithmetic = Arithmetic::Exact;
-                let files = gate::files_with(&s, &c, &[&shader]).map_err(Bad)?;
-                let ev = gate::evaluate(&s, &c, Some(&files[0])).map_err(Bad)?;
+                let (c, ev) = evaluate_as_check(
+                    &s,
+                    &name,
+                    &suite,
+                    &shader,
+                    &function,
+                    &ov,
+                    Arithmetic::Exact,
+                )?;
                 let budget = shadegate::precision::budget_of_check(&s, &c, &ev).map_err(Bad)?;
                 let files = shadegate::precision::files_of(&ev.build.shader);
                 let source = ev.build.shader.source.clone();
@@ -856,6 +858,28 @@ fn write_failing_points(s: &Suite, run: &RunResult, dir: &Path) -> Result<(), Ba
     Ok(())
 }
 
+/// Check `name` of the suite with `function`, the extra `overrides` and
+/// `arith` in place of its own, evaluated over its sweep from its files with
+/// `shader` standing in for the one it is a version of
+/// ([`gate::files_with`]): `eval --check` and `precision --check`.
+fn evaluate_as_check(
+    s: &Suite,
+    name: &str,
+    suite_path: &Path,
+    shader: &Path,
+    function: &str,
+    overrides: &BTreeMap<String, f64>,
+    arith: Arithmetic,
+) -> Result<(Check, gate::Evaluated), Bad> {
+    let mut c = find_check(s, name, suite_path)?.clone();
+    c.function = function.to_string();
+    c.overrides.extend(overrides.clone());
+    c.arithmetic = arith;
+    let files = gate::files_with(s, &c, &[shader]).map_err(Bad)?;
+    let ev = gate::evaluate(s, &c, Some(&files[0])).map_err(Bad)?;
+    Ok((c, ev))
+}
+
 /// SHADER after the `--with` files, in order; `--with` is refused with
 /// `--check`, whose own files are used.
 fn shader_files(shader: &Path, with: Vec<PathBuf>, check: bool) -> Result<Vec<PathBuf>, Bad> {
@@ -894,16 +918,10 @@ fn eval_csv(
     let mut judged: Option<(Vec<String>, Vec<Vec<String>>)> = None;
     let (mut leaves, mut cols, program, issues) = if let Some(name) = check {
         let s = load_suite(suite_path)?;
-        let c = find_check(&s, name, suite_path)?;
-        let mut c = c.clone();
-        c.function = function.to_string();
-        c.overrides.extend(overrides.clone());
-        c.arithmetic = arith;
         let [shader] = shader else {
             unreachable!("--with is refused with --check")
         };
-        let files = gate::files_with(&s, &c, &[shader]).map_err(Bad)?;
-        let ev = gate::evaluate(&s, &c, Some(&files[0])).map_err(Bad)?;
+        let (c, ev) = evaluate_as_check(&s, name, suite_path, shader, function, overrides, arith)?;
         if want.judge {
             let detail = shadegate::detail::CheckPoints::judge(&s, &c, ev).map_err(Bad)?;
             judged = Some(detail.judge_columns());
