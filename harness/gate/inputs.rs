@@ -454,7 +454,13 @@ pub fn reference_columns(
     let mut out: Vec<Vec<f64>> = (0..model.outputs)
         .map(|_| scratch::filled(n, 0.0))
         .collect();
+    let column_form = crate::reference::columns::find(model.name);
     let fill = |start: usize, outs: &mut [&mut [f64]]| {
+        if let Some(f) = column_form {
+            let cols: Vec<&[f64]> = args.iter().map(|c| &c[start..]).collect();
+            f(&cols, outs);
+            return;
+        }
         let mut point_args = vec![0.0; args.len()];
         let mut values = vec![0.0; model.outputs];
         for j in 0..outs.first().map_or(0, |o| o.len()) {

@@ -185,6 +185,7 @@ impl CookTorrance {
     };
 
     /// The chosen NDF at `n·h` and `alpha`.
+    #[inline(always)]
     pub fn distribution(&self, n_dot_h: f64, alpha: f64) -> f64 {
         match self.ndf {
             NdfKind::Ggx => ndf::ggx(n_dot_h, alpha),
@@ -194,6 +195,7 @@ impl CookTorrance {
     }
 
     /// The chosen visibility `V = G2 / (4 n·l n·v)`.
+    #[inline(always)]
     pub fn visibility(&self, n_dot_v: f64, n_dot_l: f64, alpha: f64) -> f64 {
         let ggx = self.ndf == NdfKind::Ggx;
         match self.masking {
@@ -221,6 +223,7 @@ impl CookTorrance {
 
     /// Evaluates the BRDF (see the type's documentation for the formula, domain and edges).
     /// Returns linear RGB, units 1/sr, without the `n·l` cosine.
+    #[inline(always)]
     pub fn eval(
         &self,
         n: Vec3,

@@ -15,6 +15,7 @@ use std::f64::consts::{FRAC_1_PI, PI};
 /// integration).
 ///
 /// Source: J. H. Lambert, "Photometria", 1760.
+#[inline]
 pub fn lambert() -> f64 {
     FRAC_1_PI
 }
@@ -41,6 +42,7 @@ pub fn lambert_rgb(albedo: Vec3) -> Vec3 {
 ///
 /// Source: B. Burley, course notes of the SIGGRAPH 2012 course "Practical Physically Based
 /// Shading in Film and Game Production", 2012 (its diffuse model).
+#[inline]
 pub fn burley(n_dot_v: f64, n_dot_l: f64, l_dot_h: f64, roughness: f64) -> f64 {
     let fd90 = 0.5 + 2.0 * roughness * l_dot_h * l_dot_h;
     let light = 1.0 + (fd90 - 1.0) * pow5(1.0 - n_dot_l);

@@ -21,6 +21,7 @@ use super::vec3::{dot, Vec3};
 /// which are also the exact Fresnel values there (tested).
 ///
 /// Source: C. Schlick, "An Inexpensive BRDF Model for Physically-based Rendering", 1994.
+#[inline]
 pub fn schlick(v_dot_h: f64, f0: f64) -> f64 {
     schlick_f90(v_dot_h, f0, 1.0)
 }
@@ -37,6 +38,7 @@ pub fn schlick(v_dot_h: f64, f0: f64) -> f64 {
 /// course "Practical Physically Based Shading in Film and Game Production", 2012, and by
 /// S. Lagarde and C. de Rousiers, course notes of the SIGGRAPH 2014 course "Physically Based
 /// Shading in Theory and Practice", 2014.
+#[inline]
 pub fn schlick_f90(v_dot_h: f64, f0: f64, f90: f64) -> f64 {
     let m = 1.0 - v_dot_h;
     let m2 = m * m;
@@ -48,6 +50,7 @@ pub fn schlick_f90(v_dot_h: f64, f0: f64, f90: f64) -> f64 {
 /// Domain and edges: as [`schlick`], channel by channel.
 ///
 /// Source: Schlick 1994.
+#[inline]
 pub fn schlick_rgb(v_dot_h: f64, f0: Vec3) -> Vec3 {
     schlick_rgb_f90(v_dot_h, f0, 1.0)
 }
@@ -57,6 +60,7 @@ pub fn schlick_rgb(v_dot_h: f64, f0: Vec3) -> Vec3 {
 /// Domain and edges: as [`schlick_f90`], channel by channel.
 ///
 /// Source: Schlick 1994; Burley 2012.
+#[inline]
 pub fn schlick_rgb_f90(v_dot_h: f64, f0: Vec3, f90: f64) -> Vec3 {
     [
         schlick_f90(v_dot_h, f0[0], f90),
@@ -77,6 +81,7 @@ pub fn schlick_rgb_f90(v_dot_h: f64, f0: Vec3, f90: f64) -> Vec3 {
 /// physically based renderer, 2018 (section on specular occlusion), after C. Schüler, "An
 /// Efficient and Physically Plausible Real-Time Shading Model", ShaderX7, 2009 (common
 /// practice; attribution from memory).
+#[inline]
 pub fn f90_from_f0(f0: Vec3) -> f64 {
     (50.0 * dot(f0, [0.33, 0.33, 0.33])).clamp(0.0, 1.0)
 }
@@ -87,6 +92,7 @@ pub fn f90_from_f0(f0: Vec3) -> f64 {
 /// Domain and edges: as [`schlick_rgb_f90`] with that `F90`.
 ///
 /// Source: Schlick 1994; Guy and Agopian 2018.
+#[inline]
 pub fn schlick_rgb_f90_from_f0(v_dot_h: f64, f0: Vec3) -> Vec3 {
     schlick_rgb_f90(v_dot_h, f0, f90_from_f0(f0))
 }

@@ -23,6 +23,7 @@ use std::f64::consts::PI;
 
 /// `sqrt(cos²θ + alpha² sin²θ)`, the square root that appears in GGX's Λ, written with the
 /// cancellation-free `sin²θ = (1 - cos θ)(1 + cos θ)`.
+#[inline]
 fn ggx_root(c: f64, alpha: f64) -> f64 {
     (c * c + alpha * alpha * sin2_from_cos(c)).sqrt()
 }
@@ -41,6 +42,7 @@ fn ggx_root(c: f64, alpha: f64) -> f64 {
 /// Source: B. Walter, S. R. Marschner, H. Li and K. E. Torrance, "Microfacet Models for
 /// Refraction through Rough Surfaces", 2007 (section 5.3); written as Λ by E. Heitz,
 /// "Understanding the Masking-Shadowing Function in Microfacet-Based BRDFs", 2014.
+#[inline]
 pub fn ggx_lambda(n_dot_v: f64, alpha: f64) -> f64 {
     if n_dot_v <= 0.0 {
         return f64::INFINITY;
@@ -60,6 +62,7 @@ pub fn ggx_lambda(n_dot_v: f64, alpha: f64) -> f64 {
 /// `n_dot_v → 0+`; 0 for `n_dot_v ≤ 0`.
 ///
 /// Source: Walter et al. 2007, section 5.3; Heitz 2014.
+#[inline]
 pub fn ggx_g1(n_dot_v: f64, alpha: f64) -> f64 {
     if n_dot_v <= 0.0 {
         return 0.0;
@@ -105,6 +108,7 @@ pub fn ggx_g2_height_correlated(n_dot_v: f64, n_dot_l: f64, alpha: f64) -> f64 {
 /// `alpha` are 0; 0 if either cosine is ≤ 0 (masked).
 ///
 /// Source: Walter et al. 2007, section 5.3.
+#[inline]
 pub fn ggx_v_separable(n_dot_v: f64, n_dot_l: f64, alpha: f64) -> f64 {
     if n_dot_v <= 0.0 || n_dot_l <= 0.0 {
         return 0.0;
@@ -127,6 +131,7 @@ pub fn ggx_v_separable(n_dot_v: f64, n_dot_l: f64, alpha: f64) -> f64 {
 /// BRDFs", Journal of Computer Graphics Techniques 3(2), 2014; in this form S. Lagarde and
 /// C. de Rousiers, course notes of the SIGGRAPH 2014 course "Physically Based Shading in
 /// Theory and Practice", 2014.
+#[inline]
 pub fn ggx_v_height_correlated(n_dot_v: f64, n_dot_l: f64, alpha: f64) -> f64 {
     if n_dot_v <= 0.0 || n_dot_l <= 0.0 {
         return 0.0;
@@ -153,6 +158,7 @@ pub fn ggx_v_height_correlated(n_dot_v: f64, n_dot_l: f64, alpha: f64) -> f64 {
 /// practice, quoted from memory). Algebraically it equals
 /// [`ggx_v_height_correlated_hammon`]; the two are kept apart because a shader written in one
 /// form rounds differently in f32 from one written in the other.
+#[inline]
 pub fn ggx_v_height_correlated_fast(n_dot_v: f64, n_dot_l: f64, alpha: f64) -> f64 {
     let ggx_v = n_dot_l * (n_dot_v * (1.0 - alpha) + alpha);
     let ggx_l = n_dot_v * (n_dot_l * (1.0 - alpha) + alpha);
@@ -171,6 +177,7 @@ pub fn ggx_v_height_correlated_fast(n_dot_v: f64, n_dot_l: f64, alpha: f64) -> f
 ///
 /// Source: E. Hammon Jr., "PBR Diffuse Lighting for GGX+Smith Microsurfaces", Game
 /// Developers Conference, 2017.
+#[inline]
 pub fn ggx_v_height_correlated_hammon(n_dot_v: f64, n_dot_l: f64, alpha: f64) -> f64 {
     let a = 2.0 * n_dot_l * n_dot_v;
     let b = n_dot_l + n_dot_v;
@@ -198,6 +205,7 @@ pub fn schlick_ggx_g1(n_dot_v: f64, k: f64) -> f64 {
 /// grazing for `k > 0`; `k = 0` gives `1 / (4 n·v n·l)`.
 ///
 /// Source: Schlick 1994; Karis 2013.
+#[inline]
 pub fn schlick_ggx_v(n_dot_v: f64, n_dot_l: f64, k: f64) -> f64 {
     0.25 / ((n_dot_v * (1.0 - k) + k) * (n_dot_l * (1.0 - k) + k))
 }
@@ -206,6 +214,7 @@ pub fn schlick_ggx_v(n_dot_v: f64, n_dot_l: f64, k: f64) -> f64 {
 ///
 /// Source: B. Karis, course notes of the SIGGRAPH 2013 course "Physically Based Shading in
 /// Theory and Practice", 2013.
+#[inline]
 pub fn schlick_k_from_alpha(alpha: f64) -> f64 {
     alpha / 2.0
 }

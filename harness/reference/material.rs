@@ -22,6 +22,7 @@ pub const DIELECTRIC_F0: f64 = 0.04;
 /// Shading in Film and Game Production", 2012 (the metallic parameter); in this form
 /// B. Karis, course notes of the SIGGRAPH 2013 course "Physically Based Shading in Theory
 /// and Practice", 2013.
+#[inline]
 pub fn diffuse_color(base_color: Vec3, metallic: f64) -> Vec3 {
     scale(base_color, 1.0 - metallic)
 }
@@ -41,6 +42,7 @@ pub fn f0_metallic(base_color: Vec3, metallic: f64) -> Vec3 {
 /// `F0 = mix(dielectric_f0, base_color, metallic)`.
 ///
 /// Domain and edges: as [`f0_metallic`]. Source: Karis 2013.
+#[inline]
 pub fn f0_metallic_with(base_color: Vec3, metallic: f64, dielectric_f0: f64) -> Vec3 {
     mix([dielectric_f0; 3], base_color, metallic)
 }
@@ -75,6 +77,7 @@ pub fn f0_metallic_reflectance(base_color: Vec3, metallic: f64, reflectance: f64
 /// Source: B. Burley, course notes of the SIGGRAPH 2012 course "Practical Physically Based
 /// Shading in Film and Game Production", 2012 (the squared mapping, chosen so roughness
 /// changes look perceptually even).
+#[inline]
 pub fn alpha_from_roughness(roughness: f64) -> f64 {
     roughness * roughness
 }
@@ -103,6 +106,7 @@ impl RoughnessClamp {
     pub const F16: RoughnessClamp = RoughnessClamp::Min(0.089);
 
     /// The clamped perceptual roughness.
+    #[inline]
     pub fn apply(self, roughness: f64) -> f64 {
         match self {
             RoughnessClamp::None => roughness,

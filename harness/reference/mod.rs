@@ -58,6 +58,7 @@
 
 pub mod brdf;
 pub mod clearcoat;
+pub mod columns;
 pub mod diffuse;
 pub mod encoding;
 pub mod envbrdf;
@@ -81,6 +82,7 @@ pub use registry::{find, listing, models, Model, ParamKind, ParamSpec};
 /// `sin²θ` from `cos θ` as `(1 - cos θ)(1 + cos θ)`: unlike `1 - cos²θ` it keeps full
 /// relative precision near `cos θ = ±1` (for `|cos θ| ≥ 0.5` the factor `1 - |cos θ|` is
 /// exact by Sterbenz's lemma).
+#[inline]
 pub(crate) fn sin2_from_cos(c: f64) -> f64 {
     (1.0 - c) * (1.0 + c)
 }

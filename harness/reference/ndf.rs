@@ -39,6 +39,7 @@ use std::f64::consts::PI;
 /// rough surface for ray reflection", 1975; named GGX and written in this form by
 /// B. Walter, S. R. Marschner, H. Li and K. E. Torrance, "Microfacet Models for Refraction
 /// through Rough Surfaces", 2007, section 5.3.
+#[inline]
 pub fn ggx(n_dot_h: f64, alpha: f64) -> f64 {
     if n_dot_h <= 0.0 {
         return 0.0;
@@ -113,6 +114,7 @@ pub fn ggx_aniso_frame(h: Vec3, n: Vec3, t: Vec3, b: Vec3, alpha_x: f64, alpha_y
 /// Source: P. Beckmann and A. Spizzichino, "The Scattering of Electromagnetic Waves from
 /// Rough Surfaces", 1963; in microfacet form R. L. Cook and K. E. Torrance, "A Reflectance
 /// Model for Computer Graphics", 1982, and Walter et al. 2007, section 5.1.
+#[inline]
 pub fn beckmann(n_dot_h: f64, alpha: f64) -> f64 {
     if n_dot_h <= 0.0 {
         return 0.0;
@@ -174,6 +176,7 @@ pub fn blinn_phong_alpha_from_exponent(exponent: f64) -> f64 {
 /// Domain: `0 < alpha ≤ 1`. Edges: as [`blinn_phong`]; `alpha → 0` is the delta limit.
 ///
 /// Source: Walter et al. 2007, section 5.2.
+#[inline]
 pub fn blinn_phong_alpha(n_dot_h: f64, alpha: f64) -> f64 {
     blinn_phong(n_dot_h, blinn_phong_exponent_from_alpha(alpha))
 }

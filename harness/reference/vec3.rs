@@ -8,11 +8,13 @@
 pub type Vec3 = [f64; 3];
 
 /// Dot product `a.x*b.x + a.y*b.y + a.z*b.z`.
+#[inline]
 pub fn dot(a: Vec3, b: Vec3) -> f64 {
     a[0] * b[0] + a[1] * b[1] + a[2] * b[2]
 }
 
 /// Cross product `a × b` (right-handed).
+#[inline]
 pub fn cross(a: Vec3, b: Vec3) -> Vec3 {
     [
         a[1] * b[2] - a[2] * b[1],
@@ -22,26 +24,31 @@ pub fn cross(a: Vec3, b: Vec3) -> Vec3 {
 }
 
 /// Component-wise sum `a + b`.
+#[inline]
 pub fn add(a: Vec3, b: Vec3) -> Vec3 {
     [a[0] + b[0], a[1] + b[1], a[2] + b[2]]
 }
 
 /// Component-wise difference `a - b`.
+#[inline]
 pub fn sub(a: Vec3, b: Vec3) -> Vec3 {
     [a[0] - b[0], a[1] - b[1], a[2] - b[2]]
 }
 
 /// Scalar multiple `s * a`.
+#[inline]
 pub fn scale(a: Vec3, s: f64) -> Vec3 {
     [a[0] * s, a[1] * s, a[2] * s]
 }
 
 /// Component-wise product `a * b` (used for RGB colours).
+#[inline]
 pub fn mul(a: Vec3, b: Vec3) -> Vec3 {
     [a[0] * b[0], a[1] * b[1], a[2] * b[2]]
 }
 
 /// Euclidean length `sqrt(dot(a, a))`.
+#[inline]
 pub fn length(a: Vec3) -> f64 {
     dot(a, a).sqrt()
 }
@@ -50,11 +57,13 @@ pub fn length(a: Vec3) -> f64 {
 ///
 /// The zero vector has no direction: it returns NaN components (0/0), which the models let
 /// propagate rather than invent a direction.
+#[inline]
 pub fn normalize(a: Vec3) -> Vec3 {
     scale(a, 1.0 / length(a))
 }
 
 /// Linear interpolation `a + (b - a) * t`, component-wise, the GLSL/WGSL `mix`.
+#[inline]
 pub fn mix(a: Vec3, b: Vec3, t: f64) -> Vec3 {
     [
         a[0] + (b[0] - a[0]) * t,
@@ -67,6 +76,7 @@ pub fn mix(a: Vec3, b: Vec3, t: f64) -> Vec3 {
 ///
 /// Both `d` and the result point away from the surface (the convention of `v` and `l` in
 /// the BRDFs); this is the negation of WGSL's `reflect(-d, n)`.
+#[inline]
 pub fn reflect_about(d: Vec3, n: Vec3) -> Vec3 {
     sub(scale(n, 2.0 * dot(n, d)), d)
 }
