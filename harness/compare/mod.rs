@@ -177,27 +177,56 @@ type Worst = (usize, f64, usize, (f64, f64, f64));
 /// Compare `got` with `want` (one column per output component, same
 /// lengths). `half` selects f16 ULPs. `describe(i)` names point i's
 /// parameters for the listed points.
+///
+/// Long columns are judged in parts of [`PART`] points on every core and the
+/// parts' statistics merged in order ([`Stats::absorb`]), which gives the
+/// same statistics, bit for bit, as one pass (tested).
 pub fn compare(
     got: &[Vec<f64>],
     want: &[Vec<f64>],
     tol: &Tolerance,
     half: bool,
-    describe: &dyn Fn(usize) -> String,
+    describe: &(dyn Fn(usize) -> String + Sync),
 ) -> Stats {
-    compare_with(got, want, tol, half, describe, true)
+    use rayon::prelude::*;
+    let n = got.first().map_or(0, |c| c.len());
+    if n < 2 * PART || rayon::current_num_threads() == 1 {
+        return compare_with(got, want, tol, half, describe, true, 0);
+    }
+    let parts: Vec<Stats> = (0..n.div_ceil(PART))
+        .into_par_iter()
+        .map(|k| {
+            let r = k * PART..n.min((k + 1) * PART);
+            let g: Vec<&[f64]> = got.iter().map(|c| &c[r.clone()]).collect();
+            let w: Vec<&[f64]> = want.iter().map(|c| &c[r.clone()]).collect();
+            compare_with(&g, &w, tol, half, describe, true, r.start)
+        })
+        .collect();
+    let mut s = Stats::default();
+    for p in &parts {
+        s.absorb(p);
+    }
+    s.finish(tol);
+    s
 }
 
-/// [`compare`], with or without the division-free path for points below the
-/// floor (`quick`; the tests compare the two).
-fn compare_with(
-    got: &[Vec<f64>],
-    want: &[Vec<f64>],
+/// Points per part of a long comparison (see [`compare`]).
+const PART: usize = 1 << 15;
+
+/// [`compare`] in one pass, with or without the division-free path for
+/// points below the floor (`quick`; the tests compare the two). Point `i`
+/// of the columns is point `first + i` of the comparison: its index and
+/// description in the reports.
+fn compare_with<C: AsRef<[f64]>>(
+    got: &[C],
+    want: &[C],
     tol: &Tolerance,
     half: bool,
     describe: &dyn Fn(usize) -> String,
     quick: bool,
+    first: usize,
 ) -> Stats {
-    let n = got.first().map_or(0, |c| c.len());
+    let n = got.first().map_or(0, |c| c.as_ref().len());
     let comps = got.len();
     let mut s = Stats {
         points: n,
@@ -206,15 +235,15 @@ fn compare_with(
     };
     let mut sum_sq = ExactSum::default();
     let report = |i: usize, component: usize, abs: f64, rel: f64, ulp: f64| PointReport {
-        index: i,
-        params: describe(i),
-        got: (0..comps).map(|c| got[c][i]).collect(),
-        want: (0..comps).map(|c| want[c][i]).collect(),
+        index: first + i,
+        params: describe(first + i),
+        got: (0..comps).map(|c| got[c].as_ref()[i]).collect(),
+        want: (0..comps).map(|c| want[c].as_ref()[i]).collect(),
         component,
         abs,
         rel,
         ulp,
-        near_zero: near_zero(want[component][i]),
+        near_zero: near_zero(want[component].as_ref()[i]),
     };
     let bounds = Bounds::of(tol, comps);
     // The worst point so far: (index, badness, component, errors); its
@@ -434,10 +463,10 @@ impl Bounds {
     }
 
     /// [`assess`] with the bounds picked.
-    fn assess(
+    fn assess<C: AsRef<[f64]>>(
         &self,
-        got: &[Vec<f64>],
-        want: &[Vec<f64>],
+        got: &[C],
+        want: &[C],
         i: usize,
         nan: NanPolicy,
         half: bool,
@@ -445,7 +474,7 @@ impl Bounds {
         let mut p = Assessment::default();
         let inf = (f64::INFINITY, f64::INFINITY, f64::INFINITY);
         for (c, bounds) in self.0.iter().enumerate() {
-            let (g, w) = (got[c][i], want[c][i]);
+            let (g, w) = (got[c].as_ref()[i], want[c].as_ref()[i]);
             if !w.is_finite() {
                 match nan {
                     NanPolicy::Skip => p.skip = true,
@@ -527,10 +556,10 @@ impl Below {
     /// relative error is divided out only where it may exceed `max_rel`
     /// (the largest so far) or decide the floor test: `abs < x · |w|` with
     /// the same margin bounds `abs / |w|` below `x`.
-    fn quick(
+    fn quick<C: AsRef<[f64]>>(
         &self,
-        got: &[Vec<f64>],
-        want: &[Vec<f64>],
+        got: &[C],
+        want: &[C],
         i: usize,
         half: bool,
         max_rel: f64,
@@ -543,7 +572,7 @@ impl Below {
             sum_sq: 0.0,
         };
         for (c, thr) in self.0.iter().enumerate() {
-            let (g, w) = (got[c][i], want[c][i]);
+            let (g, w) = (got[c].as_ref()[i], want[c].as_ref()[i]);
             if !w.is_finite() || !g.is_finite() {
                 return None;
             }
@@ -714,14 +743,16 @@ mod tests {
         String::new()
     }
 
-    #[test]
-    fn the_division_free_path_changes_no_statistic() {
-        // Errors spread over many scales (some exactly at a bound, some
-        // zero, some non-finite), against tolerances with one, two or three
-        // bounds, zero bounds and none: the statistics with the quick path
-        // are those of judging every point in full.
-        let mut rng = crate::sweep::Rng::new(5);
-        let n = 4000;
+    /// Expected values over many scales, results with errors spread over
+    /// many scales (some exactly at a bound, some zero, some non-finite),
+    /// results whose errors grow point by point, and tolerances with one,
+    /// two or three bounds, zero bounds and none.
+    #[allow(clippy::type_complexity)]
+    fn error_cases(
+        n: usize,
+        seed: u64,
+    ) -> (Vec<Vec<f64>>, Vec<Vec<f64>>, Vec<Vec<f64>>, Vec<Tolerance>) {
+        let mut rng = crate::sweep::Rng::new(seed);
         let want: Vec<Vec<f64>> = (0..3)
             .map(|_| {
                 (0..n)
@@ -762,7 +793,7 @@ mod tests {
             ulp: ulp.map(|x| vec![x]),
             ..Tolerance::exact("test")
         };
-        let tols = [
+        let tols = vec![
             tol(Some(1e-3), None, None),
             tol(None, Some(1e-4), None),
             tol(Some(1e-6), Some(1e-4), None),
@@ -775,13 +806,21 @@ mod tests {
                 ..tol(None, None, None)
             },
         ];
+        (want, got, rising, tols)
+    }
+
+    #[test]
+    fn the_division_free_path_changes_no_statistic() {
+        // Against every tolerance the statistics with the quick path are
+        // those of judging every point in full.
+        let (want, got, rising, tols) = error_cases(4000, 5);
         for t in &tols {
             for half in [false, true] {
                 // Most points pass well inside the bounds, so the floor
                 // settles early and the quick path is taken.
                 for got in [&got, &rising] {
-                    let fast = compare_with(got, &want, t, half, &d, true);
-                    let full = compare_with(got, &want, t, half, &d, false);
+                    let fast = compare_with(got, &want, t, half, &d, true, 0);
+                    let full = compare_with(got, &want, t, half, &d, false, 0);
                     // Debug text: NaN results in the listed points compare equal.
                     assert_eq!(
                         format!("{fast:?}"),
@@ -789,6 +828,27 @@ mod tests {
                         "{t:?} half {half}"
                     );
                 }
+            }
+        }
+    }
+
+    #[test]
+    fn parts_on_several_cores_give_the_statistics_of_one_pass() {
+        // Over three parts and a ragged end, with the points named by their
+        // index: the merged statistics (worst and listed points, their
+        // descriptions, the exact sum) are those of one pass.
+        let n = 3 * PART + 777;
+        let (want, got, rising, tols) = error_cases(n, 11);
+        let name = |i: usize| format!("point {i}");
+        let pool = rayon::ThreadPoolBuilder::new()
+            .num_threads(2)
+            .build()
+            .expect("pool");
+        for t in &tols {
+            for got in [&got, &rising] {
+                let parts = pool.install(|| compare(got, &want, t, false, &name));
+                let one = compare_with(got, &want, t, false, &name, true, 0);
+                assert_eq!(format!("{parts:?}"), format!("{one:?}"), "{t:?}");
             }
         }
     }
