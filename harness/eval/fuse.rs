@@ -440,11 +440,11 @@ mod tests {
 
     #[test]
     fn each_fused_kernel_is_its_chain_bit_for_bit() {
-        for baseline in [true, false] {
-            crate::eval::lanes::set_baseline_only(baseline);
+        for width in crate::eval::Width::available() {
+            crate::eval::set_width(Some(width));
             fused_against_chains();
         }
-        crate::eval::lanes::set_baseline_only(false);
+        crate::eval::set_width(None);
     }
 
     fn fused_against_chains() {

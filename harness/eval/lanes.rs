@@ -137,40 +137,102 @@ pub trait Op4 {
     fn f(a: u32, b: u32, c: u32, d: u32) -> u32;
 }
 
-static BASELINE_ONLY: std::sync::atomic::AtomicBool = std::sync::atomic::AtomicBool::new(false);
-
-/// Use only the baseline kernels (tests prove the wide ones give the same bits).
-pub fn set_baseline_only(on: bool) {
-    BASELINE_ONLY.store(on, std::sync::atomic::Ordering::Relaxed);
+/// The vector instructions the kernels are compiled for, narrowest first.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord)]
+pub enum Width {
+    /// The target's baseline (SSE2 on x86-64).
+    Baseline,
+    /// x86-64 with AVX2: 8 lanes of 32 bits per instruction.
+    Avx2,
+    /// x86-64 with AVX-512 (the foundation set): 16 lanes per instruction.
+    Avx512,
 }
 
-/// Whether the wider vector instructions may be used (checked once, cached by std).
+impl Width {
+    /// The widest set this machine runs.
+    pub fn best() -> Width {
+        #[cfg(target_arch = "x86_64")]
+        {
+            if std::arch::is_x86_feature_detected!("avx512f") {
+                return Width::Avx512;
+            }
+            if std::arch::is_x86_feature_detected!("avx2") {
+                return Width::Avx2;
+            }
+        }
+        Width::Baseline
+    }
+
+    /// Every set this machine runs, narrowest first (for tests that compare them).
+    pub fn available() -> Vec<Width> {
+        [Width::Baseline, Width::Avx2, Width::Avx512]
+            .into_iter()
+            .filter(|&w| w <= Width::best())
+            .collect()
+    }
+}
+
+/// The width in use, as `1 + Width as u8`; 0 until first chosen.
+static ACTIVE: std::sync::atomic::AtomicU8 = std::sync::atomic::AtomicU8::new(0);
+
+/// Use the kernels compiled for `width` (`None`: the widest this machine
+/// runs, the default). Process-wide; a test hook, since every width gives the
+/// same bits (tests compare them).
+///
+/// # Panics
+/// When this machine does not run `width`.
+pub fn set_width(width: Option<Width>) {
+    let w = width.unwrap_or_else(Width::best);
+    assert!(
+        w <= Width::best(),
+        "this machine does not run {w:?} instructions (widest: {:?})",
+        Width::best()
+    );
+    ACTIVE.store(1 + w as u8, std::sync::atomic::Ordering::Relaxed);
+}
+
+/// The width in use: one relaxed load once chosen.
 #[inline(always)]
-fn wide() -> bool {
-    if BASELINE_ONLY.load(std::sync::atomic::Ordering::Relaxed) {
-        return false;
-    }
-    #[cfg(target_arch = "x86_64")]
-    {
-        std::arch::is_x86_feature_detected!("avx2")
-    }
-    #[cfg(not(target_arch = "x86_64"))]
-    {
-        false
+fn active() -> u8 {
+    match ACTIVE.load(std::sync::atomic::Ordering::Relaxed) {
+        0 => choose(),
+        a => a,
     }
 }
 
-// Each kernel exists twice: for the baseline target and, on x86-64, compiled
-// with AVX2 enabled and chosen at run time. IEEE operations give the same bits
-// at any vector width, so the choice never changes a result.
+#[cold]
+fn choose() -> u8 {
+    let a = 1 + Width::best() as u8;
+    // A concurrent `set_width` wins: it only ever stores a width the
+    // machine runs.
+    let _ = ACTIVE.compare_exchange(
+        0,
+        a,
+        std::sync::atomic::Ordering::Relaxed,
+        std::sync::atomic::Ordering::Relaxed,
+    );
+    ACTIVE.load(std::sync::atomic::Ordering::Relaxed)
+}
+
+// Each kernel exists three times: for the baseline target and, on x86-64,
+// compiled with AVX2 and with AVX-512 enabled, chosen at run time. IEEE
+// operations give the same bits at any vector width, so the choice never
+// changes a result (tests compare every width the machine runs).
 macro_rules! kernel {
-    ($name:ident, $wide:ident, $tr:ident, ($($arg:ident),*)) => {
+    ($name:ident, $avx2:ident, $avx512:ident, $tr:ident, ($($arg:ident),*)) => {
         pub fn $name<T: $tr>(d: &mut Lanes, $($arg: &Lanes),*) {
             #[cfg(target_arch = "x86_64")]
-            if wide() {
-                // SAFETY: AVX2 support was just checked.
-                unsafe { $wide::<T>(d, $($arg),*) };
-                return;
+            {
+                const AVX2: u8 = 1 + Width::Avx2 as u8;
+                const AVX512: u8 = 1 + Width::Avx512 as u8;
+                match active() {
+                    // SAFETY: `active` is a width `Width::best` found the
+                    // machine runs (`set_width` checks the same).
+                    AVX512 => return unsafe { $avx512::<T>(d, $($arg),*) },
+                    // SAFETY: as above.
+                    AVX2 => return unsafe { $avx2::<T>(d, $($arg),*) },
+                    _ => {}
+                }
             }
             for i in 0..LANES {
                 d[i] = T::f($($arg[i]),*);
@@ -179,7 +241,15 @@ macro_rules! kernel {
 
         #[cfg(target_arch = "x86_64")]
         #[target_feature(enable = "avx2")]
-        unsafe fn $wide<T: $tr>(d: &mut Lanes, $($arg: &Lanes),*) {
+        unsafe fn $avx2<T: $tr>(d: &mut Lanes, $($arg: &Lanes),*) {
+            for i in 0..LANES {
+                d[i] = T::f($($arg[i]),*);
+            }
+        }
+
+        #[cfg(target_arch = "x86_64")]
+        #[target_feature(enable = "avx512f")]
+        unsafe fn $avx512<T: $tr>(d: &mut Lanes, $($arg: &Lanes),*) {
             for i in 0..LANES {
                 d[i] = T::f($($arg[i]),*);
             }
@@ -187,10 +257,10 @@ macro_rules! kernel {
     };
 }
 
-kernel!(run1, run1_avx2, Op1, (a));
-kernel!(run2, run2_avx2, Op2, (a, b));
-kernel!(run3, run3_avx2, Op3, (a, b, c));
-kernel!(run4, run4_avx2, Op4, (a, b, c, e));
+kernel!(run1, run1_avx2, run1_avx512, Op1, (a));
+kernel!(run2, run2_avx2, run2_avx512, Op2, (a, b));
+kernel!(run3, run3_avx2, run3_avx512, Op3, (a, b, c));
+kernel!(run4, run4_avx2, run4_avx512, Op4, (a, b, c, e));
 
 /// The f16 version of a float operation: computed in f32, rounded to half.
 pub struct HalfOf<T>(PhantomData<T>);

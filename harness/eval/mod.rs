@@ -37,11 +37,7 @@ use crate::wgsl::Shader;
 use batch::OutCol;
 use exec::{Machine, Verified};
 
-/// Test hook: use only the baseline kernels, not the AVX2 ones (tests prove
-/// both give the same bits). Process-wide; off by default.
-pub fn set_baseline_only(on: bool) {
-    lanes::set_baseline_only(on);
-}
+pub use lanes::{set_width, Width};
 
 /// What went wrong for one point.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, serde::Serialize)]
