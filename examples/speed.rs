@@ -148,23 +148,30 @@ fn brdf_inputs(n: usize) -> Brdf {
 
 // ---------------------------------------------------------------- timing
 
-fn best<F: FnMut()>(mut f: F) -> f64 {
-    f();
-    (0..5)
-        .map(|_| {
+/// The best time of each closure over `ROUNDS` rounds in which they take
+/// turns, so that a slow spell of a shared machine falls on all of them
+/// alike and the ratios taken in one run stay fair.
+fn race(fs: &mut [&mut dyn FnMut()]) -> Vec<f64> {
+    const ROUNDS: usize = 7;
+    let mut best = vec![f64::MAX; fs.len()];
+    for f in fs.iter_mut() {
+        f();
+    }
+    for _ in 0..ROUNDS {
+        for (f, b) in fs.iter_mut().zip(&mut best) {
             let t = Instant::now();
             f();
-            t.elapsed().as_secs_f64()
-        })
-        .fold(f64::MAX, f64::min)
+            *b = b.min(t.elapsed().as_secs_f64());
+        }
+    }
+    best
 }
 
-fn one_core<T: Send>(f: impl FnOnce() -> T + Send) -> T {
+fn one_core_pool() -> rayon::ThreadPool {
     rayon::ThreadPoolBuilder::new()
         .num_threads(1)
         .build()
         .expect("pool")
-        .install(f)
 }
 
 fn peak_rss_mib() -> f64 {
@@ -207,29 +214,35 @@ fn main() {
         .collect();
     let ib: Vec<u32> = ndh.iter().map(|x| x.to_bits()).collect();
     let ab: Vec<u32> = alpha.iter().map(|x| x.to_bits()).collect();
-    let mut out = Vec::new();
-    let mut nat = vec![0f32; N];
-    let t_native = best(|| ggx_native(black_box(&ndh), black_box(&alpha), &mut nat));
-    let t_native_all = best(|| {
-        nat.par_chunks_mut(1 << 14)
-            .zip(ndh.par_chunks(1 << 14).zip(alpha.par_chunks(1 << 14)))
-            .for_each(|(o, (a, b))| ggx_native(black_box(a), black_box(b), o));
-    });
-    let t_eval1 = one_core(|| best(|| drop(black_box(ggx.eval(&[&ib, &ab], &mut out)))));
-    let t_evaln = best(|| drop(black_box(ggx.eval(&[&ib, &ab], &mut out))));
+    let one = one_core_pool();
+    let (mut out, mut out_all) = (Vec::new(), Vec::new());
+    let (mut nat, mut nat_all) = (vec![0f32; N], vec![0f32; N]);
+    let mut r64 = vec![0f64; N];
+    let [t_native, t_native_all, t_eval1, t_evaln, t_ref] = race(&mut [
+        &mut || ggx_native(black_box(&ndh), black_box(&alpha), &mut nat),
+        &mut || {
+            nat_all
+                .par_chunks_mut(1 << 14)
+                .zip(ndh.par_chunks(1 << 14).zip(alpha.par_chunks(1 << 14)))
+                .for_each(|(o, (a, b))| ggx_native(black_box(a), black_box(b), o));
+        },
+        &mut || one.install(|| drop(black_box(ggx.eval(&[&ib, &ab], &mut out)))),
+        &mut || drop(black_box(ggx.eval(&[&ib, &ab], &mut out_all))),
+        &mut || {
+            for i in 0..N {
+                let r = f64::from(alpha[i]);
+                r64[i] = ndf::ggx(f64::from(ndh[i]), r * r);
+            }
+            black_box(&r64);
+        },
+    ])[..] else {
+        unreachable!("five closures")
+    };
     let same = out[0]
         .iter()
         .zip(&nat)
         .filter(|(a, b)| **a == b.to_bits())
         .count();
-    let mut r64 = vec![0f64; N];
-    let t_ref = best(|| {
-        for i in 0..N {
-            let r = f64::from(alpha[i]);
-            r64[i] = ndf::ggx(f64::from(ndh[i]), r * r);
-        }
-        black_box(&r64);
-    });
     print_table(
         "demo library d_ggx (GGX NDF), 2 scalars -> 1",
         &[
@@ -316,24 +329,30 @@ fn main() {
                 .for_each(|(k, x)| work(k, x));
         }
     };
-    let t_bn = best(|| run_native(&mut nat3, false, false));
-    let t_bn_all = best(|| run_native(&mut nat3, false, true));
+    let mut nat3_all: Vec<Vec<f32>> = vec![vec![0f32; N]; 3];
     let mut mul3: Vec<Vec<f32>> = vec![vec![0f32; N]; 3];
-    let t_bm = best(|| run_native(&mut mul3, true, false));
-    let t_be1 = one_core(|| best(|| drop(black_box(bp.eval(&refs, &mut out)))));
-    let t_ben = best(|| drop(black_box(bp.eval(&refs, &mut out))));
+    let mut ref3 = vec![[0f64; 3]; N];
+    let d = |x: V3| x.map(f64::from);
+    let [t_bn, t_bn_all, t_bm, t_be1, t_ben, t_br] = race(&mut [
+        &mut || run_native(&mut nat3, false, false),
+        &mut || run_native(&mut nat3_all, false, true),
+        &mut || run_native(&mut mul3, true, false),
+        &mut || one.install(|| drop(black_box(bp.eval(&refs, &mut out)))),
+        &mut || drop(black_box(bp.eval(&refs, &mut out_all))),
+        &mut || {
+            for (i, o) in ref3.iter_mut().enumerate() {
+                let (n, v, l, b, m, r) = pt(i);
+                *o =
+                    CookTorrance::STANDARD.eval(d(n), d(v), d(l), d(b), f64::from(m), f64::from(r));
+            }
+            black_box(&ref3);
+        },
+    ])[..] else {
+        unreachable!("six closures")
+    };
     let bsame = (0..N)
         .filter(|&i| (0..3).all(|k| out[k][i] == nat3[k][i].to_bits()))
         .count();
-    let mut ref3 = vec![[0f64; 3]; N];
-    let d = |x: V3| x.map(f64::from);
-    let t_br = best(|| {
-        for (i, o) in ref3.iter_mut().enumerate() {
-            let (n, v, l, b, m, r) = pt(i);
-            *o = CookTorrance::STANDARD.eval(d(n), d(v), d(l), d(b), f64::from(m), f64::from(r));
-        }
-        black_box(&ref3);
-    });
     print_table(
         "demo library brdf (Cook-Torrance: GGX, Smith height-correlated, Schlick, Lambert), 14 scalars -> RGB",
         &[
