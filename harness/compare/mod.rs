@@ -160,6 +160,7 @@ pub fn ulp_at(x: f64, half: bool) -> f64 {
 /// rounded to f32, so its reciprocal is the power of two `2^(150 − e)` and
 /// `err * inv_ulp_f32(x)` is bit for bit `err / ulp_at(x, false)` (both are
 /// the correctly rounded value of the same real number).
+#[inline(always)]
 fn inv_ulp_f32(x: f64) -> f64 {
     let f = x.abs() as f32;
     let e = i64::from(((f.to_bits() >> 23) & 0xff) as u16).clamp(1, 254);
@@ -252,15 +253,26 @@ fn compare_with<C: AsRef<[f64]>>(
     // Points surely below `min(worst badness, 1)` need no badness: see
     // `Below`. Recomputed when the worst point changes.
     let mut below: Option<Below> = None;
+    // The quick test runs over a block of points at once, with the floor
+    // of the block's start. The floor only rises within the block (the
+    // worst badness only grows, and is capped at 1), so a point below the
+    // old floor is below the new one too; a point that is not goes to the
+    // full judgement, which gives the same statistics either way.
+    let mut block = Quick::default();
     for i in 0..n {
-        if let Some(b) = &below {
-            if let Some(q) = b.quick(got, want, i, half, s.max_rel) {
-                s.max_abs = s.max_abs.max(q.max_abs);
-                s.max_rel = s.max_rel.max(q.max_rel);
-                s.max_ulp = s.max_ulp.max(q.max_ulp);
-                sum_sq.add(q.sum_sq);
-                continue;
+        let j = i % QUICK_BLOCK;
+        if j == 0 {
+            block.len = 0;
+            if let Some(b) = &below {
+                b.block(got, want, i, QUICK_BLOCK.min(n - i), half, &mut block);
             }
+        }
+        if j < block.len && block.below[j] {
+            s.max_abs = s.max_abs.max(block.max_abs[j]);
+            s.max_rel = s.max_rel.max(block.max_rel[j]);
+            s.max_ulp = s.max_ulp.max(block.max_ulp[j]);
+            sum_sq.add(block.sum_sq[j]);
+            continue;
         }
         let p = bounds.assess(got, want, i, tol.nan, half);
         s.max_abs = s.max_abs.max(p.max_abs);
@@ -516,13 +528,33 @@ impl Bounds {
     }
 }
 
-/// A point's errors without its badness: what [`compare`] needs of a point
-/// that can neither fail nor be the worst.
+/// Points per block of the quick test ([`Below::block`]).
+const QUICK_BLOCK: usize = 64;
+
+/// The errors of a block of points without their badness: what [`compare`]
+/// needs of a point that can neither fail nor be the worst, and whether
+/// each point is one.
 struct Quick {
-    max_abs: f64,
-    max_rel: f64,
-    max_ulp: f64,
-    sum_sq: f64,
+    /// Points of the block filled in.
+    len: usize,
+    below: [bool; QUICK_BLOCK],
+    max_abs: [f64; QUICK_BLOCK],
+    max_rel: [f64; QUICK_BLOCK],
+    max_ulp: [f64; QUICK_BLOCK],
+    sum_sq: [f64; QUICK_BLOCK],
+}
+
+impl Default for Quick {
+    fn default() -> Quick {
+        Quick {
+            len: 0,
+            below: [false; QUICK_BLOCK],
+            max_abs: [0.0; QUICK_BLOCK],
+            max_rel: [0.0; QUICK_BLOCK],
+            max_ulp: [0.0; QUICK_BLOCK],
+            sum_sq: [0.0; QUICK_BLOCK],
+        }
+    }
 }
 
 /// Thresholds below which an error's ratio to its bound is surely under a
@@ -551,57 +583,103 @@ impl Below {
         ))
     }
 
-    /// Point `i`'s maxima and sum when it is surely below the floor, with
-    /// every value finite; `None` sends it to [`Bounds::assess`]. The
-    /// relative error is divided out only where it may exceed `max_rel`
-    /// (the largest so far) or decide the floor test: `abs < x · |w|` with
-    /// the same margin bounds `abs / |w|` below `x`.
-    fn quick<C: AsRef<[f64]>>(
+    /// For the `len` points from `start` (`len ≤ QUICK_BLOCK`): whether
+    /// each is surely below the floor with every value finite, and if so its
+    /// maxima and sum, into `q`. The errors are those of
+    /// [`Bounds::assess`], in the same operations, and a component with no
+    /// error adds nothing, as there; the relative error is divided out for
+    /// every point (branch-free, so the loop vectorises), which leaves the
+    /// largest one the same.
+    fn block<C: AsRef<[f64]>>(
         &self,
         got: &[C],
         want: &[C],
-        i: usize,
+        start: usize,
+        len: usize,
         half: bool,
-        max_rel: f64,
-    ) -> Option<Quick> {
-        let rel_below = max_rel * (1.0 - 1e-12);
-        let mut q = Quick {
-            max_abs: 0.0,
-            max_rel: 0.0,
-            max_ulp: 0.0,
-            sum_sq: 0.0,
-        };
-        for (c, thr) in self.0.iter().enumerate() {
-            let (g, w) = (got[c].as_ref()[i], want[c].as_ref()[i]);
-            if !w.is_finite() || !g.is_finite() {
-                return None;
+        q: &mut Quick,
+    ) {
+        // Compiled also for AVX-512 and AVX2, chosen at run time: the same
+        // IEEE operations at any vector width, so the same bits (tested).
+        #[cfg(target_arch = "x86_64")]
+        {
+            #[target_feature(enable = "avx512f")]
+            unsafe fn avx512<C: AsRef<[f64]>>(
+                b: &Below,
+                g: &[C],
+                w: &[C],
+                r: Range,
+                q: &mut Quick,
+            ) {
+                b.block_in(g, w, r.0, r.1, r.2, q)
             }
-            // The same errors, in the same operations, as `Bounds::assess`.
-            let abs = (g - w).abs();
-            if abs == 0.0 {
-                continue;
+            #[target_feature(enable = "avx2")]
+            unsafe fn avx2<C: AsRef<[f64]>>(b: &Below, g: &[C], w: &[C], r: Range, q: &mut Quick) {
+                b.block_in(g, w, r.0, r.1, r.2, q)
             }
-            let aw = w.abs();
-            let ulp = ulp_error(abs, w, half);
-            if !(abs < thr[0] || abs < thr[1] * aw || ulp < thr[2]) {
-                return None;
+            type Range = (usize, usize, bool);
+            let r = (start, len, half);
+            if std::arch::is_x86_feature_detected!("avx512f") {
+                // SAFETY: AVX-512 support was just checked.
+                return unsafe { avx512(self, got, want, r, q) };
             }
-            // False for NaN products (∞ · 0): then the division decides.
-            let rel_surely_below = abs < rel_below * aw;
-            if !rel_surely_below {
-                q.max_rel = q.max_rel.max(rel_error(abs, w));
+            if std::arch::is_x86_feature_detected!("avx2") {
+                // SAFETY: AVX2 support was just checked.
+                return unsafe { avx2(self, got, want, r, q) };
             }
-            q.max_abs = q.max_abs.max(abs);
-            q.max_ulp = q.max_ulp.max(ulp);
-            q.sum_sq += abs * abs;
         }
-        Some(q)
+        self.block_in(got, want, start, len, half, q)
+    }
+
+    #[inline(always)]
+    fn block_in<C: AsRef<[f64]>>(
+        &self,
+        got: &[C],
+        want: &[C],
+        start: usize,
+        len: usize,
+        half: bool,
+        q: &mut Quick,
+    ) {
+        q.len = len;
+        q.below[..len].fill(true);
+        for m in [
+            &mut q.max_abs,
+            &mut q.max_rel,
+            &mut q.max_ulp,
+            &mut q.sum_sq,
+        ] {
+            m[..len].fill(0.0);
+        }
+        for (c, thr) in self.0.iter().enumerate() {
+            let g = &got[c].as_ref()[start..start + len];
+            let w = &want[c].as_ref()[start..start + len];
+            for j in 0..len {
+                let (g, w) = (g[j], w[j]);
+                let abs = (g - w).abs();
+                let aw = w.abs();
+                let ulp = ulp_error(abs, w, half);
+                let zero = abs == 0.0;
+                let under = (abs < thr[0]) | (abs < thr[1] * aw) | (ulp < thr[2]);
+                q.below[j] &= w.is_finite() & g.is_finite() & (zero | under);
+                let (abs, rel, ulp) = if zero {
+                    (0.0, 0.0, 0.0)
+                } else {
+                    (abs, rel_error(abs, w), ulp)
+                };
+                q.max_abs[j] = q.max_abs[j].max(abs);
+                q.max_rel[j] = q.max_rel[j].max(rel);
+                q.max_ulp[j] = q.max_ulp[j].max(ulp);
+                q.sum_sq[j] += abs * abs;
+            }
+        }
     }
 }
 
 /// The relative error of a non-zero absolute error `abs` against `w` (∞
 /// where `w` is 0); [`Bounds::assess`] and [`Below::quick`] share it, so
 /// both compute the same bits.
+#[inline(always)]
 fn rel_error(abs: f64, w: f64) -> f64 {
     if w != 0.0 {
         abs / w.abs()
@@ -611,6 +689,7 @@ fn rel_error(abs: f64, w: f64) -> f64 {
 }
 
 /// The error `abs` in ULPs of the format at `w` (f16 when `half`).
+#[inline(always)]
 fn ulp_error(abs: f64, w: f64, half: bool) -> f64 {
     if half {
         abs / ulp_at(w, true)
@@ -849,6 +928,37 @@ mod tests {
                 let parts = pool.install(|| compare(got, &want, t, false, &name));
                 let one = compare_with(got, &want, t, false, &name, true, 0);
                 assert_eq!(format!("{parts:?}"), format!("{one:?}"), "{t:?}");
+            }
+        }
+    }
+
+    #[test]
+    fn the_quick_test_gives_the_same_bits_at_every_vector_width() {
+        // `block` runs the widest copy this machine has; `block_in` here is
+        // compiled for the baseline target.
+        let (want, got, rising, tols) = error_cases(3 * QUICK_BLOCK + 9, 23);
+        for t in &tols {
+            let Some(b) = Below::new(&Bounds::of(t, 3), 0.5) else {
+                continue;
+            };
+            for half in [false, true] {
+                for got in [&got, &rising] {
+                    for start in (0..want[0].len()).step_by(QUICK_BLOCK) {
+                        let len = QUICK_BLOCK.min(want[0].len() - start);
+                        let (mut wide, mut base) = (Quick::default(), Quick::default());
+                        b.block(got, &want, start, len, half, &mut wide);
+                        b.block_in(got, &want, start, len, half, &mut base);
+                        assert_eq!(wide.below, base.below);
+                        for (x, y) in [
+                            (wide.max_abs, base.max_abs),
+                            (wide.max_rel, base.max_rel),
+                            (wide.max_ulp, base.max_ulp),
+                            (wide.sum_sq, base.sum_sq),
+                        ] {
+                            assert_eq!(x.map(f64::to_bits), y.map(f64::to_bits), "{t:?}");
+                        }
+                    }
+                }
             }
         }
     }
