@@ -64,18 +64,25 @@ fn main() {
         );
         return;
     }
-    let runs = 3;
-    let (end_to_end, r) = best(runs, || gate::run_check(&s, &check));
-    assert_eq!(r.verdict, gate::Verdict::Pass, "{:?}", r.error);
+    let runs = 5;
     let ev = gate::evaluate(&s, &check, None).expect("evaluates");
+    let refs: Vec<&[u32]> = ev.input_columns.iter().map(|c| &c[..]).collect();
+    // The check and the evaluator alone take turns, so that a slow spell of
+    // a shared machine falls on both and their ratio stays fair.
+    let (mut end_to_end, mut evaluator) = (f64::INFINITY, f64::INFINITY);
+    for _ in 0..runs {
+        let (t, r) = best(1, || gate::run_check(&s, &check));
+        assert_eq!(r.verdict, gate::Verdict::Pass, "{:?}", r.error);
+        end_to_end = end_to_end.min(t);
+        let (t, _) = best(1, || {
+            let mut out = Vec::new();
+            ev.program.eval(&refs, &mut out);
+            out
+        });
+        evaluator = evaluator.min(t);
+    }
     let (build_inputs, _) = best(runs, || {
         gate::evaluate(&s, &check, None).map(|e| e.points.len)
-    });
-    let refs: Vec<&[u32]> = ev.input_columns.iter().map(|c| &c[..]).collect();
-    let (evaluator, _) = best(runs, || {
-        let mut out = Vec::new();
-        ev.program.eval(&refs, &mut out);
-        out
     });
     let model = check.reference.expect("brdf_full has a reference");
     let (reference, _) = best(runs, || {
