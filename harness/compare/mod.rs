@@ -179,7 +179,7 @@ type Worst = (usize, f64, usize, (f64, f64, f64));
 /// lengths). `half` selects f16 ULPs. `describe(i)` names point i's
 /// parameters for the listed points.
 ///
-/// Long columns are judged in parts of [`PART`] points on every core and the
+/// Long columns are judged in parts of 32,768 points on every core and the
 /// parts' statistics merged in order ([`Stats::absorb`]), which gives the
 /// same statistics, bit for bit, as one pass (tested).
 pub fn compare(
@@ -677,7 +677,7 @@ impl Below {
 }
 
 /// The relative error of a non-zero absolute error `abs` against `w` (∞
-/// where `w` is 0); [`Bounds::assess`] and [`Below::quick`] share it, so
+/// where `w` is 0); [`Bounds::assess`] and [`Below::block`] share it, so
 /// both compute the same bits.
 #[inline(always)]
 fn rel_error(abs: f64, w: f64) -> f64 {

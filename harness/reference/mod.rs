@@ -26,6 +26,8 @@
 //! The rest of the tool reaches the models by name through the registry, [`models`] and
 //! [`find`]: a suite file names a model, the sweep binds its parameters by
 //! [`ParamSpec::name`], and the CLI lists them with [`listing`].
+//! The models a check evaluates most also have a column form ([`columns`]): the same
+//! function run over whole columns of arguments, which the gate uses where it exists.
 //!
 //! How the models are proven (all in `cargo test`, no Python needed at test time):
 //! `tests/reference/mpmath.rs` compares against tables computed at 40 significant digits by
