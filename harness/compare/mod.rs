@@ -606,26 +606,34 @@ impl Below {
             #[target_feature(enable = "avx512f")]
             unsafe fn avx512<C: AsRef<[f64]>>(
                 b: &Below,
-                g: &[C],
-                w: &[C],
-                r: Range,
+                got: &[C],
+                want: &[C],
+                start: usize,
+                len: usize,
+                half: bool,
                 q: &mut Quick,
             ) {
-                b.block_in(g, w, r.0, r.1, r.2, q)
+                b.block_in(got, want, start, len, half, q)
             }
             #[target_feature(enable = "avx2")]
-            unsafe fn avx2<C: AsRef<[f64]>>(b: &Below, g: &[C], w: &[C], r: Range, q: &mut Quick) {
-                b.block_in(g, w, r.0, r.1, r.2, q)
+            unsafe fn avx2<C: AsRef<[f64]>>(
+                b: &Below,
+                got: &[C],
+                want: &[C],
+                start: usize,
+                len: usize,
+                half: bool,
+                q: &mut Quick,
+            ) {
+                b.block_in(got, want, start, len, half, q)
             }
-            type Range = (usize, usize, bool);
-            let r = (start, len, half);
             if std::arch::is_x86_feature_detected!("avx512f") {
                 // SAFETY: AVX-512 support was just checked.
-                return unsafe { avx512(self, got, want, r, q) };
+                return unsafe { avx512(self, got, want, start, len, half, q) };
             }
             if std::arch::is_x86_feature_detected!("avx2") {
                 // SAFETY: AVX2 support was just checked.
-                return unsafe { avx2(self, got, want, r, q) };
+                return unsafe { avx2(self, got, want, start, len, half, q) };
             }
         }
         self.block_in(got, want, start, len, half, q)
