@@ -527,7 +527,15 @@ binary {
 
 ternary {
     FClamp(x: f32, lo: f32, hi: f32) -> f32 { arith::fclamp(x, lo, hi) }
-    FMix(x: f32, y: f32, t: f32) -> f32 { arith::mix(x, y, t) }
+    // arith::mix, x * (1 - t) + y * t, with the NaN of each step the one
+    // the plain op gives in this order (`nan_first`): left to the compiler,
+    // which may swap the operands of `*` and `+`, the AVX2 and AVX-512
+    // kernels returned different NaNs where several operands were NaNs.
+    FMix(x: f32, y: f32, t: f32) -> f32 {
+        let p = nan_first(x, x * (1.0 - t));
+        let q = nan_first(y, y * t);
+        nan_first(p, p + q)
+    }
     FSmooth(lo: f32, hi: f32, x: f32) -> f32 { arith::smoothstep(lo, hi, x) }
     // f16 formula built-ins: every step rounded to binary16 (see `arith`).
     HMix(x: f32, y: f32, t: f32) -> Half { arith::mix_f16(x, y, t) }
