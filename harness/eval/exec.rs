@@ -34,6 +34,13 @@ impl std::ops::Deref for Verified {
     }
 }
 
+/// One slot's lanes, starting on a cache line: a whole-register load or
+/// store of 64 bytes (AVX-512) then never straddles two lines, which costs
+/// about twice as much.
+#[derive(Clone, Copy)]
+#[repr(C, align(64))]
+struct Column(Lanes);
+
 /// The slot memory of one machine.
 struct Arena {
     /// Start of the machine's own columns (`len` of them), from
@@ -46,8 +53,9 @@ struct Arena {
 
 impl Arena {
     fn new(len: usize) -> Arena {
-        let own: Box<[Lanes]> = vec![[0; LANES]; len].into_boxed_slice();
-        let base = Box::into_raw(own) as *mut Lanes;
+        let own: Box<[Column]> = vec![Column([0; LANES]); len].into_boxed_slice();
+        // `Column` is `Lanes` aligned to a cache line (`repr(C)`, one field).
+        let base = Box::into_raw(own) as *mut Column as *mut Lanes;
         // SAFETY: `base` points to `len` columns; `base + i` for i < len is
         // in bounds.
         let ptrs = (0..len).map(|i| unsafe { base.add(i) }).collect();
@@ -68,7 +76,8 @@ impl Drop for Arena {
         // slice of `len` columns, and this is the only place that frees it.
         unsafe {
             drop(Box::from_raw(std::ptr::slice_from_raw_parts_mut(
-                self.base, self.len,
+                self.base as *mut Column,
+                self.len,
             )))
         };
     }
@@ -107,6 +116,10 @@ pub(crate) struct Machine {
     /// When set, the first operation per lane that turned non-NaN operands
     /// into a NaN or infinity is recorded (slower; used to explain failures).
     pub trace: Option<Vec<Option<At>>>,
+    /// The code's straight-line stretches as native code (not with
+    /// `trace`, which needs every operation's result).
+    #[cfg(all(target_arch = "x86_64", not(miri)))]
+    pub native: Option<std::sync::Arc<super::native::Native>>,
 }
 
 // SAFETY: the raw pointers point into the machine's own arena or into
@@ -130,6 +143,8 @@ impl Machine {
             step_budget,
             seed: 0,
             trace: None,
+            #[cfg(all(target_arch = "x86_64", not(miri)))]
+            native: None,
         }
     }
 
@@ -182,6 +197,30 @@ impl Machine {
         if self.stepped {
             self.steps = [0; LANES];
             self.stepped = false;
+        }
+        #[cfg(all(target_arch = "x86_64", not(miri)))]
+        if self.trace.is_none() {
+            if let Some(native) = self.native.take() {
+                assert_eq!(
+                    native.slot_count, code.slot_count,
+                    "native code runs with the code it was compiled from"
+                );
+                for step in &native.steps {
+                    match *step {
+                        super::native::Step::Op(i) => self.step(&code.sites, &code.ops[i]),
+                        // SAFETY: the stretch was compiled from this code
+                        // (same slot count, checked above) and touches lanes
+                        // `0..LANES` of the columns of slots it names, all
+                        // below `slot_count`, the table's length; those
+                        // columns are valid (`bind`'s contract) and reached by
+                        // nothing else during the call, and input columns are
+                        // only read (the verifier's rule 4).
+                        super::native::Step::Native(f) => unsafe { f(self.arena.ptrs.as_ptr()) },
+                    }
+                }
+                self.native = Some(native);
+                return;
+            }
         }
         self.exec(&code.sites, &code.ops);
     }

@@ -16,6 +16,8 @@ pub(crate) mod fuse;
 pub(crate) mod ir;
 pub(crate) mod lanes;
 pub(crate) mod lower;
+#[cfg(all(target_arch = "x86_64", not(miri)))]
+pub(crate) mod native;
 pub(crate) mod perturb;
 pub(crate) mod shadow;
 #[cfg(test)]
@@ -38,6 +40,8 @@ use batch::OutCol;
 use exec::{Machine, Verified};
 
 pub use lanes::{set_width, Width};
+#[cfg(all(target_arch = "x86_64", not(miri)))]
+pub use native::{set_tier, Tier, NATIVE_MIN};
 
 /// What went wrong for one point.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, serde::Serialize)]
@@ -91,6 +95,11 @@ pub struct Program {
     path: PathBuf,
     function: String,
     step_budget: u64,
+    /// `fast`'s straight-line stretches as native code, compiled on the
+    /// first evaluation that runs that tier (`None` inside: nothing to
+    /// compile).
+    #[cfg(all(target_arch = "x86_64", not(miri)))]
+    native: std::sync::OnceLock<Option<std::sync::Arc<native::Native>>>,
 }
 
 /// Points per parallel work item (several batches, so scheduling is cheap).
@@ -190,6 +199,8 @@ impl Program {
             function: function.to_string(),
             step_budget: limits.steps_per_point,
             seed,
+            #[cfg(all(target_arch = "x86_64", not(miri)))]
+            native: std::sync::OnceLock::new(),
         })
     }
 
@@ -291,7 +302,7 @@ impl Program {
         rayon::scope(|s| {
             for _ in 0..workers {
                 s.spawn(|_| {
-                    let mut m = self.machine();
+                    let mut m = self.machine(n);
                     let mut mine = Vec::new();
                     loop {
                         let c = next.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
@@ -324,7 +335,7 @@ impl Program {
     /// results and issues, in the same order, as [`Program::eval`].
     pub fn eval_serial(&self, inputs: &[&[u32]], outputs: &mut Vec<Vec<u32>>) -> Vec<LaneIssue> {
         let n = self.prepare(inputs, outputs);
-        let mut m = self.machine();
+        let mut m = self.machine(n);
         let outs: Vec<OutCol> = outputs.iter_mut().map(|c| OutCol(c.as_mut_ptr())).collect();
         let mut issues = self.run_range(&mut m, inputs, &outs, n, 0);
         // Within a batch, index and budget issues come before the non-finite
@@ -333,10 +344,30 @@ impl Program {
         issues
     }
 
-    fn machine(&self) -> Machine {
+    /// A machine for an evaluation of `points` points, with native code
+    /// when the tier for that many points is [`native::Tier::Native`].
+    fn machine(&self, points: usize) -> Machine {
         let mut m = Machine::new(&self.fast, self.step_budget);
         m.seed = self.seed;
+        #[cfg(all(target_arch = "x86_64", not(miri)))]
+        if native::tier_for(points) == native::Tier::Native {
+            m.native = self
+                .native
+                .get_or_init(|| native::compile(&self.fast).map(std::sync::Arc::new))
+                .clone();
+        }
+        #[cfg(not(all(target_arch = "x86_64", not(miri))))]
+        let _ = points;
         m
+    }
+
+    /// Whether some of this program runs as native code when its tier is
+    /// [`Tier::Native`] (compiling it now if not yet done).
+    #[cfg(all(target_arch = "x86_64", not(miri)))]
+    pub fn has_native_code(&self) -> bool {
+        self.native
+            .get_or_init(|| native::compile(&self.fast).map(std::sync::Arc::new))
+            .is_some()
     }
 
     fn prepare(&self, inputs: &[&[u32]], outputs: &mut Vec<Vec<u32>>) -> usize {

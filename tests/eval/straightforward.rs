@@ -50,3 +50,47 @@ fn batched_widest_in_place_equals_one_point_at_a_time_at_every_width() {
     }
     assert_eq!(functions, suite.checks.len());
 }
+
+/// Native code for the straight-line stretches gives the executor's bits on
+/// every function of the demo library over its checks' sweeps (whole
+/// sweeps, on all cores), and most of those functions have such stretches.
+#[test]
+fn native_code_gives_the_executors_bits_on_every_demo_function() {
+    use shadegate::eval::{set_tier, Tier};
+    let suite = shadegate::suite::load(Path::new(concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/shadegate.toml"
+    )))
+    .unwrap();
+    let mut compiled = 0;
+    for check in &suite.checks {
+        let ev = gate::evaluate(&suite, check, None).unwrap_or_else(|e| panic!("{e}"));
+        let ins: Vec<&[u32]> = ev.input_columns.iter().map(|c| &c[..]).collect();
+        let mut runs = [Tier::Interpret, Tier::Native].map(|tier| {
+            set_tier(Some(tier));
+            let mut out = Vec::new();
+            let issues = ev.program.eval(&ins, &mut out);
+            (out, issues)
+        });
+        set_tier(None);
+        let (native, interpreted) = (runs[1].clone(), std::mem::take(&mut runs[0]));
+        assert_eq!(interpreted.1, native.1, "{}: issues", check.name);
+        for (j, (a, b)) in interpreted.0.iter().zip(&native.0).enumerate() {
+            if let Some(i) = (0..a.len()).find(|&i| a[i] != b[i]) {
+                panic!(
+                    "{}: output {j} at point {i} ({}): {:#x} interpreted, {:#x} native",
+                    check.name,
+                    ev.points.describe(i),
+                    a[i],
+                    b[i]
+                );
+            }
+        }
+        compiled += usize::from(ev.program.has_native_code());
+    }
+    assert!(
+        compiled * 2 > suite.checks.len(),
+        "only {compiled} of {} checks' functions have native code",
+        suite.checks.len()
+    );
+}
