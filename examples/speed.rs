@@ -1,4 +1,5 @@
-//! Throughput benchmark: the shadegate evaluator against the same functions
+//! Throughput benchmark: the shadegate evaluator (with native code for its
+//! straight-line stretches, and interpreted only) against the same functions
 //! hand-written in Rust f32 and compiled into this binary (the native bound),
 //! and against the f64 reference models, over the same 1,048,576-point grid.
 //!
@@ -10,7 +11,7 @@ use std::hint::black_box;
 use std::time::Instant;
 
 use rayon::prelude::*;
-use shadegate::eval::Program;
+use shadegate::eval::{set_tier, Program, Tier};
 use shadegate::reference::{brdf::CookTorrance, ndf};
 use shadegate::wgsl::Shader;
 
@@ -218,13 +219,19 @@ fn main() {
     let (mut out, mut out_all) = (Vec::new(), Vec::new());
     let (mut nat, mut nat_all) = (vec![0f32; N], vec![0f32; N]);
     let mut r64 = vec![0f64; N];
-    let [t_native, t_native_all, t_eval1, t_evaln, t_ref] = race(&mut [
+    let mut out_i = Vec::new();
+    let [t_native, t_native_all, t_interp1, t_eval1, t_evaln, t_ref] = race(&mut [
         &mut || ggx_native(black_box(&ndh), black_box(&alpha), &mut nat),
         &mut || {
             nat_all
                 .par_chunks_mut(1 << 14)
                 .zip(ndh.par_chunks(1 << 14).zip(alpha.par_chunks(1 << 14)))
                 .for_each(|(o, (a, b))| ggx_native(black_box(a), black_box(b), o));
+        },
+        &mut || {
+            set_tier(Some(Tier::Interpret));
+            one.install(|| drop(black_box(ggx.eval(&[&ib, &ab], &mut out_i))));
+            set_tier(None);
         },
         &mut || one.install(|| drop(black_box(ggx.eval(&[&ib, &ab], &mut out)))),
         &mut || drop(black_box(ggx.eval(&[&ib, &ab], &mut out_all))),
@@ -236,8 +243,9 @@ fn main() {
             black_box(&r64);
         },
     ])[..] else {
-        unreachable!("five closures")
+        unreachable!("six closures")
     };
+    assert_eq!(out_i, out, "the two tiers differ");
     let same = out[0]
         .iter()
         .zip(&nat)
@@ -253,6 +261,10 @@ fn main() {
             Row {
                 what: "native Rust f32, all cores",
                 secs: t_native_all,
+            },
+            Row {
+                what: "shadegate interpreted only, 1 core",
+                secs: t_interp1,
             },
             Row {
                 what: "shadegate evaluator, 1 core",
@@ -333,10 +345,16 @@ fn main() {
     let mut mul3: Vec<Vec<f32>> = vec![vec![0f32; N]; 3];
     let mut ref3 = vec![[0f64; 3]; N];
     let d = |x: V3| x.map(f64::from);
-    let [t_bn, t_bn_all, t_bm, t_be1, t_ben, t_br] = race(&mut [
+    let mut out_bi = Vec::new();
+    let [t_bn, t_bn_all, t_bm, t_bi1, t_be1, t_ben, t_br] = race(&mut [
         &mut || run_native(&mut nat3, false, false),
         &mut || run_native(&mut nat3_all, false, true),
         &mut || run_native(&mut mul3, true, false),
+        &mut || {
+            set_tier(Some(Tier::Interpret));
+            one.install(|| drop(black_box(bp.eval(&refs, &mut out_bi))));
+            set_tier(None);
+        },
         &mut || one.install(|| drop(black_box(bp.eval(&refs, &mut out)))),
         &mut || drop(black_box(bp.eval(&refs, &mut out_all))),
         &mut || {
@@ -348,8 +366,9 @@ fn main() {
             black_box(&ref3);
         },
     ])[..] else {
-        unreachable!("six closures")
+        unreachable!("seven closures")
     };
+    assert_eq!(out_bi, out, "the two tiers differ");
     let bsame = (0..N)
         .filter(|&i| (0..3).all(|k| out[k][i] == nat3[k][i].to_bits()))
         .count();
@@ -367,6 +386,10 @@ fn main() {
             Row {
                 what: "native, pow as multiplications, 1 core",
                 secs: t_bm,
+            },
+            Row {
+                what: "shadegate interpreted only, 1 core",
+                secs: t_bi1,
             },
             Row {
                 what: "shadegate evaluator, 1 core",
