@@ -475,9 +475,12 @@ unary {
 }
 
 binary {
-    FAdd(x: f32, y: f32) -> f32 { x + y }
-    FSub(x: f32, y: f32) -> f32 { x - y }
-    FMul(x: f32, y: f32) -> f32 { x * y }
+    // `nan_first`: where both operands are NaNs, the first, as the
+    // three-operand AVX forms give it; the baseline's two-operand SSE2 code
+    // may swap the operands of `+` and `*` and returned the second.
+    FAdd(x: f32, y: f32) -> f32 { nan_first(x, x + y) }
+    FSub(x: f32, y: f32) -> f32 { nan_first(x, x - y) }
+    FMul(x: f32, y: f32) -> f32 { nan_first(x, x * y) }
     FDiv(x: f32, y: f32) -> f32 { x / y }
     FRem(x: f32, y: f32) -> f32 { arith::frem(x, y) }
     HRem(x: f32, y: f32) -> Half { arith::frem_f16(x, y) }
