@@ -46,110 +46,207 @@ impl Program {
         let out_kinds = self.output_kinds();
         let mut issues = Vec::new();
         let mut start = 0;
+        #[cfg(all(target_arch = "x86_64", not(miri)))]
+        if let Some((done, nonfinite)) = self.run_whole(m, ins, outs, n, &in_kinds) {
+            // Batches with a result that is not finite run again one at a
+            // time (the same bits), for their issues.
+            for b in (0..done).step_by(LANES) {
+                if nonfinite && Self::any_nonfinite(outs, &out_kinds, b) {
+                    self.run_batch(
+                        m,
+                        ins,
+                        outs,
+                        n,
+                        first_point,
+                        b,
+                        &in_kinds,
+                        &out_kinds,
+                        &mut issues,
+                    );
+                }
+            }
+            start = done;
+        }
         while start < n {
-            let len = LANES.min(n - start);
-            // Full batches of 32-bit leaves are read and written in place.
-            let bound = len == LANES;
-            for (i, (&slot, &k)) in code.input_slots.iter().zip(&in_kinds).enumerate() {
-                if bound && in_place(k) {
-                    // SAFETY: the verifier proved input slots are never
-                    // written, so a read-only column may be bound; `ins[i]`
-                    // has `LANES` values from `start` and outlives the batch.
-                    unsafe { m.bind(slot, ins[i][start..].as_ptr() as *mut Lanes) };
-                } else {
-                    m.unbind(slot);
-                }
-            }
-            for (j, &slot) in code.output_slots.iter().enumerate() {
-                if bound && self.own_output[j] {
-                    // SAFETY: `outs[j]` is valid for `n` writes and reached
-                    // by nothing but this machine until the copy-out below,
-                    // which uses the same raw pointer; `start + LANES <= n`.
-                    unsafe { m.bind(slot, outs[j].0.add(start) as *mut Lanes) };
-                } else if self.own_output[j] {
-                    m.unbind(slot);
-                }
-            }
-
-            // Run.
-            self.load_batch(m, code, ins, &in_kinds, start, len, bound);
-            m.issues.clear();
-            m.run(code);
-            let mut abandoned = [false; LANES];
-            let mut any_abandoned = false;
-            let mut flagged = [false; LANES];
-            for raw in m.issues.drain(..) {
-                if raw.lane >= len {
-                    continue;
-                }
-                flagged[raw.lane] = true;
-                let kind = match raw.kind {
-                    RawKind::StepBudget => {
-                        abandoned[raw.lane] = true;
-                        any_abandoned = true;
-                        IssueKind::StepBudget
-                    }
-                    RawKind::OutOfBounds => IssueKind::OutOfBounds,
-                };
-                let site = &code.sites[raw.at as usize];
-                issues.push(LaneIssue {
-                    point: first_point + start + raw.lane,
-                    kind,
-                    message: raw.detail,
-                    line: site.line,
-                    column: site.column,
-                    inputs: self.describe_point(ins, start + raw.lane),
-                });
-            }
-
-            // Trace (re-runs the batch on a machine of its own; it computes
-            // the same bits).
-            if let Some(suspicious) = self.nonfinite_lanes(m, &in_kinds, &out_kinds, len, &flagged)
-            {
-                issues.extend(self.trace_batch(
-                    ins,
-                    &in_kinds,
-                    start,
-                    len,
-                    &suspicious,
-                    first_point,
-                ));
-            }
-
-            // Mark abandoned points and copy out: after this nothing writes
-            // this batch's range of the output columns.
-            for (j, (&slot, &k)) in code.output_slots.iter().zip(&out_kinds).enumerate() {
-                // SAFETY: the range `start..start + len` of column `j` is
-                // valid for writes (`outs` contract); the machine is done
-                // with it for this batch and every write goes through the
-                // same raw pointer the machine was bound to.
-                let dst = unsafe { outs[j].0.add(start) };
-                if !(bound && self.own_output[j]) {
-                    let col = m.lanes(slot);
-                    for (lane, &b) in col[..len].iter().enumerate() {
-                        // SAFETY: as above; `lane < len`.
-                        unsafe { *dst.add(lane) = to_external(k, b) };
-                    }
-                }
-                if !any_abandoned {
-                    continue;
-                }
-                let none = if k.is_float() {
-                    to_external(k, f32::NAN.to_bits())
-                } else {
-                    0
-                };
-                for (lane, _) in abandoned[..len].iter().enumerate().filter(|(_, &a)| a) {
-                    // SAFETY: as above; `lane < len`.
-                    unsafe { *dst.add(lane) = none };
-                }
-            }
-            start += len;
+            self.run_batch(
+                m,
+                ins,
+                outs,
+                n,
+                first_point,
+                start,
+                &in_kinds,
+                &out_kinds,
+                &mut issues,
+            );
+            start += LANES.min(n - start);
         }
         for &slot in code.input_slots.iter().chain(&code.output_slots) {
             m.unbind(slot);
         }
         issues
+    }
+
+    /// One batch from `start` through the fixed order above.
+    #[allow(clippy::too_many_arguments)]
+    fn run_batch(
+        &self,
+        m: &mut Machine,
+        ins: &[&[u32]],
+        outs: &[OutCol],
+        n: usize,
+        first_point: usize,
+        start: usize,
+        in_kinds: &[ScalarKind],
+        out_kinds: &[ScalarKind],
+        issues: &mut Vec<LaneIssue>,
+    ) {
+        let code = &self.fast;
+        let len = LANES.min(n - start);
+        // Full batches of 32-bit leaves are read and written in place.
+        let bound = len == LANES;
+        for (i, (&slot, &k)) in code.input_slots.iter().zip(in_kinds).enumerate() {
+            if bound && in_place(k) {
+                // SAFETY: the verifier proved input slots are never
+                // written, so a read-only column may be bound; `ins[i]`
+                // has `LANES` values from `start` and outlives the batch.
+                unsafe { m.bind(slot, ins[i][start..].as_ptr() as *mut Lanes) };
+            } else {
+                m.unbind(slot);
+            }
+        }
+        for (j, &slot) in code.output_slots.iter().enumerate() {
+            if bound && self.own_output[j] {
+                // SAFETY: `outs[j]` is valid for `n` writes and reached
+                // by nothing but this machine until the copy-out below,
+                // which uses the same raw pointer; `start + LANES <= n`.
+                unsafe { m.bind(slot, outs[j].0.add(start) as *mut Lanes) };
+            } else if self.own_output[j] {
+                m.unbind(slot);
+            }
+        }
+
+        // Run.
+        self.load_batch(m, code, ins, in_kinds, start, len, bound);
+        m.issues.clear();
+        m.run(code);
+        let mut abandoned = [false; LANES];
+        let mut any_abandoned = false;
+        let mut flagged = [false; LANES];
+        for raw in m.issues.drain(..) {
+            if raw.lane >= len {
+                continue;
+            }
+            flagged[raw.lane] = true;
+            let kind = match raw.kind {
+                RawKind::StepBudget => {
+                    abandoned[raw.lane] = true;
+                    any_abandoned = true;
+                    IssueKind::StepBudget
+                }
+                RawKind::OutOfBounds => IssueKind::OutOfBounds,
+            };
+            let site = &code.sites[raw.at as usize];
+            issues.push(LaneIssue {
+                point: first_point + start + raw.lane,
+                kind,
+                message: raw.detail,
+                line: site.line,
+                column: site.column,
+                inputs: self.describe_point(ins, start + raw.lane),
+            });
+        }
+
+        // Trace (re-runs the batch on a machine of its own; it computes
+        // the same bits).
+        if let Some(suspicious) = self.nonfinite_lanes(m, in_kinds, out_kinds, len, &flagged) {
+            issues.extend(self.trace_batch(ins, in_kinds, start, len, &suspicious, first_point));
+        }
+
+        // Mark abandoned points and copy out: after this nothing writes
+        // this batch's range of the output columns.
+        for (j, (&slot, &k)) in code.output_slots.iter().zip(out_kinds).enumerate() {
+            // SAFETY: the range `start..start + len` of column `j` is
+            // valid for writes (`outs` contract); the machine is done
+            // with it for this batch and every write goes through the
+            // same raw pointer the machine was bound to.
+            let dst = unsafe { outs[j].0.add(start) };
+            if !(bound && self.own_output[j]) {
+                let col = m.lanes(slot);
+                for (lane, &b) in col[..len].iter().enumerate() {
+                    // SAFETY: as above; `lane < len`.
+                    unsafe { *dst.add(lane) = to_external(k, b) };
+                }
+            }
+            if !any_abandoned {
+                continue;
+            }
+            let none = if k.is_float() {
+                to_external(k, f32::NAN.to_bits())
+            } else {
+                0
+            };
+            for (lane, _) in abandoned[..len].iter().enumerate().filter(|(_, &a)| a) {
+                // SAFETY: as above; `lane < len`.
+                unsafe { *dst.add(lane) = none };
+            }
+        }
+    }
+
+    /// Run the full batches of the range in one call of the machine's
+    /// [`Native::whole`](super::native::Native::whole) code, straight in the
+    /// caller's columns, when it has one and every input and output column
+    /// is read and written in place; the number of points done (a multiple
+    /// of `LANES`) and whether a float output is not finite somewhere in
+    /// them, or `None`.
+    #[cfg(all(target_arch = "x86_64", not(miri)))]
+    fn run_whole(
+        &self,
+        m: &Machine,
+        ins: &[&[u32]],
+        outs: &[OutCol],
+        n: usize,
+        in_kinds: &[ScalarKind],
+    ) -> Option<(usize, bool)> {
+        let whole = m.native.as_ref()?.whole?;
+        let code = &self.fast;
+        if !in_kinds.iter().all(|&k| in_place(k)) || !self.own_output.iter().all(|&o| o) {
+            return None;
+        }
+        let done = n / LANES * LANES;
+        if done == 0 {
+            return None;
+        }
+        let mut table = vec![std::ptr::null_mut::<u32>(); code.slot_count];
+        for (&slot, col) in code.input_slots.iter().zip(ins) {
+            table[slot as usize] = col.as_ptr() as *mut u32;
+        }
+        for (&slot, col) in code.output_slots.iter().zip(outs) {
+            table[slot as usize] = col.0;
+        }
+        // SAFETY: `whole` reads lanes `0..done` of the input slots' columns
+        // (each `n >= done` long) and writes lanes `0..done` of the output
+        // slots' columns (`outs` valid for `n` writes, reached by nothing
+        // else during the call, distinct since each output is the machine's
+        // own slot); it touches no other entry of the table (`Native::whole`'s
+        // condition, checked when it was compiled), and input columns are
+        // only read (the verifier's rule 4).
+        let nonfinite = unsafe { whole(table.as_ptr(), done * 4) } != 0;
+        Some((done, nonfinite))
+    }
+
+    /// Whether a float output of the batch from `start` holds NaN or an
+    /// infinity.
+    #[cfg(all(target_arch = "x86_64", not(miri)))]
+    fn any_nonfinite(outs: &[OutCol], out_kinds: &[ScalarKind], start: usize) -> bool {
+        const EXP: u32 = 0x7f80_0000;
+        outs.iter().zip(out_kinds).any(|(col, k)| {
+            // SAFETY: the batch's `LANES` values from `start` were written by
+            // `run_whole` (`start + LANES <= done <= n`), and no `&mut` to the
+            // column is alive.
+            let lanes = unsafe { std::slice::from_raw_parts(col.0.add(start), LANES) };
+            k.is_float() && lanes.iter().fold(0, |a, &b| a | u32::from(b & EXP == EXP)) != 0
+        })
     }
 
     fn input_kinds(&self) -> Vec<ScalarKind> {

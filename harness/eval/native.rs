@@ -49,6 +49,9 @@ use super::lanes::{Lanes, Opcode, LANES};
 /// gives.
 pub(crate) type Entry = unsafe extern "C" fn(*const *mut Lanes);
 
+/// See [`Native::whole`].
+pub(crate) type Whole = unsafe extern "C" fn(*const *mut u32, usize) -> u32;
+
 /// One step of a program's run: a compiled stretch, or the top-level op at
 /// this index, interpreted.
 #[derive(Clone, Copy)]
@@ -60,6 +63,14 @@ pub(crate) enum Step {
 /// A program's steps, and the module that owns their code.
 pub(crate) struct Native {
     pub steps: Vec<Step>,
+    /// The whole program over `bytes / 4` lanes from the start of each
+    /// input and output column, every lane a point (the root mask all
+    /// ones): `whole(table, bytes)`, where `table` has one entry per slot,
+    /// the column of each input and output slot at its first lane, and
+    /// `bytes` is a multiple of `16 * UNROLL`; returns non-zero when a float
+    /// output holds NaN or an infinity somewhere. Present when the program is one
+    /// stretch that loads only input slots and stores only output slots.
+    pub whole: Option<Whole>,
     /// The slot count of the code compiled.
     pub slot_count: usize,
     /// Freed on drop, with the steps that point into it.
@@ -134,17 +145,49 @@ fn supported(op: Opcode) -> bool {
     SUPPORTED.contains(&op)
 }
 
-/// Whether native code computes `op` (recursively, for an `if`).
-fn expressible(op: &Op) -> bool {
+/// Whether native code computes `op` (recursively, for an `if`), given the
+/// constant slots no op writes.
+fn expressible(op: &Op, consts: &HashMap<Slot, u32>) -> bool {
     match op {
         Op::Fill { .. }
         | Op::Copy { .. }
         | Op::Enter { .. }
         | Op::MaskedCopy { .. }
         | Op::Exit { .. } => true,
+        Op::Kernel {
+            op: Opcode::FPow,
+            half: false,
+            args,
+            ..
+        } => consts
+            .get(&args[1])
+            .is_some_and(|&b| small_power(b).is_some()),
         Op::Kernel { op, half, .. } => !half && supported(*op),
-        Op::If { accept, reject, .. } => accept.iter().chain(reject).all(expressible),
+        Op::If { accept, reject, .. } => {
+            accept.iter().chain(reject).all(|o| expressible(o, consts))
+        }
         _ => false,
+    }
+}
+
+/// The exponent of `pow` that `arith::pow` computes by repeated f64
+/// multiplication (an integral float of magnitude at most 32), as an integer.
+fn small_power(bits: u32) -> Option<i32> {
+    let b = f32::from_bits(bits);
+    (b.abs() <= 32.0 && b == (b as i32) as f32).then_some(b as i32)
+}
+
+/// `arith::pow` of four lanes, for the lanes native code leaves to it.
+///
+/// # Safety
+/// `out` and `a` must be valid for four `u32`s each.
+unsafe extern "C" fn pow_lanes(out: *mut u32, a: *const u32, b: u32) {
+    for i in 0..4 {
+        // SAFETY: the caller's contract; i < 4.
+        unsafe {
+            let x = f32::from_bits(*a.add(i));
+            *out.add(i) = crate::arith::pow(x, f32::from_bits(b)).to_bits();
+        }
     }
 }
 
@@ -186,10 +229,6 @@ fn fills(op: &Op, out: &mut BTreeSet<u32>) {
 /// Compile the straight-line stretches of `code`, or `None` when it has none
 /// (or this machine has no native code generator).
 pub(crate) fn compile(code: &Code) -> Option<Native> {
-    let stretches = stretches(&code.ops);
-    if stretches.is_empty() {
-        return None;
-    }
     // Constant slots no op writes are immediates.
     let mut writes = BTreeSet::new();
     each_slot(&code.ops, &mut |s, u| {
@@ -203,6 +242,10 @@ pub(crate) fn compile(code: &Code) -> Option<Native> {
         .filter(|(s, _)| !writes.contains(s))
         .copied()
         .collect();
+    let stretches = stretches(&code.ops, &consts);
+    if stretches.is_empty() {
+        return None;
+    }
 
     let mut flags = settings::builder();
     flags.set("opt_level", "speed").ok()?;
@@ -230,7 +273,15 @@ pub(crate) fn compile(code: &Code) -> Option<Native> {
         ctx.func.signature.params.push(AbiParam::new(ptr));
         {
             let b = FunctionBuilder::new(&mut ctx.func, &mut fctx);
-            Emit::function(b, &code.ops[range.clone()], &consts, &later, ptr, &module);
+            Emit::function(
+                b,
+                &code.ops[range.clone()],
+                &consts,
+                &later,
+                ptr,
+                &module,
+                None,
+            );
         }
         let id = module
             .declare_function(&format!("stretch{k}"), Linkage::Local, &ctx.func.signature)
@@ -239,7 +290,54 @@ pub(crate) fn compile(code: &Code) -> Option<Native> {
         module.clear_context(&mut ctx);
         ids.push(id);
     }
+    // A program that is one stretch, reading only its inputs once the root
+    // mask is known to be all ones and writing only its outputs, also runs
+    // over whole ranges of full batches in the caller's columns.
+    let mut whole = None;
+    if stretches.len() == 1 && stretches[0] == (0..code.ops.len()) {
+        let mut consts = consts.clone();
+        consts.insert(code.root_mask, 1);
+        let later: BTreeSet<Slot> = code.output_slots.iter().copied().collect();
+        ctx.func.signature.params.clear();
+        ctx.func.signature.params.push(AbiParam::new(ptr));
+        ctx.func.signature.params.push(AbiParam::new(ptr));
+        ctx.func.signature.returns.push(AbiParam::new(types::I32));
+        let kinds = code.output_kinds();
+        let float_outputs: BTreeSet<Slot> = code
+            .output_slots
+            .iter()
+            .zip(&kinds)
+            .filter(|(_, k)| k.is_float())
+            .map(|(&s, _)| s)
+            .collect();
+        let (loaded, stored) = {
+            let b = FunctionBuilder::new(&mut ctx.func, &mut fctx);
+            Emit::function(
+                b,
+                &code.ops,
+                &consts,
+                &later,
+                ptr,
+                &module,
+                Some(&float_outputs),
+            )
+        };
+        let inputs: BTreeSet<Slot> = code.input_slots.iter().copied().collect();
+        if loaded.is_subset(&inputs) && stored == later {
+            let id = module
+                .declare_function("whole", Linkage::Local, &ctx.func.signature)
+                .ok()?;
+            module.define_function(id, &mut ctx).ok()?;
+            whole = Some(id);
+        }
+        module.clear_context(&mut ctx);
+    }
     module.finalize_definitions().ok()?;
+    let whole = whole.map(|id| {
+        // SAFETY: built above with the signature `(pointer, pointer) -> ()`
+        // in the platform's default calling convention, `extern "C"`.
+        unsafe { std::mem::transmute::<*const u8, Whole>(module.get_finalized_function(id)) }
+    });
 
     let mut steps = Vec::new();
     let mut next = 0;
@@ -257,6 +355,7 @@ pub(crate) fn compile(code: &Code) -> Option<Native> {
     steps.extend((next..code.ops.len()).map(Step::Op));
     Some(Native {
         steps,
+        whole,
         slot_count: code.slot_count,
         module: Some(module),
     })
@@ -264,16 +363,16 @@ pub(crate) fn compile(code: &Code) -> Option<Native> {
 
 /// The maximal runs of top-level ops native code expresses that compute
 /// something.
-fn stretches(ops: &[Op]) -> Vec<std::ops::Range<usize>> {
+fn stretches(ops: &[Op], consts: &HashMap<Slot, u32>) -> Vec<std::ops::Range<usize>> {
     let mut out = Vec::new();
     let mut i = 0;
     while i < ops.len() {
-        if !expressible(&ops[i]) {
+        if !expressible(&ops[i], consts) {
             i += 1;
             continue;
         }
         let start = i;
-        while i < ops.len() && expressible(&ops[i]) {
+        while i < ops.len() && expressible(&ops[i], consts) {
             i += 1;
         }
         if ops[start..i].iter().any(computes) {
@@ -282,6 +381,16 @@ fn stretches(ops: &[Op]) -> Vec<std::ops::Range<usize>> {
     }
     out
 }
+
+/// Groups of four lanes per loop iteration. A batch (`LANES * 4` bytes) and
+/// every `Native::whole` length (a multiple of `LANES`) hold whole
+/// iterations.
+const UNROLL: usize = 2;
+
+/// The exponent bits of binary32; all ones in NaN and the infinities (the
+/// bits of +inf).
+const EXP: u32 = 0x7f80_0000;
+const _: () = assert!(LANES.is_multiple_of(4 * UNROLL));
 
 /// A lane value: four 32-bit lanes, last seen as floats or as integers.
 #[derive(Clone, Copy)]
@@ -294,8 +403,10 @@ struct Emit<'a> {
     b: FunctionBuilder<'a>,
     /// The column of each slot the stretch names, loaded once per call.
     bases: HashMap<Slot, Value>,
-    /// Byte offset of the current four lanes.
+    /// Byte offset of the current iteration's first four lanes.
     at: Value,
+    /// Byte offset of the current four lanes from `at`.
+    off: i32,
     /// The current value of each slot read or written so far in this pass.
     vals: HashMap<Slot, V>,
     consts: &'a HashMap<Slot, u32>,
@@ -303,6 +414,11 @@ struct Emit<'a> {
     splats: HashMap<u32, Value>,
     /// Slots written by the stretch, in first-write order.
     dirty: Vec<Slot>,
+    ptr: types::Type,
+    /// The calling convention of calls out of generated code.
+    call_conv: cranelift_codegen::isa::CallConv,
+    /// Slots read from memory (read before the stretch writes them).
+    loaded: BTreeSet<Slot>,
 }
 
 fn flags() -> MemFlagsData {
@@ -314,6 +430,11 @@ fn lanes_order() -> MemFlagsData {
 }
 
 impl<'a> Emit<'a> {
+    /// Emit one stretch as a function of the slot table: over one batch
+    /// (`(table)`), or, with `whole` (the float output slots), over a byte
+    /// length given as a second parameter (`(table, bytes)`; see
+    /// [`Native::whole`]). Returns the slots it loads from memory and the
+    /// slots it stores.
     fn function(
         mut b: FunctionBuilder<'a>,
         ops: &[Op],
@@ -321,14 +442,15 @@ impl<'a> Emit<'a> {
         later: &BTreeSet<Slot>,
         ptr: types::Type,
         module: &JITModule,
-    ) {
+        whole: Option<&BTreeSet<Slot>>,
+    ) -> (BTreeSet<Slot>, BTreeSet<Slot>) {
         // Everything loop-invariant first, in the entry block: the column of
         // every slot the stretch names, and every constant it uses.
         let mut slots = BTreeSet::new();
         each_slot(ops, &mut |s, _| {
             slots.insert(s);
         });
-        let mut bits: BTreeSet<u32> = [0, 1, 1.0f32.to_bits()].into();
+        let mut bits: BTreeSet<u32> = [0, 1, 1.0f32.to_bits(), EXP].into();
         ops.iter().for_each(|o| fills(o, &mut bits));
         bits.extend(slots.iter().filter_map(|s| consts.get(s)));
 
@@ -350,41 +472,93 @@ impl<'a> Emit<'a> {
             splats.insert(x, b.ins().splat(types::I32X4, c));
         }
         let zero = b.ins().iconst(ptr, 0);
+        let end = if whole.is_some() {
+            b.block_params(entry)[1]
+        } else {
+            b.ins().iconst(ptr, (LANES * 4) as i64)
+        };
+        // The loop carries its lane offset and, for `whole`, an OR over
+        // every float output lane of "its exponent is all ones" (NaN or an
+        // infinity), which the function returns.
         let header = b.create_block();
         b.append_block_param(header, ptr);
+        b.append_block_param(header, types::I32X4);
         let exit = b.create_block();
-        b.ins().jump(header, &[zero.into()]);
+        b.append_block_param(exit, types::I32X4);
+        let any = b.ins().icmp(IntCC::UnsignedGreaterThan, end, zero);
+        let none = splats[&0];
+        b.ins().brif(
+            any,
+            header,
+            &[zero.into(), none.into()],
+            exit,
+            &[none.into()],
+        );
 
         b.switch_to_block(header);
         let at = b.block_params(header)[0];
+        let mut seen = b.block_params(header)[1];
         let mut e = Emit {
             b,
             bases,
             at,
             vals: HashMap::new(),
+            off: 0,
             consts,
             splats,
             dirty: Vec::new(),
+            ptr,
+            call_conv: module.isa().default_call_conv(),
+            loaded: BTreeSet::new(),
         };
-        for op in ops {
-            e.op(op);
+        // UNROLL groups of four lanes per iteration, each its own copy of
+        // the code (independent chains for the processor to overlap).
+        let mut stored = BTreeSet::new();
+        for u in 0..UNROLL {
+            e.off = 16 * u as i32;
+            e.vals.clear();
+            for op in ops {
+                e.op(op);
+            }
+            let dirty = std::mem::take(&mut e.dirty);
+            for s in dirty.into_iter().filter(|s| later.contains(s)) {
+                let v = match e.vals[&s] {
+                    V::F(v) | V::I(v) => v,
+                };
+                let addr = e.addr(s);
+                e.b.ins().store(flags(), v, addr, e.off);
+                stored.insert(s);
+                if whole.is_some_and(|f| f.contains(&s)) {
+                    let v = e.as_i(e.vals[&s]);
+                    let exp = e.splat(EXP);
+                    let bits = e.b.ins().band(v, exp);
+                    let bad = e.b.ins().icmp(IntCC::Equal, bits, exp);
+                    seen = e.b.ins().bor(seen, bad);
+                }
+            }
         }
-        let dirty = std::mem::take(&mut e.dirty);
-        for s in dirty.into_iter().filter(|s| later.contains(s)) {
-            let v = match e.vals[&s] {
-                V::F(v) | V::I(v) => v,
-            };
-            let addr = e.addr(s);
-            e.b.ins().store(flags(), v, addr, 0);
-        }
-        let next = e.b.ins().iadd_imm_s(e.at, 16);
-        let end = e.b.ins().iconst(ptr, (LANES * 4) as i64);
+        let next = e.b.ins().iadd_imm_s(e.at, 16 * UNROLL as i64);
         let more = e.b.ins().icmp(IntCC::UnsignedLessThan, next, end);
-        e.b.ins().brif(more, header, &[next.into()], exit, &[]);
+        e.b.ins().brif(
+            more,
+            header,
+            &[next.into(), seen.into()],
+            exit,
+            &[seen.into()],
+        );
         e.b.switch_to_block(exit);
-        e.b.ins().return_(&[]);
+        if whole.is_some() {
+            let seen = e.b.block_params(exit)[0];
+            let any = e.b.ins().vany_true(seen);
+            let any = e.b.ins().uextend(types::I32, any);
+            e.b.ins().return_(&[any]);
+        } else {
+            e.b.ins().return_(&[]);
+        }
         e.b.seal_all_blocks();
+        let loaded = std::mem::take(&mut e.loaded);
         e.b.finalize(module.target_config());
+        (loaded, stored)
     }
 
     /// The address of the current four lanes of slot `s`.
@@ -406,7 +580,8 @@ impl<'a> Emit<'a> {
             return V::I(self.splat(bits));
         }
         let addr = self.addr(s);
-        let v = self.b.ins().load(types::I32X4, flags(), addr, 0);
+        let v = self.b.ins().load(types::I32X4, flags(), addr, self.off);
+        self.loaded.insert(s);
         self.vals.insert(s, V::I(v));
         V::I(v)
     }
@@ -693,8 +868,98 @@ impl<'a> Emit<'a> {
                 let m = self.b.ins().icmp(cc, x, y);
                 self.bool01(m)
             }
+            FPow => {
+                let x = self.f(a[0]);
+                let bits = self.consts[&a[1]];
+                V::F(self.pow(x, bits))
+            }
             _ => unreachable!("{} is not among the supported operations", op.name()),
         }
+    }
+
+    /// `arith::pow(x, b)` for a constant `b` that [`small_power`] accepts:
+    /// for bases that are positive and finite, its repeated multiplication in
+    /// f64 (the same products in the same order) rounded once to f32, two
+    /// lanes per f64 vector; a group of four lanes with any other base calls
+    /// `arith::pow` itself for all four.
+    fn pow(&mut self, x: Value, b: u32) -> Value {
+        let n = small_power(b).expect("checked by expressible");
+        // Lanes 2 and 3 moved down, so both halves widen with
+        // `fvpromote_low`.
+        let bytes = |e: &mut Self, v: Value| e.b.ins().bitcast(types::I8X16, lanes_order(), v);
+        let xb = bytes(self, x);
+        let swap: Vec<u8> = (8..16).chain(0..8).collect();
+        let swap = self.b.func.dfg.immediates.push(swap.into());
+        let hi = self.b.ins().shuffle(xb, xb, swap);
+        let hi = self.b.ins().bitcast(types::F32X4, lanes_order(), hi);
+        let halves = [x, hi].map(|h| {
+            let base = self.b.ins().fvpromote_low(h);
+            // arith::pow: acc = 1, base = x; per bit of |n|, low first:
+            // acc *= base if set, then base *= base.
+            let one = self.b.ins().f64const(1.0);
+            let mut acc = self.b.ins().splat(types::F64X2, one);
+            let mut base = base;
+            let mut m = n.unsigned_abs();
+            while m > 0 {
+                if m & 1 == 1 {
+                    acc = self.b.ins().fmul(acc, base);
+                }
+                base = self.b.ins().fmul(base, base);
+                m >>= 1;
+            }
+            if n < 0 {
+                let one = self.b.ins().f64const(1.0);
+                let one = self.b.ins().splat(types::F64X2, one);
+                acc = self.b.ins().fdiv(one, acc);
+            }
+            let d = self.b.ins().fvdemote(acc);
+            bytes(self, d)
+        });
+        let join: Vec<u8> = (0..8).chain(16..24).collect();
+        let join = self.b.func.dfg.immediates.push(join.into());
+        let fast = self.b.ins().shuffle(halves[0], halves[1], join);
+        let fast = self.b.ins().bitcast(types::F32X4, lanes_order(), fast);
+
+        // Every lane positive and finite (NaN compares false)?
+        let zero = self.fconst(0.0);
+        let inf = self.fconst(f32::from_bits(EXP));
+        let pos = self.b.ins().fcmp(FloatCC::GreaterThan, x, zero);
+        let fin = self.b.ins().fcmp(FloatCC::LessThan, x, inf);
+        let ok = self.b.ins().band(pos, fin);
+        let all = self.b.ins().vall_true(ok);
+        let slow = self.b.create_block();
+        let join = self.b.create_block();
+        self.b.append_block_param(join, types::F32X4);
+        self.b.ins().brif(all, join, &[fast.into()], slow, &[]);
+
+        self.b.switch_to_block(slow);
+        let slot = self
+            .b
+            .create_sized_stack_slot(cranelift_codegen::ir::StackSlotData::new(
+                cranelift_codegen::ir::StackSlotKind::ExplicitSlot,
+                32,
+                4,
+            ));
+        let ptr = self.ptr;
+        let input = self.b.ins().stack_addr(ptr, slot, 0);
+        let output = self.b.ins().stack_addr(ptr, slot, 16);
+        self.b.ins().store(flags(), x, input, 0);
+        let mut sig = cranelift_codegen::ir::Signature::new(self.call_conv);
+        sig.params.extend([
+            AbiParam::new(ptr),
+            AbiParam::new(ptr),
+            AbiParam::new(types::I32),
+        ]);
+        let sig = self.b.import_signature(sig);
+        let entry: unsafe extern "C" fn(*mut u32, *const u32, u32) = pow_lanes;
+        let f = self.b.ins().iconst(ptr, entry as usize as i64);
+        let bits = self.b.ins().iconst(types::I32, i64::from(b));
+        self.b.ins().call_indirect(sig, f, &[output, input, bits]);
+        let r = self.b.ins().load(types::F32X4, flags(), output, 0);
+        self.b.ins().jump(join, &[r.into()]);
+
+        self.b.switch_to_block(join);
+        self.b.block_params(join)[0]
     }
 
     fn arith(&mut self, op: Opcode, x: Value, y: Value) -> Value {
@@ -806,15 +1071,8 @@ mod tests {
 
     #[test]
     fn every_supported_operation_gives_the_executors_bits() {
-        // The executor with every three-operand vector width this machine
-        // runs. The baseline's two-operand SSE2 form lets the compiler swap
-        // the operands of `+` and `*`, so where both are NaNs the baseline
-        // kernels may return either NaN (the test shows they do); native
-        // code, like the AVX kernels, returns the first.
+        // The executor at every vector width this machine runs.
         for width in crate::eval::Width::available() {
-            if width == crate::eval::Width::Baseline {
-                continue;
-            }
             crate::eval::set_width(Some(width));
             let r = std::panic::catch_unwind(|| every_supported_operation(width));
             crate::eval::set_width(None);
@@ -857,7 +1115,8 @@ mod tests {
         }
     }
 
-    /// A stretch, an interpreted `pow` that reads what the stretch computed,
+    /// A stretch, an interpreted `pow` (its exponent is not integral) that
+    /// reads what the stretch computed,
     /// a second stretch with an `if` whose sides write the output through
     /// masked copies and leave through an exit, constants and fills.
     #[test]
@@ -902,7 +1161,7 @@ mod tests {
             },
             Op::Copy { dst: 14, src: 0 },
         ];
-        let c = code(ops, 15, vec![13, 14, 4], vec![(12, 3.0f32.to_bits())]);
+        let c = code(ops, 15, vec![13, 14, 4], vec![(12, 2.5f32.to_bits())]);
         let native = compile(&c).expect("two stretches");
         assert!(matches!(
             native.steps[..],
@@ -911,6 +1170,110 @@ mod tests {
         for b in &triples() {
             let [want, got] = both(&c, b);
             assert_eq!(want, got);
+        }
+    }
+
+    /// `pow` with a constant exponent: native code for small integral ones
+    /// (bases over the whole positive range four lanes at a time, and
+    /// groups of four holding a special, which go to `arith::pow`), the
+    /// executor's for the others.
+    #[test]
+    fn pow_with_a_constant_exponent_gives_the_executors_bits() {
+        // Positive finite bases spread over every exponent of binary32 (a
+        // simple LCG over the bit patterns below +inf), then the specials.
+        let mut state = 0x2545_f491_u64;
+        let mut bases: Vec<u32> = (0..LANES * 40)
+            .map(|_| {
+                state = state
+                    .wrapping_mul(6_364_136_223_846_793_005)
+                    .wrapping_add(1);
+                ((state >> 33) as u32 % 0x7f7f_ffff) + 1
+            })
+            .collect();
+        let n = bases.len();
+        for (k, &v) in VALUES.iter().enumerate() {
+            bases[k * 37 % n] = v;
+        }
+        let batches: Vec<[Lanes; 3]> = bases
+            .chunks(LANES)
+            .map(|c| [c.try_into().unwrap(), [0; LANES], [0; LANES]])
+            .collect();
+        for e in [
+            5.0f32, 2.0, 3.0, 1.0, 0.0, -0.0, -1.0, -2.0, 7.0, 32.0, -32.0, 2.5, 33.0,
+        ] {
+            let c = code(
+                vec![Op::Kernel {
+                    op: Opcode::FPow,
+                    half: false,
+                    dst: 4,
+                    args: [1, 5, 0, 0],
+                    at: 0,
+                }],
+                6,
+                vec![4],
+                vec![(5, e.to_bits())],
+            );
+            let native = compile(&c);
+            assert_eq!(native.is_some(), e.abs() <= 32.0 && e.fract() == 0.0, "{e}");
+            if native.is_none() {
+                continue;
+            }
+            for b in &batches {
+                let [want, got] = both(&c, b);
+                for lane in 0..LANES {
+                    assert_eq!(want[0][lane], got[0][lane], "pow({:#x}, {e})", b[0][lane]);
+                }
+            }
+        }
+    }
+
+    /// A one-stretch function runs its full batches in one call straight in
+    /// the caller's columns (`Native::whole`); the ragged tail, and batches
+    /// with a result that is not finite (run again one at a time for their
+    /// NaN issues), take the per-batch path. Results and issues are the
+    /// executor's, over ranges of every length around the batch size.
+    #[test]
+    fn whole_ranges_give_the_executors_results_and_issues() {
+        use crate::eval::{set_tier, Program};
+        use crate::wgsl::Shader;
+        let src = "fn f(x: f32, r: f32) -> f32 {
+            let a = r * r;
+            var y = a / (x * x - 0.25);
+            if x > 2.0 { y = -y; }
+            return y;
+        }";
+        let sh = Shader::from_source("whole.wgsl", src.to_string()).unwrap();
+        let p = Program::compile(&sh, "f", &Default::default()).unwrap();
+        let native = compile(&p.fast).expect("one stretch");
+        assert!(native.whole.is_some(), "the function is one stretch");
+        for n in [1, LANES - 1, LANES, LANES + 1, 3 * LANES + 5, 40 * LANES] {
+            // x = 0.5 (a division by zero) at a few points, in full batches
+            // and in the tail; +inf and NaN inputs (not finite, no issue).
+            let x: Vec<u32> = (0..n)
+                .map(|i| match i % 97 {
+                    13 => 0.5f32,
+                    50 => f32::INFINITY,
+                    71 => f32::NAN,
+                    _ => i as f32 / n as f32 * 4.0,
+                })
+                .map(f32::to_bits)
+                .collect();
+            let r: Vec<u32> = (0..n).map(|i| (i as f32 * 0.37).sin().to_bits()).collect();
+            let mut runs = [Tier::Interpret, Tier::Native].map(|t| {
+                set_tier(Some(t));
+                let mut out = Vec::new();
+                let issues = p.eval(&[&x, &r], &mut out);
+                (out, issues)
+            });
+            set_tier(None);
+            let native = runs[1].clone();
+            let interpreted = std::mem::take(&mut runs[0]);
+            assert_eq!(interpreted, native, "{n} points");
+            assert_eq!(
+                native.1.len(),
+                x.iter().filter(|&&b| f32::from_bits(b) == 0.5).count(),
+                "{n} points: one issue per division by zero"
+            );
         }
     }
 
