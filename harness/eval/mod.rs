@@ -100,6 +100,8 @@ pub struct Program {
     /// compile).
     #[cfg(all(target_arch = "x86_64", not(miri)))]
     native: std::sync::OnceLock<Option<std::sync::Arc<native::Native>>>,
+    /// Points evaluated so far, over every call (chooses the tier).
+    evaluated: std::sync::atomic::AtomicUsize,
 }
 
 /// Points per parallel work item (several batches, so scheduling is cheap).
@@ -201,6 +203,7 @@ impl Program {
             seed,
             #[cfg(all(target_arch = "x86_64", not(miri)))]
             native: std::sync::OnceLock::new(),
+            evaluated: std::sync::atomic::AtomicUsize::new(0),
         })
     }
 
@@ -290,6 +293,7 @@ impl Program {
     /// [`Program::try_eval`] for inputs that come from users.
     pub fn eval(&self, inputs: &[&[u32]], outputs: &mut Vec<Vec<u32>>) -> Vec<LaneIssue> {
         let n = self.prepare(inputs, outputs);
+        let native = self.native_for(n);
         // One raw pointer per output column, taken once: the only way any
         // thread reaches the columns until the evaluation ends.
         let out_ptrs: Vec<OutCol> = outputs.iter_mut().map(|c| OutCol(c.as_mut_ptr())).collect();
@@ -302,7 +306,7 @@ impl Program {
         rayon::scope(|s| {
             for _ in 0..workers {
                 s.spawn(|_| {
-                    let mut m = self.machine(n);
+                    let mut m = self.machine(native.clone());
                     let mut mine = Vec::new();
                     loop {
                         let c = next.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
@@ -335,7 +339,7 @@ impl Program {
     /// results and issues, in the same order, as [`Program::eval`].
     pub fn eval_serial(&self, inputs: &[&[u32]], outputs: &mut Vec<Vec<u32>>) -> Vec<LaneIssue> {
         let n = self.prepare(inputs, outputs);
-        let mut m = self.machine(n);
+        let mut m = self.machine(self.native_for(n));
         let outs: Vec<OutCol> = outputs.iter_mut().map(|c| OutCol(c.as_mut_ptr())).collect();
         let mut issues = self.run_range(&mut m, inputs, &outs, n, 0);
         // Within a batch, index and budget issues come before the non-finite
@@ -344,20 +348,43 @@ impl Program {
         issues
     }
 
-    /// A machine for an evaluation of `points` points, with native code
-    /// when the tier for that many points is [`native::Tier::Native`].
-    fn machine(&self, points: usize) -> Machine {
+    /// The native code an evaluation of `points` more points runs with:
+    /// `Some` when the program's tier is [`Tier::Native`] by then (counting
+    /// those points) and it has straight-line stretches to compile.
+    #[cfg(all(target_arch = "x86_64", not(miri)))]
+    fn native_for(&self, points: usize) -> Option<std::sync::Arc<native::Native>> {
+        let total = self
+            .evaluated
+            .fetch_add(points, std::sync::atomic::Ordering::Relaxed)
+            .saturating_add(points);
+        if native::tier_for(total) != native::Tier::Native {
+            return None;
+        }
+        self.native
+            .get_or_init(|| native::compile(&self.fast).map(std::sync::Arc::new))
+            .clone()
+    }
+
+    /// Without a native code generator, every evaluation is interpreted.
+    #[cfg(not(all(target_arch = "x86_64", not(miri))))]
+    fn native_for(&self, _points: usize) -> Option<()> {
+        None
+    }
+
+    /// A machine for this program, running `native` code where given.
+    #[cfg(all(target_arch = "x86_64", not(miri)))]
+    fn machine(&self, native: Option<std::sync::Arc<native::Native>>) -> Machine {
         let mut m = Machine::new(&self.fast, self.step_budget);
         m.seed = self.seed;
-        #[cfg(all(target_arch = "x86_64", not(miri)))]
-        if native::tier_for(points) == native::Tier::Native {
-            m.native = self
-                .native
-                .get_or_init(|| native::compile(&self.fast).map(std::sync::Arc::new))
-                .clone();
-        }
-        #[cfg(not(all(target_arch = "x86_64", not(miri))))]
-        let _ = points;
+        m.native = native;
+        m
+    }
+
+    /// A machine for this program.
+    #[cfg(not(all(target_arch = "x86_64", not(miri))))]
+    fn machine(&self, _native: Option<()>) -> Machine {
+        let mut m = Machine::new(&self.fast, self.step_budget);
+        m.seed = self.seed;
         m
     }
 

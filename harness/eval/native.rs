@@ -104,13 +104,14 @@ pub enum Tier {
     Native,
 }
 
-/// 0: automatic (native code for evaluations of at least [`NATIVE_MIN`]
-/// points); otherwise `1 + Tier as u8`.
+/// 0: automatic (native code once a program has evaluated [`NATIVE_MIN`]
+/// points in all); otherwise `1 + Tier as u8`.
 static TIER: AtomicU8 = AtomicU8::new(0);
 
-/// Evaluations of fewer points are interpreted when the tier is automatic:
-/// compiling costs about as much as interpreting this many points of a
-/// large function.
+/// When the tier is automatic, a program is interpreted until it has
+/// evaluated this many points in all (over every call: a streamed check
+/// evaluates in segments of 4,096): compiling costs about as much as
+/// interpreting this many points of a large function.
 pub const NATIVE_MIN: usize = 16_384;
 
 /// Force a tier for every evaluation (`None`: automatic, the default).
@@ -120,7 +121,8 @@ pub fn set_tier(tier: Option<Tier>) {
     TIER.store(tier.map_or(0, |t| 1 + t as u8), Ordering::Relaxed);
 }
 
-/// The tier an evaluation of `points` points runs with.
+/// The tier an evaluation runs with, by the points the program has evaluated
+/// in all, this evaluation's included.
 pub(crate) fn tier_for(points: usize) -> Tier {
     match TIER.load(Ordering::Relaxed) {
         1 => Tier::Interpret,
