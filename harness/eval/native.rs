@@ -3,13 +3,16 @@
 //! The executor runs one operation at a time over a whole batch, so every
 //! intermediate value goes to memory and back between operations. Here each
 //! maximal stretch of top-level operations that native code can express (the
-//! float and integer arithmetic of [`supported`], copies, fills, masked copies,
-//! exits and `if`s made only of those) is compiled with Cranelift into one
-//! function: a loop over the batch, four lanes at a time, whose values stay in
-//! registers from operation to operation. Only the slots a later step or the
-//! batch driver reads are stored; operations outside the set (`pow`, the
-//! transcendental functions, loops, indexing, f16 operations, the spec-bound
-//! number model's perturbations) run in the executor between the stretches.
+//! operations of [`SUPPORTED`], `pow` with a constant integral exponent of
+//! magnitude at most 32, copies, fills, masked copies, exits and `if`s made
+//! only of those) is compiled with Cranelift into one function: a loop over
+//! the batch, four lanes at a time, whose values stay in registers from
+//! operation to operation. Only the slots a later step or the batch driver
+//! reads are stored; everything else (other `pow`s, the transcendental
+//! functions, loops, indexing, f16 operations, the spec-bound number model's
+//! perturbations) runs in the executor between the stretches. A program that
+//! is one stretch also gets [`Native::whole`], which runs whole ranges of
+//! full batches straight in the caller's columns.
 //!
 //! ## Same bits as the executor
 //! Each operation is emitted as the lane kernel of [`super::lanes`] computes
@@ -19,9 +22,9 @@
 //! compare-and-select, booleans 0 or 1. Both sides of an `if` run for every
 //! lane: every operation here computes all lanes anyway, and a side whose
 //! mask is empty changes no lane through its masked copies and exits. The
-//! tests in this module and `tests/eval/native.rs` compare the two tiers bit
-//! for bit, NaN payloads included, on every operation and every function of
-//! the demo library.
+//! tests in this module and in `tests/eval/straightforward.rs` compare the
+//! two tiers bit for bit, NaN payloads included, on every operation at every
+//! vector width and on every function of the demo library.
 //!
 //! ## Memory
 //! A compiled stretch reads and writes exactly the columns the executor would:
@@ -29,8 +32,11 @@
 //! `LANES` lanes each, and the code touches lanes `0..LANES` of the slots its
 //! operations name, all below the code's slot count (the verifier's rule 1).
 //! Input slots are only read (rule 4), so bound read-only columns stay
-//! untouched. Generated code cannot run under Miri; there the executor
-//! interprets every operation (this module is not compiled).
+//! untouched. [`Native::whole`] touches only the input and output columns
+//! its table gives, over the length it is given (checked when it is
+//! compiled: it loads no other slot and stores no other slot). Generated code
+//! cannot run under Miri; there the executor interprets every operation (this
+//! module is not compiled).
 
 use std::collections::{BTreeSet, HashMap};
 use std::sync::atomic::{AtomicU8, Ordering};
@@ -68,8 +74,9 @@ pub(crate) struct Native {
     /// ones): `whole(table, bytes)`, where `table` has one entry per slot,
     /// the column of each input and output slot at its first lane, and
     /// `bytes` is a multiple of `16 * UNROLL`; returns non-zero when a float
-    /// output holds NaN or an infinity somewhere. Present when the program is one
-    /// stretch that loads only input slots and stores only output slots.
+    /// output holds NaN or an infinity somewhere. Present when the program
+    /// is one stretch that loads only input slots and stores only output
+    /// slots.
     pub whole: Option<Whole>,
     /// The slot count of the code compiled.
     pub slot_count: usize,
@@ -78,18 +85,21 @@ pub(crate) struct Native {
 }
 
 // SAFETY: after `finalize_definitions` the module's code is immutable and
-// is only executed (from any thread) through the entries in `steps`; the
-// module itself is touched only by `drop`, which has `&mut self`.
+// is only executed (from any thread) through the entries in `steps` and
+// `whole`; the module itself is touched only by `drop`, which has
+// `&mut self`.
 unsafe impl Send for Native {}
 unsafe impl Sync for Native {}
 
 impl Drop for Native {
     fn drop(&mut self) {
         self.steps.clear();
+        self.whole = None;
         if let Some(m) = self.module.take() {
             // SAFETY: the only pointers into the module's code were in
-            // `steps`, cleared above, and a `Native` is dropped only when no
-            // machine uses it (machines hold it through an `Arc`).
+            // `steps` and `whole`, cleared above, and a `Native` is dropped
+            // only when no machine uses it (machines hold it through an
+            // `Arc`).
             unsafe { m.free_memory() };
         }
     }
