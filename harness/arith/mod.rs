@@ -110,10 +110,34 @@ pub fn smoothstep(lo: f32, hi: f32, x: f32) -> f32 {
     t * t * (3.0 - 2.0 * t)
 }
 
-/// WGSL `mix(e1, e2, e3)` = e1 * (1 - e3) + e2 * e3 (17.5, "mix").
+/// WGSL `mix(e1, e2, e3)` = e1 * (1 - e3) + e2 * e3 (17.5, "mix"), with
+/// the NaN of each step the one that step gives in this order
+/// ([`nan_first`]): left to the compiler, which may swap the operands of `*`
+/// and `+`, the evaluator's AVX2 and AVX-512 kernels returned different NaNs
+/// where several operands were NaNs.
 #[inline(always)]
 pub fn mix(a: f32, b: f32, t: f32) -> f32 {
-    a * (1.0 - t) + b * t
+    let p = nan_first(a, a * (1.0 - t));
+    let q = nan_first(b, b * t);
+    nan_first(p, p + q)
+}
+
+/// `r`, the result of an operation whose first operand is `a`, with the NaN
+/// that operation gives when `a` is a NaN: `a` quietened. On x86-64 an
+/// arithmetic instruction returns its first NaN operand, quietened (the
+/// architecture's NaN rule, stated here from memory and checked on each
+/// machine by the tests in `eval/fuse.rs` and `eval/native.rs`); but the
+/// compiler may swap the operands of `+` and `*` (the baseline's
+/// two-operand SSE2 code did), which would change which NaN comes out when
+/// both are NaNs, so the evaluator's kernels say it with this. Where `a` is
+/// no NaN, either order gives the same bits.
+#[inline(always)]
+pub fn nan_first(a: f32, r: f32) -> f32 {
+    if a.is_nan() {
+        f32::from_bits(a.to_bits() | 0x0040_0000)
+    } else {
+        r
+    }
 }
 
 /// WGSL `pow(e1, e2)`. The spec inherits its accuracy from

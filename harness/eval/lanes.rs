@@ -8,6 +8,7 @@
 use std::marker::PhantomData;
 
 use crate::arith;
+use crate::arith::nan_first;
 
 /// Lanes per batch. Every slot holds one column of this many 32-bit patterns.
 #[cfg(not(miri))]
@@ -55,26 +56,6 @@ type Half = f32;
 /// f16 version would have to round the intermediate to binary16 too), and
 /// fusion never applies to f16 code.
 type Single = f32;
-
-/// `r`, the result of an operation whose first operand is `a`, with the NaN
-/// the plain kernel of that operation gives when `a` is a NaN: `a`
-/// quietened. On x86-64 an arithmetic instruction returns its first NaN
-/// operand, quietened (the architecture's NaN rule, stated here from
-/// memory and checked on each machine by the tests in `fuse.rs`), and the plain
-/// kernels keep the source operand order; inside a fused kernel the
-/// compiler may swap the operands of `+` and `*`, which would change which
-/// NaN comes out when both are NaNs, so the fused kernels say it here. Where
-/// `a` is no NaN, either order gives the same bits. The fused kernels'
-/// tests (`fuse.rs`) compare them with the plain kernels bit for bit, NaN
-/// payloads included, on the machine that runs them.
-#[inline(always)]
-fn nan_first(a: f32, r: f32) -> f32 {
-    if a.is_nan() {
-        f32::from_bits(a.to_bits() | 0x0040_0000)
-    } else {
-        r
-    }
-}
 
 /// A value that lives in a lane as 32 bits. f16 values live as the f32 that
 /// holds them exactly (see `arith`).
@@ -530,15 +511,7 @@ binary {
 
 ternary {
     FClamp(x: f32, lo: f32, hi: f32) -> f32 { arith::fclamp(x, lo, hi) }
-    // arith::mix, x * (1 - t) + y * t, with the NaN of each step the one
-    // the plain op gives in this order (`nan_first`): left to the compiler,
-    // which may swap the operands of `*` and `+`, the AVX2 and AVX-512
-    // kernels returned different NaNs where several operands were NaNs.
-    FMix(x: f32, y: f32, t: f32) -> f32 {
-        let p = nan_first(x, x * (1.0 - t));
-        let q = nan_first(y, y * t);
-        nan_first(p, p + q)
-    }
+    FMix(x: f32, y: f32, t: f32) -> f32 { arith::mix(x, y, t) }
     FSmooth(lo: f32, hi: f32, x: f32) -> f32 { arith::smoothstep(lo, hi, x) }
     // f16 formula built-ins: every step rounded to binary16 (see `arith`).
     HMix(x: f32, y: f32, t: f32) -> Half { arith::mix_f16(x, y, t) }
