@@ -344,7 +344,7 @@ fn single(op: &mut Op, one: &[Slot]) {
 }
 
 #[cfg(test)]
-mod tests {
+pub(crate) mod tests {
     //! Each fused kernel against its chain of plain kernels, bit for bit,
     //! over special values; and the pass: what it fuses, what it leaves.
     use super::*;
@@ -354,7 +354,7 @@ mod tests {
     /// Special f32 values (IEEE 754 binary32): NaNs with payloads and
     /// signs (quiet and signalling), infinities, zeros, subnormals, the
     /// extremes of the normal range, and a few ordinary numbers.
-    const SPECIAL: [u32; 18] = [
+    pub(crate) const SPECIAL: [u32; 18] = [
         0x7fc0_0000, // quiet NaN
         0xffc0_0001, // negative quiet NaN with a payload
         0x7f80_0001, // signalling NaN
@@ -419,11 +419,11 @@ mod tests {
         }
     }
 
-    /// Every (x, y, z) of [`SPECIAL`], `LANES` at a time.
-    fn triples() -> Vec<[Lanes; 3]> {
-        let n = SPECIAL.len();
+    /// Every (x, y, z) of `values` (three columns), `LANES` at a time.
+    pub(crate) fn triples(values: &[u32]) -> Vec<[Lanes; 3]> {
+        let n = values.len();
         let all: Vec<[u32; 3]> = (0..n * n * n)
-            .map(|i| [SPECIAL[i / (n * n)], SPECIAL[i / n % n], SPECIAL[i % n]])
+            .map(|i| [values[i / (n * n)], values[i / n % n], values[i % n]])
             .collect();
         all.chunks(LANES)
             .map(|c| {
@@ -459,7 +459,7 @@ mod tests {
                         continue;
                     };
                     fused += 1;
-                    for [x, y, z] in triples() {
+                    for [x, y, z] in triples(&SPECIAL) {
                         let t = bin(first, &x, &y);
                         let want = if pos == 0 {
                             bin(second, &t, &z)
@@ -486,7 +486,7 @@ mod tests {
             }
         }
         assert_eq!(fused, 8, "every row of `chain` was tested");
-        for [x, ..] in triples() {
+        for [x, ..] in triples(&SPECIAL) {
             assert_eq!(un(O::FSq, &x), bin(O::FMul, &x, &x));
             assert_eq!(
                 un(O::FOneMinus, &x),

@@ -992,60 +992,24 @@ impl<'a> Emit<'a> {
 mod tests {
     use super::*;
     use crate::eval::exec::{Machine, Verified};
-    use crate::eval::ir::Site;
+    use crate::eval::fuse::tests::{triples, SPECIAL};
     use std::sync::Arc;
 
-    /// Float specials (IEEE 754 binary32: NaNs with payloads and signs,
-    /// quiet and signalling, infinities, signed zeros, subnormals, the ends
-    /// of the normal range, ordinary numbers) and integer and boolean
-    /// patterns (0, 1, 2, -1, the sign bit alone, the largest i32).
-    const VALUES: [u32; 24] = [
-        0x7fc0_0000,
-        0xffc0_0001,
-        0x7f80_0001,
-        0x7fa0_0003,
-        0x7f80_0000,
-        0xff80_0000,
-        0x0000_0000,
-        0x8000_0000,
-        0x0000_0001,
-        0x807f_ffff,
-        0x0080_0000,
-        0x7f7f_ffff,
-        0xff7f_ffff,
-        0x3f80_0000,
-        0xbf80_0000,
-        0x3f80_0001,
-        0x3eaa_aaab,
-        0x5f00_0000,
-        0x1f80_0000,
-        0x4049_0fdb,
-        1,
-        2,
-        0xffff_ffff,
-        0x7fff_ffff,
-    ];
+    /// The float specials of the fused kernels' tests (NaNs with payloads
+    /// and signs, infinities, signed zeros, subnormals, the ends of the
+    /// normal range, ordinary numbers), another signalling NaN, pi, and
+    /// integer and boolean patterns (2, -1, the largest i32; 0, 1 and the
+    /// sign bit alone are among the specials).
+    fn values() -> Vec<u32> {
+        let more = [0x7fa0_0003, 0x4049_0fdb, 2, 0xffff_ffff, 0x7fff_ffff];
+        SPECIAL.iter().chain(&more).copied().collect()
+    }
 
     /// Slots: 0 root mask, 1..=3 inputs, the rest as the ops need.
     fn code(ops: Vec<Op>, slots: usize, outputs: Vec<Slot>, consts: Vec<(Slot, u32)>) -> Verified {
-        Verified::new(Code {
-            ops,
-            slot_count: slots,
-            sites: vec![Site {
-                line: 1,
-                column: 1,
-                what: String::new(),
-                mask: 0,
-            }],
-            params: Vec::new(),
-            out_params: Vec::new(),
-            input_slots: vec![1, 2, 3],
-            result: None,
-            output_slots: outputs,
-            root_mask: 0,
-            consts,
-        })
-        .unwrap_or_else(|e| panic!("{e}"))
+        let mut c = crate::eval::alloc::tests::code(ops, slots - 3, outputs, consts);
+        c.input_slots.push(3);
+        Verified::new(c).unwrap_or_else(|e| panic!("{e}"))
     }
 
     /// Run `code` over `inputs` (three columns), interpreted and with native
@@ -1065,25 +1029,6 @@ mod tests {
         })
     }
 
-    /// Every (x, y, z) of [`VALUES`], `LANES` at a time.
-    fn triples() -> Vec<[Lanes; 3]> {
-        let n = VALUES.len();
-        let all: Vec<[u32; 3]> = (0..n * n * n)
-            .map(|i| [VALUES[i / (n * n)], VALUES[i / n % n], VALUES[i % n]])
-            .collect();
-        all.chunks(LANES)
-            .map(|c| {
-                let mut cols = [[0; LANES]; 3];
-                for (l, t) in c.iter().enumerate() {
-                    for (col, &v) in cols.iter_mut().zip(t) {
-                        col[l] = v;
-                    }
-                }
-                cols
-            })
-            .collect()
-    }
-
     #[test]
     fn every_supported_operation_gives_the_executors_bits() {
         // The executor at every vector width this machine runs.
@@ -1098,7 +1043,7 @@ mod tests {
     }
 
     fn every_supported_operation(width: crate::eval::Width) {
-        let batches = triples();
+        let batches = triples(&values());
         for &op in SUPPORTED {
             let c = code(
                 vec![Op::Kernel {
@@ -1182,7 +1127,7 @@ mod tests {
             native.steps[..],
             [Step::Native(_), Step::Op(3), Step::Native(_)]
         ));
-        for b in &triples() {
+        for b in &triples(&values()) {
             let [want, got] = both(&c, b);
             assert_eq!(want, got);
         }
@@ -1206,7 +1151,7 @@ mod tests {
             })
             .collect();
         let n = bases.len();
-        for (k, &v) in VALUES.iter().enumerate() {
+        for (k, &v) in values().iter().enumerate() {
             bases[k * 37 % n] = v;
         }
         let batches: Vec<[Lanes; 3]> = bases
