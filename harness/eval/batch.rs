@@ -19,6 +19,16 @@ use super::ir::Code;
 use super::lanes::{Lanes, LANES};
 use super::{in_place, to_external, to_lane, IssueKind, LaneIssue, Program, ScalarKind};
 
+/// The exponent bits of binary32: all ones in NaN and the infinities, and
+/// nowhere else (IEEE 754); f16 lives in lanes as f32, so the same test
+/// serves both.
+pub(crate) const EXP: u32 = 0x7f80_0000;
+
+/// Whether any of the float lanes is NaN or infinite (a branch-free OR).
+fn any_nonfinite(lanes: &[u32]) -> bool {
+    lanes.iter().fold(0, |a, &b| a | u32::from(b & EXP == EXP)) != 0
+}
+
 /// The start of one output column's range, valid for writes of the range's
 /// length and written by nothing else while the range runs.
 #[derive(Clone, Copy)]
@@ -51,7 +61,7 @@ impl Program {
             // Batches with a result that is not finite run again one at a
             // time (the same bits), for their issues.
             for b in (0..done).step_by(LANES) {
-                if nonfinite && Self::any_nonfinite(outs, &out_kinds, b) {
+                if nonfinite && Self::batch_nonfinite(outs, &out_kinds, b) {
                     self.run_batch(
                         m,
                         ins,
@@ -238,14 +248,13 @@ impl Program {
     /// Whether a float output of the batch from `start` holds NaN or an
     /// infinity.
     #[cfg(all(target_arch = "x86_64", not(miri)))]
-    fn any_nonfinite(outs: &[OutCol], out_kinds: &[ScalarKind], start: usize) -> bool {
-        const EXP: u32 = 0x7f80_0000;
+    fn batch_nonfinite(outs: &[OutCol], out_kinds: &[ScalarKind], start: usize) -> bool {
         outs.iter().zip(out_kinds).any(|(col, k)| {
             // SAFETY: the batch's `LANES` values from `start` were written by
             // `run_whole` (`start + LANES <= done <= n`), and no `&mut` to the
             // column is alive.
             let lanes = unsafe { std::slice::from_raw_parts(col.0.add(start), LANES) };
-            k.is_float() && lanes.iter().fold(0, |a, &b| a | u32::from(b & EXP == EXP)) != 0
+            k.is_float() && any_nonfinite(lanes)
         })
     }
 
@@ -298,9 +307,6 @@ impl Program {
         len: usize,
         flagged: &[bool; LANES],
     ) -> Option<[bool; LANES]> {
-        // An exponent of all ones marks NaN and infinity (IEEE 754 binary32);
-        // f16 lives in lanes as f32, so the same test serves both.
-        const EXP: u32 = 0x7f80_0000;
         // Branch-free OR over the batch first: the common case is "all
         // finite".
         let floats = || {
@@ -311,7 +317,7 @@ impl Program {
                 .filter(|(_, k)| k.is_float())
                 .map(|(&o, _)| &m.lanes(o)[..len])
         };
-        if !floats().any(|col| col.iter().fold(0, |a, &b| a | u32::from(b & EXP == EXP)) != 0) {
+        if !floats().any(any_nonfinite) {
             return None;
         }
         let mut bad = [0u32; LANES];

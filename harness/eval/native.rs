@@ -48,6 +48,7 @@ use cranelift_frontend::{FunctionBuilder, FunctionBuilderContext};
 use cranelift_jit::{JITBuilder, JITModule};
 use cranelift_module::{Linkage, Module};
 
+use super::batch::EXP;
 use super::ir::{Code, Op, Slot, Use};
 use super::lanes::{Lanes, Opcode, LANES};
 
@@ -402,9 +403,6 @@ fn stretches(ops: &[Op], consts: &HashMap<Slot, u32>) -> Vec<std::ops::Range<usi
 /// iterations.
 const UNROLL: usize = 2;
 
-/// The exponent bits of binary32; all ones in NaN and the infinities (the
-/// bits of +inf).
-const EXP: u32 = 0x7f80_0000;
 const _: () = assert!(LANES.is_multiple_of(4 * UNROLL));
 
 /// A lane value: four 32-bit lanes, last seen as floats or as integers.
