@@ -13,13 +13,18 @@ use shadegate::eval as lanes;
 use shadegate::eval::Width;
 use shadegate::gate;
 
-#[test]
-fn batched_widest_in_place_equals_one_point_at_a_time_at_every_width() {
-    let suite = shadegate::suite::load(Path::new(concat!(
+/// The demo suite of this repository.
+fn demo_suite() -> shadegate::suite::Suite {
+    shadegate::suite::load(Path::new(concat!(
         env!("CARGO_MANIFEST_DIR"),
         "/shadegate.toml"
     )))
-    .unwrap();
+    .unwrap()
+}
+
+#[test]
+fn batched_widest_in_place_equals_one_point_at_a_time_at_every_width() {
+    let suite = demo_suite();
     let mut functions = 0;
     for check in &suite.checks {
         let ev = gate::evaluate(&suite, check, None).unwrap_or_else(|e| panic!("{e}"));
@@ -57,11 +62,7 @@ fn batched_widest_in_place_equals_one_point_at_a_time_at_every_width() {
 #[test]
 fn native_code_gives_the_executors_bits_on_every_demo_function() {
     use shadegate::eval::{set_tier, Tier};
-    let suite = shadegate::suite::load(Path::new(concat!(
-        env!("CARGO_MANIFEST_DIR"),
-        "/shadegate.toml"
-    )))
-    .unwrap();
+    let suite = demo_suite();
     let mut compiled = 0;
     for check in &suite.checks {
         let ev = gate::evaluate(&suite, check, None).unwrap_or_else(|e| panic!("{e}"));
