@@ -75,7 +75,8 @@ pub(crate) struct Native {
     /// ones): `whole(table, bytes)`, where `table` has one entry per slot,
     /// the column of each input and output slot at its first lane, and
     /// `bytes` is a multiple of `16 * UNROLL`; returns non-zero when a float
-    /// output holds NaN or an infinity somewhere. Present when the program
+    /// output holds NaN or an infinity somewhere (and, rarely, when finite
+    /// outputs overflowed the sums it tests them with). Present when the program
     /// is one stretch that loads only input slots and stores only output
     /// slots.
     pub whole: Option<Whole>,
@@ -403,6 +404,9 @@ fn stretches(ops: &[Op], consts: &HashMap<Slot, u32>) -> Vec<std::ops::Range<usi
 /// iterations.
 const UNROLL: usize = 2;
 
+/// At most this many sums of output values in [`Native::whole`]'s loop.
+const SUMS: usize = 4;
+
 const _: () = assert!(LANES.is_multiple_of(4 * UNROLL));
 
 /// A lane value: four 32-bit lanes, last seen as floats or as integers.
@@ -490,27 +494,37 @@ impl<'a> Emit<'a> {
         } else {
             b.ins().iconst(ptr, (LANES * 4) as i64)
         };
-        // The loop carries its lane offset and, for `whole`, an OR over
-        // every float output lane of "its exponent is all ones" (NaN or an
-        // infinity), which the function returns.
+        // The loop carries its lane offset and, for `whole`, `sums` float
+        // sums of the float output values, each output of each group added
+        // to one of them in turn. A NaN or an infinity among the values
+        // makes its sum NaN or infinite for good; finite values can only
+        // make a sum infinite by overflowing it. So "a sum is not finite",
+        // which the function returns, holds whenever a value is not finite
+        // (and rarely also without: the driver's exact scan then finds
+        // nothing). One float addition per value, beside the
+        // multiplications and divisions that bound such code, where an
+        // integer test of each value's exponent took three operations
+        // from them; several sums keep the additions carried from one
+        // iteration to the next short.
+        let sums = whole.map_or(0, |f| (UNROLL * f.len()).clamp(1, SUMS));
         let header = b.create_block();
         b.append_block_param(header, ptr);
-        b.append_block_param(header, types::I32X4);
         let exit = b.create_block();
-        b.append_block_param(exit, types::I32X4);
+        for _ in 0..sums {
+            b.append_block_param(header, types::F32X4);
+            b.append_block_param(exit, types::F32X4);
+        }
         let any = b.ins().icmp(IntCC::UnsignedGreaterThan, end, zero);
-        let none = splats[&0];
-        b.ins().brif(
-            any,
-            header,
-            &[zero.into(), none.into()],
-            exit,
-            &[none.into()],
-        );
+        let none = b.ins().bitcast(types::F32X4, lanes_order(), splats[&0]);
+        let start: Vec<_> = std::iter::once(zero)
+            .chain(std::iter::repeat_n(none, sums))
+            .map(Into::into)
+            .collect();
+        b.ins().brif(any, header, &start, exit, &start[1..]);
 
         b.switch_to_block(header);
         let at = b.block_params(header)[0];
-        let mut seen = b.block_params(header)[1];
+        let mut carried = b.block_params(header)[1..].to_vec();
         let mut e = Emit {
             b,
             bases,
@@ -527,6 +541,7 @@ impl<'a> Emit<'a> {
         // UNROLL groups of four lanes per iteration, each its own copy of
         // the code (independent chains for the processor to overlap).
         let mut stored = BTreeSet::new();
+        let mut added = 0;
         for u in 0..UNROLL {
             e.off = 16 * u as i32;
             e.vals.clear();
@@ -542,27 +557,31 @@ impl<'a> Emit<'a> {
                 e.b.ins().store(flags(), v, addr, e.off);
                 stored.insert(s);
                 if whole.is_some_and(|f| f.contains(&s)) {
-                    let v = e.as_i(e.vals[&s]);
-                    let exp = e.splat(EXP);
-                    let bits = e.b.ins().band(v, exp);
-                    let bad = e.b.ins().icmp(IntCC::Equal, bits, exp);
-                    seen = e.b.ins().bor(seen, bad);
+                    let x = e.as_f(e.vals[&s]);
+                    let k = added % sums;
+                    carried[k] = e.b.ins().fadd(carried[k], x);
+                    added += 1;
                 }
             }
         }
         let next = e.b.ins().iadd_imm_s(e.at, 16 * UNROLL as i64);
         let more = e.b.ins().icmp(IntCC::UnsignedLessThan, next, end);
-        e.b.ins().brif(
-            more,
-            header,
-            &[next.into(), seen.into()],
-            exit,
-            &[seen.into()],
-        );
+        let again: Vec<_> = std::iter::once(next)
+            .chain(carried)
+            .map(Into::into)
+            .collect();
+        e.b.ins().brif(more, header, &again, exit, &again[1..]);
         e.b.switch_to_block(exit);
         if whole.is_some() {
-            let seen = e.b.block_params(exit)[0];
-            let any = e.b.ins().vany_true(seen);
+            // A sum is not finite exactly where `sum - sum` is NaN.
+            let mut bad = None;
+            for &sum in e.b.block_params(exit).to_vec().iter() {
+                let d = e.b.ins().fsub(sum, sum);
+                let nan = e.b.ins().fcmp(FloatCC::Unordered, d, d);
+                bad = Some(bad.map_or(nan, |b| e.b.ins().bor(b, nan)));
+            }
+            let nan = bad.expect("at least one sum");
+            let any = e.b.ins().vany_true(nan);
             let any = e.b.ins().uextend(types::I32, any);
             e.b.ins().return_(&[any]);
         } else {
@@ -1233,6 +1252,53 @@ mod tests {
                 "{n} points: one issue per division by zero"
             );
         }
+    }
+
+    #[test]
+    fn whole_reports_every_value_that_is_not_finite() {
+        use crate::eval::Program;
+        use crate::wgsl::Shader;
+        let src = "fn f(x: f32) -> f32 { return x * 0.5; }";
+        let sh = Shader::from_source("flag.wgsl", src.to_string()).unwrap();
+        let p = Program::compile(&sh, "f", &Default::default()).unwrap();
+        let native = compile(&p.fast).expect("one stretch");
+        let whole = native.whole.expect("the function is one stretch");
+        let n = 2 * LANES;
+        let run = |x: &[f32]| {
+            let mut out = vec![0u32; n];
+            let mut table = vec![std::ptr::null_mut::<u32>(); p.fast.slot_count];
+            table[p.fast.input_slots[0] as usize] = x.as_ptr() as *mut u32;
+            table[p.fast.output_slots[0] as usize] = out.as_mut_ptr();
+            // SAFETY: both columns hold `n` lanes, the length given.
+            let flag = unsafe { whole(table.as_ptr(), n * 4) };
+            (flag, out)
+        };
+        let ones = vec![1.0f32; n];
+        assert_eq!(run(&ones).0, 0, "finite values");
+        // One NaN or infinity in any lane (any group, any iteration).
+        for bad in [f32::NAN, f32::INFINITY, f32::NEG_INFINITY] {
+            for i in 0..n {
+                let mut x = ones.clone();
+                x[i] = bad;
+                assert_ne!(run(&x).0, 0, "{bad} at lane {i}");
+            }
+        }
+        // Finite outputs whose sum overflows may be reported; the driver's
+        // exact scan then finds no issue, and the results are the
+        // executor's.
+        let big: Vec<u32> = (0..n).map(|_| f32::MAX.to_bits()).collect();
+        let (flag, out) = run(&big.iter().map(|&b| f32::from_bits(b)).collect::<Vec<_>>());
+        assert!(out.iter().all(|&b| f32::from_bits(b).is_finite()));
+        assert_ne!(flag, 0, "sums of 2^127 overflow: the driver's scan runs");
+        let mut runs = [Tier::Interpret, Tier::Native].map(|t| {
+            crate::eval::set_tier(Some(t));
+            let mut out = Vec::new();
+            let issues = p.eval(&[&big], &mut out);
+            (out, issues)
+        });
+        crate::eval::set_tier(None);
+        assert_eq!(runs[0], runs[1]);
+        assert!(std::mem::take(&mut runs[1]).1.is_empty());
     }
 
     #[test]
