@@ -52,16 +52,15 @@ impl Program {
         first_point: usize,
     ) -> Vec<LaneIssue> {
         let code = &self.fast;
-        let in_kinds = self.input_kinds();
-        let out_kinds = self.output_kinds();
+        let (in_kinds, out_kinds) = (&self.in_kinds[..], &self.out_kinds[..]);
         let mut issues = Vec::new();
         let mut start = 0;
         #[cfg(all(target_arch = "x86_64", not(miri)))]
-        if let Some((done, nonfinite)) = self.run_whole(m, ins, outs, n, &in_kinds) {
+        if let Some((done, nonfinite)) = self.run_whole(m, ins, outs, n, in_kinds) {
             // Batches with a result that is not finite run again one at a
             // time (the same bits), for their issues.
             for b in (0..done).step_by(LANES) {
-                if nonfinite && Self::batch_nonfinite(outs, &out_kinds, b) {
+                if nonfinite && Self::batch_nonfinite(outs, out_kinds, b) {
                     self.run_batch(
                         m,
                         ins,
@@ -69,8 +68,8 @@ impl Program {
                         n,
                         first_point,
                         b,
-                        &in_kinds,
-                        &out_kinds,
+                        in_kinds,
+                        out_kinds,
                         &mut issues,
                     );
                 }
@@ -85,8 +84,8 @@ impl Program {
                 n,
                 first_point,
                 start,
-                &in_kinds,
-                &out_kinds,
+                in_kinds,
+                out_kinds,
                 &mut issues,
             );
             start += LANES.min(n - start);
@@ -256,18 +255,6 @@ impl Program {
             let lanes = unsafe { std::slice::from_raw_parts(col.0.add(start), LANES) };
             k.is_float() && any_nonfinite(lanes)
         })
-    }
-
-    fn input_kinds(&self) -> Vec<ScalarKind> {
-        self.code
-            .params
-            .iter()
-            .flat_map(|(_, t)| t.leaves())
-            .collect()
-    }
-
-    fn output_kinds(&self) -> Vec<ScalarKind> {
-        self.code.output_kinds()
     }
 
     #[allow(clippy::too_many_arguments)]

@@ -92,6 +92,9 @@ pub struct Program {
     /// ([`fuse`], [`alloc`]): what the executor runs.
     fast: Verified,
     own_output: Vec<bool>,
+    /// The kinds of `fast`'s input and output leaves, in slot order.
+    in_kinds: Vec<ScalarKind>,
+    out_kinds: Vec<ScalarKind>,
     path: PathBuf,
     function: String,
     step_budget: u64,
@@ -106,6 +109,12 @@ pub struct Program {
 
 /// Points per parallel work item (several batches, so scheduling is cheap).
 const CHUNK: usize = LANES * 32;
+
+/// Points per work item for a program that native code runs whole: its cost
+/// per point is the same everywhere, so larger items balance as well and
+/// cost less to hand out.
+#[cfg(all(target_arch = "x86_64", not(miri)))]
+const WHOLE_CHUNK: usize = CHUNK * 16;
 
 impl Program {
     /// Compile `function` of `shader`. `overrides` sets pipeline-overridable
@@ -193,10 +202,13 @@ impl Program {
                     && fast.output_slots.iter().filter(|o| *o == s).count() == 1
             })
             .collect();
+        let in_kinds = code.params.iter().flat_map(|(_, t)| t.leaves()).collect();
         Ok(Program {
             code,
             fast,
             own_output,
+            in_kinds,
+            out_kinds,
             path: shader.path.clone(),
             function: function.to_string(),
             step_budget: limits.steps_per_point,
@@ -297,7 +309,8 @@ impl Program {
         // One raw pointer per output column, taken once: the only way any
         // thread reaches the columns until the evaluation ends.
         let out_ptrs: Vec<OutCol> = outputs.iter_mut().map(|c| OutCol(c.as_mut_ptr())).collect();
-        let chunks = n.div_ceil(CHUNK);
+        let chunk = self.chunk(&native);
+        let chunks = n.div_ceil(chunk);
         // One machine per worker thread; workers take chunks from a shared
         // counter until none are left (balances points that loop longer).
         let next = std::sync::atomic::AtomicUsize::new(0);
@@ -313,8 +326,8 @@ impl Program {
                         if c >= chunks {
                             break;
                         }
-                        let start = c * CHUNK;
-                        let len = CHUNK.min(n - start);
+                        let start = c * chunk;
+                        let len = chunk.min(n - start);
                         // SAFETY: each chunk index is taken once, so chunks
                         // cover disjoint ranges of every output column, each
                         // `len` long from `start`.
@@ -369,6 +382,21 @@ impl Program {
     #[cfg(not(all(target_arch = "x86_64", not(miri))))]
     fn native_for(&self, _points: usize) -> Option<()> {
         None
+    }
+
+    /// Points per work item of an evaluation running `native` code.
+    #[cfg(all(target_arch = "x86_64", not(miri)))]
+    fn chunk(&self, native: &Option<std::sync::Arc<native::Native>>) -> usize {
+        match native {
+            Some(n) if n.whole.is_some() => WHOLE_CHUNK,
+            _ => CHUNK,
+        }
+    }
+
+    /// Points per work item of an evaluation.
+    #[cfg(not(all(target_arch = "x86_64", not(miri))))]
+    fn chunk(&self, _native: &Option<()>) -> usize {
+        CHUNK
     }
 
     /// A machine for this program, running `native` code where given.
