@@ -168,13 +168,6 @@ fn race(fs: &mut [&mut dyn FnMut()]) -> Vec<f64> {
     best
 }
 
-fn one_core_pool() -> rayon::ThreadPool {
-    rayon::ThreadPoolBuilder::new()
-        .num_threads(1)
-        .build()
-        .expect("pool")
-}
-
 fn peak_rss_mib() -> f64 {
     let status = std::fs::read_to_string("/proc/self/status").unwrap_or_default();
     status
@@ -215,7 +208,6 @@ fn main() {
         .collect();
     let ib: Vec<u32> = ndh.iter().map(|x| x.to_bits()).collect();
     let ab: Vec<u32> = alpha.iter().map(|x| x.to_bits()).collect();
-    let one = one_core_pool();
     let (mut out, mut out_all) = (Vec::new(), Vec::new());
     let (mut nat, mut nat_all) = (vec![0f32; N], vec![0f32; N]);
     let mut r64 = vec![0f64; N];
@@ -230,10 +222,10 @@ fn main() {
         },
         &mut || {
             set_tier(Some(Tier::Interpret));
-            one.install(|| drop(black_box(ggx.eval(&[&ib, &ab], &mut out_i))));
+            drop(black_box(ggx.eval_serial(&[&ib, &ab], &mut out_i)));
             set_tier(None);
         },
-        &mut || one.install(|| drop(black_box(ggx.eval(&[&ib, &ab], &mut out)))),
+        &mut || drop(black_box(ggx.eval_serial(&[&ib, &ab], &mut out))),
         &mut || drop(black_box(ggx.eval(&[&ib, &ab], &mut out_all))),
         &mut || {
             for i in 0..N {
@@ -352,10 +344,10 @@ fn main() {
         &mut || run_native(&mut mul3, true, false),
         &mut || {
             set_tier(Some(Tier::Interpret));
-            one.install(|| drop(black_box(bp.eval(&refs, &mut out_bi))));
+            drop(black_box(bp.eval_serial(&refs, &mut out_bi)));
             set_tier(None);
         },
-        &mut || one.install(|| drop(black_box(bp.eval(&refs, &mut out)))),
+        &mut || drop(black_box(bp.eval_serial(&refs, &mut out))),
         &mut || drop(black_box(bp.eval(&refs, &mut out_all))),
         &mut || {
             for (i, o) in ref3.iter_mut().enumerate() {
