@@ -662,24 +662,44 @@ impl Below {
         for (c, thr) in self.0.iter().enumerate() {
             let g = &got[c].as_ref()[start..start + len];
             let w = &want[c].as_ref()[start..start + len];
-            for j in 0..len {
-                let (g, w) = (g[j], w[j]);
-                let abs = (g - w).abs();
-                let aw = w.abs();
-                let ulp = ulp_error(abs, w, half);
-                let zero = abs == 0.0;
-                let under = (abs < thr[0]) | (abs < thr[1] * aw) | (ulp < thr[2]);
-                q.below[j] &= w.is_finite() & g.is_finite() & (zero | under);
-                let (abs, rel, ulp) = if zero {
-                    (0.0, 0.0, 0.0)
-                } else {
-                    (abs, rel_error(abs, w), ulp)
-                };
-                q.max_abs[j] = q.max_abs[j].max(abs);
-                q.max_rel[j] = q.max_rel[j].max(rel);
-                q.max_ulp[j] = q.max_ulp[j].max(ulp);
-                q.sum_sq[j] += abs * abs;
+            // One loop per format, so neither holds the other's branch
+            // (which kept the loop from vectorising).
+            if half {
+                Self::component::<true>(g, w, thr, q);
+            } else {
+                Self::component::<false>(g, w, thr, q);
             }
+        }
+    }
+
+    /// One component's errors over the block (`g` and `w` are `q.len`
+    /// long), folded into `q`.
+    #[inline(always)]
+    fn component<const HALF: bool>(g: &[f64], w: &[f64], thr: &[f64; 3], q: &mut Quick) {
+        let len = q.len;
+        let (g, w) = (&g[..len], &w[..len]);
+        let below = &mut q.below[..len];
+        let max_abs = &mut q.max_abs[..len];
+        let max_rel = &mut q.max_rel[..len];
+        let max_ulp = &mut q.max_ulp[..len];
+        let sum_sq = &mut q.sum_sq[..len];
+        for j in 0..len {
+            let (g, w) = (g[j], w[j]);
+            let abs = (g - w).abs();
+            let aw = w.abs();
+            let ulp = ulp_error(abs, w, HALF);
+            let zero = abs == 0.0;
+            let under = (abs < thr[0]) | (abs < thr[1] * aw) | (ulp < thr[2]);
+            below[j] &= w.is_finite() & g.is_finite() & (zero | under);
+            let (abs, rel, ulp) = if zero {
+                (0.0, 0.0, 0.0)
+            } else {
+                (abs, rel_error(abs, w), ulp)
+            };
+            max_abs[j] = max_abs[j].max(abs);
+            max_rel[j] = max_rel[j].max(rel);
+            max_ulp[j] = max_ulp[j].max(ulp);
+            sum_sq[j] += abs * abs;
         }
     }
 }
