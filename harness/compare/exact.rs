@@ -44,15 +44,12 @@ impl ExactSum {
             self.inf = true;
             return;
         }
-        let bits = x.to_bits();
-        let exp = (bits >> 52) & 0x7ff;
-        let frac = bits & ((1u64 << 52) - 1);
-        // x = m · 2^shift · 2⁻¹⁰⁷⁴.
-        let (m, shift) = if exp == 0 {
-            (frac, 0)
-        } else {
-            (frac | (1u64 << 52), exp as usize - 1)
-        };
+        let (m, shift) = split(x);
+        self.add_scaled(m, shift);
+    }
+
+    /// Add `m · 2^shift · 2⁻¹⁰⁷⁴` (`shift` below 2047).
+    fn add_scaled(&mut self, m: u64, shift: usize) {
         if m == 0 {
             return;
         }
@@ -160,6 +157,91 @@ impl ExactSum {
     }
 }
 
+/// A finite `x ≥ 0` as `(m, shift)` with `x = m · 2^shift · 2⁻¹⁰⁷⁴`, `m`
+/// below 2⁵³ and `shift` below 2046.
+#[inline(always)]
+fn split(x: f64) -> (u64, usize) {
+    let bits = x.to_bits();
+    let exp = (bits >> 52) & 0x7ff;
+    let frac = bits & ((1u64 << 52) - 1);
+    if exp == 0 {
+        (frac, 0)
+    } else {
+        (frac | (1u64 << 52), exp as usize - 1)
+    }
+}
+
+/// Values on their way into an [`ExactSum`], cheaper to add one at a time:
+/// the significands of values with the same exponent are summed in one
+/// 64-bit integer per exponent, which holds the sum of 2¹¹ significands
+/// (each below 2⁵³) without overflow, and every `BIN_ADDS` additions (and
+/// in [`Bins::flush`]) the bins are added to the sum's limbs. Exact, like
+/// the sum itself: what reaches the limbs is the same integer.
+pub struct Bins {
+    bins: Box<[u64; 2046]>,
+    /// The exponents whose bin is not 0.
+    touched: Vec<u16>,
+    adds: usize,
+    inf: bool,
+    nan: bool,
+}
+
+/// Additions between two flushes of [`Bins`]: each bin then holds at most
+/// this many significands below 2⁵³, a sum below 2⁶⁴.
+const BIN_ADDS: usize = 1 << 11;
+
+impl Default for Bins {
+    fn default() -> Bins {
+        Bins {
+            bins: Box::new([0; 2046]),
+            touched: Vec::new(),
+            adds: 0,
+            inf: false,
+            nan: false,
+        }
+    }
+}
+
+impl Bins {
+    /// Add one value (`x ≥ 0`; a negative one makes the sum NaN), as
+    /// [`ExactSum::add`] does; `into` receives the bins when they are full.
+    #[inline]
+    pub fn add(&mut self, x: f64, into: &mut ExactSum) {
+        if x.is_nan() || x < 0.0 {
+            self.nan = true;
+            return;
+        }
+        if x.is_infinite() {
+            self.inf = true;
+            return;
+        }
+        let (m, shift) = split(x);
+        let bin = &mut self.bins[shift];
+        if *bin == 0 {
+            if m == 0 {
+                return;
+            }
+            self.touched.push(shift as u16);
+        }
+        *bin += m;
+        self.adds += 1;
+        if self.adds == BIN_ADDS {
+            self.flush(into);
+        }
+    }
+
+    /// Add everything held to `into` and empty the bins.
+    pub fn flush(&mut self, into: &mut ExactSum) {
+        into.inf |= std::mem::take(&mut self.inf);
+        into.nan |= std::mem::take(&mut self.nan);
+        for shift in self.touched.drain(..) {
+            let m = std::mem::take(&mut self.bins[usize::from(shift)]);
+            into.add_scaled(m, usize::from(shift));
+        }
+        self.adds = 0;
+    }
+}
+
 /// 2^e for -1074 ≤ e ≤ 1023, exactly.
 fn pow2(e: i64) -> f64 {
     if e >= -1022 {
@@ -248,6 +330,43 @@ mod tests {
         let exact: i128 = ints.iter().map(|&i| i128::from(i)).sum();
         let xs: Vec<f64> = ints.iter().map(|&i| i as f64 * 2f64.powi(-40)).collect();
         assert_eq!(sum_of(&xs), exact as f64 * 2f64.powi(-40));
+    }
+
+    #[test]
+    fn bins_give_the_sum_of_adding_one_at_a_time() {
+        // More values than one flush holds, piled on a few exponents (each
+        // bin near its limit: significands of all ones), spread over the
+        // whole range, and the specials; the limbs must be the same.
+        let mut rng = Rng::new(9);
+        let mut xs: Vec<f64> = (0..3 * BIN_ADDS + 17)
+            .map(|i| match i % 5 {
+                0 => f64::from_bits(0x3fef_ffff_ffff_ffff), // just under 1
+                1 => f64::from_bits(rng.next() >> 1 & !(0x7ffu64 << 52) | 1), // subnormal
+                2 => f64::from_bits((rng.next() >> 1) % 0x7fe0_0000_0000_0000),
+                3 => 0.0,
+                _ => f64::MAX,
+            })
+            .collect();
+        let one_at_a_time = |xs: &[f64]| {
+            let mut s = ExactSum::default();
+            xs.iter().for_each(|&x| s.add(x));
+            s
+        };
+        let binned = |xs: &[f64]| {
+            let (mut s, mut b) = (ExactSum::default(), Bins::default());
+            xs.iter().for_each(|&x| b.add(x, &mut s));
+            b.flush(&mut s);
+            s
+        };
+        assert_eq!(binned(&xs), one_at_a_time(&xs));
+        assert_eq!(binned(&xs[..BIN_ADDS]), one_at_a_time(&xs[..BIN_ADDS]));
+        // One bin filled to its limit: 2¹¹ significands of all ones.
+        let full = vec![f64::MAX; BIN_ADDS + 1];
+        assert_eq!(binned(&full), one_at_a_time(&full));
+        for special in [f64::INFINITY, f64::NAN, -1.0] {
+            xs[100] = special;
+            assert_eq!(binned(&xs), one_at_a_time(&xs), "{special}");
+        }
     }
 
     #[test]

@@ -235,6 +235,7 @@ fn compare_with<C: AsRef<[f64]>>(
         ..Stats::default()
     };
     let mut sum_sq = ExactSum::default();
+    let mut bins = exact::Bins::default();
     let report = |i: usize, component: usize, abs: f64, rel: f64, ulp: f64| PointReport {
         index: first + i,
         params: describe(first + i),
@@ -271,14 +272,14 @@ fn compare_with<C: AsRef<[f64]>>(
             s.max_abs = s.max_abs.max(block.max_abs[j]);
             s.max_rel = s.max_rel.max(block.max_rel[j]);
             s.max_ulp = s.max_ulp.max(block.max_ulp[j]);
-            sum_sq.add(block.sum_sq[j]);
+            bins.add(block.sum_sq[j], &mut sum_sq);
             continue;
         }
         let p = bounds.assess(got, want, i, tol.nan, half);
         s.max_abs = s.max_abs.max(p.max_abs);
         s.max_rel = s.max_rel.max(p.max_rel);
         s.max_ulp = s.max_ulp.max(p.max_ulp);
-        sum_sq.add(p.sum_sq);
+        bins.add(p.sum_sq, &mut sum_sq);
         let (point_bad, point_comp, point_err, nonfinite, skip) =
             (p.badness, p.component, p.err, p.nonfinite, p.skip);
         if skip && point_bad == 0.0 {
@@ -322,6 +323,7 @@ fn compare_with<C: AsRef<[f64]>>(
         s.worst_badness = bad;
         s.worst = Some(report(i, comp, err.0, err.1, err.2));
     }
+    bins.flush(&mut sum_sq);
     s.sum_sq = sum_sq;
     s.finish(tol);
     s
