@@ -45,15 +45,18 @@ macro_rules! columns {
                 // Blocks of `BLOCK` points copied into local arrays, which
                 // the compiler knows alias nothing, so the loop over a
                 // block vectorises.
+                // The arrays are filled once per call: a block overwrites
+                // the lanes it reads, and the lanes past a short last block
+                // are computed from the block before but not written out.
                 let n = out[0].len();
                 let mut start = 0;
+                let mut ins = [[0.0f64; BLOCK]; $arity];
+                let mut res = [[0.0f64; BLOCK]; $outs];
                 while start < n {
                     let len = BLOCK.min(n - start);
-                    let mut ins = [[0.0f64; BLOCK]; $arity];
                     for (x, c) in ins.iter_mut().zip(args) {
                         x[..len].copy_from_slice(&c[start..start + len]);
                     }
-                    let mut res = [[0.0f64; BLOCK]; $outs];
                     for i in 0..BLOCK {
                         let mut $a = [0.0; $arity];
                         for (x, c) in $a.iter_mut().zip(&ins) {
