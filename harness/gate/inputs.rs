@@ -200,7 +200,17 @@ pub fn points_of(check: &Check) -> Points {
 /// The points of `range` (indices in the whole sweep), every value rounded
 /// to f32.
 pub fn points_in(check: &Check, range: std::ops::Range<usize>) -> Points {
-    let mut points = check.sweep.points_in(range);
+    points_in_grid(check, &check.sweep.grid(), range)
+}
+
+/// [`points_in`] with the sweep's grid values computed beforehand
+/// ([`crate::sweep::Sweep::grid`]).
+pub fn points_in_grid(
+    check: &Check,
+    grid: &crate::sweep::Grid,
+    range: std::ops::Range<usize>,
+) -> Points {
+    let mut points = check.sweep.points_in_grid(grid, range);
     round_to_f32(&mut points);
     points
 }

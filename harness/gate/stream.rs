@@ -30,7 +30,7 @@ use super::explain::{
     self, backend_agreement, failing_points, group_issues, Context, Evidence, Explainer, Reevaluate,
 };
 use super::inputs::{
-    as_f64, build_of, evaluate_at, main_args, point_range, points_at, points_in,
+    as_f64, build_of, evaluate_at, main_args, point_range, points_at, points_in_grid,
     reference_arg_columns, reference_columns, reference_expr_columns, reference_fits, Build,
     Evaluated,
 };
@@ -43,7 +43,7 @@ use crate::golden;
 use crate::reference::Model;
 use crate::scratch;
 use crate::suite::{Check, Suite};
-use crate::sweep::{Expr, Points};
+use crate::sweep::{Expr, Grid, Points};
 
 /// Points per segment on the CPU (divided by the evaluations each point
 /// costs: a hemisphere property's quadrature directions).
@@ -57,6 +57,8 @@ pub struct Prepared<'a> {
     pub check: &'a Check,
     pub build: Arc<Build>,
     pub program: Arc<Program>,
+    /// The sweep's grid values, computed once for every segment.
+    grid: Grid,
     args: Cow<'a, BTreeMap<String, Expr>>,
     /// Sweep parameters rounded to `f16` for both sides, and the finding
     /// that says so.
@@ -110,6 +112,7 @@ impl<'a> Prepared<'a> {
             check,
             build: Arc::new(build),
             program: Arc::new(program),
+            grid: check.sweep.grid(),
             args,
             half,
             rounded,
@@ -188,9 +191,9 @@ enum Span<'p> {
 }
 
 impl Span<'_> {
-    fn points(&self, check: &Check) -> Points {
+    fn points(&self, check: &Check, grid: &Grid) -> Points {
         match *self {
-            Span::Range(a, b) => points_in(check, a..b),
+            Span::Range(a, b) => points_in_grid(check, grid, a..b),
             Span::At(ix) => points_at(check, ix),
         }
     }
@@ -285,7 +288,7 @@ impl Prepared<'_> {
         verify_golden: bool,
     ) -> Result<Materialised, String> {
         let (suite, check) = (self.suite, self.check);
-        let mut ev = self.evaluate(span.points(check))?;
+        let mut ev = self.evaluate(span.points(check, &self.grid))?;
         let mut findings = Vec::new();
         if let Some(b) = backend {
             let refs: Vec<&[u32]> = ev.input_columns.iter().map(|c| &c[..]).collect();
@@ -390,7 +393,7 @@ impl Prepared<'_> {
             });
         }
         if let Some(v) = &self.versus {
-            let old = v.prep.evaluate(span.points(v.prep.check))?;
+            let old = v.prep.evaluate(span.points(v.prep.check, &v.prep.grid))?;
             let same_function = v.prep.check.function == check.function;
             if old.outputs.len() != ev.outputs.len() || (same_function && old.outputs != ev.outputs)
             {

@@ -199,6 +199,34 @@ impl Domain {
         }
     }
 
+    /// Whether `other` is this domain, bit for bit (`==` would call two
+    /// lists holding a NaN different).
+    fn same_as(&self, other: &Domain) -> bool {
+        let eq = |a: &f64, b: &f64| a.to_bits() == b.to_bits();
+        match (self, other) {
+            (Domain::Linear { lo, hi, n }, Domain::Linear { lo: l, hi: h, n: m })
+            | (Domain::Log { lo, hi, n }, Domain::Log { lo: l, hi: h, n: m }) => {
+                eq(lo, l) && eq(hi, h) && n == m
+            }
+            (Domain::List(a), Domain::List(b)) => {
+                a.len() == b.len() && a.iter().zip(b).all(|(x, y)| eq(x, y))
+            }
+            (Domain::Edges { lo, hi }, Domain::Edges { lo: l, hi: h }) => eq(lo, l) && eq(hi, h),
+            (
+                Domain::Every { lo, hi, format },
+                Domain::Every {
+                    lo: l,
+                    hi: h,
+                    format: f,
+                },
+            ) => eq(lo, l) && eq(hi, h) && format == f,
+            (Domain::Direction { theta, phi }, Domain::Direction { theta: t, phi: p }) => {
+                theta.same_as(t) && phi.same_as(p)
+            }
+            _ => false,
+        }
+    }
+
     /// Where [`Sweep::points_in`] reads the grid values: an exhaustive
     /// domain computes each from its ordinal, the others look it up in their
     /// [`Domain::cache`].
@@ -337,6 +365,55 @@ impl Sweep {
     /// jumps straight to the first random point of the range (SplitMix64's
     /// state after k draws is the seed plus k times its increment).
     pub fn points_in(&self, range: std::ops::Range<usize>) -> Points {
+        self.points_in_grid(&self.grid_with(false), range)
+    }
+
+    /// The grid values of every parameter, for generating many ranges of
+    /// this sweep with [`Sweep::points_in_grid`] without computing them
+    /// (a direction's sines and cosines) again for each; and for each
+    /// parameter whose values repeat within [`PATTERN`] points, one period
+    /// of its columns, which a range copies.
+    pub fn grid(&self) -> Grid {
+        self.grid_with(true)
+    }
+
+    fn grid_with(&self, patterns: bool) -> Grid {
+        let sources: Vec<Source> = self.params.iter().map(|(_, d)| d.source()).collect();
+        let mut pats: Vec<Option<Vec<Vec<f64>>>> = vec![None; sources.len()];
+        let mut stride = 1usize;
+        for p in (0..sources.len()).rev() {
+            let (count, width) = (self.params[p].1.count(), self.params[p].1.width());
+            let period = stride.saturating_mul(count);
+            if patterns && period <= PATTERN && count > 0 {
+                let mut cols: Vec<Vec<f64>> =
+                    (0..width).map(|_| Vec::with_capacity(period)).collect();
+                fill(&sources[p], count, stride, &mut cols, 0, period);
+                pats[p] = Some(cols);
+            }
+            stride = period;
+        }
+        Grid {
+            of: self.params.clone(),
+            sources,
+            patterns: pats,
+        }
+    }
+
+    /// [`Sweep::points_in`] with the grid values of [`Sweep::grid`].
+    ///
+    /// # Panics
+    /// If `grid` is not this sweep's.
+    pub fn points_in_grid(&self, grid: &Grid, range: std::ops::Range<usize>) -> Points {
+        assert!(
+            grid.of.len() == self.params.len()
+                && grid
+                    .of
+                    .iter()
+                    .zip(&self.params)
+                    .all(|(a, b)| a.0 == b.0 && a.1.same_as(&b.1)),
+            "a grid of another sweep"
+        );
+        let (sources, patterns) = (&grid.sources, &grid.patterns);
         let n_all = self.len();
         let (start, end) = (
             range.start.min(n_all),
@@ -344,9 +421,8 @@ impl Sweep {
         );
         let n = end - start;
         let grid = n_all - self.random.map_or(0, |r| r.count);
-        // Grid values by table (computed once per call; an exhaustive
-        // domain's values from their ordinals, never listed).
-        let sources: Vec<Source> = self.params.iter().map(|(_, d)| d.source()).collect();
+        // Grid values by table (an exhaustive domain's values from their
+        // ordinals, never listed).
         let counts: Vec<usize> = self.params.iter().map(|(_, d)| d.count()).collect();
         let mut columns: Vec<Vec<Vec<f64>>> = self
             .params
@@ -355,26 +431,26 @@ impl Sweep {
             .collect();
         if start < grid {
             // Parameter p's value index at point i is (i / stride) % count,
-            // the last parameter fastest: each column is filled run by run
-            // (a run repeats one grid value `stride` times).
+            // the last parameter fastest.
             let last = end.min(grid);
             let mut stride = 1;
             for p in (0..counts.len()).rev() {
-                let mut k = (start / stride) % counts[p];
-                let mut i = start;
-                while i < last {
-                    if stride == 1 {
-                        // The fastest parameter: consecutive grid values.
-                        let run = (counts[p] - k).min(last - i);
-                        sources[p].extend(&mut columns[p], k..k + run);
-                        i += run;
-                        k = 0;
-                        continue;
+                match &patterns[p] {
+                    // Values that repeat with a short period: copied from
+                    // one period, in runs up to its end.
+                    Some(pat) => {
+                        let period = pat[0].len();
+                        let mut i = start;
+                        while i < last {
+                            let off = i % period;
+                            let run = (period - off).min(last - i);
+                            for (c, t) in columns[p].iter_mut().zip(pat) {
+                                c.extend_from_slice(&t[off..off + run]);
+                            }
+                            i += run;
+                        }
                     }
-                    let run = (stride - i % stride).min(last - i);
-                    sources[p].repeat(&mut columns[p], k, run);
-                    i += run;
-                    k = if k + 1 == counts[p] { 0 } else { k + 1 };
+                    None => fill(&sources[p], counts[p], stride, &mut columns[p], start, last),
                 }
                 stride *= counts[p];
             }
@@ -396,6 +472,48 @@ impl Sweep {
             columns,
             len: n,
         }
+    }
+}
+
+/// A sweep's grid values ([`Sweep::grid`]), and the parameters they are of.
+pub struct Grid {
+    of: Vec<(String, Domain)>,
+    sources: Vec<Source>,
+    /// Per parameter, one period of its columns where that is at most
+    /// [`PATTERN`] points.
+    patterns: Vec<Option<Vec<Vec<f64>>>>,
+}
+
+/// The longest period of a parameter's values that [`Sweep::grid`] keeps
+/// whole (per component column: 512 KiB).
+pub const PATTERN: usize = 1 << 16;
+
+/// Append a grid parameter's values at the points `start..last` to its
+/// columns: value index `(i / stride) % count` at point `i`, run by run (a
+/// run repeats one grid value `stride` times; consecutive values where
+/// `stride` is 1).
+fn fill(
+    source: &Source,
+    count: usize,
+    stride: usize,
+    cols: &mut [Vec<f64>],
+    start: usize,
+    last: usize,
+) {
+    let mut k = (start / stride) % count;
+    let mut i = start;
+    while i < last {
+        if stride == 1 {
+            let run = (count - k).min(last - i);
+            source.extend(cols, k..k + run);
+            i += run;
+            k = 0;
+            continue;
+        }
+        let run = (stride - i % stride).min(last - i);
+        source.repeat(cols, k, run);
+        i += run;
+        k = if k + 1 == count { 0 } else { k + 1 };
     }
 }
 
@@ -444,9 +562,11 @@ impl Sweep {
     /// [`Sweep::points_in`] generates it, so point `i` has the same values
     /// here as there.
     pub fn points_at(&self, indices: &[usize]) -> Points {
-        let mut out = self.points_in(0..0);
+        // One grid for every run (no periods: runs are short and few).
+        let grid = self.grid_with(false);
+        let mut out = self.points_in_grid(&grid, 0..0);
         for run in runs(indices) {
-            out.append(self.points_in(run));
+            out.append(self.points_in_grid(&grid, run));
         }
         out
     }
@@ -652,6 +772,67 @@ mod tests {
                 }
             }
         }
+    }
+
+    #[test]
+    fn ranges_from_a_grid_are_the_ranges_generated_alone() {
+        // A grid keeps one period of each parameter that repeats within
+        // PATTERN points (here `t` and `h`; `x`'s period is 300 · 513 · 3
+        // points, past it, so it is filled run by run), and copies ranges
+        // from it: the same values as generating the range alone.
+        let s = Sweep {
+            params: vec![
+                (
+                    "x".into(),
+                    Domain::Linear {
+                        lo: 0.0,
+                        hi: 1.0,
+                        n: 300,
+                    },
+                ),
+                (
+                    "h".into(),
+                    Domain::Every {
+                        lo: 0.5,
+                        hi: 0.75,
+                        format: every::Format::F16,
+                    },
+                ),
+                ("t".into(), Domain::List(vec![1.0, 2.0, 3.0])),
+            ],
+            random: Some(Random { count: 7, seed: 3 }),
+        };
+        let grid = s.grid();
+        assert!(grid.patterns[0].is_none());
+        assert!(grid.patterns[1].is_some() && grid.patterns[2].is_some());
+        let n = s.len();
+        let period = s.params[1].1.count() * 3;
+        assert_eq!(period, 513 * 3, "every f16 in [0.5, 0.75]: 2^-11 apart");
+        for (a, b) in [
+            (0, 0),
+            (0, 5000),
+            (period - 1, period + 1),
+            (5 * period + 7, 9 * period + 11),
+            (n - 100, n),
+            (n - 9, n + 5),
+        ] {
+            let (from_grid, alone) = (s.points_in_grid(&grid, a..b), s.points_in(a..b));
+            assert_eq!(from_grid.columns, alone.columns, "{a}..{b}");
+            assert_eq!(from_grid.len, alone.len);
+        }
+    }
+
+    #[test]
+    #[should_panic(expected = "a grid of another sweep")]
+    fn a_grid_serves_only_its_own_sweep() {
+        let sweep = |x: f64| Sweep {
+            params: vec![("t".into(), Domain::List(vec![x, f64::NAN]))],
+            random: None,
+        };
+        // A NaN in a list is the same domain as itself...
+        assert_eq!(sweep(1.0).points_in(0..2).len, 2);
+        // ...and a list with another value is another sweep.
+        sweep(1.0).points_in_grid(&sweep(2.0).grid(), 0..2);
     }
 
     #[test]
