@@ -36,16 +36,11 @@ impl Default for ExactSum {
 impl ExactSum {
     /// Add one value (`x ≥ 0`; a negative one makes the sum NaN).
     pub fn add(&mut self, x: f64) {
-        if x.is_nan() || x < 0.0 {
-            self.nan = true;
-            return;
+        match split(x) {
+            Part::Nan => self.nan = true,
+            Part::Inf => self.inf = true,
+            Part::Finite(m, shift) => self.add_scaled(m, shift),
         }
-        if x.is_infinite() {
-            self.inf = true;
-            return;
-        }
-        let (m, shift) = split(x);
-        self.add_scaled(m, shift);
     }
 
     /// Add `m · 2^shift · 2⁻¹⁰⁷⁴` (`shift` below 2047).
@@ -157,17 +152,30 @@ impl ExactSum {
     }
 }
 
-/// A finite `x ≥ 0` as `(m, shift)` with `x = m · 2^shift · 2⁻¹⁰⁷⁴`, `m`
-/// below 2⁵³ and `shift` below 2046.
+/// What an added value is to an exact sum.
+enum Part {
+    /// NaN, or a negative value (which the sum does not take).
+    Nan,
+    Inf,
+    /// `x = m · 2^shift · 2⁻¹⁰⁷⁴`, `m` below 2⁵³ and `shift` below 2046.
+    Finite(u64, usize),
+}
+
 #[inline(always)]
-fn split(x: f64) -> (u64, usize) {
+fn split(x: f64) -> Part {
+    if x.is_nan() || x < 0.0 {
+        return Part::Nan;
+    }
+    if x.is_infinite() {
+        return Part::Inf;
+    }
     let bits = x.to_bits();
     let exp = (bits >> 52) & 0x7ff;
     let frac = bits & ((1u64 << 52) - 1);
     if exp == 0 {
-        (frac, 0)
+        Part::Finite(frac, 0)
     } else {
-        (frac | (1u64 << 52), exp as usize - 1)
+        Part::Finite(frac | (1u64 << 52), exp as usize - 1)
     }
 }
 
@@ -207,15 +215,17 @@ impl Bins {
     /// [`ExactSum::add`] does; `into` receives the bins when they are full.
     #[inline]
     pub fn add(&mut self, x: f64, into: &mut ExactSum) {
-        if x.is_nan() || x < 0.0 {
-            self.nan = true;
-            return;
-        }
-        if x.is_infinite() {
-            self.inf = true;
-            return;
-        }
-        let (m, shift) = split(x);
+        let (m, shift) = match split(x) {
+            Part::Nan => {
+                self.nan = true;
+                return;
+            }
+            Part::Inf => {
+                self.inf = true;
+                return;
+            }
+            Part::Finite(m, shift) => (m, shift),
+        };
         let bin = &mut self.bins[shift];
         if *bin == 0 {
             if m == 0 {
