@@ -103,7 +103,9 @@ pub struct Program {
     /// compile).
     #[cfg(all(target_arch = "x86_64", not(miri)))]
     native: std::sync::OnceLock<Option<std::sync::Arc<native::Native>>>,
-    /// Points evaluated so far, over every call (chooses the tier).
+    /// Points evaluated so far, over every call (chooses the tier; read
+    /// only where native code exists).
+    #[cfg_attr(not(all(target_arch = "x86_64", not(miri))), allow(dead_code))]
     evaluated: std::sync::atomic::AtomicUsize,
 }
 
