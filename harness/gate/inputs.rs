@@ -16,7 +16,7 @@ use std::sync::Arc;
 
 use rayon::prelude::*;
 
-use crate::eval::{bits_to_f64, f64_to_bits, Arithmetic, LaneIssue, Program, ScalarKind};
+use crate::eval::{f64_to_bits, Arithmetic, LaneIssue, Program, ScalarKind};
 use crate::limits::Limits;
 use crate::reference::{Model, ParamKind};
 use crate::scratch;
@@ -442,7 +442,7 @@ fn input_columns(
         .map(|(leaf, &k)| match *leaf {
             super::args::Leaf::Column(c) => {
                 let mut col = scratch::column(points.len);
-                col.extend(f64_cols[c].iter().map(|&x| f64_to_bits(k, x)));
+                crate::values::encoding::extend_bits(k, &f64_cols[c], &mut col);
                 col
             }
             super::args::Leaf::Zero => scratch::filled(points.len, f64_to_bits(k, 0.0)),
@@ -542,7 +542,7 @@ pub fn as_f64(cols: &[Vec<u32>], kinds: &[(String, ScalarKind)]) -> Vec<Vec<f64>
         .zip(kinds)
         .map(|(c, (_, k))| {
             let mut col = scratch::column(c.len());
-            col.extend(c.iter().map(|&b| bits_to_f64(*k, b)));
+            crate::values::encoding::extend_f64(*k, c, &mut col);
             col
         })
         .collect()

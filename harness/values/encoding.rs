@@ -18,6 +18,24 @@ pub fn f64_to_bits(kind: ScalarKind, v: f64) -> u32 {
     }
 }
 
+/// Append [`f64_to_bits`] of every value of `src` to `dst`, with the kind
+/// chosen once for the column (so the f32 loop is vector instructions).
+pub fn extend_bits(kind: ScalarKind, src: &[f64], dst: &mut Vec<u32>) {
+    match kind {
+        ScalarKind::F32 => dst.extend(src.iter().map(|&v| f64_to_bits(ScalarKind::F32, v))),
+        _ => dst.extend(src.iter().map(|&v| f64_to_bits(kind, v))),
+    }
+}
+
+/// Append [`bits_to_f64`] of every pattern of `src` to `dst`, with the kind
+/// chosen once for the column.
+pub fn extend_f64(kind: ScalarKind, src: &[u32], dst: &mut Vec<f64>) {
+    match kind {
+        ScalarKind::F32 => dst.extend(src.iter().map(|&b| bits_to_f64(ScalarKind::F32, b))),
+        _ => dst.extend(src.iter().map(|&b| bits_to_f64(kind, b))),
+    }
+}
+
 /// Decode a lane bit pattern of `kind` as f64 (exactly).
 pub fn bits_to_f64(kind: ScalarKind, bits: u32) -> f64 {
     match kind {
@@ -26,5 +44,55 @@ pub fn bits_to_f64(kind: ScalarKind, bits: u32) -> f64 {
         ScalarKind::I32 => f64::from(bits as i32),
         ScalarKind::U32 => f64::from(bits),
         ScalarKind::Bool => f64::from(u8::from(bits != 0)),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn column_conversions_are_the_per_value_ones() {
+        // Specials, rounding cases, out-of-range integers and every kind:
+        // the column forms must give each value's own conversion, bit for bit.
+        let values = [
+            0.0,
+            -0.0,
+            1.0,
+            -1.5,
+            0.1,
+            1.0 + f64::EPSILON,
+            f64::from(f32::MAX) * 2.0,
+            f64::MIN_POSITIVE,
+            65504.0,
+            65520.0,
+            3e9,
+            -3e9,
+            f64::INFINITY,
+            f64::NEG_INFINITY,
+            f64::NAN,
+            -f64::NAN,
+        ];
+        let kinds = [
+            ScalarKind::F32,
+            ScalarKind::F16,
+            ScalarKind::I32,
+            ScalarKind::U32,
+            ScalarKind::Bool,
+        ];
+        for k in kinds {
+            let mut bits = vec![7];
+            extend_bits(k, &values, &mut bits);
+            let one: Vec<u32> = values.iter().map(|&v| f64_to_bits(k, v)).collect();
+            assert_eq!(bits[1..], one[..], "{k:?}");
+            let mut back = vec![7.0];
+            extend_f64(k, &bits[1..], &mut back);
+            let one: Vec<u64> = bits[1..]
+                .iter()
+                .map(|&b| bits_to_f64(k, b).to_bits())
+                .collect();
+            let got: Vec<u64> = back[1..].iter().map(|x| x.to_bits()).collect();
+            assert_eq!(got, one, "{k:?}");
+        }
     }
 }
