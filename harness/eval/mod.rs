@@ -242,6 +242,12 @@ impl Program {
         self.code.result.as_ref()
     }
 
+    /// The kind of every input leaf, in the order of [`Program::input_leaves`]
+    /// (kept from compilation: nothing is built per call).
+    pub fn input_kinds(&self) -> &[ScalarKind] {
+        &self.in_kinds
+    }
+
     /// Flattened argument leaves in order, named `arg.x`, `arg[1]`, ...; a
     /// `ptr<function, T>` parameter's initial value is named `*arg`,
     /// `*arg.x`, ... (its final value is the output `arg`, `arg.x`, ...).

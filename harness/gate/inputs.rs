@@ -434,11 +434,11 @@ fn input_columns(
     points: &Points,
 ) -> Result<Vec<Vec<u32>>, String> {
     let f64_cols = columns(&inputs.exprs, points)?;
-    let kinds: Vec<ScalarKind> = program.input_leaves().into_iter().map(|l| l.1).collect();
+    let kinds = program.input_kinds();
     let cols = inputs
         .leaves
         .iter()
-        .zip(&kinds)
+        .zip(kinds)
         .map(|(leaf, &k)| match *leaf {
             super::args::Leaf::Column(c) => {
                 let mut col = scratch::column(points.len);
