@@ -191,10 +191,11 @@ enum Span<'p> {
 }
 
 impl Span<'_> {
-    fn points(&self, check: &Check, grid: &Grid) -> Points {
+    /// The span's points of `prep`'s check, ranges from its grid.
+    fn points(&self, prep: &Prepared) -> Points {
         match *self {
-            Span::Range(a, b) => points_in_grid(check, grid, a..b),
-            Span::At(ix) => points_at(check, ix),
+            Span::Range(a, b) => points_in_grid(prep.check, &prep.grid, a..b),
+            Span::At(ix) => points_at(prep.check, ix),
         }
     }
 }
@@ -288,7 +289,7 @@ impl Prepared<'_> {
         verify_golden: bool,
     ) -> Result<Materialised, String> {
         let (suite, check) = (self.suite, self.check);
-        let mut ev = self.evaluate(span.points(check, &self.grid))?;
+        let mut ev = self.evaluate(span.points(self))?;
         let mut findings = Vec::new();
         if let Some(b) = backend {
             let refs: Vec<&[u32]> = ev.input_columns.iter().map(|c| &c[..]).collect();
@@ -393,7 +394,7 @@ impl Prepared<'_> {
             });
         }
         if let Some(v) = &self.versus {
-            let old = v.prep.evaluate(span.points(v.prep.check, &v.prep.grid))?;
+            let old = v.prep.evaluate(span.points(&v.prep))?;
             let same_function = v.prep.check.function == check.function;
             if old.outputs.len() != ev.outputs.len() || (same_function && old.outputs != ev.outputs)
             {
