@@ -174,7 +174,6 @@ pub struct Evaluated {
     pub build: Arc<Build>,
     pub points: Points,
     pub program: Arc<Program>,
-    pub shader_hash: String,
     pub inputs: Vec<(String, ScalarKind)>,
     pub outputs: Vec<(String, ScalarKind)>,
     pub input_columns: Vec<Vec<u32>>,
@@ -182,6 +181,13 @@ pub struct Evaluated {
     pub issues: Vec<LaneIssue>,
     /// Parameters rounded to `f16` for both sides of a twin check.
     pub rounded: Option<super::result::FindingKind>,
+}
+
+impl Evaluated {
+    /// The hash of the shader's source, as a golden records it.
+    pub fn shader_hash(&self) -> String {
+        self.build.shader.content_hash()
+    }
 }
 
 /// The indices of the sweep's points this run of the check evaluates: all,
@@ -413,7 +419,6 @@ pub fn evaluate_at(
             .collect();
     }
     Ok(Evaluated {
-        shader_hash: build.shader.content_hash(),
         inputs: program.input_leaves(),
         outputs: program.output_leaves(),
         build,

@@ -40,7 +40,7 @@ pub fn record(suite: &Suite, check: &Check) -> Result<Recorded, String> {
             check: check.name.clone(),
             shader: check.shader_label(),
             function: check.function.clone(),
-            shader_hash: ev.shader_hash.clone(),
+            shader_hash: ev.shader_hash(),
             sweep: check.sweep.to_string(),
             points: ev.points.len,
         },

@@ -55,8 +55,11 @@ pub const BACKEND_SEGMENT: usize = 1 << 20;
 pub struct Prepared<'a> {
     pub suite: &'a Suite,
     pub check: &'a Check,
-    pub build: Arc<Build>,
+    build: Arc<Build>,
     pub program: Arc<Program>,
+    /// The hash of `build`'s shader source (which a golden records),
+    /// computed once: hashing the source is not free, and segments are many.
+    shader_hash: String,
     /// The sweep's grid values, computed once for every segment.
     grid: Grid,
     args: Cow<'a, BTreeMap<String, Expr>>,
@@ -110,6 +113,7 @@ impl<'a> Prepared<'a> {
         Ok(Prepared {
             suite,
             check,
+            shader_hash: build.shader.content_hash(),
             build: Arc::new(build),
             program: Arc::new(program),
             grid: check.sweep.grid(),
@@ -457,13 +461,13 @@ impl Prepared<'_> {
                 .map_err(|d| d.rendered)?;
             }
             let recorded = gs.outputs(span)?;
-            if gs.g.header.shader_hash != ev.shader_hash {
+            if gs.g.header.shader_hash != self.shader_hash {
                 findings.push(Finding {
                     against: gs.against.clone(),
                     explains: None,
                     kind: FindingKind::ShaderChanged {
                         recorded: gs.g.header.shader_hash.clone(),
-                        current: ev.shader_hash.clone(),
+                        current: self.shader_hash.clone(),
                     },
                 });
             }

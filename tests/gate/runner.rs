@@ -158,7 +158,7 @@ x = { list = [1.0, 2.0, 3.0, 4.0] }
             check: check.name.clone(),
             shader: check.shader.display().to_string(),
             function: check.function.clone(),
-            shader_hash: ev.shader_hash.clone(),
+            shader_hash: ev.shader_hash(),
             sweep: check.sweep.to_string(),
             points: 3,
         },
