@@ -6,11 +6,12 @@
 //! registry's function pointer, a model's `sqrt`s and divisions run one at a time, each
 //! waiting on the last. Here the per-point function is inlined into one loop over the columns,
 //! with the model's configuration a constant, so the compiler turns the loop into vector
-//! instructions (on x86-64 also a copy compiled for AVX2, chosen at run time). Nothing is
-//! rewritten: the loop body *is* the model's own function, so every IEEE operation is the
-//! same, in the same order, and gives the same bits. `tests::column_forms_match_the_registry`
-//! checks that bit for bit for every entry here, NaNs and the points below the horizon
-//! included, at several column lengths.
+//! instructions (on x86-64 also copies compiled for AVX2 and for AVX-512, the widest the
+//! machine has chosen at run time). Nothing is rewritten: the loop body *is* the model's own
+//! function, so every IEEE operation is the same, in the same order, and gives the same
+//! bits. `tests::every_width_matches_the_registry` checks that bit for bit for every entry
+//! here at every width the machine runs, NaNs and the points below the horizon included, at
+//! several column lengths.
 //!
 //! A model without a column form is evaluated point by point; [`find`] says which have one.
 
@@ -24,69 +25,128 @@ pub type ColumnsFn = fn(args: &[&[f64]], out: &mut [&mut [f64]]);
 
 /// The column form of the model registered as `name`, if it has one.
 pub fn find(name: &str) -> Option<ColumnsFn> {
-    TABLE.iter().find(|(n, _)| *n == name).map(|&(_, f)| f)
+    TABLE.iter().find(|(n, ..)| *n == name).map(|&(_, f, _)| f)
 }
 
 /// The names of the models that have a column form.
 pub fn names() -> impl Iterator<Item = &'static str> {
-    TABLE.iter().map(|&(n, _)| n)
+    TABLE.iter().map(|&(n, ..)| n)
 }
 
-/// Defines `$name`, a [`ColumnsFn`] for a model with `$arity` flattened arguments and
-/// `$outs` outputs whose value at one point is `$body` (an `[f64; $outs]`, computed from
-/// `$a: [f64; $arity]`), compiled twice: for the baseline target and, on x86-64, with
-/// AVX2 enabled, chosen at run time. IEEE operations give the same bits at any vector
-/// width, so the choice never changes a result.
+/// Defines module `$name`: `columns`, a [`ColumnsFn`] for a model with `$arity` flattened
+/// arguments and `$outs` outputs whose value at one point is `$body` (an `[f64; $outs]`,
+/// computed from `$a: [f64; $arity]`), compiled for the baseline target and, on x86-64,
+/// with AVX2 and with AVX-512 enabled, the widest the machine has chosen at run time; and
+/// `widths`, each of those this machine can run. IEEE operations give the same bits at any
+/// vector width, so the choice never changes a result (`tests::every_width_matches_the_registry`).
 macro_rules! columns {
     ($name:ident, $arity:literal, $outs:literal, |$a:ident| $body:expr) => {
-        fn $name(args: &[&[f64]], out: &mut [&mut [f64]]) {
+        mod $name {
+            use super::*;
+
+            /// The model at every point of one block: `res[j][i]` is
+            /// output `j` at the point whose arguments are `cols[k][i]`.
             #[inline(always)]
-            fn run(args: &[&[f64]], out: &mut [&mut [f64]]) {
-                // Blocks of `BLOCK` points copied into local arrays, which
-                // the compiler knows alias nothing, so the loop over a
-                // block vectorises.
-                // The arrays are filled once per call: a block overwrites
-                // the lanes it reads, and the lanes past a short last block
-                // are computed from the block before but not written out.
-                let n = out[0].len();
-                let mut start = 0;
-                let mut ins = [[0.0f64; BLOCK]; $arity];
-                let mut res = [[0.0f64; BLOCK]; $outs];
-                while start < n {
-                    let len = BLOCK.min(n - start);
-                    for (x, c) in ins.iter_mut().zip(args) {
-                        x[..len].copy_from_slice(&c[start..start + len]);
+            fn block(cols: [&[f64; BLOCK]; $arity], res: &mut [[f64; BLOCK]; $outs]) {
+                for i in 0..BLOCK {
+                    let mut $a = [0.0; $arity];
+                    for (x, c) in $a.iter_mut().zip(&cols) {
+                        *x = c[i];
                     }
-                    for i in 0..BLOCK {
-                        let mut $a = [0.0; $arity];
-                        for (x, c) in $a.iter_mut().zip(&ins) {
-                            *x = c[i];
-                        }
-                        let r: [f64; $outs] = $body;
-                        for (o, v) in res.iter_mut().zip(r) {
-                            o[i] = v;
-                        }
+                    let r: [f64; $outs] = $body;
+                    for (o, v) in res.iter_mut().zip(r) {
+                        o[i] = v;
                     }
-                    for (o, r) in out.iter_mut().zip(&res) {
-                        o[start..start + len].copy_from_slice(&r[..len]);
-                    }
-                    start += len;
                 }
             }
 
-            #[cfg(target_arch = "x86_64")]
-            #[target_feature(enable = "avx2")]
-            unsafe fn wide(args: &[&[f64]], out: &mut [&mut [f64]]) {
+            #[inline(always)]
+            fn run(args: &[&[f64]], out: &mut [&mut [f64]]) {
+                // Whole blocks of `BLOCK` points read the argument columns
+                // in place, as arrays of the block's length (no bounds to
+                // check), and write into a local array, which the compiler
+                // knows aliases nothing, so the loop over a block
+                // vectorises. A short last block is copied into local
+                // arrays first; the lanes past its end are computed but not
+                // written out.
+                let n = out[0].len();
+                let mut res = [[0.0f64; BLOCK]; $outs];
+                let mut start = 0;
+                while start + BLOCK <= n {
+                    let end = start + BLOCK;
+                    block(
+                        std::array::from_fn(|k| {
+                            args[k][start..end].try_into().expect("a block's length")
+                        }),
+                        &mut res,
+                    );
+                    for (o, r) in out.iter_mut().zip(&res) {
+                        o[start..end].copy_from_slice(r);
+                    }
+                    start = end;
+                }
+                if start < n {
+                    let mut ins = [[0.0f64; BLOCK]; $arity];
+                    for (x, c) in ins.iter_mut().zip(args) {
+                        x[..n - start].copy_from_slice(&c[start..n]);
+                    }
+                    block(std::array::from_fn(|k| &ins[k]), &mut res);
+                    for (o, r) in out.iter_mut().zip(&res) {
+                        o[start..n].copy_from_slice(&r[..n - start]);
+                    }
+                }
+            }
+
+            fn baseline(args: &[&[f64]], out: &mut [&mut [f64]]) {
                 run(args, out)
             }
 
             #[cfg(target_arch = "x86_64")]
-            if std::arch::is_x86_feature_detected!("avx2") {
-                // SAFETY: AVX2 support was just checked.
-                unsafe { wide(args, out) };
-                return;
+            #[target_feature(enable = "avx2")]
+            unsafe fn avx2(args: &[&[f64]], out: &mut [&mut [f64]]) {
+                run(args, out)
             }
-            run(args, out)
+
+            #[cfg(target_arch = "x86_64")]
+            #[target_feature(enable = "avx512f")]
+            unsafe fn avx512(args: &[&[f64]], out: &mut [&mut [f64]]) {
+                run(args, out)
+            }
+
+            /// Every compiled width this machine can run, by name,
+            /// narrowest first.
+            pub(super) fn widths() -> Vec<(&'static str, ColumnsFn)> {
+                #[allow(unused_mut)]
+                let mut w: Vec<(&'static str, ColumnsFn)> = vec![("baseline", baseline)];
+                #[cfg(target_arch = "x86_64")]
+                {
+                    if std::arch::is_x86_feature_detected!("avx2") {
+                        // SAFETY: listed only where the machine has AVX2.
+                        w.push(("avx2", |a, o| unsafe { avx2(a, o) }));
+                    }
+                    if std::arch::is_x86_feature_detected!("avx512f") {
+                        // SAFETY: listed only where the machine has AVX-512F.
+                        w.push(("avx512f", |a, o| unsafe { avx512(a, o) }));
+                    }
+                }
+                w
+            }
+
+            /// The widest compiled form this machine can run.
+            pub(super) fn columns(args: &[&[f64]], out: &mut [&mut [f64]]) {
+                #[cfg(target_arch = "x86_64")]
+                {
+                    if std::arch::is_x86_feature_detected!("avx512f") {
+                        // SAFETY: AVX-512F support was just checked.
+                        return unsafe { avx512(args, out) };
+                    }
+                    if std::arch::is_x86_feature_detected!("avx2") {
+                        // SAFETY: AVX2 support was just checked.
+                        return unsafe { avx2(args, out) };
+                    }
+                }
+                baseline(args, out)
+            }
         }
     };
 }
@@ -137,23 +197,31 @@ columns!(schlick_fresnel_rgb, 4, 3, |a| fresnel::schlick_rgb(
     v3(&a, 1)
 ));
 
-/// Every column form, by registry name.
-const TABLE: &[(&str, ColumnsFn)] = &[
-    ("cook_torrance_rgb", cook_torrance_rgb),
-    ("cook_torrance_burley_rgb", cook_torrance_burley_rgb),
-    (
-        "cook_torrance_f90_from_f0_rgb",
-        cook_torrance_f90_from_f0_rgb,
-    ),
-    ("cook_torrance_fast_rgb", cook_torrance_fast_rgb),
-    ("cook_torrance_specular", cook_torrance_specular),
-    ("ggx_ndf", ggx_ndf),
-    (
-        "smith_ggx_v_height_correlated",
-        smith_ggx_v_height_correlated,
-    ),
-    ("schlick_fresnel", schlick_fresnel),
-    ("schlick_fresnel_rgb", schlick_fresnel_rgb),
+/// A model's column form and its compiled widths.
+type Entry = (
+    &'static str,
+    ColumnsFn,
+    fn() -> Vec<(&'static str, ColumnsFn)>,
+);
+
+/// The [`Entry`] of each module defined by [`columns!`], named by it.
+macro_rules! table {
+    ($($name:ident),* $(,)?) => {
+        &[$((stringify!($name), $name::columns, $name::widths)),*]
+    };
+}
+
+/// Every column form, by registry name (the module's own).
+const TABLE: &[Entry] = table![
+    cook_torrance_rgb,
+    cook_torrance_burley_rgb,
+    cook_torrance_f90_from_f0_rgb,
+    cook_torrance_fast_rgb,
+    cook_torrance_specular,
+    ggx_ndf,
+    smith_ggx_v_height_correlated,
+    schlick_fresnel,
+    schlick_fresnel_rgb,
 ];
 
 #[cfg(test)]
@@ -195,69 +263,37 @@ mod tests {
     }
 
     #[test]
-    fn column_forms_match_the_registry() {
+    fn every_width_matches_the_registry() {
         // Lengths below, at and across the block size, so partial blocks run too.
         let lengths = [1, BLOCK - 1, BLOCK, 3 * BLOCK + 5, 4000];
         let mut seed = 0x5eed_0017_u64;
-        for name in names() {
+        for &(name, chosen, widths) in TABLE {
             let model = crate::reference::find(name)
                 .unwrap_or_else(|| panic!("column form `{name}` names no registered model"));
-            let f = find(name).expect("listed");
+            let mut forms = widths();
+            forms.push(("chosen", chosen));
             for &n in &lengths {
                 let args: Vec<Vec<f64>> = (0..model.arity())
                     .map(|_| (0..n).map(|_| value(&mut seed)).collect())
                     .collect();
                 let cols: Vec<&[f64]> = args.iter().map(|c| &c[..]).collect();
-                let mut got: Vec<Vec<f64>> = vec![vec![0.0; n]; model.outputs];
-                let mut outs: Vec<&mut [f64]> = got.iter_mut().map(|c| &mut c[..]).collect();
-                f(&cols, &mut outs);
-                for i in 0..n {
-                    let point: Vec<f64> = args.iter().map(|c| c[i]).collect();
-                    let want = model.call(&point);
-                    for (j, w) in want.iter().enumerate() {
-                        assert!(
-                            same(got[j][i], *w),
-                            "`{name}` output {j} at {point:?}: column form {} vs per point {w}",
-                            got[j][i]
-                        );
+                for &(width, f) in &forms {
+                    let mut got: Vec<Vec<f64>> = vec![vec![0.0; n]; model.outputs];
+                    let mut outs: Vec<&mut [f64]> = got.iter_mut().map(|c| &mut c[..]).collect();
+                    f(&cols, &mut outs);
+                    for i in 0..n {
+                        let point: Vec<f64> = args.iter().map(|c| c[i]).collect();
+                        let want = model.call(&point);
+                        for (j, w) in want.iter().enumerate() {
+                            assert!(
+                                same(got[j][i], *w),
+                                "`{name}` ({width}) output {j} at {point:?}: column form {} vs per point {w}",
+                                got[j][i]
+                            );
+                        }
                     }
                 }
             }
-        }
-    }
-
-    #[test]
-    fn every_vector_width_gives_the_same_bits() {
-        // The baseline loop against the one `find` chooses (AVX2 where the machine has it).
-        let model = crate::reference::find("cook_torrance_rgb").expect("registered");
-        let n = 1000;
-        let mut seed = 7_u64;
-        let args: Vec<Vec<f64>> = (0..model.arity())
-            .map(|_| (0..n).map(|_| value(&mut seed)).collect())
-            .collect();
-        let cols: Vec<&[f64]> = args.iter().map(|c| &c[..]).collect();
-        let mut a: Vec<Vec<f64>> = vec![vec![0.0; n]; 3];
-        let mut b = a.clone();
-        cook_torrance_rgb(
-            &cols,
-            &mut a.iter_mut().map(|c| &mut c[..]).collect::<Vec<_>>(),
-        );
-        let mut outs: Vec<&mut [f64]> = b.iter_mut().map(|c| &mut c[..]).collect();
-        let baseline: ColumnsFn = |args, out| {
-            for i in 0..out[0].len() {
-                let mut a = [0.0; 14];
-                for (x, c) in a.iter_mut().zip(args) {
-                    *x = c[i];
-                }
-                let r = cook_torrance(&CookTorrance::STANDARD, &a);
-                for (o, v) in out.iter_mut().zip(r) {
-                    o[i] = v;
-                }
-            }
-        };
-        baseline(&cols, &mut outs);
-        for (x, y) in a.iter().flatten().zip(b.iter().flatten()) {
-            assert!(same(*x, *y), "{x} vs {y}");
         }
     }
 }
