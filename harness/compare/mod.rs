@@ -260,64 +260,86 @@ fn compare_with<C: AsRef<[f64]>>(
     // old floor is below the new one too; a point that is not goes to the
     // full judgement, which gives the same statistics either way.
     let mut block = Quick::default();
-    for i in 0..n {
-        let j = i % QUICK_BLOCK;
-        if j == 0 {
-            block.len = 0;
-            if let Some(b) = &below {
-                b.block(got, want, i, QUICK_BLOCK.min(n - i), half, &mut block);
-            }
+    let mut start = 0;
+    while start < n {
+        let len = QUICK_BLOCK.min(n - start);
+        block.len = 0;
+        if let Some(b) = &below {
+            b.block(got, want, start, len, half, &mut block);
         }
-        if j < block.len && block.below[j] {
-            s.max_abs = s.max_abs.max(block.max_abs[j]);
-            s.max_rel = s.max_rel.max(block.max_rel[j]);
-            s.max_ulp = s.max_ulp.max(block.max_ulp[j]);
-            bins.add(block.sum_sq[j], &mut sum_sq);
+        if block.len == len && block.below[..len].iter().all(|&b| b) {
+            // Every point of the block is below: fold its errors in
+            // vector steps. Below the floor they are finite or +∞ and never
+            // NaN or −0 (`Below::component`), so the maxima do not depend
+            // on the order; the exact sum never does.
+            s.max_abs = max_of(s.max_abs, &block.max_abs[..len]);
+            s.max_rel = max_of(s.max_rel, &block.max_rel[..len]);
+            s.max_ulp = max_of(s.max_ulp, &block.max_ulp[..len]);
+            for &v in &block.sum_sq[..len] {
+                bins.add(v, &mut sum_sq);
+            }
+            start += len;
             continue;
         }
-        let p = bounds.assess(got, want, i, tol.nan, half);
-        s.max_abs = s.max_abs.max(p.max_abs);
-        s.max_rel = s.max_rel.max(p.max_rel);
-        s.max_ulp = s.max_ulp.max(p.max_ulp);
-        bins.add(p.sum_sq, &mut sum_sq);
-        let (point_bad, point_comp, point_err, nonfinite, skip) =
-            (p.badness, p.component, p.err, p.nonfinite, p.skip);
-        if skip && point_bad == 0.0 {
-            s.skipped += 1;
-            continue;
-        }
-        if nonfinite {
-            s.nonfinite += 1;
-            if s.first_nonfinite.len() < LISTED {
-                s.first_nonfinite.push(report(
-                    i,
-                    point_comp,
-                    point_err.0,
-                    point_err.1,
-                    point_err.2,
-                ));
+        for i in start..start + len {
+            let j = i - start;
+            if j < block.len && block.below[j] {
+                s.max_abs = s.max_abs.max(block.max_abs[j]);
+                s.max_rel = s.max_rel.max(block.max_rel[j]);
+                s.max_ulp = s.max_ulp.max(block.max_ulp[j]);
+                bins.add(block.sum_sq[j], &mut sum_sq);
+                continue;
+            }
+            let p = bounds.assess(got, want, i, tol.nan, half);
+            s.max_abs = s.max_abs.max(p.max_abs);
+            s.max_rel = s.max_rel.max(p.max_rel);
+            s.max_ulp = s.max_ulp.max(p.max_ulp);
+            bins.add(p.sum_sq, &mut sum_sq);
+            let (point_bad, point_comp, point_err, nonfinite, skip) =
+                (p.badness, p.component, p.err, p.nonfinite, p.skip);
+            if skip && point_bad == 0.0 {
+                s.skipped += 1;
+                continue;
+            }
+            if nonfinite {
+                s.nonfinite += 1;
+                if s.first_nonfinite.len() < LISTED {
+                    s.first_nonfinite.push(report(
+                        i,
+                        point_comp,
+                        point_err.0,
+                        point_err.1,
+                        point_err.2,
+                    ));
+                }
+            }
+            if point_bad > 1.0 {
+                s.failed += 1;
+                if s.first_failures.len() < LISTED && !nonfinite {
+                    s.first_failures.push(report(
+                        i,
+                        point_comp,
+                        point_err.0,
+                        point_err.1,
+                        point_err.2,
+                    ));
+                }
+            }
+            // Ties (every failing point infinitely over a zero tolerance, say)
+            // go to the larger error, so the worst point is the worst.
+            let worse = match &worst {
+                None => point_bad > 0.0,
+                Some((_, bad, _, err)) => {
+                    point_bad > *bad
+                        || (point_bad == *bad && (point_err.2, point_err.0) > (err.2, err.0))
+                }
+            };
+            if worse {
+                worst = Some((i, point_bad, point_comp, point_err));
+                below = Below::new(&bounds, point_bad.min(1.0)).filter(|_| quick);
             }
         }
-        if point_bad > 1.0 {
-            s.failed += 1;
-            if s.first_failures.len() < LISTED && !nonfinite {
-                s.first_failures
-                    .push(report(i, point_comp, point_err.0, point_err.1, point_err.2));
-            }
-        }
-        // Ties (every failing point infinitely over a zero tolerance, say)
-        // go to the larger error, so the worst point is the worst.
-        let worse = match &worst {
-            None => point_bad > 0.0,
-            Some((_, bad, _, err)) => {
-                point_bad > *bad
-                    || (point_bad == *bad && (point_err.2, point_err.0) > (err.2, err.0))
-            }
-        };
-        if worse {
-            worst = Some((i, point_bad, point_comp, point_err));
-            below = Below::new(&bounds, point_bad.min(1.0)).filter(|_| quick);
-        }
+        start += len;
     }
     if let Some((i, bad, comp, err)) = worst {
         s.worst_badness = bad;
@@ -706,6 +728,22 @@ impl Below {
     }
 }
 
+/// The largest of `m` and `xs` by `f64::max`, eight lanes at a time. Equal
+/// to folding `xs` into `m` one at a time when no value is NaN and no
+/// zero is negative (the order then cannot change the result).
+#[inline(always)]
+fn max_of(m: f64, xs: &[f64]) -> f64 {
+    let mut acc = [m; 8];
+    let mut chunks = xs.chunks_exact(8);
+    for c in &mut chunks {
+        for (a, &x) in acc.iter_mut().zip(c) {
+            *a = a.max(x);
+        }
+    }
+    let m = chunks.remainder().iter().fold(m, |m, &x| m.max(x));
+    acc.iter().fold(m, |m, &a| m.max(a))
+}
+
 /// The relative error of a non-zero absolute error `abs` against `w` (∞
 /// where `w` is 0); [`Bounds::assess`] and [`Below::block`] share it, so
 /// both compute the same bits.
@@ -938,6 +976,37 @@ mod tests {
                     );
                 }
             }
+        }
+    }
+
+    #[test]
+    fn whole_blocks_below_the_floor_keep_their_largest_errors() {
+        // The first point's relative error of 1e-6 sets the floor; the
+        // others' of 1e-8 are below it. One point with a large `want` has
+        // the largest absolute error (and ULPs) but a tiny relative one, so
+        // it is below the floor too, in a block that is all below. Wherever it lies in its block, the maxima must
+        // include it, as judging every point in full does.
+        let n = 8 * QUICK_BLOCK;
+        let t = Tolerance {
+            rel: Some(vec![1e-4]),
+            ..Tolerance::exact("test")
+        };
+        for at in [
+            4 * QUICK_BLOCK,
+            4 * QUICK_BLOCK + 1,
+            4 * QUICK_BLOCK + 31,
+            5 * QUICK_BLOCK - 1,
+            n - 1,
+        ] {
+            let mut want = vec![1.0; n];
+            let mut got = vec![1.0 + 1e-8; n];
+            got[0] = 1.0 + 1e-6;
+            want[at] = 1e6;
+            got[at] = 1e6 + 1e-2;
+            let fast = compare_with(&[&got[..]], &[&want[..]], &t, false, &d, true, 0);
+            let full = compare_with(&[&got[..]], &[&want[..]], &t, false, &d, false, 0);
+            assert_eq!(format!("{fast:?}"), format!("{full:?}"), "at {at}");
+            assert_eq!(fast.max_abs, (1e6f64 + 1e-2) - 1e6, "at {at}");
         }
     }
 
