@@ -385,9 +385,12 @@ impl Sweep {
             let (count, width) = (self.params[p].1.count(), self.params[p].1.width());
             let period = stride.saturating_mul(count);
             if patterns && period <= PATTERN && count > 0 {
-                let mut cols: Vec<Vec<f64>> =
-                    (0..width).map(|_| Vec::with_capacity(period)).collect();
-                fill(&sources[p], count, stride, &mut cols, 0, period);
+                // Whole periods, enough for runs of `PATTERN_RUN` points
+                // (below `2 · PATTERN_RUN` ≤ `PATTERN` points when one
+                // period is shorter).
+                let len = period * PATTERN_RUN.div_ceil(period);
+                let mut cols: Vec<Vec<f64>> = (0..width).map(|_| Vec::with_capacity(len)).collect();
+                fill(&sources[p], count, stride, &mut cols, 0, len);
                 pats[p] = Some(cols);
             }
             stride = period;
@@ -479,14 +482,21 @@ impl Sweep {
 pub struct Grid {
     of: Vec<(String, Domain)>,
     sources: Vec<Source>,
-    /// Per parameter, one period of its columns where that is at most
-    /// [`PATTERN`] points.
+    /// Per parameter, whole periods of its columns where one period is at
+    /// most [`PATTERN`] points: as many as make [`PATTERN_RUN`] points or
+    /// more, so that a segment copies them in few runs.
     patterns: Vec<Option<Vec<Vec<f64>>>>,
 }
 
 /// The longest period of a parameter's values that [`Sweep::grid`] keeps
 /// whole (per component column: 512 KiB).
 pub const PATTERN: usize = 1 << 16;
+
+/// The fewest points a kept pattern holds (whole periods of a shorter
+/// one): a parameter whose values repeat every 2 points is copied into a
+/// segment in runs of this many, not 2.
+pub const PATTERN_RUN: usize = 1 << 12;
+const _: () = assert!(2 * PATTERN_RUN <= PATTERN);
 
 /// Append a grid parameter's values at the points `start..last` to its
 /// columns: value index `(i / stride) % count` at point `i`, run by run (a
@@ -776,10 +786,12 @@ mod tests {
 
     #[test]
     fn ranges_from_a_grid_are_the_ranges_generated_alone() {
-        // A grid keeps one period of each parameter that repeats within
+        // A grid keeps whole periods of each parameter that repeats within
         // PATTERN points (here `t` and `h`; `x`'s period is 300 · 513 · 3
-        // points, past it, so it is filled run by run), and copies ranges
-        // from it: the same values as generating the range alone.
+        // points, past it, so it is filled run by run), at least
+        // PATTERN_RUN points of them, and copies ranges from them: the same
+        // values as generating the range alone, across the ends of the
+        // kept periods too.
         let s = Sweep {
             params: vec![
                 (
@@ -808,10 +820,16 @@ mod tests {
         let n = s.len();
         let period = s.params[1].1.count() * 3;
         assert_eq!(period, 513 * 3, "every f16 in [0.5, 0.75]: 2^-11 apart");
+        let kept = |p: usize| grid.patterns[p].as_ref().expect("kept")[0].len();
+        assert_eq!((kept(1), kept(2)), (3 * period, 3 * 1366), "whole periods");
+        assert!(kept(1) >= PATTERN_RUN && kept(2) >= PATTERN_RUN);
         for (a, b) in [
             (0, 0),
             (0, 5000),
             (period - 1, period + 1),
+            (3 * 1366 - 5, 3 * 1366 + 5),
+            (3 * period - 2, 3 * period + 2),
+            (3 * period - 2, 9 * period),
             (5 * period + 7, 9 * period + 11),
             (n - 100, n),
             (n - 9, n + 5),
