@@ -928,11 +928,11 @@ fn eval_csv(
             let ev = detail.ev;
             let mut cols = ev.input_columns;
             cols.extend(ev.output_columns);
-            (ev.inputs, cols, ev.program, ev.issues)
+            (ev.inputs.to_vec(), cols, ev.program, ev.issues)
         } else {
             let mut cols = ev.input_columns;
             cols.extend(ev.output_columns);
-            (ev.inputs, cols, ev.program, ev.issues)
+            (ev.inputs.to_vec(), cols, ev.program, ev.issues)
         }
     } else {
         let sh =

@@ -106,7 +106,7 @@ impl CheckPoints {
     pub fn judge_columns(&self) -> (Vec<String>, Vec<Vec<String>>) {
         let mut names = Vec::new();
         for e in &self.expected {
-            for (leaf, _) in &self.ev.outputs {
+            for (leaf, _) in self.ev.outputs.iter() {
                 names.push(format!("{}.{leaf}", e.kind));
             }
             for col in ["abs_error", "rel_error", "ulp_error", "badness", "pass"] {

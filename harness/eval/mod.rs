@@ -82,6 +82,9 @@ pub enum Arithmetic {
     SpecBounds { seed: u64 },
 }
 
+/// A program's leaves, named and typed ([`Program::leaves`]), shared.
+pub type Leaves = std::sync::Arc<[(String, ScalarKind)]>;
+
 pub struct Program {
     seed: u64,
     /// The lowered code, one slot per value and one op per source
@@ -94,6 +97,10 @@ pub struct Program {
     own_output: Vec<bool>,
     /// The kinds of `fast`'s input and output leaves, in slot order.
     in_kinds: Vec<ScalarKind>,
+    /// [`Program::input_leaves`] and [`Program::output_leaves`], named
+    /// once at compile time and shared with every evaluation's result.
+    in_leaves: Leaves,
+    out_leaves: Leaves,
     out_kinds: Vec<ScalarKind>,
     path: PathBuf,
     function: String,
@@ -205,11 +212,14 @@ impl Program {
             })
             .collect();
         let in_kinds = code.params.iter().flat_map(|(_, t)| t.leaves()).collect();
+        let (in_leaves, out_leaves) = (input_leaves(&code).into(), output_leaves(&code).into());
         Ok(Program {
             code,
             fast,
             own_output,
             in_kinds,
+            in_leaves,
+            out_leaves,
             out_kinds,
             path: shader.path.clone(),
             function: function.to_string(),
@@ -252,37 +262,20 @@ impl Program {
     /// `ptr<function, T>` parameter's initial value is named `*arg`,
     /// `*arg.x`, ... (its final value is the output `arg`, `arg.x`, ...).
     pub fn input_leaves(&self) -> Vec<(String, ScalarKind)> {
-        self.code
-            .params
-            .iter()
-            .flat_map(|(name, ty)| {
-                let pointer = self.code.out_params.iter().any(|(n, _)| n == name);
-                let prefix = if pointer {
-                    format!("*{name}")
-                } else {
-                    name.clone()
-                };
-                ty.leaf_names(&prefix).into_iter().zip(ty.leaves())
-            })
-            .collect()
+        self.in_leaves.to_vec()
     }
 
     /// Flattened result leaves, named `result`, `result.x`, `result.field`, ...,
     /// then each `ptr<function, T>` parameter's final value, named after the
     /// parameter (`out_normal.x`, ...).
     pub fn output_leaves(&self) -> Vec<(String, ScalarKind)> {
-        let mut leaves: Vec<(String, ScalarKind)> = match &self.code.result {
-            Some(ty) => ty
-                .leaf_names("result")
-                .into_iter()
-                .zip(ty.leaves())
-                .collect(),
-            None => Vec::new(),
-        };
-        for (name, ty) in &self.code.out_params {
-            leaves.extend(ty.leaf_names(name).into_iter().zip(ty.leaves()));
-        }
-        leaves
+        self.out_leaves.to_vec()
+    }
+
+    /// [`Program::input_leaves`] and [`Program::output_leaves`], shared
+    /// (nothing is named or copied per call).
+    pub fn leaves(&self) -> (Leaves, Leaves) {
+        (self.in_leaves.clone(), self.out_leaves.clone())
     }
 
     /// The `ptr<function, T>` parameters: each is also in [`Program::params`]
@@ -569,6 +562,38 @@ impl Program {
     pub fn path(&self) -> &std::path::Path {
         &self.path
     }
+}
+
+/// The input leaves of `code` ([`Program::input_leaves`]).
+fn input_leaves(code: &Verified) -> Vec<(String, ScalarKind)> {
+    code.params
+        .iter()
+        .flat_map(|(name, ty)| {
+            let pointer = code.out_params.iter().any(|(n, _)| n == name);
+            let prefix = if pointer {
+                format!("*{name}")
+            } else {
+                name.clone()
+            };
+            ty.leaf_names(&prefix).into_iter().zip(ty.leaves())
+        })
+        .collect()
+}
+
+/// The output leaves of `code` ([`Program::output_leaves`]).
+fn output_leaves(code: &Verified) -> Vec<(String, ScalarKind)> {
+    let mut leaves: Vec<(String, ScalarKind)> = match &code.result {
+        Some(ty) => ty
+            .leaf_names("result")
+            .into_iter()
+            .zip(ty.leaves())
+            .collect(),
+        None => Vec::new(),
+    };
+    for (name, ty) in &code.out_params {
+        leaves.extend(ty.leaf_names(name).into_iter().zip(ty.leaves()));
+    }
+    leaves
 }
 
 /// Leaves whose column encoding equals their lane encoding.

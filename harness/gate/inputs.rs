@@ -174,8 +174,9 @@ pub struct Evaluated {
     pub build: Arc<Build>,
     pub points: Points,
     pub program: Arc<Program>,
-    pub inputs: Vec<(String, ScalarKind)>,
-    pub outputs: Vec<(String, ScalarKind)>,
+    /// The program's leaves ([`Program::leaves`]), shared by every segment.
+    pub inputs: crate::eval::Leaves,
+    pub outputs: crate::eval::Leaves,
     pub input_columns: Vec<Vec<u32>>,
     pub output_columns: Vec<Vec<u32>>,
     pub issues: Vec<LaneIssue>,
@@ -396,7 +397,8 @@ pub fn evaluate_at(
     .map_err(|e| format!("check `{}`: {e}", check.name))?;
     let input_columns = input_columns(&inputs, &program, &points)?;
     let refs: Vec<&[u32]> = input_columns.iter().map(|c| &c[..]).collect();
-    let mut output_columns: Vec<Vec<u32>> = (0..program.output_leaves().len())
+    let (inputs, outputs) = program.leaves();
+    let mut output_columns: Vec<Vec<u32>> = (0..outputs.len())
         .map(|_| scratch::column(points.len))
         .collect();
     let mut issues = program
@@ -419,8 +421,8 @@ pub fn evaluate_at(
             .collect();
     }
     Ok(Evaluated {
-        inputs: program.input_leaves(),
-        outputs: program.output_leaves(),
+        inputs,
+        outputs,
         build,
         points,
         program,

@@ -203,7 +203,7 @@ pub fn twin_sides(
     let half = ev
         .outputs
         .iter()
-        .chain(&other.outputs)
+        .chain(other.outputs.iter())
         .any(|(_, k)| *k == ScalarKind::F16);
     // In the f64 number model the twin's own arguments go through it again.
     let want = if twin.f64 {
@@ -756,7 +756,7 @@ pub fn property_sides(
                 .1;
             let takes = program.input_leaves();
             let same = takes.len() == ev.outputs.len()
-                && takes.iter().zip(&ev.outputs).all(|(a, b)| a.1 == b.1);
+                && takes.iter().zip(ev.outputs.iter()).all(|(a, b)| a.1 == b.1);
             if !same {
                 return Err(err(format!(
                     "key `property.decode`: `{decode}` takes ({}) but `{}` returns ({}); the decoder must take exactly the encoder's result",

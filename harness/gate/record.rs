@@ -44,8 +44,8 @@ pub fn record(suite: &Suite, check: &Check) -> Result<Recorded, String> {
             sweep: check.sweep.to_string(),
             points: ev.points.len,
         },
-        inputs: ev.inputs,
-        outputs: ev.outputs,
+        inputs: ev.inputs.to_vec(),
+        outputs: ev.outputs.to_vec(),
         input_columns: ev.input_columns,
         output_columns: ev.output_columns,
     };

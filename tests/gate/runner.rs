@@ -162,8 +162,8 @@ x = { list = [1.0, 2.0, 3.0, 4.0] }
             sweep: check.sweep.to_string(),
             points: 3,
         },
-        inputs: ev.inputs.clone(),
-        outputs: ev.outputs.clone(),
+        inputs: ev.inputs.to_vec(),
+        outputs: ev.outputs.to_vec(),
         input_columns: keep(&ev.input_columns),
         output_columns: keep(&ev.output_columns),
     };
