@@ -110,10 +110,15 @@ pub struct Program {
     /// compile).
     #[cfg(all(target_arch = "x86_64", not(miri)))]
     native: std::sync::OnceLock<Option<std::sync::Arc<native::Native>>>,
-    /// Points evaluated so far, over every call (chooses the tier; read
-    /// only where native code exists).
+    /// Points evaluated so far, over every call, and those announced
+    /// ([`Program::announce`]): chooses the tier; read only where native
+    /// code exists.
     #[cfg_attr(not(all(target_arch = "x86_64", not(miri))), allow(dead_code))]
     evaluated: std::sync::atomic::AtomicUsize,
+    /// Set by the evaluation that compiles `native`, so that in the
+    /// automatic tier the others interpret meanwhile instead of waiting.
+    #[cfg_attr(not(all(target_arch = "x86_64", not(miri))), allow(dead_code))]
+    compiling: std::sync::atomic::AtomicBool,
 }
 
 /// Points per parallel work item (several batches, so scheduling is cheap).
@@ -228,6 +233,7 @@ impl Program {
             #[cfg(all(target_arch = "x86_64", not(miri)))]
             native: std::sync::OnceLock::new(),
             evaluated: std::sync::atomic::AtomicUsize::new(0),
+            compiling: std::sync::atomic::AtomicBool::new(false),
         })
     }
 
@@ -374,9 +380,30 @@ impl Program {
         if native::tier_for(total) != native::Tier::Native {
             return None;
         }
+        if let Some(done) = self.native.get() {
+            return done.clone();
+        }
+        if !native::forced()
+            && self
+                .compiling
+                .swap(true, std::sync::atomic::Ordering::AcqRel)
+        {
+            // Another evaluation is compiling: interpret this one (the
+            // tiers give the same bits) rather than wait for it.
+            return None;
+        }
         self.native
             .get_or_init(|| native::compile(&self.fast).map(std::sync::Arc::new))
             .clone()
+    }
+
+    /// Announce `points` evaluations to come (a check's whole sweep): in
+    /// the automatic tier, a program announced to evaluate
+    /// [`NATIVE_MIN`] points or more is compiled on its first evaluation,
+    /// instead of after that many points have been interpreted.
+    pub fn announce(&self, points: usize) {
+        self.evaluated
+            .fetch_add(points, std::sync::atomic::Ordering::Relaxed);
     }
 
     /// Without a native code generator, every evaluation is interpreted.

@@ -127,6 +127,11 @@ static TIER: AtomicU8 = AtomicU8::new(0);
 /// twice its best. Both grow with the program's operations: compiling the
 /// demo BRDF (about 80 operations) took 5.4 ms and interpreting it 22 ns a
 /// point; the GGX NDF (8) 1.5 ms and 1.5 ns (release build, one run each).
+/// A caller that knows how many points are to come announces them
+/// (`Program::announce`, as a check does for its sweep), and a program
+/// announced to reach this many compiles at once. While one evaluation
+/// compiles, the others interpret rather than wait (unless a tier is
+/// forced).
 pub const NATIVE_MIN: usize = 1 << 18;
 
 /// Force a tier for every evaluation (`None`: automatic, the default).
@@ -134,6 +139,12 @@ pub const NATIVE_MIN: usize = 1 << 18;
 /// bits (tests compare them).
 pub fn set_tier(tier: Option<Tier>) {
     TIER.store(tier.map_or(0, |t| 1 + t as u8), Ordering::Relaxed);
+}
+
+/// Whether a tier is forced ([`set_tier`]): then an evaluation that wants
+/// native code waits for its compilation rather than interpret meanwhile.
+pub(crate) fn forced() -> bool {
+    TIER.load(Ordering::Relaxed) != 0
 }
 
 /// The tier an evaluation runs with, by the points the program has evaluated
@@ -1213,6 +1224,7 @@ mod tests {
     fn whole_ranges_give_the_executors_results_and_issues() {
         use crate::eval::{set_tier, Program};
         use crate::wgsl::Shader;
+        let _tier = tier_lock();
         let src = "fn f(x: f32, r: f32) -> f32 {
             let a = r * r;
             var y = a / (x * x - 0.25);
@@ -1258,6 +1270,7 @@ mod tests {
     fn whole_reports_every_value_that_is_not_finite() {
         use crate::eval::Program;
         use crate::wgsl::Shader;
+        let _tier = tier_lock();
         let src = "fn f(x: f32) -> f32 { return x * 0.5; }";
         let sh = Shader::from_source("flag.wgsl", src.to_string()).unwrap();
         let p = Program::compile(&sh, "f", &Default::default()).unwrap();
@@ -1300,6 +1313,59 @@ mod tests {
         crate::eval::set_tier(None);
         assert_eq!(runs[0], runs[1]);
         assert!(std::mem::take(&mut runs[1]).1.is_empty());
+    }
+
+    /// Held by every test here that forces a tier ([`set_tier`] is
+    /// process-wide) or needs the automatic one.
+    fn tier_lock() -> std::sync::MutexGuard<'static, ()> {
+        static TIER_TESTS: std::sync::Mutex<()> = std::sync::Mutex::new(());
+        TIER_TESTS.lock().unwrap_or_else(|e| e.into_inner())
+    }
+
+    #[test]
+    fn an_announced_program_compiles_at_once_and_others_interpret_meanwhile() {
+        use crate::eval::Program;
+        use crate::wgsl::Shader;
+        use std::sync::atomic::Ordering;
+        let _tier = tier_lock();
+        let src = "fn f(x: f32, r: f32) -> f32 { return r * r / (x * x + 0.25); }";
+        let sh = Shader::from_source("announce.wgsl", src.to_string()).unwrap();
+        let fresh = || Program::compile(&sh, "f", &Default::default()).unwrap();
+        let n = 3 * LANES + 1;
+        let x: Vec<u32> = (0..n).map(|i| (i as f32 * 0.1).to_bits()).collect();
+        let r: Vec<u32> = (0..n).map(|i| (i as f32 * 0.37).sin().to_bits()).collect();
+        let eval = |p: &Program| {
+            let mut out = Vec::new();
+            let issues = p.eval(&[&x, &r], &mut out);
+            (out, issues)
+        };
+        let compiled = |p: &Program| p.native.get().is_some_and(|n| n.is_some());
+
+        // Automatic tier, nothing announced: a few points are interpreted.
+        let p = fresh();
+        let interpreted = eval(&p);
+        assert!(p.native.get().is_none(), "compiled for {n} points");
+
+        // Announced: the first evaluation compiles, and gives the same bits.
+        let p = fresh();
+        p.announce(NATIVE_MIN);
+        assert_eq!(eval(&p), interpreted);
+        assert!(compiled(&p), "not compiled after an announced sweep");
+
+        // Announced, but another evaluation is compiling: this one
+        // interprets, without waiting and without compiling.
+        let p = fresh();
+        p.announce(NATIVE_MIN);
+        p.compiling.store(true, Ordering::Relaxed);
+        assert_eq!(eval(&p), interpreted);
+        assert!(p.native.get().is_none(), "compiled twice");
+
+        // A forced native tier waits for the compilation instead.
+        crate::eval::set_tier(Some(Tier::Native));
+        let forced = eval(&p);
+        crate::eval::set_tier(None);
+        assert_eq!(forced, interpreted);
+        assert!(compiled(&p), "a forced tier did not compile");
     }
 
     #[test]

@@ -112,6 +112,9 @@ impl<'a> Prepared<'a> {
             Some(pc) => oracle::evaluations_per_point(suite, check, pc, point_range(check).len())?,
             None => 1,
         };
+        // The whole sweep is evaluated: a large one compiles native code
+        // at its first segment (`Program::announce`).
+        program.announce(point_range(check).len().saturating_mul(per_point));
         Ok(Prepared {
             suite,
             check,
