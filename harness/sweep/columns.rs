@@ -10,32 +10,53 @@
 //! models inside an expression and unresolved names are not handled here:
 //! [`eval_range`] says `None` and the caller evaluates point by point.
 
+use std::borrow::Cow;
 use std::ops::Range;
 
 use super::expr::{BoundExpr, Node};
 use super::Points;
+use crate::scratch;
 
-/// A value over the range: a scalar column or three.
-enum Col {
-    S(Vec<f64>),
-    V([Vec<f64>; 3]),
+/// A value over the range: a scalar column or three, each borrowed from the
+/// points (a parameter) or computed; or one number standing for a scalar
+/// column that holds it at every point (a constant, kept unexpanded until
+/// it meets a column).
+enum Col<'p> {
+    S(Cow<'p, [f64]>),
+    V([Cow<'p, [f64]>; 3]),
+    K(f64),
 }
 
-fn map(a: Col, f: impl Fn(f64) -> f64) -> Col {
-    let m = |v: Vec<f64>| v.into_iter().map(&f).collect();
+/// A computed column of `f` at every value of `a`, from the column pool.
+fn each(a: &[f64], f: impl Fn(f64) -> f64) -> Cow<'static, [f64]> {
+    let mut v = scratch::column(a.len());
+    v.extend(a.iter().map(|&x| f(x)));
+    Cow::Owned(v)
+}
+
+fn map<'p>(a: Col<'p>, f: impl Fn(f64) -> f64) -> Col<'p> {
     match a {
-        Col::S(x) => Col::S(m(x)),
-        Col::V([x, y, z]) => Col::V([m(x), m(y), m(z)]),
+        Col::S(x) => Col::S(each(&x, f)),
+        Col::V(v) => Col::V(v.map(|c| each(&c, &f))),
+        Col::K(x) => Col::K(f(x)),
     }
 }
 
-fn pair(a: &[f64], b: &[f64], f: &impl Fn(f64, f64) -> f64) -> Vec<f64> {
-    a.iter().zip(b).map(|(&x, &y)| f(x, y)).collect()
+fn pair(a: &[f64], b: &[f64], f: &impl Fn(f64, f64) -> f64) -> Cow<'static, [f64]> {
+    let mut v = scratch::column(a.len());
+    v.extend(a.iter().zip(b).map(|(&x, &y)| f(x, y)));
+    Cow::Owned(v)
 }
 
 /// The point-at-a-time `zip`: a scalar meets each component of a vector.
-fn zip(a: Col, b: Col, f: impl Fn(f64, f64) -> f64) -> Col {
+/// A constant meets each value of a column as its expanded column would.
+fn zip<'p>(a: Col<'p>, b: Col<'p>, f: impl Fn(f64, f64) -> f64) -> Col<'p> {
     match (a, b) {
+        (Col::K(x), Col::K(y)) => Col::K(f(x, y)),
+        (Col::K(x), Col::S(y)) => Col::S(each(&y, |y| f(x, y))),
+        (Col::S(x), Col::K(y)) => Col::S(each(&x, |x| f(x, y))),
+        (Col::K(x), Col::V(y)) => Col::V(y.map(|c| each(&c, |y| f(x, y)))),
+        (Col::V(x), Col::K(y)) => Col::V(x.map(|c| each(&c, |x| f(x, y)))),
         (Col::S(x), Col::S(y)) => Col::S(pair(&x, &y, &f)),
         (Col::V(x), Col::S(y)) => Col::V(x.map(|c| pair(&c, &y, &f))),
         (Col::S(x), Col::V(y)) => Col::V(y.map(|c| pair(&x, &c, &f))),
@@ -48,40 +69,50 @@ fn zip(a: Col, b: Col, f: impl Fn(f64, f64) -> f64) -> Col {
 }
 
 /// `a[0]*b[0] + a[1]*b[1] + a[2]*b[2]`, left to right, per point.
-fn dot(a: &[Vec<f64>; 3], b: &[Vec<f64>; 3]) -> Vec<f64> {
+fn dot(a: &[Cow<[f64]>; 3], b: &[Cow<[f64]>; 3]) -> Vec<f64> {
     (0..a[0].len())
         .map(|i| a[0][i] * b[0][i] + a[1][i] * b[1][i] + a[2][i] * b[2][i])
         .collect()
 }
 
-fn scalar(c: Col) -> Option<Vec<f64>> {
+/// A scalar as a column of `len` values.
+fn scalar(c: Col, len: usize) -> Option<Cow<[f64]>> {
     match c {
         Col::S(x) => Some(x),
+        Col::K(x) => Some(Cow::Owned(scratch::filled(len, x))),
         Col::V(_) => None,
     }
 }
 
-fn vector(c: Col) -> Option<[Vec<f64>; 3]> {
+/// A scalar, left as it is (a column or a constant).
+fn scalar_col(c: Col) -> Option<Col> {
     match c {
-        Col::V(x) => Some(x),
-        Col::S(_) => None,
+        Col::V(_) => None,
+        c => Some(c),
     }
 }
 
-fn eval(n: &Node, points: &Points, range: &Range<usize>) -> Option<Col> {
+fn vector(c: Col) -> Option<[Cow<[f64]>; 3]> {
+    match c {
+        Col::V(x) => Some(x),
+        Col::S(_) | Col::K(_) => None,
+    }
+}
+
+fn eval<'p>(n: &Node, points: &'p Points, range: &Range<usize>) -> Option<Col<'p>> {
     let len = range.len();
     let ev = |n: &Node| eval(n, points, range);
     Some(match n {
-        Node::Num(x) => Col::S(vec![*x; len]),
+        Node::Num(x) => Col::K(*x),
         Node::Idx(i) => {
             let c = &points.columns[*i];
             if points.widths[*i] == 1 {
-                Col::S(c[0][range.clone()].to_vec())
+                Col::S(Cow::Borrowed(&c[0][range.clone()]))
             } else {
                 Col::V([
-                    c[0][range.clone()].to_vec(),
-                    c[1][range.clone()].to_vec(),
-                    c[2][range.clone()].to_vec(),
+                    Cow::Borrowed(&c[0][range.clone()]),
+                    Cow::Borrowed(&c[1][range.clone()]),
+                    Cow::Borrowed(&c[2][range.clone()]),
                 ])
             }
         }
@@ -98,12 +129,12 @@ fn eval(n: &Node, points: &Points, range: &Range<usize>) -> Option<Col> {
                 '-' => zip(a, b, |x, y| x - y),
                 '*' => zip(a, b, |x, y| x * y),
                 '/' => zip(a, b, |x, y| x / y),
-                _ => zip(a, Col::S(scalar(b)?), f64::powf),
+                _ => zip(a, scalar_col(b)?, f64::powf),
             }
         }
         Node::Call(f, args) => {
             let mut a: Vec<Col> = args.iter().map(ev).collect::<Option<_>>()?;
-            let mut take = |k: usize| std::mem::replace(&mut a[k], Col::S(Vec::new()));
+            let mut take = |k: usize| std::mem::replace(&mut a[k], Col::K(0.0));
             match f.as_str() {
                 "sqrt" => map(take(0), f64::sqrt),
                 "abs" => map(take(0), f64::abs),
@@ -131,52 +162,74 @@ fn eval(n: &Node, points: &Points, range: &Range<usize>) -> Option<Col> {
                     let t2 = match &t {
                         Col::S(v) => Col::S(v.clone()),
                         Col::V(v) => Col::V(v.clone()),
+                        Col::K(v) => Col::K(*v),
                     };
-                    let w = zip(Col::S(vec![1.0; len]), t, |o, t| o - t);
+                    let w = zip(Col::K(1.0), t, |o, t| o - t);
                     zip(zip(x, w, |x, w| x * w), zip(y, t2, |y, t| y * t), |p, q| {
                         p + q
                     })
                 }
                 "dot" => {
                     let (x, y) = (vector(take(0))?, vector(take(1))?);
-                    Col::S(dot(&x, &y))
+                    Col::S(Cow::Owned(dot(&x, &y)))
                 }
                 "cross" => {
                     let (x, y) = (vector(take(0))?, vector(take(1))?);
-                    let c = |i: usize, j: usize| -> Vec<f64> {
-                        (0..len)
-                            .map(|p| x[i][p] * y[j][p] - x[j][p] * y[i][p])
-                            .collect()
+                    let c = |i: usize, j: usize| -> Cow<[f64]> {
+                        Cow::Owned(
+                            (0..len)
+                                .map(|p| x[i][p] * y[j][p] - x[j][p] * y[i][p])
+                                .collect(),
+                        )
                     };
                     Col::V([c(1, 2), c(2, 0), c(0, 1)])
                 }
                 "length" => match take(0) {
-                    Col::S(x) => map(Col::S(x), f64::abs),
-                    Col::V(v) => Col::S(dot(&v, &v).into_iter().map(f64::sqrt).collect()),
+                    Col::V(v) => Col::S(each(&dot(&v, &v), f64::sqrt)),
+                    c => map(c, f64::abs),
                 },
                 "normalize" => {
                     let v = vector(take(0))?;
                     let l: Vec<f64> = dot(&v, &v).into_iter().map(f64::sqrt).collect();
                     Col::V(v.map(|c| pair(&c, &l, &|c, l| c / l)))
                 }
-                "vec3" => Col::V([scalar(take(0))?, scalar(take(1))?, scalar(take(2))?]),
+                "vec3" => Col::V([
+                    scalar(take(0), len)?,
+                    scalar(take(1), len)?,
+                    scalar(take(2), len)?,
+                ]),
                 _ => return None,
             }
         }
     })
 }
 
+/// A column as an owned vector (a borrowed one copied into a pooled one).
+fn owned(c: Cow<[f64]>) -> Vec<f64> {
+    match c {
+        Cow::Owned(v) => v,
+        Cow::Borrowed(x) => {
+            let mut v = scratch::column(x.len());
+            v.extend_from_slice(x);
+            v
+        }
+    }
+}
+
 /// The expression's value at points `range` of `points`, one column per
 /// component (1 or 3); `None` when the expression holds something only the
 /// point-at-a-time evaluation handles (a reference model, an unresolved name)
-/// or a type it would reject there.
+/// or a type it would reject there. The columns come from the column pool
+/// ([`crate::scratch`]).
 pub fn eval_range(e: &BoundExpr, points: &Points, range: Range<usize>) -> Option<Vec<Vec<f64>>> {
     if range.end > points.len || range.start > range.end {
         return None;
     }
+    let len = range.len();
     Some(match eval(&e.root, points, &range)? {
-        Col::S(x) => vec![x],
-        Col::V(v) => v.into(),
+        Col::S(x) => vec![owned(x)],
+        Col::K(x) => vec![scratch::filled(len, x)],
+        Col::V(v) => v.map(owned).into(),
     })
 }
 
@@ -254,6 +307,19 @@ mod tests {
             "vec3(x, x * 0.85, x * 0.7)",
             "vec3(0, 0, 1)",
             "-(x + 1) * (v.x - 2)",
+            // Constants meeting columns, and constants alone to the end.
+            "2 * 3 + x",
+            "v * (1 - 0.25)",
+            "vec3(1, 2, 3) * 2",
+            "0.5",
+            "-(1)",
+            "length(2) ^ 0.5",
+            "mix(0.2, 0.4, 0.5)",
+            "mix(v, x, 0.5)",
+            "pow(2, x)",
+            "atan2(1, v.y)",
+            "clamp(0.5, x, 1)",
+            "vec3(x, 1, 2).y",
         ];
         for text in texts {
             let b = Expr::parse(text)
