@@ -479,7 +479,7 @@ impl Program {
 
     /// `name=value, ...` for point `i` of `ins`.
     pub(crate) fn describe_point(&self, ins: &[&[u32]], i: usize) -> String {
-        self.input_leaves()
+        self.in_leaves
             .iter()
             .zip(ins)
             .map(|((name, k), col)| format!("{name}={}", bits_to_f64(*k, col[i])))
@@ -489,7 +489,7 @@ impl Program {
 
     /// Check that `inputs` has one column per input leaf, all of one length.
     pub fn check_inputs(&self, inputs: &[&[u32]]) -> Result<usize, String> {
-        let leaves = self.input_leaves();
+        let leaves = &self.in_leaves;
         if inputs.len() != leaves.len() {
             let names: Vec<_> = leaves
                 .iter()
