@@ -209,11 +209,20 @@ impl Span<'_> {
     }
 }
 
+/// The judged side of a comparison.
+enum Got {
+    /// The first `k` columns of the function's outputs
+    /// ([`Materialised::got`]), shared by the comparisons that judge them.
+    Outputs(usize),
+    /// Columns of its own (a twin's or a property's).
+    Own(Vec<Vec<f64>>),
+}
+
 /// One comparison's columns over a span of points, before judging.
 struct Side {
     against: String,
     tolerance: Tolerance,
-    got: Vec<Vec<f64>>,
+    got: Got,
     want: Vec<Vec<f64>>,
     half: bool,
     model: Option<&'static Model>,
@@ -232,7 +241,7 @@ impl Side {
     fn outputs(
         against: String,
         check: &Check,
-        got: &[Vec<f64>],
+        got: usize,
         mine: &[Vec<u32>],
         (other, kinds): (&[Vec<u32>], &[(String, ScalarKind)]),
         half: bool,
@@ -240,7 +249,7 @@ impl Side {
         Side {
             against,
             tolerance: check.golden_tolerance.clone(),
-            got: got.to_vec(),
+            got: Got::Outputs(got),
             want: as_f64(other, kinds),
             half,
             model: None,
@@ -254,6 +263,9 @@ impl Side {
 /// Every comparison of a check over one span of points.
 struct Materialised {
     ev: Evaluated,
+    /// The function's outputs as f64, which the comparisons of
+    /// [`Got::Outputs`] judge.
+    got: Vec<Vec<f64>>,
     sides: Vec<Side>,
     /// Findings about the whole check rather than one comparison (the back
     /// end used, its agreement with the CPU, rounded inputs, a changed
@@ -338,7 +350,7 @@ impl Prepared<'_> {
             sides.push(Side {
                 against: format!("reference {}", model.name),
                 tolerance: check.tolerance.clone(),
-                got: got.to_vec(),
+                got: Got::Outputs(got.len()),
                 want: reference_columns(check, model, &ev.points, &check.reference_args)?,
                 half,
                 model: Some(model),
@@ -356,7 +368,7 @@ impl Prepared<'_> {
             sides.push(Side {
                 against: format!("reference {}", expr.text),
                 tolerance: check.tolerance.clone(),
-                got: got.to_vec(),
+                got: Got::Outputs(got.len()),
                 want: reference_expr_columns(check, expr, &ev.points, got.len())?,
                 half,
                 model: None,
@@ -393,7 +405,7 @@ impl Prepared<'_> {
             sides.push(Side {
                 against: s.against,
                 tolerance: check.tolerance.clone(),
-                got: s.got,
+                got: Got::Own(s.got),
                 want: s.want,
                 half: s.half,
                 model: None,
@@ -422,7 +434,7 @@ impl Prepared<'_> {
             sides.push(Side::outputs(
                 v.against.clone(),
                 check,
-                &got,
+                got.len(),
                 &ev.output_columns,
                 (&old.output_columns, &old.outputs),
                 half || old.outputs.iter().any(|(_, k)| *k == ScalarKind::F16),
@@ -479,7 +491,7 @@ impl Prepared<'_> {
             sides.push(Side::outputs(
                 gs.against.clone(),
                 check,
-                &got,
+                got.len(),
                 &ev.output_columns,
                 (&recorded, &gs.g.outputs),
                 half,
@@ -487,6 +499,7 @@ impl Prepared<'_> {
         }
         Ok(Materialised {
             ev,
+            got,
             sides,
             findings,
         })
@@ -494,6 +507,14 @@ impl Prepared<'_> {
 }
 
 impl Materialised {
+    /// The columns `side` judges.
+    fn got_of<'s>(&'s self, side: &'s Side) -> &'s [Vec<f64>] {
+        match &side.got {
+            Got::Outputs(k) => &self.got[..*k],
+            Got::Own(cols) => cols,
+        }
+    }
+
     /// Hand the segment's columns back for the next segment
     /// ([`crate::scratch`]); the findings stay.
     fn recycle(&mut self) {
@@ -503,8 +524,11 @@ impl Materialised {
         }
         scratch::recycle_all(std::mem::take(&mut ev.input_columns));
         scratch::recycle_all(std::mem::take(&mut ev.output_columns));
+        scratch::recycle_all(std::mem::take(&mut self.got));
         for side in std::mem::take(&mut self.sides) {
-            scratch::recycle_all(side.got);
+            if let Got::Own(got) = side.got {
+                scratch::recycle_all(got);
+            }
             scratch::recycle_all(side.want);
         }
     }
@@ -545,12 +569,17 @@ impl Prepared<'_> {
         let mut failing = Vec::new();
         let albedo = m.sides.iter().find_map(|s| s.albedo.clone());
         for side in &m.sides {
-            let mut s =
-                compare::compare(&side.got, &side.want, &side.tolerance, side.half, &describe);
+            let mut s = compare::compare(
+                m.got_of(side),
+                &side.want,
+                &side.tolerance,
+                side.half,
+                &describe,
+            );
             s.changed = side.changed;
             s.offset(start);
             failing.push(if large && s.failed > 0 {
-                failing_points(&side.got, &side.want, &side.tolerance, side.half)
+                failing_points(m.got_of(side), &side.want, &side.tolerance, side.half)
                     .into_iter()
                     .map(|i| start + i)
                     .collect()
@@ -861,13 +890,14 @@ pub fn run_prepared(
     let m = prep.materialise(span, backend, golden.as_ref(), false)?;
     for (k, side) in m.sides.iter().enumerate() {
         let (_, _, model, context) = labels[k];
-        let failing = failing_points(&side.got, &side.want, &side.tolerance, side.half);
+        let got = m.got_of(side);
+        let failing = failing_points(got, &side.want, &side.tolerance, side.half);
         let evidence = Evidence {
             check,
             against: &side.against,
             stats: &r.comparisons[k].stats,
             points: &m.ev.points,
-            got: &side.got,
+            got,
             want: &side.want,
             tolerance: &side.tolerance,
             half: side.half,
