@@ -178,6 +178,10 @@ pub struct Evaluated {
     pub inputs: crate::eval::Leaves,
     pub outputs: crate::eval::Leaves,
     pub input_columns: Vec<Vec<u32>>,
+    /// The f64 columns of the argument expressions that are not a plain
+    /// sweep parameter, kept for the reference arguments of the same
+    /// expression ([`reference_columns_sharing`]).
+    pub arg_columns: ArgColumns,
     pub output_columns: Vec<Vec<u32>>,
     pub issues: Vec<LaneIssue>,
     /// Parameters rounded to `f16` for both sides of a twin check.
@@ -190,6 +194,10 @@ impl Evaluated {
         self.build.shader.content_hash()
     }
 }
+
+/// Argument expressions evaluated over a span of points, with their f64
+/// columns.
+pub type ArgColumns = Vec<(BoundExpr, Vec<Vec<f64>>)>;
 
 /// The indices of the sweep's points this run of the check evaluates: all,
 /// or its shard's share ([`Check::shard`]).
@@ -395,7 +403,7 @@ pub fn evaluate_at(
         &points,
     )
     .map_err(|e| format!("check `{}`: {e}", check.name))?;
-    let input_columns = input_columns(&inputs, &program, &points)?;
+    let (input_columns, arg_columns) = input_columns(&inputs, &program, &points)?;
     let refs: Vec<&[u32]> = input_columns.iter().map(|c| &c[..]).collect();
     let (inputs, outputs) = program.leaves();
     let mut output_columns: Vec<Vec<u32>> = (0..outputs.len())
@@ -427,6 +435,7 @@ pub fn evaluate_at(
         points,
         program,
         input_columns,
+        arg_columns,
         output_columns,
         issues,
         rounded: None,
@@ -434,12 +443,12 @@ pub fn evaluate_at(
 }
 
 /// The function's input columns (one per input leaf, in its encoding) from
-/// bound arguments.
+/// bound arguments, and the f64 columns of the computed ones.
 fn input_columns(
     inputs: &super::args::Inputs,
     program: &Program,
     points: &Points,
-) -> Result<Vec<Vec<u32>>, String> {
+) -> Result<(Vec<Vec<u32>>, ArgColumns), String> {
     let f64_cols = columns(&inputs.exprs, points)?;
     let kinds = program.input_kinds();
     let cols = inputs
@@ -455,8 +464,16 @@ fn input_columns(
             super::args::Leaf::Zero => scratch::filled(points.len, f64_to_bits(k, 0.0)),
         })
         .collect();
-    recycle(f64_cols);
-    Ok(cols)
+    // Keep what was computed; the parameters' own columns were borrowed.
+    let mut kept = Vec::new();
+    let mut f64_cols = f64_cols.into_iter();
+    for e in &inputs.exprs {
+        let cols: Vec<Cow<[f64]>> = f64_cols.by_ref().take(e.width).collect();
+        if e.var.is_none() {
+            kept.push((e.clone(), owned(cols)));
+        }
+    }
+    Ok((cols, kept))
 }
 
 /// Evaluate the reference model of a check at every point.
@@ -466,7 +483,20 @@ pub fn reference_columns(
     points: &Points,
     ref_args: &BTreeMap<String, Expr>,
 ) -> Result<Vec<Vec<f64>>, String> {
-    let args = reference_args(check, model, points, ref_args)?;
+    reference_columns_sharing(check, model, points, ref_args, &[])
+}
+
+/// [`reference_columns`], taking the columns of an argument expression
+/// from `shared` where it holds the same expression evaluated over the
+/// same points (the function's own arguments: [`Evaluated::arg_columns`]).
+pub fn reference_columns_sharing(
+    check: &Check,
+    model: &Model,
+    points: &Points,
+    ref_args: &BTreeMap<String, Expr>,
+    shared: &[(BoundExpr, Vec<Vec<f64>>)],
+) -> Result<Vec<Vec<f64>>, String> {
+    let args = reference_args(check, model, points, ref_args, shared)?;
     let n = points.len;
     let mut out: Vec<Vec<f64>> = (0..model.outputs)
         .map(|_| scratch::filled(n, 0.0))
@@ -563,7 +593,7 @@ pub fn reference_arg_columns(
     points: &Points,
     ref_args: &BTreeMap<String, Expr>,
 ) -> Result<Vec<Vec<f64>>, String> {
-    reference_args(check, model, points, ref_args).map(owned)
+    reference_args(check, model, points, ref_args, &[]).map(owned)
 }
 
 /// [`reference_arg_columns`], borrowing the sweep parameters' own columns.
@@ -572,6 +602,7 @@ fn reference_args<'p>(
     model: &Model,
     points: &'p Points,
     ref_args: &BTreeMap<String, Expr>,
+    shared: &'p [(BoundExpr, Vec<Vec<f64>>)],
 ) -> Result<Vec<Cow<'p, [f64]>>, String> {
     let mut bound = Vec::new();
     for p in model.params {
@@ -589,5 +620,15 @@ fn reference_args<'p>(
         }
         bound.push(b);
     }
-    columns(&bound, points)
+    if shared.is_empty() {
+        return columns(&bound, points);
+    }
+    let mut cols = Vec::with_capacity(model.arity());
+    for b in &bound {
+        match shared.iter().find(|(e, _)| e.same_as(b)) {
+            Some((_, c)) => cols.extend(c.iter().map(|c| Cow::Borrowed(&c[..]))),
+            None => cols.extend(columns(std::slice::from_ref(b), points)?),
+        }
+    }
+    Ok(cols)
 }

@@ -31,7 +31,8 @@ pub mod table;
 
 pub use inputs::{
     as_f64, build_of, evaluate, files_with, point_range, points_of, reference_arg_columns,
-    reference_columns, reference_expr_columns, reference_fits, Build, Evaluated,
+    reference_columns, reference_columns_sharing, reference_expr_columns, reference_fits, Build,
+    Evaluated,
 };
 pub use record::{record, Recorded};
 pub use result::{

@@ -31,8 +31,8 @@ use super::explain::{
 };
 use super::inputs::{
     as_f64, build_of, evaluate_at, main_args, point_range, points_at, points_in_grid,
-    reference_arg_columns, reference_columns, reference_expr_columns, reference_fits, Build,
-    Evaluated,
+    reference_arg_columns, reference_columns, reference_columns_sharing, reference_expr_columns,
+    reference_fits, Build, Evaluated,
 };
 use super::oracle::{self, Other};
 use super::result::{AlbedoTable, CheckResult, Comparison, Finding, FindingKind, IssueGroup};
@@ -351,7 +351,13 @@ impl Prepared<'_> {
                 against: format!("reference {}", model.name),
                 tolerance: check.tolerance.clone(),
                 got: Got::Outputs(got.len()),
-                want: reference_columns(check, model, &ev.points, &check.reference_args)?,
+                want: reference_columns_sharing(
+                    check,
+                    model,
+                    &ev.points,
+                    &check.reference_args,
+                    &ev.arg_columns,
+                )?,
                 half,
                 model: Some(model),
                 changed: None,
@@ -444,6 +450,9 @@ impl Prepared<'_> {
                 scratch::recycle_all(p);
             }
             scratch::recycle_all(old.input_columns);
+            for (_, cols) in old.arg_columns {
+                scratch::recycle_all(cols);
+            }
             scratch::recycle_all(old.output_columns);
         }
         if let Some(gs) = golden {
@@ -523,6 +532,9 @@ impl Materialised {
             scratch::recycle_all(p);
         }
         scratch::recycle_all(std::mem::take(&mut ev.input_columns));
+        for (_, cols) in std::mem::take(&mut ev.arg_columns) {
+            scratch::recycle_all(cols);
+        }
         scratch::recycle_all(std::mem::take(&mut ev.output_columns));
         scratch::recycle_all(std::mem::take(&mut self.got));
         for side in std::mem::take(&mut self.sides) {

@@ -145,3 +145,59 @@ x = { linear = [0.0, 1.0, 10001] }
     assert_eq!(same.comparisons[0].stats.changed, Some(0));
     let _ = std::fs::remove_dir_all(&dir);
 }
+
+#[test]
+fn the_reference_shares_only_the_functions_argument_columns_of_the_same_expression() {
+    // `brdf_full` gives the function and the reference the same `n` and
+    // `base_color` expressions: the reference reads the function's columns
+    // of them, and gets the bits it computes alone. With another
+    // `base_color` for the reference, it must compute its own.
+    let s = suite::load(Path::new(concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/shadegate.toml"
+    )))
+    .unwrap_or_else(|d| panic!("{d}"));
+    let mut check = s
+        .checks
+        .iter()
+        .find(|c| c.name == "brdf_full")
+        .expect("the demo suite has brdf_full")
+        .clone();
+    check.sweep.random = None;
+    let ev = gate::evaluate(&s, &check, None).unwrap_or_else(|e| panic!("{e}"));
+    assert_eq!(ev.arg_columns.len(), 2, "n and base_color are computed");
+    let model = check.reference.expect("a reference model");
+    let bits = |c: Vec<Vec<f64>>| -> Vec<Vec<u64>> {
+        c.iter()
+            .map(|c| c.iter().map(|x| x.to_bits()).collect())
+            .collect()
+    };
+    let alone = gate::reference_columns(&check, model, &ev.points, &check.reference_args);
+    let shared = gate::reference_columns_sharing(
+        &check,
+        model,
+        &ev.points,
+        &check.reference_args,
+        &ev.arg_columns,
+    );
+    let alone = bits(alone.unwrap_or_else(|e| panic!("{e}")));
+    assert_eq!(bits(shared.unwrap_or_else(|e| panic!("{e}"))), alone);
+
+    let mut other = check.reference_args.clone();
+    other.insert(
+        "base_color".into(),
+        shadegate::sweep::Expr::parse("vec3(albedo * 0.5, albedo, albedo)").unwrap(),
+    );
+    let alone_other = gate::reference_columns(&check, model, &ev.points, &other);
+    let shared_other =
+        gate::reference_columns_sharing(&check, model, &ev.points, &other, &ev.arg_columns);
+    let alone_other = bits(alone_other.unwrap_or_else(|e| panic!("{e}")));
+    assert_eq!(
+        bits(shared_other.unwrap_or_else(|e| panic!("{e}"))),
+        alone_other
+    );
+    assert_ne!(
+        alone_other, alone,
+        "the other base_color changes the reference"
+    );
+}

@@ -50,6 +50,13 @@ pub struct BoundExpr {
 }
 
 impl BoundExpr {
+    /// The same expression bound the same way (so over the same points it
+    /// gives the same values). A NaN constant is never the same as itself,
+    /// which only costs a second evaluation.
+    pub fn same_as(&self, other: &BoundExpr) -> bool {
+        self.width == other.width && self.var == other.var && self.root == other.root
+    }
+
     /// Evaluate with one value per bound name.
     pub fn eval(&self, vals: &[Value]) -> Result<Value, String> {
         eval(&self.root, &BTreeMap::new(), vals)
