@@ -8,6 +8,20 @@ use shadegate::gate::{self, CheckResult};
 use shadegate::suite::{self, Suite};
 use shadegate::wgsl::Diagnostic;
 
+/// The demo suite (`shadegate.toml` at the project's root) and a copy of
+/// its check `name`.
+pub fn demo_check(name: &str) -> (Suite, suite::Check) {
+    let s = suite::load(&Path::new(env!("CARGO_MANIFEST_DIR")).join("shadegate.toml"))
+        .unwrap_or_else(|d| panic!("{d}"));
+    let check = s
+        .checks
+        .iter()
+        .find(|c| c.name == name)
+        .unwrap_or_else(|| panic!("the demo suite has no check `{name}`"))
+        .clone();
+    (s, check)
+}
+
 /// A scratch project: `lib.wgsl` holding `lib` and `shadegate.toml` holding
 /// `suite_text`, in a folder unique to the test file (`area`), the test and the
 /// process; the folder and the loaded suite.

@@ -152,18 +152,7 @@ fn the_reference_shares_only_the_functions_argument_columns_of_the_same_expressi
     // `base_color` expressions: the reference reads the function's columns
     // of them, and gets the bits it computes alone. With another
     // `base_color` for the reference, it must compute its own.
-    let s = suite::load(Path::new(concat!(
-        env!("CARGO_MANIFEST_DIR"),
-        "/shadegate.toml"
-    )))
-    .unwrap_or_else(|d| panic!("{d}"));
-    let mut check = s
-        .checks
-        .iter()
-        .find(|c| c.name == "brdf_full")
-        .expect("the demo suite has brdf_full")
-        .clone();
-    check.sweep.random = None;
+    let (s, check) = crate::common::demo_check("brdf_full");
     let ev = gate::evaluate(&s, &check, None).unwrap_or_else(|e| panic!("{e}"));
     assert_eq!(ev.arg_columns.len(), 2, "n and base_color are computed");
     let model = check.reference.expect("a reference model");
