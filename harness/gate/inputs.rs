@@ -180,7 +180,10 @@ pub struct Evaluated {
     pub input_columns: Vec<Vec<u32>>,
     /// The f64 columns of the argument expressions that are not a plain
     /// sweep parameter, kept for the reference arguments of the same
-    /// expression ([`reference_columns_sharing`]).
+    /// expression ([`reference_columns_sharing`]) by a streamed check's
+    /// segment (`stream::Prepared::evaluate_keeping_args`); empty otherwise,
+    /// so a whole-sweep evaluation holds no more than its input and output
+    /// columns.
     pub arg_columns: ArgColumns,
     pub output_columns: Vec<Vec<u32>>,
     pub issues: Vec<LaneIssue>,
@@ -395,6 +398,19 @@ pub fn evaluate_at(
     args: &BTreeMap<String, Expr>,
     points: Points,
 ) -> Result<Evaluated, String> {
+    evaluate_at_keeping(check, build, program, args, points, false)
+}
+
+/// [`evaluate_at`], keeping the computed argument columns in
+/// [`Evaluated::arg_columns`] when `keep_args`.
+pub(crate) fn evaluate_at_keeping(
+    check: &Check,
+    build: Arc<Build>,
+    program: Arc<Program>,
+    args: &BTreeMap<String, Expr>,
+    points: Points,
+    keep_args: bool,
+) -> Result<Evaluated, String> {
     let inputs = super::args::bind(
         &build.function,
         program.params(),
@@ -403,7 +419,7 @@ pub fn evaluate_at(
         &points,
     )
     .map_err(|e| format!("check `{}`: {e}", check.name))?;
-    let (input_columns, arg_columns) = input_columns(&inputs, &program, &points)?;
+    let (input_columns, arg_columns) = input_columns(&inputs, &program, &points, keep_args)?;
     let refs: Vec<&[u32]> = input_columns.iter().map(|c| &c[..]).collect();
     let (inputs, outputs) = program.leaves();
     let mut output_columns: Vec<Vec<u32>> = (0..outputs.len())
@@ -443,11 +459,12 @@ pub fn evaluate_at(
 }
 
 /// The function's input columns (one per input leaf, in its encoding) from
-/// bound arguments, and the f64 columns of the computed ones.
+/// bound arguments, and, when `keep`, the f64 columns of the computed ones.
 fn input_columns(
     inputs: &super::args::Inputs,
     program: &Program,
     points: &Points,
+    keep: bool,
 ) -> Result<(Vec<Vec<u32>>, ArgColumns), String> {
     let f64_cols = columns(&inputs.exprs, points)?;
     let kinds = program.input_kinds();
@@ -464,6 +481,10 @@ fn input_columns(
             super::args::Leaf::Zero => scratch::filled(points.len, f64_to_bits(k, 0.0)),
         })
         .collect();
+    if !keep {
+        recycle(f64_cols);
+        return Ok((cols, Vec::new()));
+    }
     // Keep what was computed; the parameters' own columns were borrowed.
     let mut kept = Vec::new();
     let mut f64_cols = f64_cols.into_iter();

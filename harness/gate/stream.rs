@@ -30,7 +30,7 @@ use super::explain::{
     self, backend_agreement, failing_points, group_issues, Context, Evidence, Explainer, Reevaluate,
 };
 use super::inputs::{
-    as_f64, build_of, evaluate_at, main_args, point_range, points_at, points_in_grid,
+    as_f64, build_of, evaluate_at_keeping, main_args, point_range, points_at, points_in_grid,
     reference_arg_columns, reference_columns, reference_columns_sharing, reference_expr_columns,
     reference_fits, Build, Evaluated,
 };
@@ -144,14 +144,25 @@ impl<'a> Prepared<'a> {
 
     /// The check's function evaluated at `points` (values already rounded
     /// to f32; the parameters an `f16` side takes are rounded to `f16` here).
-    pub fn evaluate(&self, mut points: Points) -> Result<Evaluated, String> {
+    pub fn evaluate(&self, points: Points) -> Result<Evaluated, String> {
+        self.evaluate_with(points, false)
+    }
+
+    /// [`Prepared::evaluate`], keeping the computed argument columns
+    /// ([`Evaluated::arg_columns`]) for the reference of a segment.
+    pub fn evaluate_keeping_args(&self, points: Points) -> Result<Evaluated, String> {
+        self.evaluate_with(points, true)
+    }
+
+    fn evaluate_with(&self, mut points: Points, keep_args: bool) -> Result<Evaluated, String> {
         oracle::round_half(&mut points, &self.half);
-        let mut ev = evaluate_at(
+        let mut ev = evaluate_at_keeping(
             self.check,
             self.build.clone(),
             self.program.clone(),
             &self.args,
             points,
+            keep_args,
         )?;
         ev.rounded = self.rounded.clone();
         Ok(ev)
@@ -310,7 +321,7 @@ impl Prepared<'_> {
         verify_golden: bool,
     ) -> Result<Materialised, String> {
         let (suite, check) = (self.suite, self.check);
-        let mut ev = self.evaluate(span.points(self))?;
+        let mut ev = self.evaluate_keeping_args(span.points(self))?;
         let mut findings = Vec::new();
         if let Some(b) = backend {
             let refs: Vec<&[u32]> = ev.input_columns.iter().map(|c| &c[..]).collect();

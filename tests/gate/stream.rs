@@ -153,8 +153,16 @@ fn the_reference_shares_only_the_functions_argument_columns_of_the_same_expressi
     // of them, and gets the bits it computes alone. With another
     // `base_color` for the reference, it must compute its own.
     let (s, check) = crate::common::demo_check("brdf_full");
-    let ev = gate::evaluate(&s, &check, None).unwrap_or_else(|e| panic!("{e}"));
+    let prepared = gate::stream::Prepared::new(&s, &check, None).unwrap_or_else(|e| panic!("{e}"));
+    let ev = prepared
+        .evaluate_keeping_args(gate::points_of(&check))
+        .unwrap_or_else(|e| panic!("{e}"));
     assert_eq!(ev.arg_columns.len(), 2, "n and base_color are computed");
+    let whole = gate::evaluate(&s, &check, None).unwrap_or_else(|e| panic!("{e}"));
+    assert!(
+        whole.arg_columns.is_empty(),
+        "a whole evaluation keeps none"
+    );
     let model = check.reference.expect("a reference model");
     let bits = |c: Vec<Vec<f64>>| -> Vec<Vec<u64>> {
         c.iter()
