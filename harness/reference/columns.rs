@@ -17,6 +17,7 @@
 
 use super::brdf::CookTorrance;
 use super::{fresnel, masking, ndf};
+use crate::eval::Width;
 
 /// Evaluates a model over columns: `args[k]` is the column of flattened argument `k` (as
 /// [`Model::eval`](super::Model) numbers them), `out[j]` of output `j`; every column has
@@ -37,7 +38,7 @@ pub fn names() -> impl Iterator<Item = &'static str> {
 /// arguments and `$outs` outputs whose value at one point is `$body` (an `[f64; $outs]`,
 /// computed from `$a: [f64; $arity]`), compiled for the baseline target and, on x86-64,
 /// with AVX2 and with AVX-512 enabled, the widest the machine has chosen at run time; and
-/// `widths`, each of those this machine can run. IEEE operations give the same bits at any
+/// `form`, the one compiled for a [`Width`] this machine runs. IEEE operations give the same bits at any
 /// vector width, so the choice never changes a result (`tests::every_width_matches_the_registry`).
 macro_rules! columns {
     ($name:ident, $arity:literal, $outs:literal, |$a:ident| $body:expr) => {
@@ -113,39 +114,31 @@ macro_rules! columns {
                 run(args, out)
             }
 
-            /// Every compiled width this machine can run, by name,
-            /// narrowest first.
-            pub(super) fn widths() -> Vec<(&'static str, ColumnsFn)> {
-                #[allow(unused_mut)]
-                let mut w: Vec<(&'static str, ColumnsFn)> = vec![("baseline", baseline)];
-                #[cfg(target_arch = "x86_64")]
-                {
-                    if std::arch::is_x86_feature_detected!("avx2") {
-                        // SAFETY: listed only where the machine has AVX2.
-                        w.push(("avx2", |a, o| unsafe { avx2(a, o) }));
-                    }
-                    if std::arch::is_x86_feature_detected!("avx512f") {
-                        // SAFETY: listed only where the machine has AVX-512F.
-                        w.push(("avx512f", |a, o| unsafe { avx512(a, o) }));
-                    }
+            /// The form compiled for `width`.
+            ///
+            /// # Panics
+            /// When this machine does not run `width` ([`Width::best`]).
+            pub(super) fn form(width: Width) -> ColumnsFn {
+                assert!(
+                    width <= Width::best(),
+                    "this machine does not run {width:?} instructions"
+                );
+                match width {
+                    Width::Baseline => baseline,
+                    // SAFETY: the machine runs AVX2, asserted above.
+                    #[cfg(target_arch = "x86_64")]
+                    Width::Avx2 => |a, o| unsafe { avx2(a, o) },
+                    // SAFETY: the machine runs AVX-512F, asserted above.
+                    #[cfg(target_arch = "x86_64")]
+                    Width::Avx512 => |a, o| unsafe { avx512(a, o) },
+                    #[cfg(not(target_arch = "x86_64"))]
+                    _ => unreachable!("only x86-64 runs wider than the baseline"),
                 }
-                w
             }
 
-            /// The widest compiled form this machine can run.
+            /// The widest form this machine runs.
             pub(super) fn columns(args: &[&[f64]], out: &mut [&mut [f64]]) {
-                #[cfg(target_arch = "x86_64")]
-                {
-                    if std::arch::is_x86_feature_detected!("avx512f") {
-                        // SAFETY: AVX-512F support was just checked.
-                        return unsafe { avx512(args, out) };
-                    }
-                    if std::arch::is_x86_feature_detected!("avx2") {
-                        // SAFETY: AVX2 support was just checked.
-                        return unsafe { avx2(args, out) };
-                    }
-                }
-                baseline(args, out)
+                form(Width::best())(args, out)
             }
         }
     };
@@ -197,17 +190,13 @@ columns!(schlick_fresnel_rgb, 4, 3, |a| fresnel::schlick_rgb(
     v3(&a, 1)
 ));
 
-/// A model's column form and its compiled widths.
-type Entry = (
-    &'static str,
-    ColumnsFn,
-    fn() -> Vec<(&'static str, ColumnsFn)>,
-);
+/// A model's column form, and its form for each [`Width`].
+type Entry = (&'static str, ColumnsFn, fn(Width) -> ColumnsFn);
 
 /// The [`Entry`] of each module defined by [`columns!`], named by it.
 macro_rules! table {
     ($($name:ident),* $(,)?) => {
-        &[$((stringify!($name), $name::columns, $name::widths)),*]
+        &[$((stringify!($name), $name::columns, $name::form)),*]
     };
 }
 
@@ -267,17 +256,20 @@ mod tests {
         // Lengths below, at and across the block size, so partial blocks run too.
         let lengths = [1, BLOCK - 1, BLOCK, 3 * BLOCK + 5, 4000];
         let mut seed = 0x5eed_0017_u64;
-        for &(name, chosen, widths) in TABLE {
+        for &(name, chosen, form) in TABLE {
             let model = crate::reference::find(name)
                 .unwrap_or_else(|| panic!("column form `{name}` names no registered model"));
-            let mut forms = widths();
-            forms.push(("chosen", chosen));
+            let mut forms: Vec<(String, ColumnsFn)> = Width::available()
+                .into_iter()
+                .map(|w| (format!("{w:?}"), form(w)))
+                .collect();
+            forms.push(("chosen".into(), chosen));
             for &n in &lengths {
                 let args: Vec<Vec<f64>> = (0..model.arity())
                     .map(|_| (0..n).map(|_| value(&mut seed)).collect())
                     .collect();
                 let cols: Vec<&[f64]> = args.iter().map(|c| &c[..]).collect();
-                for &(width, f) in &forms {
+                for (width, f) in &forms {
                     let mut got: Vec<Vec<f64>> = vec![vec![0.0; n]; model.outputs];
                     let mut outs: Vec<&mut [f64]> = got.iter_mut().map(|c| &mut c[..]).collect();
                     f(&cols, &mut outs);
