@@ -280,13 +280,21 @@ const CHUNK: usize = 4096;
 /// Evaluate bound expressions at every point into f64 columns (one per
 /// component): a range of at most [`CHUNK`] points (a streamed check's
 /// segment) on the calling thread, a larger one in parallel chunks.
-/// A sweep parameter's own column is borrowed, not copied.
-fn columns<'p>(exprs: &[BoundExpr], points: &'p Points) -> Result<Vec<Cow<'p, [f64]>>, String> {
+/// A sweep parameter's own column is borrowed, not copied, and so are the
+/// columns of an expression that `shared` holds evaluated over these points
+/// (bound the same way: [`BoundExpr::same_as`]).
+fn columns<'p>(
+    exprs: &[BoundExpr],
+    points: &'p Points,
+    shared: &'p [(BoundExpr, Vec<Vec<f64>>)],
+) -> Result<Vec<Cow<'p, [f64]>>, String> {
     let n = points.len;
     let mut cols = Vec::with_capacity(exprs.iter().map(|e| e.width).sum());
     for e in exprs {
         if let Some(p) = e.var {
             cols.extend(points.columns[p].iter().map(|c| Cow::Borrowed(&c[..])));
+        } else if let Some((_, c)) = shared.iter().find(|(s, _)| s.same_as(e)) {
+            cols.extend(c.iter().map(|c| Cow::Borrowed(&c[..])));
         } else if n <= CHUNK {
             cols.extend(expr_columns(e, points, 0..n)?.into_iter().map(Cow::Owned));
         } else {
@@ -466,7 +474,7 @@ fn input_columns(
     points: &Points,
     keep: bool,
 ) -> Result<(Vec<Vec<u32>>, ArgColumns), String> {
-    let f64_cols = columns(&inputs.exprs, points)?;
+    let f64_cols = columns(&inputs.exprs, points, &[])?;
     let kinds = program.input_kinds();
     let cols = inputs
         .leaves
@@ -579,7 +587,7 @@ pub fn reference_expr_columns(
             check.name, check.function, expr.text, b.width
         ));
     }
-    columns(&[b], points).map(owned)
+    columns(&[b], points, &[]).map(owned)
 }
 
 /// A reference model must give as many values as the function returns;
@@ -641,15 +649,5 @@ fn reference_args<'p>(
         }
         bound.push(b);
     }
-    if shared.is_empty() {
-        return columns(&bound, points);
-    }
-    let mut cols = Vec::with_capacity(model.arity());
-    for b in &bound {
-        match shared.iter().find(|(e, _)| e.same_as(b)) {
-            Some((_, c)) => cols.extend(c.iter().map(|c| Cow::Borrowed(&c[..]))),
-            None => cols.extend(columns(std::slice::from_ref(b), points)?),
-        }
-    }
-    Ok(cols)
+    columns(&bound, points, shared)
 }
