@@ -984,8 +984,9 @@ mod tests {
         // The first point's relative error of 1e-6 sets the floor; the
         // others' of 1e-8 are below it. One point with a large `want` has
         // the largest absolute error (and ULPs) but a tiny relative one, so
-        // it is below the floor too, in a block that is all below. Wherever it lies in its block, the maxima must
-        // include it, as judging every point in full does.
+        // it is below the floor too, in a block that is all below. Wherever
+        // it lies in its block, the maxima must include it, as judging
+        // every point in full does.
         let n = 8 * QUICK_BLOCK;
         let t = Tolerance {
             rel: Some(vec![1e-4]),
