@@ -121,6 +121,13 @@ pub struct Program {
     compiling: std::sync::atomic::AtomicBool,
 }
 
+/// The native code an evaluation runs with ([`Program::native_for`]).
+#[cfg(all(target_arch = "x86_64", not(miri)))]
+type Compiled = Option<std::sync::Arc<native::Native>>;
+/// Without a native code generator, nothing.
+#[cfg(not(all(target_arch = "x86_64", not(miri))))]
+type Compiled = Option<()>;
+
 /// Points per parallel work item (several batches, so scheduling is cheap).
 const CHUNK: usize = LANES * 32;
 
@@ -313,15 +320,21 @@ impl Program {
     pub fn eval(&self, inputs: &[&[u32]], outputs: &mut Vec<Vec<u32>>) -> Vec<LaneIssue> {
         let n = self.prepare(inputs, outputs);
         let native = self.native_for(n);
+        let chunk = self.chunk(&native);
+        let chunks = n.div_ceil(chunk);
+        let workers = rayon::current_num_threads().min(chunks).max(1);
+        if workers == 1 {
+            // One work item (a streamed check's segment, say): on this
+            // thread, without handing a job to the pool and waking a thread
+            // that might take it.
+            return self.serial(native, inputs, outputs, n);
+        }
         // One raw pointer per output column, taken once: the only way any
         // thread reaches the columns until the evaluation ends.
         let out_ptrs: Vec<OutCol> = outputs.iter_mut().map(|c| OutCol(c.as_mut_ptr())).collect();
-        let chunk = self.chunk(&native);
-        let chunks = n.div_ceil(chunk);
         // One machine per worker thread; workers take chunks from a shared
         // counter until none are left (balances points that loop longer).
         let next = std::sync::atomic::AtomicUsize::new(0);
-        let workers = rayon::current_num_threads().min(chunks).max(1);
         let found = std::sync::Mutex::new(Vec::new());
         rayon::scope(|s| {
             for _ in 0..workers {
@@ -359,7 +372,19 @@ impl Program {
     /// results and issues, in the same order, as [`Program::eval`].
     pub fn eval_serial(&self, inputs: &[&[u32]], outputs: &mut Vec<Vec<u32>>) -> Vec<LaneIssue> {
         let n = self.prepare(inputs, outputs);
-        let mut m = self.machine(self.native_for(n));
+        self.serial(self.native_for(n), inputs, outputs, n)
+    }
+
+    /// The `n` points of `inputs` (checked by [`Program::prepare`]) on this
+    /// thread, with `native` code where given.
+    fn serial(
+        &self,
+        native: Compiled,
+        inputs: &[&[u32]],
+        outputs: &mut [Vec<u32>],
+        n: usize,
+    ) -> Vec<LaneIssue> {
+        let mut m = self.machine(native);
         let outs: Vec<OutCol> = outputs.iter_mut().map(|c| OutCol(c.as_mut_ptr())).collect();
         let mut issues = self.run_range(&mut m, inputs, &outs, n, 0);
         // Within a batch, index and budget issues come before the non-finite
@@ -372,7 +397,7 @@ impl Program {
     /// `Some` when the program's tier is [`Tier::Native`] by then (counting
     /// those points) and it has straight-line stretches to compile.
     #[cfg(all(target_arch = "x86_64", not(miri)))]
-    fn native_for(&self, points: usize) -> Option<std::sync::Arc<native::Native>> {
+    fn native_for(&self, points: usize) -> Compiled {
         let total = self
             .evaluated
             .fetch_add(points, std::sync::atomic::Ordering::Relaxed)
@@ -408,13 +433,13 @@ impl Program {
 
     /// Without a native code generator, every evaluation is interpreted.
     #[cfg(not(all(target_arch = "x86_64", not(miri))))]
-    fn native_for(&self, _points: usize) -> Option<()> {
+    fn native_for(&self, _points: usize) -> Compiled {
         None
     }
 
     /// Points per work item of an evaluation running `native` code.
     #[cfg(all(target_arch = "x86_64", not(miri)))]
-    fn chunk(&self, native: &Option<std::sync::Arc<native::Native>>) -> usize {
+    fn chunk(&self, native: &Compiled) -> usize {
         match native {
             Some(n) if n.whole.is_some() => WHOLE_CHUNK,
             _ => CHUNK,
@@ -423,13 +448,13 @@ impl Program {
 
     /// Points per work item of an evaluation.
     #[cfg(not(all(target_arch = "x86_64", not(miri))))]
-    fn chunk(&self, _native: &Option<()>) -> usize {
+    fn chunk(&self, _native: &Compiled) -> usize {
         CHUNK
     }
 
     /// A machine for this program, running `native` code where given.
     #[cfg(all(target_arch = "x86_64", not(miri)))]
-    fn machine(&self, native: Option<std::sync::Arc<native::Native>>) -> Machine {
+    fn machine(&self, native: Compiled) -> Machine {
         let mut m = Machine::new(&self.fast, self.step_budget);
         m.seed = self.seed;
         m.native = native;
@@ -438,7 +463,7 @@ impl Program {
 
     /// A machine for this program.
     #[cfg(not(all(target_arch = "x86_64", not(miri))))]
-    fn machine(&self, _native: Option<()>) -> Machine {
+    fn machine(&self, _native: Compiled) -> Machine {
         let mut m = Machine::new(&self.fast, self.step_budget);
         m.seed = self.seed;
         m
