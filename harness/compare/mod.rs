@@ -674,59 +674,77 @@ impl Below {
         q: &mut Quick,
     ) {
         q.len = len;
-        q.below[..len].fill(true);
-        for m in [
-            &mut q.max_abs,
-            &mut q.max_rel,
-            &mut q.max_ulp,
-            &mut q.sum_sq,
-        ] {
-            m[..len].fill(0.0);
-        }
-        for (c, thr) in self.0.iter().enumerate() {
-            let g = &got[c].as_ref()[start..start + len];
-            let w = &want[c].as_ref()[start..start + len];
-            // One loop per format, so neither holds the other's branch
-            // (which kept the loop from vectorising).
+        // Eight points at a time, every component's errors folded in
+        // registers and each result stored once; one loop per format, so
+        // neither holds the other's branch (which kept the loop from
+        // vectorising).
+        let mut j = 0;
+        while j + LANE <= len {
             if half {
-                Self::component::<true>(g, w, thr, q);
+                self.lanes::<true, LANE, C>(got, want, start, j, q);
             } else {
-                Self::component::<false>(g, w, thr, q);
+                self.lanes::<false, LANE, C>(got, want, start, j, q);
             }
+            j += LANE;
+        }
+        while j < len {
+            if half {
+                self.lanes::<true, 1, C>(got, want, start, j, q);
+            } else {
+                self.lanes::<false, 1, C>(got, want, start, j, q);
+            }
+            j += 1;
         }
     }
 
-    /// One component's errors over the block (`g` and `w` are `q.len`
-    /// long), folded into `q`.
+    /// Points `j..j + N` of the block (from point `start` of the columns)
+    /// into `q`: whether each is below, and its errors summed and
+    /// maximised over the components in order.
     #[inline(always)]
-    fn component<const HALF: bool>(g: &[f64], w: &[f64], thr: &[f64; 3], q: &mut Quick) {
-        let len = q.len;
-        let (g, w) = (&g[..len], &w[..len]);
-        let below = &mut q.below[..len];
-        let max_abs = &mut q.max_abs[..len];
-        let max_rel = &mut q.max_rel[..len];
-        let max_ulp = &mut q.max_ulp[..len];
-        let sum_sq = &mut q.sum_sq[..len];
-        for j in 0..len {
-            let (g, w) = (g[j], w[j]);
-            let abs = (g - w).abs();
-            let aw = w.abs();
-            let ulp = ulp_error(abs, w, HALF);
-            let zero = abs == 0.0;
-            let under = (abs < thr[0]) | (abs < thr[1] * aw) | (ulp < thr[2]);
-            below[j] &= w.is_finite() & g.is_finite() & (zero | under);
-            let (abs, rel, ulp) = if zero {
-                (0.0, 0.0, 0.0)
-            } else {
-                (abs, rel_error(abs, w), ulp)
-            };
-            max_abs[j] = max_abs[j].max(abs);
-            max_rel[j] = max_rel[j].max(rel);
-            max_ulp[j] = max_ulp[j].max(ulp);
-            sum_sq[j] += abs * abs;
+    fn lanes<const HALF: bool, const N: usize, C: AsRef<[f64]>>(
+        &self,
+        got: &[C],
+        want: &[C],
+        start: usize,
+        j: usize,
+        q: &mut Quick,
+    ) {
+        let mut below = [true; N];
+        let (mut max_abs, mut max_rel, mut max_ulp, mut sum_sq) =
+            ([0.0; N], [0.0; N], [0.0; N], [0.0; N]);
+        for (c, thr) in self.0.iter().enumerate() {
+            let at = start + j..start + j + N;
+            let g: &[f64; N] = got[c].as_ref()[at.clone()].try_into().expect("N points");
+            let w: &[f64; N] = want[c].as_ref()[at].try_into().expect("N points");
+            for l in 0..N {
+                let (g, w) = (g[l], w[l]);
+                let abs = (g - w).abs();
+                let aw = w.abs();
+                let ulp = ulp_error(abs, w, HALF);
+                let zero = abs == 0.0;
+                let under = (abs < thr[0]) | (abs < thr[1] * aw) | (ulp < thr[2]);
+                below[l] &= w.is_finite() & g.is_finite() & (zero | under);
+                let (abs, rel, ulp) = if zero {
+                    (0.0, 0.0, 0.0)
+                } else {
+                    (abs, rel_error(abs, w), ulp)
+                };
+                max_abs[l] = f64::max(max_abs[l], abs);
+                max_rel[l] = f64::max(max_rel[l], rel);
+                max_ulp[l] = f64::max(max_ulp[l], ulp);
+                sum_sq[l] += abs * abs;
+            }
         }
+        q.below[j..j + N].copy_from_slice(&below);
+        q.max_abs[j..j + N].copy_from_slice(&max_abs);
+        q.max_rel[j..j + N].copy_from_slice(&max_rel);
+        q.max_ulp[j..j + N].copy_from_slice(&max_ulp);
+        q.sum_sq[j..j + N].copy_from_slice(&sum_sq);
     }
 }
+
+/// Points per step of [`Below::block`]: one AVX-512 register of f64.
+const LANE: usize = 8;
 
 /// The largest of `m` and `xs` by `f64::max`, eight lanes at a time. Equal
 /// to folding `xs` into `m` one at a time when no value is NaN and no
