@@ -218,7 +218,7 @@ pub fn points_of(check: &Check) -> Points {
 /// The points of `range` (indices in the whole sweep), every value rounded
 /// to f32.
 pub fn points_in(check: &Check, range: std::ops::Range<usize>) -> Points {
-    points_in_grid(check, &check.sweep.grid(), range)
+    points_in_grid(check, &check.sweep.grid_f32(), range)
 }
 
 /// [`points_in`] with the sweep's grid values computed beforehand
@@ -228,9 +228,8 @@ pub fn points_in_grid(
     grid: &crate::sweep::Grid,
     range: std::ops::Range<usize>,
 ) -> Points {
-    let mut points = check.sweep.points_in_grid(grid, range);
-    round_to_f32(&mut points);
-    points
+    assert!(grid.is_f32(), "a check's points come from its f32 grid");
+    check.sweep.points_in_grid(grid, range)
 }
 
 /// The points at `indices` (ascending, in the whole sweep), every value
@@ -242,13 +241,11 @@ pub fn points_at(check: &Check, indices: &[usize]) -> Points {
 }
 
 fn round_to_f32(points: &mut Points) {
-    for cols in &mut points.columns {
-        for col in cols.iter_mut() {
-            for x in col.iter_mut() {
-                *x = f64::from(*x as f32);
-            }
-        }
-    }
+    points
+        .columns
+        .iter_mut()
+        .flatten()
+        .for_each(|c| crate::sweep::round_to_f32(c));
 }
 
 use super::args::example;

@@ -121,7 +121,7 @@ impl<'a> Prepared<'a> {
             shader_hash: build.shader.content_hash(),
             build: Arc::new(build),
             program: Arc::new(program),
-            grid: check.sweep.grid(),
+            grid: check.sweep.grid_f32(),
             args,
             half,
             rounded,

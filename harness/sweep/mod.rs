@@ -365,7 +365,7 @@ impl Sweep {
     /// jumps straight to the first random point of the range (SplitMix64's
     /// state after k draws is the seed plus k times its increment).
     pub fn points_in(&self, range: std::ops::Range<usize>) -> Points {
-        self.points_in_grid(&self.grid_with(false), range)
+        self.points_in_grid(&self.grid_with(false, false), range)
     }
 
     /// The grid values of every parameter, for generating many ranges of
@@ -374,10 +374,18 @@ impl Sweep {
     /// parameter whose values repeat within [`PATTERN`] points, one period
     /// of its columns, which a range copies.
     pub fn grid(&self) -> Grid {
-        self.grid_with(true)
+        self.grid_with(true, false)
     }
 
-    fn grid_with(&self, patterns: bool) -> Grid {
+    /// [`Sweep::grid`] for points rounded to f32: the kept periods are
+    /// rounded once here, and [`Sweep::points_in_grid`] rounds the values
+    /// it computes, so each point is `f64::from(v as f32)` of the
+    /// unrounded sweep's.
+    pub fn grid_f32(&self) -> Grid {
+        self.grid_with(true, true)
+    }
+
+    fn grid_with(&self, patterns: bool, f32: bool) -> Grid {
         let sources: Vec<Source> = self.params.iter().map(|(_, d)| d.source()).collect();
         let mut pats: Vec<Option<Vec<Vec<f64>>>> = vec![None; sources.len()];
         let mut stride = 1usize;
@@ -391,6 +399,9 @@ impl Sweep {
                 let len = period * PATTERN_RUN.div_ceil(period);
                 let mut cols: Vec<Vec<f64>> = (0..width).map(|_| Vec::with_capacity(len)).collect();
                 fill(&sources[p], count, stride, &mut cols, 0, len);
+                if f32 {
+                    cols.iter_mut().for_each(|c| round_to_f32(c));
+                }
                 pats[p] = Some(cols);
             }
             stride = period;
@@ -399,6 +410,7 @@ impl Sweep {
             of: self.params.clone(),
             sources,
             patterns: pats,
+            f32,
         }
     }
 
@@ -416,7 +428,7 @@ impl Sweep {
                     .all(|(a, b)| a.0 == b.0 && a.1.same_as(&b.1)),
             "a grid of another sweep"
         );
-        let (sources, patterns) = (&grid.sources, &grid.patterns);
+        let (sources, patterns, f32) = (&grid.sources, &grid.patterns, grid.f32);
         let n_all = self.len();
         let (start, end) = (
             range.start.min(n_all),
@@ -458,6 +470,15 @@ impl Sweep {
                 stride *= counts[p];
             }
         }
+        if f32 {
+            // The grid points' values not copied from a (rounded) period.
+            for (p, cols) in columns.iter_mut().enumerate() {
+                if patterns[p].is_none() {
+                    cols.iter_mut().for_each(|c| round_to_f32(c));
+                }
+            }
+        }
+        let from_grid = columns.first().and_then(|c| c.first()).map_or(0, Vec::len);
         if let Some(r) = self.random {
             let (first, last) = (start.max(grid) - grid, end.max(grid) - grid);
             let draws: u64 = self.params.iter().map(|(_, d)| d.draws()).sum();
@@ -466,6 +487,11 @@ impl Sweep {
             for _ in first..last {
                 for (p, (_, d)) in self.params.iter().enumerate() {
                     push(&mut columns[p], d.random(&mut rng));
+                }
+            }
+            if f32 {
+                for col in columns.iter_mut().flatten() {
+                    round_to_f32(&mut col[from_grid..]);
                 }
             }
         }
@@ -486,6 +512,23 @@ pub struct Grid {
     /// most [`PATTERN`] points: as many as make [`PATTERN_RUN`] points or
     /// more, so that a segment copies them in few runs.
     patterns: Vec<Option<Vec<Vec<f64>>>>,
+    /// Points from this grid are rounded to f32 ([`Sweep::grid_f32`]).
+    f32: bool,
+}
+
+impl Grid {
+    /// Whether points from this grid are rounded to f32
+    /// ([`Sweep::grid_f32`]).
+    pub fn is_f32(&self) -> bool {
+        self.f32
+    }
+}
+
+/// Round every value to the nearest f32 (as an f64).
+pub fn round_to_f32(col: &mut [f64]) {
+    for x in col {
+        *x = f64::from(*x as f32);
+    }
 }
 
 /// The longest period of a parameter's values that [`Sweep::grid`] keeps
@@ -573,7 +616,7 @@ impl Sweep {
     /// here as there.
     pub fn points_at(&self, indices: &[usize]) -> Points {
         // One grid for every run (no periods: runs are short and few).
-        let grid = self.grid_with(false);
+        let grid = self.grid_with(false, false);
         let mut out = self.points_in_grid(&grid, 0..0);
         for run in runs(indices) {
             out.append(self.points_in_grid(&grid, run));
@@ -810,11 +853,12 @@ mod tests {
                         format: every::Format::F16,
                     },
                 ),
-                ("t".into(), Domain::List(vec![1.0, 2.0, 3.0])),
+                ("t".into(), Domain::List(vec![0.1, 2.0, 3.0])),
             ],
             random: Some(Random { count: 7, seed: 3 }),
         };
-        let grid = s.grid();
+        let (grid, grid32) = (s.grid(), s.grid_f32());
+        assert!(!grid.is_f32() && grid32.is_f32());
         assert!(grid.patterns[0].is_none());
         assert!(grid.patterns[1].is_some() && grid.patterns[2].is_some());
         let n = s.len();
@@ -834,9 +878,29 @@ mod tests {
             (n - 100, n),
             (n - 9, n + 5),
         ] {
-            let (from_grid, alone) = (s.points_in_grid(&grid, a..b), s.points_in(a..b));
+            let (from_grid, mut alone) = (s.points_in_grid(&grid, a..b), s.points_in(a..b));
             assert_eq!(from_grid.columns, alone.columns, "{a}..{b}");
             assert_eq!(from_grid.len, alone.len);
+            // Rounded to f32: the same values rounded, the grid's and the
+            // random points' alike, bit for bit.
+            let rounded = s.points_in_grid(&grid32, a..b);
+            alone
+                .columns
+                .iter_mut()
+                .flatten()
+                .for_each(|c| round_to_f32(c));
+            let bits = |p: &Points| -> Vec<Vec<u64>> {
+                p.columns
+                    .iter()
+                    .flatten()
+                    .map(|c| c.iter().map(|x| x.to_bits()).collect())
+                    .collect()
+            };
+            assert_eq!(bits(&rounded), bits(&alone), "{a}..{b}, rounded");
+            assert!(
+                bits(&rounded) != bits(&from_grid) || b <= a,
+                "{a}..{b}: nothing to round"
+            );
         }
     }
 
