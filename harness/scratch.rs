@@ -61,6 +61,21 @@ pub fn column<T: Pooled>(capacity: usize) -> Vec<T> {
     }
 }
 
+/// A column of `len` elements for a caller that writes every one before
+/// reading any: a kept buffer keeps the values it held (so none is
+/// written twice), a new one or a shorter kept one is filled with `fill`
+/// to `len`.
+pub fn to_overwrite<T: Pooled>(len: usize, fill: T) -> Vec<T> {
+    let kept = T::with_pool(|p| {
+        let i = p.iter().rposition(|v| v.capacity() >= len)?;
+        Some(p.swap_remove(i))
+    });
+    let mut v = kept.unwrap_or_else(|| Vec::with_capacity(len));
+    v.truncate(len);
+    v.resize(len, fill);
+    v
+}
+
 /// A column of `len` copies of `x`.
 pub fn filled<T: Pooled>(len: usize, x: T) -> Vec<T> {
     let mut v = column(len);
@@ -118,5 +133,25 @@ mod tests {
         U32.with_borrow(|p| assert_eq!(p.len(), KEEP));
         let f = filled(7, 3u32);
         assert_eq!(f, vec![3; 7]);
+    }
+
+    #[test]
+    fn a_column_to_overwrite_keeps_what_it_held() {
+        let v: Vec<f64> = (0..100).map(f64::from).collect();
+        let at = v.as_ptr();
+        recycle(v);
+        // Shorter: the kept values, cut to length.
+        let w: Vec<f64> = to_overwrite(60, -1.0);
+        assert_eq!(w.as_ptr(), at);
+        assert_eq!(w, (0..60).map(f64::from).collect::<Vec<_>>());
+        // Longer than it held (but within its room): the rest filled.
+        recycle(w);
+        let x: Vec<f64> = to_overwrite(80, -1.0);
+        assert_eq!(x.as_ptr(), at);
+        assert_eq!(&x[..60], &(0..60).map(f64::from).collect::<Vec<_>>()[..]);
+        assert!(x[60..].iter().all(|&e| e == -1.0));
+        // Nothing kept large enough: a new buffer, filled.
+        let y: Vec<f64> = to_overwrite(5000, 2.0);
+        assert_eq!(y, vec![2.0; 5000]);
     }
 }

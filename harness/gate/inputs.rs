@@ -427,8 +427,9 @@ pub(crate) fn evaluate_at_keeping(
     let (input_columns, arg_columns) = input_columns(&inputs, &program, &points, keep_args)?;
     let refs: Vec<&[u32]> = input_columns.iter().map(|c| &c[..]).collect();
     let (inputs, outputs) = program.leaves();
+    // Every value is written by the evaluation (see `Program::eval`).
     let mut output_columns: Vec<Vec<u32>> = (0..outputs.len())
-        .map(|_| scratch::column(points.len))
+        .map(|_| scratch::to_overwrite(points.len, 0))
         .collect();
     let mut issues = program
         .try_eval(&refs, &mut output_columns)
@@ -524,8 +525,9 @@ pub fn reference_columns_sharing(
 ) -> Result<Vec<Vec<f64>>, String> {
     let args = reference_args(check, model, points, ref_args, shared)?;
     let n = points.len;
+    // Every value is written below, by the column form or point by point.
     let mut out: Vec<Vec<f64>> = (0..model.outputs)
-        .map(|_| scratch::filled(n, 0.0))
+        .map(|_| scratch::to_overwrite(n, 0.0))
         .collect();
     let column_form = crate::reference::columns::find(model.name);
     let fill = |start: usize, outs: &mut [&mut [f64]]| {
