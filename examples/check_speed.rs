@@ -107,7 +107,81 @@ fn main() {
         "  whole check / evaluator    {:>8.1}×  (target ≤ 2×, and ≤ 300 ms)",
         end_to_end / evaluator
     );
+    stages(&check, &ev, &refs, evaluator, runs);
     device(&ev, &refs, evaluator, runs);
+}
+
+/// The three stages no check can skip (the evaluator, the f64 reference
+/// model and the judgement by `compare`), each alone on one core over the
+/// check's points in segments of [`gate::stream::SEGMENT`], every segment
+/// timed on its second pass (its columns then in the cache, as in a check,
+/// where a segment's stages follow one another). Their sum spread over the
+/// cores, against the evaluator alone, is what a check would cost with
+/// nothing else: no points, no argument or input columns, no native-code
+/// compilation, no statistics beyond `compare`'s.
+fn stages(
+    check: &suite::Check,
+    ev: &gate::Evaluated,
+    refs: &[&[u32]],
+    evaluator: f64,
+    runs: usize,
+) {
+    let seg = gate::stream::SEGMENT;
+    let n = ev.points.len;
+    let model = check.reference.expect("brdf_full has a reference");
+    let column_form = shadegate::reference::columns::find(model.name).expect("a column form");
+    let got = gate::as_f64(&ev.output_columns, &ev.outputs);
+    let args = gate::reference_arg_columns(check, model, &ev.points, &check.reference_args)
+        .expect("reference arguments");
+    let want = gate::reference_columns(check, model, &ev.points, &check.reference_args)
+        .expect("reference columns");
+    let no_name = |_: usize| String::new();
+    // Time `f`'s second call (the first brings its columns into the cache).
+    let warm = |f: &mut dyn FnMut()| {
+        f();
+        let t = Instant::now();
+        f();
+        t.elapsed().as_secs_f64()
+    };
+    let mut out = Vec::new();
+    let mut model_out = vec![vec![0.0; seg]; model.outputs];
+    let (mut eval_t, mut model_t, mut judge_t) = (f64::INFINITY, f64::INFINITY, f64::INFINITY);
+    for _ in 0..runs {
+        let (mut e, mut m, mut j) = (0.0, 0.0, 0.0);
+        for start in (0..n).step_by(seg) {
+            let r = start..n.min(start + seg);
+            let ins: Vec<&[u32]> = refs.iter().map(|c| &c[r.clone()]).collect();
+            e += warm(&mut || {
+                ev.program.eval_serial(&ins, &mut out);
+            });
+            let a: Vec<&[f64]> = args.iter().map(|c| &c[r.clone()]).collect();
+            m += warm(&mut || {
+                let mut o: Vec<&mut [f64]> =
+                    model_out.iter_mut().map(|c| &mut c[..r.len()]).collect();
+                column_form(&a, &mut o);
+            });
+            let g: Vec<Vec<f64>> = got.iter().map(|c| c[r.clone()].to_vec()).collect();
+            let w: Vec<Vec<f64>> = want.iter().map(|c| c[r.clone()].to_vec()).collect();
+            j += warm(&mut || {
+                shadegate::compare::compare(&g, &w, &check.tolerance, false, &no_name);
+            });
+        }
+        (eval_t, model_t, judge_t) = (eval_t.min(e), model_t.min(m), judge_t.min(j));
+    }
+    let sum = eval_t + model_t + judge_t;
+    println!("  stages alone, one core, {seg}-point segments in the cache:");
+    println!("    evaluator                {:>8.1} ms", 1e3 * eval_t);
+    println!("    f64 reference model      {:>8.1} ms", 1e3 * model_t);
+    println!("    judgement (compare)      {:>8.1} ms", 1e3 * judge_t);
+    println!(
+        "    sum / evaluator          {:>8.2}×  (the same segments, one core)",
+        sum / eval_t
+    );
+    let cores = rayon::current_num_threads();
+    println!(
+        "    sum / {cores} / evaluator alone {:>6.2}×  (a check with nothing else, on {cores} cores)",
+        sum / cores as f64 / evaluator
+    );
 }
 
 /// The same points through wgpu on the first adapter (Mesa's software
