@@ -651,13 +651,13 @@ impl Below {
             ) {
                 b.block_in(got, want, start, len, half, q)
             }
-            if std::arch::is_x86_feature_detected!("avx512f") {
-                // SAFETY: AVX-512 support was just checked.
-                return unsafe { avx512(self, got, want, start, len, half, q) };
-            }
-            if std::arch::is_x86_feature_detected!("avx2") {
-                // SAFETY: AVX2 support was just checked.
-                return unsafe { avx2(self, got, want, start, len, half, q) };
+            use crate::eval::Width;
+            match Width::best() {
+                // SAFETY: the machine runs AVX-512 (`Width::best`).
+                Width::Avx512 => return unsafe { avx512(self, got, want, start, len, half, q) },
+                // SAFETY: the machine runs AVX2 (`Width::best`).
+                Width::Avx2 => return unsafe { avx2(self, got, want, start, len, half, q) },
+                Width::Baseline => {}
             }
         }
         self.block_in(got, want, start, len, half, q)
