@@ -117,8 +117,9 @@ fn main() {
 /// timed on its second pass (its columns then in the cache, as in a check,
 /// where a segment's stages follow one another). Their sum spread over the
 /// cores, against the evaluator alone, is what a check would cost with
-/// nothing else: no points, no argument or input columns, no native-code
-/// compilation, no statistics beyond `compare`'s.
+/// nothing else: no points, no argument or input columns, no statistics
+/// beyond `compare`'s; and then with the function's compilation, which a
+/// check does once.
 fn stages(
     check: &suite::Check,
     ev: &gate::Evaluated,
@@ -168,19 +169,38 @@ fn stages(
         }
         (eval_t, model_t, judge_t) = (eval_t.min(e), model_t.min(m), judge_t.min(j));
     }
+    // Compiling the function (lowering, and native code where there is
+    // some), which a check does once, on one core.
+    let mut compile_t = f64::INFINITY;
+    for _ in 0..runs {
+        let t = Instant::now();
+        let program = ev.build.program().expect("compiles");
+        #[cfg(target_arch = "x86_64")]
+        program.has_native_code();
+        compile_t = compile_t.min(t.elapsed().as_secs_f64());
+        drop(program);
+    }
     let sum = eval_t + model_t + judge_t;
     println!("  stages alone, one core, {seg}-point segments in the cache:");
     println!("    evaluator                {:>8.1} ms", 1e3 * eval_t);
     println!("    f64 reference model      {:>8.1} ms", 1e3 * model_t);
     println!("    judgement (compare)      {:>8.1} ms", 1e3 * judge_t);
     println!(
-        "    sum / evaluator          {:>8.2}×  (the same segments, one core)",
+        "    compiling the function   {:>8.1} ms  (once per check)",
+        1e3 * compile_t
+    );
+    println!(
+        "    the three stages / evaluator            {:>5.2}×  (the same segments, one core)",
         sum / eval_t
     );
-    let cores = rayon::current_num_threads();
+    let cores = rayon::current_num_threads() as f64;
     println!(
-        "    sum / {cores} / evaluator alone {:>6.2}×  (a check with nothing else, on {cores} cores)",
-        sum / cores as f64 / evaluator
+        "    the three on {cores} cores / evaluator alone  {:>5.2}×  (a check with nothing else)",
+        sum / cores / evaluator
+    );
+    println!(
+        "    and compiling, on {cores} cores              {:>5.2}×",
+        (sum + compile_t) / cores / evaluator
     );
 }
 
