@@ -29,17 +29,23 @@ thread_local! {
 
 /// An element type the pool keeps buffers of.
 pub trait Pooled: Copy + 'static {
+    /// What [`to_overwrite`] leaves in a kept buffer in debug builds.
+    const POISON: Self;
     #[doc(hidden)]
     fn with_pool<R>(f: impl FnOnce(&mut Vec<Vec<Self>>) -> R) -> R;
 }
 
 impl Pooled for f64 {
+    /// A NaN with a payload no arithmetic makes.
+    const POISON: f64 = f64::from_bits(0x7ff4_dead_beef_0bad);
     fn with_pool<R>(f: impl FnOnce(&mut Vec<Vec<f64>>) -> R) -> R {
         F64.with_borrow_mut(f)
     }
 }
 
 impl Pooled for u32 {
+    /// A signalling-NaN f32 pattern with a payload no arithmetic makes.
+    const POISON: u32 = 0x7fa0_0bad;
     fn with_pool<R>(f: impl FnOnce(&mut Vec<Vec<u32>>) -> R) -> R {
         U32.with_borrow_mut(f)
     }
@@ -64,7 +70,11 @@ pub fn column<T: Pooled>(capacity: usize) -> Vec<T> {
 /// A column of `len` elements for a caller that writes every one before
 /// reading any: a kept buffer keeps the values it held (so none is
 /// written twice), a new one or a shorter kept one is filled with `fill`
-/// to `len`.
+/// to `len`. In debug builds (the tests') a kept buffer holds
+/// [`Pooled::POISON`] instead of its old values, so a caller that leaves a
+/// value unwritten gives results that differ from a fresh buffer's, which
+/// the tests that compare streamed checks with whole evaluations and
+/// goldens see.
 pub fn to_overwrite<T: Pooled>(len: usize, fill: T) -> Vec<T> {
     let kept = T::with_pool(|p| {
         let i = p.iter().rposition(|v| v.capacity() >= len)?;
@@ -72,6 +82,9 @@ pub fn to_overwrite<T: Pooled>(len: usize, fill: T) -> Vec<T> {
     });
     let mut v = kept.unwrap_or_else(|| Vec::with_capacity(len));
     v.truncate(len);
+    if cfg!(debug_assertions) {
+        v.fill(T::POISON);
+    }
     v.resize(len, fill);
     v
 }
@@ -137,18 +150,33 @@ mod tests {
 
     #[test]
     fn a_column_to_overwrite_keeps_what_it_held() {
+        // What a kept buffer holds: its old values, or the poison in
+        // debug builds.
+        let old = |n: u32| -> Vec<u64> {
+            (0..n)
+                .map(|i| {
+                    if cfg!(debug_assertions) {
+                        f64::POISON
+                    } else {
+                        f64::from(i)
+                    }
+                    .to_bits()
+                })
+                .collect()
+        };
+        let bits = |v: &[f64]| -> Vec<u64> { v.iter().map(|x| x.to_bits()).collect() };
         let v: Vec<f64> = (0..100).map(f64::from).collect();
         let at = v.as_ptr();
         recycle(v);
         // Shorter: the kept values, cut to length.
         let w: Vec<f64> = to_overwrite(60, -1.0);
         assert_eq!(w.as_ptr(), at);
-        assert_eq!(w, (0..60).map(f64::from).collect::<Vec<_>>());
+        assert_eq!(bits(&w), old(60));
         // Longer than it held (but within its room): the rest filled.
         recycle(w);
         let x: Vec<f64> = to_overwrite(80, -1.0);
         assert_eq!(x.as_ptr(), at);
-        assert_eq!(&x[..60], &(0..60).map(f64::from).collect::<Vec<_>>()[..]);
+        assert_eq!(bits(&x[..60]), old(60));
         assert!(x[60..].iter().all(|&e| e == -1.0));
         // Nothing kept large enough: a new buffer, filled.
         let y: Vec<f64> = to_overwrite(5000, 2.0);
