@@ -54,17 +54,19 @@ impl Pooled for u32 {
 /// An empty column with room for `capacity` elements: a kept buffer when
 /// one is large enough, else a new one.
 pub fn column<T: Pooled>(capacity: usize) -> Vec<T> {
-    let kept = T::with_pool(|p| {
+    let mut v = kept(capacity);
+    v.clear();
+    v
+}
+
+/// A kept buffer with room for `capacity` elements, as it was handed back,
+/// else a new empty one.
+fn kept<T: Pooled>(capacity: usize) -> Vec<T> {
+    T::with_pool(|p| {
         let i = p.iter().rposition(|v| v.capacity() >= capacity)?;
         Some(p.swap_remove(i))
-    });
-    match kept {
-        Some(mut v) => {
-            v.clear();
-            v
-        }
-        None => Vec::with_capacity(capacity),
-    }
+    })
+    .unwrap_or_else(|| Vec::with_capacity(capacity))
 }
 
 /// A column of `len` elements for a caller that writes every one before
@@ -76,11 +78,7 @@ pub fn column<T: Pooled>(capacity: usize) -> Vec<T> {
 /// the tests that compare streamed checks with whole evaluations and
 /// goldens see.
 pub fn to_overwrite<T: Pooled>(len: usize, fill: T) -> Vec<T> {
-    let kept = T::with_pool(|p| {
-        let i = p.iter().rposition(|v| v.capacity() >= len)?;
-        Some(p.swap_remove(i))
-    });
-    let mut v = kept.unwrap_or_else(|| Vec::with_capacity(len));
+    let mut v = kept(len);
     v.truncate(len);
     if cfg!(debug_assertions) {
         v.fill(T::POISON);
