@@ -674,25 +674,33 @@ impl Below {
         q: &mut Quick,
     ) {
         q.len = len;
-        // Eight points at a time, every component's errors folded in
-        // registers and each result stored once; one loop per format, so
-        // neither holds the other's branch (which kept the loop from
-        // vectorising).
+        // One copy per format, so neither holds the other's branch (which
+        // kept the loop from vectorising).
+        if half {
+            self.steps::<true, C>(got, want, start, q);
+        } else {
+            self.steps::<false, C>(got, want, start, q);
+        }
+    }
+
+    /// [`Below::block_in`] in one format: eight points at a time, every
+    /// component's errors folded in registers and each result stored once,
+    /// then the rest one at a time.
+    #[inline(always)]
+    fn steps<const HALF: bool, C: AsRef<[f64]>>(
+        &self,
+        got: &[C],
+        want: &[C],
+        start: usize,
+        q: &mut Quick,
+    ) {
         let mut j = 0;
-        while j + LANE <= len {
-            if half {
-                self.lanes::<true, LANE, C>(got, want, start, j, q);
-            } else {
-                self.lanes::<false, LANE, C>(got, want, start, j, q);
-            }
+        while j + LANE <= q.len {
+            self.lanes::<HALF, LANE, C>(got, want, start, j, q);
             j += LANE;
         }
-        while j < len {
-            if half {
-                self.lanes::<true, 1, C>(got, want, start, j, q);
-            } else {
-                self.lanes::<false, 1, C>(got, want, start, j, q);
-            }
+        while j < q.len {
+            self.lanes::<HALF, 1, C>(got, want, start, j, q);
             j += 1;
         }
     }
