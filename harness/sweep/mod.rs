@@ -478,7 +478,6 @@ impl Sweep {
                 }
             }
         }
-        let from_grid = columns.first().and_then(|c| c.first()).map_or(0, Vec::len);
         if let Some(r) = self.random {
             let (first, last) = (start.max(grid) - grid, end.max(grid) - grid);
             let draws: u64 = self.params.iter().map(|(_, d)| d.draws()).sum();
@@ -490,6 +489,8 @@ impl Sweep {
                 }
             }
             if f32 {
+                // The random points follow the range's grid points.
+                let from_grid = n - (last - first);
                 for col in columns.iter_mut().flatten() {
                     round_to_f32(&mut col[from_grid..]);
                 }
