@@ -17,7 +17,10 @@
 //!
 //! f32 and f16 values are written as the shortest decimal that reads back to
 //! the same value; NaNs other than the canonical quiet NaN as `nan:0x…` with
-//! their bits. The trailing `# end` line proves the file is complete. Only
+//! their bits. The trailing `# end` line proves the file is complete. Lines
+//! may end in a line feed or a carriage return and a line feed; a header
+//! value is one line of printable text (no control characters), which both
+//! the reader and the writer check. Only
 //! [`write()`] creates these files; it refuses when the `CI` environment
 //! variable is set and writes a temporary file that is then renamed.
 //!
@@ -64,23 +67,47 @@ pub(crate) const IDENTITY_KEYS: [&str; 6] = [
 /// The values of the header lines `# KEY: value`, one per key of `keys` in
 /// order, from the second line of `lines` on (the first is the magic line).
 /// A missing or different line is the error: its 1-based line number and
-/// what was expected there.
+/// what was expected there. So is a value with a control character in it
+/// ([`control_char`]): `str::lines` takes one carriage return before each
+/// line feed as part of the line ending, so such a value would not read back
+/// as it was written.
 pub(crate) fn header_fields(lines: &[&str], keys: &[&str]) -> Result<Vec<String>, (usize, String)> {
     keys.iter()
         .enumerate()
         .map(|(i, key)| {
             let line = lines.get(i + 1).copied().unwrap_or("");
             let prefix = format!("# {key}: ");
-            line.strip_prefix(&prefix)
-                .map(str::to_string)
-                .ok_or_else(|| {
-                    (
-                        i + 2,
-                        format!("expected the header line `{prefix}…`, found `{line}`"),
-                    )
-                })
+            let value = line.strip_prefix(&prefix).ok_or_else(|| {
+                (
+                    i + 2,
+                    format!("expected the header line `{prefix}…`, found `{line}`"),
+                )
+            })?;
+            if let Some((col, c)) = control_char(value) {
+                return Err((
+                    i + 2,
+                    format!(
+                        "the `{key}` value has the control character U+{:04X} at character {}; header values are one line of printable text",
+                        c as u32,
+                        prefix.chars().count() + col
+                    ),
+                ));
+            }
+            Ok(value.to_string())
         })
         .collect()
+}
+
+/// The first control character of `value` (a carriage return, a line feed,
+/// a tab, …) with its 1-based position in characters, if it has one. A header
+/// value holding one cannot be written as the one line [`Header::lines`]
+/// gives it and read back the same.
+pub(crate) fn control_char(value: &str) -> Option<(usize, char)> {
+    value
+        .chars()
+        .enumerate()
+        .find(|(_, c)| c.is_control())
+        .map(|(i, c)| (i + 1, c))
 }
 
 impl Header {
@@ -92,6 +119,27 @@ impl Header {
             "# check: {}\n# shader: {}\n# function: {}\n# shader-hash: {}\n# sweep: {}\n# points: {}\n",
             self.check, self.shader, self.function, self.shader_hash, self.sweep, self.points
         )
+    }
+
+    /// Why this header cannot be written as a golden's header lines, if it
+    /// cannot: the first field with a control character in it (see
+    /// `header_fields`, which refuses such a value when reading).
+    pub fn unwritable(&self) -> Option<String> {
+        let fields = [
+            ("check", &self.check),
+            ("shader", &self.shader),
+            ("function", &self.function),
+            ("shader-hash", &self.shader_hash),
+            ("sweep", &self.sweep),
+        ];
+        fields.iter().find_map(|(key, value)| {
+            control_char(value).map(|(col, c)| {
+                format!(
+                    "its `{key}` header value {value:?} has the control character U+{:04X} at character {col}; a golden's header values are one line of printable text",
+                    c as u32
+                )
+            })
+        })
     }
 
     /// The header read back from the values of those lines (check, shader,
@@ -162,6 +210,13 @@ pub const TMP_PREFIX: &str = ".shadegate-tmp-";
 /// format its extension chooses ([`Format::of`]), with no check of where
 /// `path` lies and no summary; see [`write_in`] for the one `record` uses.
 pub fn write(path: &Path, g: &Golden) -> Result<(), String> {
+    if let Some(why) = g.header.unwritable() {
+        return Err(format!(
+            "{}: cannot record check `{}`: {why}",
+            path.display(),
+            g.header.check.escape_debug()
+        ));
+    }
     if refused_in_ci() {
         return Err(format!(
             "{}: refusing to record goldens because the CI environment variable is set; record them locally and commit them",
@@ -187,6 +242,13 @@ pub fn write(path: &Path, g: &Golden) -> Result<(), String> {
 /// complete temporary file, so a failed or killed write leaves the old
 /// golden intact.
 pub fn write_in(root: &Path, rel: &Path, g: &Golden, outside: bool) -> Result<Written, String> {
+    if let Some(why) = g.header.unwritable() {
+        return Err(format!(
+            "{}: cannot record check `{}`: {why}",
+            rel.display(),
+            g.header.check.escape_debug()
+        ));
+    }
     let compact = Format::of(rel) == Format::Compact;
     let bytes = if compact {
         compact::render(g, compact::BLOCK_POINTS)
@@ -888,6 +950,80 @@ mod tests {
     fn values_round_trip_bit_exact() {
         let back = parse(Path::new("c.csv"), &render(&sample())).unwrap();
         assert_eq!(back, sample());
+    }
+
+    /// A golden whose lines end in a carriage return and a line feed (as a
+    /// checkout that converts line endings leaves it) reads as the same
+    /// dataset; a header value that itself ends in, or holds, a control
+    /// character is an error at its line, since `str::lines` would take its
+    /// last carriage return for part of the line ending and the value would
+    /// not read back as written. The compact format's header reads the same
+    /// way. (Found by the `golden` fuzz target: a shader value ending in
+    /// carriage returns lost one each time it was written and read.)
+    #[test]
+    fn crlf_line_endings_read_and_control_characters_in_header_values_are_refused() {
+        let path = Path::new("c.csv");
+        let text = render(&sample());
+        let crlf = text.replace('\n', "\r\n");
+        assert_eq!(parse(path, &crlf).unwrap(), sample());
+        for (from, to, line) in [
+            ("# shader: s.wgsl\n", "# shader: s.wgsl\r\r\n", 3),
+            ("# shader: s.wgsl\n", "# shader: s\r.wgsl\n", 3),
+            ("# check: c\n", "# check: c\t\n", 2),
+            (
+                "# sweep: x = list(1.0)\n",
+                "# sweep: x = list(1.0)\u{7}\n",
+                6,
+            ),
+        ] {
+            let bad = text.replacen(from, to, 1);
+            assert_ne!(bad, text);
+            let e = parse(path, &bad).unwrap_err();
+            assert_eq!(e.line, line, "{e}");
+            assert!(e.message.contains("control character U+"), "{e}");
+            let compact = compact_of(&sample(), 64);
+            let at = compact
+                .windows(from.len())
+                .position(|w| w == from.as_bytes())
+                .unwrap();
+            let mut b = compact.clone();
+            b.splice(at..at + from.len(), to.bytes());
+            let e = open_bytes(b).unwrap_err();
+            assert_eq!(e.line, line, "{e}");
+            assert!(e.message.contains("control character U+"), "{e}");
+        }
+        // The column is the value's: `# shader: s` is 11 characters.
+        let e = parse(
+            path,
+            &text.replacen("# shader: s.wgsl\n", "# shader: s\r.wgsl\n", 1),
+        )
+        .unwrap_err();
+        assert!(e.message.contains("U+000D at character 12"), "{e}");
+    }
+
+    /// A header that could not be read back as written is refused before
+    /// anything is written, in either format, naming the field.
+    #[test]
+    fn a_header_value_with_a_control_character_is_not_written() {
+        let dir = std::env::temp_dir().join(format!("shadegate-unwritable-{}", std::process::id()));
+        let mut g = sample();
+        g.header.shader = "lib.wgsl\r".into();
+        for rel in ["c.csv", "c.golden"] {
+            let e = write_in(&dir, Path::new(rel), &g, false).unwrap_err();
+            assert!(e.contains("`shader` header value"), "{e}");
+            assert!(e.contains("U+000D"), "{e}");
+            assert!(!dir.join(rel).exists());
+            let e = write(&dir.join(rel), &g).unwrap_err();
+            assert!(e.contains("U+000D"), "{e}");
+            assert!(!dir.join(rel).exists());
+        }
+        g.header.shader = "s.wgsl".into();
+        g.header.check = "two\nlines".into();
+        let e = write_in(&dir, Path::new("c.csv"), &g, false).unwrap_err();
+        assert!(e.contains("cannot record check `two\\nlines`"), "{e}");
+        assert!(e.contains("`check` header value"), "{e}");
+        assert!(sample().header.unwritable().is_none());
+        let _ = std::fs::remove_dir_all(&dir);
     }
 
     #[test]

@@ -414,6 +414,21 @@ pub(super) fn convert(
             "key `shader`: give a WGSL file, or a list of files concatenated in order",
         ));
     }
+    if golden.is_some() {
+        for p in &shaders {
+            let text = p.to_string_lossy();
+            if let Some((at, c)) = crate::golden::control_char(&text) {
+                return Err(cx.err(
+                    rc.shader.span(),
+                    format!(
+                        "key `shader`: the path {:?} has the control character U+{:04X} at character {at}; a golden records its shader paths on one header line, so a check with a golden needs paths without control characters",
+                        text,
+                        c as u32
+                    ),
+                ));
+            }
+        }
+    }
     Ok(Check {
         name,
         shader: shaders[0].clone(),

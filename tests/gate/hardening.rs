@@ -81,6 +81,39 @@ fn golden_climbing_out_with_dotdot_is_a_located_error() {
     refused(&golden_suite("\"goldens/../../x.csv\""), 5, &["climbs out"]);
 }
 
+/// A golden's header records the shader path on one line, and a carriage
+/// return or other control character in it would not read back as written
+/// (`golden::header_fields` refuses it). So a golden check with such a path
+/// is refused where the path is written; a check without a golden keeps it.
+#[test]
+fn a_golden_checks_shader_path_with_a_control_character_is_a_located_error() {
+    for (escape, c, code) in [
+        ("\\t", '\t', "U+0009"),
+        ("\\r", '\r', "U+000D"),
+        ("\\u0007", '\u{7}', "U+0007"),
+    ] {
+        let text = golden_suite("true").replace("\"lib.wgsl\"", &format!("\"lib{escape}.wgsl\""));
+        refused(&text, 3, &["key `shader`", code, "one header line"]);
+        let no_golden = text.replace(
+            "golden = true",
+            "reference = \"2 * x\"\n[check.tolerance]\nabs = 0.0\nreason = \"one exact product\"",
+        );
+        let s = suite::parse(Path::new("dir/shadegate.toml"), &no_golden).unwrap();
+        assert_eq!(s.checks[0].shader, PathBuf::from(format!("lib{c}.wgsl")));
+    }
+    // The same project recorded: refused at the suite's line, nothing written.
+    let dir = project(
+        "control",
+        &golden_suite("true").replace("lib.wgsl", "lib\\t.wgsl"),
+    );
+    std::fs::write(dir.join("lib\t.wgsl"), SHADER).unwrap();
+    let o = shadegate(&["record"], &dir);
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert_eq!(o.status.code(), Some(2), "{err}");
+    assert!(err.starts_with("shadegate.toml:3:"), "{err}");
+    assert!(!dir.join("goldens").exists());
+}
+
 #[test]
 fn golden_with_an_absolute_path_is_a_located_error_unless_allowed() {
     let text = golden_suite("\"/tmp/shadegate-escape.csv\"");
