@@ -55,6 +55,7 @@ pub mod sweep;
 pub mod table;
 pub mod values;
 pub mod wgsl;
+pub mod widths;
 
 /// Load the suite file at `path`, run all its checks on the CPU, and return the result;
 /// **panic** with the rendered text report (no colour, no timings) when the suite

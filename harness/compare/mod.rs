@@ -13,6 +13,7 @@ pub mod ulp;
 
 pub use exact::ExactSum;
 
+use crate::widths::{at_widths, Runs};
 use serde::Serialize;
 
 /// What to do with points where the expected value is NaN or infinite.
@@ -265,7 +266,7 @@ fn compare_with<C: AsRef<[f64]>>(
         let len = QUICK_BLOCK.min(n - start);
         block.len = 0;
         if let Some(b) = &below {
-            b.block(got, want, start, len, half, &mut block);
+            quick_block(Runs::best(), b, got, want, start, len, half, &mut block);
         }
         if block.len == len && block.below[..len].iter().all(|&b| b) {
             // Every point of the block is below: fold its errors in
@@ -552,7 +553,7 @@ impl Bounds {
     }
 }
 
-/// Points per block of the quick test ([`Below::block`]).
+/// Points per block of the quick test ([`quick_block`]).
 const QUICK_BLOCK: usize = 64;
 
 /// The errors of a block of points without their badness: what [`compare`]
@@ -593,6 +594,33 @@ impl Default for Quick {
 /// [`Bounds::assess`], so the statistics are bit for bit the same.
 struct Below(Vec<[f64; 3]>);
 
+at_widths! {
+    /// For the `len` points from `start` (`len ≤ QUICK_BLOCK`): whether
+    /// each is surely below the floor with every value finite, and if so its
+    /// maxima and sum, into `q`. The errors are those of
+    /// [`Bounds::assess`], in the same operations, and a component with no
+    /// error adds nothing, as there; the relative error is divided out for
+    /// every point (branch-free, so the loop vectorises), which leaves the
+    /// largest one the same.
+    ///
+    /// Compiled for every width ([`Below::block_in`] inlined into each) and
+    /// run at `at`, the widest the machine runs in [`compare`]: the same IEEE
+    /// operations at any vector width, so the same bits (tested).
+    #[allow(clippy::too_many_arguments)]
+    fn quick_block<C: AsRef<[f64]>>(
+        at: Runs,
+        b: &Below,
+        got: &[C],
+        want: &[C],
+        start: usize,
+        len: usize,
+        half: bool,
+        q: &mut Quick,
+    ) {
+        b.block_in(got, want, start, len, half, q)
+    }
+}
+
 impl Below {
     fn new(bounds: &Bounds, floor: f64) -> Option<Below> {
         if floor.is_nan() || floor <= 0.0 {
@@ -605,62 +633,6 @@ impl Below {
                 .map(|b| b.map(|t| t.map_or(-1.0, |t| floor * t * (1.0 - 1e-12))))
                 .collect(),
         ))
-    }
-
-    /// For the `len` points from `start` (`len ≤ QUICK_BLOCK`): whether
-    /// each is surely below the floor with every value finite, and if so its
-    /// maxima and sum, into `q`. The errors are those of
-    /// [`Bounds::assess`], in the same operations, and a component with no
-    /// error adds nothing, as there; the relative error is divided out for
-    /// every point (branch-free, so the loop vectorises), which leaves the
-    /// largest one the same.
-    fn block<C: AsRef<[f64]>>(
-        &self,
-        got: &[C],
-        want: &[C],
-        start: usize,
-        len: usize,
-        half: bool,
-        q: &mut Quick,
-    ) {
-        // Compiled also for AVX-512 and AVX2, chosen at run time: the same
-        // IEEE operations at any vector width, so the same bits (tested).
-        #[cfg(target_arch = "x86_64")]
-        {
-            #[target_feature(enable = "avx512f")]
-            unsafe fn avx512<C: AsRef<[f64]>>(
-                b: &Below,
-                got: &[C],
-                want: &[C],
-                start: usize,
-                len: usize,
-                half: bool,
-                q: &mut Quick,
-            ) {
-                b.block_in(got, want, start, len, half, q)
-            }
-            #[target_feature(enable = "avx2")]
-            unsafe fn avx2<C: AsRef<[f64]>>(
-                b: &Below,
-                got: &[C],
-                want: &[C],
-                start: usize,
-                len: usize,
-                half: bool,
-                q: &mut Quick,
-            ) {
-                b.block_in(got, want, start, len, half, q)
-            }
-            use crate::eval::Width;
-            match Width::best() {
-                // SAFETY: the machine runs AVX-512 (`Width::best`).
-                Width::Avx512 => return unsafe { avx512(self, got, want, start, len, half, q) },
-                // SAFETY: the machine runs AVX2 (`Width::best`).
-                Width::Avx2 => return unsafe { avx2(self, got, want, start, len, half, q) },
-                Width::Baseline => {}
-            }
-        }
-        self.block_in(got, want, start, len, half, q)
     }
 
     #[inline(always)]
@@ -751,7 +723,7 @@ impl Below {
     }
 }
 
-/// Points per step of [`Below::block`]: one AVX-512 register of f64.
+/// Points per step of [`quick_block`]: one AVX-512 register of f64.
 const LANE: usize = 8;
 
 /// The largest of `m` and `xs` by `f64::max`, eight lanes at a time. Equal
@@ -771,7 +743,7 @@ fn max_of(m: f64, xs: &[f64]) -> f64 {
 }
 
 /// The relative error of a non-zero absolute error `abs` against `w` (∞
-/// where `w` is 0); [`Bounds::assess`] and [`Below::block`] share it, so
+/// where `w` is 0); [`Bounds::assess`] and [`quick_block`] share it, so
 /// both compute the same bits.
 #[inline(always)]
 fn rel_error(abs: f64, w: f64) -> f64 {
@@ -1060,8 +1032,8 @@ mod tests {
 
     #[test]
     fn the_quick_test_gives_the_same_bits_at_every_vector_width() {
-        // `block` runs the widest copy this machine has; `block_in` here is
-        // compiled for the baseline target.
+        // Every copy this machine runs against `block_in` compiled here for
+        // the baseline target.
         let (want, got, rising, tols) = error_cases(3 * QUICK_BLOCK + 9, 23);
         for t in &tols {
             let Some(b) = Below::new(&Bounds::of(t, 3), 0.5) else {
@@ -1071,17 +1043,28 @@ mod tests {
                 for got in [&got, &rising] {
                     for start in (0..want[0].len()).step_by(QUICK_BLOCK) {
                         let len = QUICK_BLOCK.min(want[0].len() - start);
-                        let (mut wide, mut base) = (Quick::default(), Quick::default());
-                        b.block(got, &want, start, len, half, &mut wide);
+                        let mut base = Quick::default();
                         b.block_in(got, &want, start, len, half, &mut base);
-                        assert_eq!(wide.below, base.below);
-                        for (x, y) in [
-                            (wide.max_abs, base.max_abs),
-                            (wide.max_rel, base.max_rel),
-                            (wide.max_ulp, base.max_ulp),
-                            (wide.sum_sq, base.sum_sq),
-                        ] {
-                            assert_eq!(x.map(f64::to_bits), y.map(f64::to_bits), "{t:?}");
+                        let mut each = Vec::new();
+                        for at in Runs::all() {
+                            let mut q = Quick::default();
+                            quick_block(at, &b, got, &want, start, len, half, &mut q);
+                            each.push((format!("{:?}", at.width()), q));
+                        }
+                        for (width, q) in each {
+                            assert_eq!(q.below, base.below, "{width}");
+                            for (x, y) in [
+                                (q.max_abs, base.max_abs),
+                                (q.max_rel, base.max_rel),
+                                (q.max_ulp, base.max_ulp),
+                                (q.sum_sq, base.sum_sq),
+                            ] {
+                                assert_eq!(
+                                    x.map(f64::to_bits),
+                                    y.map(f64::to_bits),
+                                    "{width} {t:?}"
+                                );
+                            }
                         }
                     }
                 }

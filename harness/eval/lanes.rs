@@ -9,6 +9,8 @@ use std::marker::PhantomData;
 
 use crate::arith;
 use crate::arith::nan_first;
+pub use crate::widths::Width;
+use crate::widths::{at_widths, Chosen, Runs};
 
 /// Lanes per batch. Every slot holds one column of this many 32-bit patterns.
 #[cfg(not(miri))]
@@ -118,43 +120,8 @@ pub trait Op4 {
     fn f(a: u32, b: u32, c: u32, d: u32) -> u32;
 }
 
-/// The vector instructions the kernels are compiled for, narrowest first.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord)]
-pub enum Width {
-    /// The target's baseline (SSE2 on x86-64).
-    Baseline,
-    /// x86-64 with AVX2: 8 lanes of 32 bits per instruction.
-    Avx2,
-    /// x86-64 with AVX-512 (the foundation set): 16 lanes per instruction.
-    Avx512,
-}
-
-impl Width {
-    /// The widest set this machine runs.
-    pub fn best() -> Width {
-        #[cfg(target_arch = "x86_64")]
-        {
-            if std::arch::is_x86_feature_detected!("avx512f") {
-                return Width::Avx512;
-            }
-            if std::arch::is_x86_feature_detected!("avx2") {
-                return Width::Avx2;
-            }
-        }
-        Width::Baseline
-    }
-
-    /// Every set this machine runs, narrowest first (for tests that compare them).
-    pub fn available() -> Vec<Width> {
-        [Width::Baseline, Width::Avx2, Width::Avx512]
-            .into_iter()
-            .filter(|&w| w <= Width::best())
-            .collect()
-    }
-}
-
-/// The width in use, as `1 + Width as u8`; 0 until first chosen.
-static ACTIVE: std::sync::atomic::AtomicU8 = std::sync::atomic::AtomicU8::new(0);
+/// The width the kernels run at, for the whole process.
+static CHOSEN: Chosen = Chosen::new();
 
 /// Use the kernels compiled for `width` (`None`: the widest this machine
 /// runs, the default). Process-wide; a test hook, since every width gives the
@@ -163,85 +130,44 @@ static ACTIVE: std::sync::atomic::AtomicU8 = std::sync::atomic::AtomicU8::new(0)
 /// # Panics
 /// When this machine does not run `width`.
 pub fn set_width(width: Option<Width>) {
-    let w = width.unwrap_or_else(Width::best);
-    assert!(
-        w <= Width::best(),
-        "this machine does not run {w:?} instructions (widest: {:?})",
-        Width::best()
-    );
-    ACTIVE.store(1 + w as u8, std::sync::atomic::Ordering::Relaxed);
-}
-
-/// The width in use: one relaxed load once chosen.
-#[inline(always)]
-fn active() -> u8 {
-    match ACTIVE.load(std::sync::atomic::Ordering::Relaxed) {
-        0 => choose(),
-        a => a,
-    }
-}
-
-#[cold]
-fn choose() -> u8 {
-    let a = 1 + Width::best() as u8;
-    // A concurrent `set_width` wins: it only ever stores a width the
-    // machine runs.
-    let _ = ACTIVE.compare_exchange(
-        0,
-        a,
-        std::sync::atomic::Ordering::Relaxed,
-        std::sync::atomic::Ordering::Relaxed,
-    );
-    ACTIVE.load(std::sync::atomic::Ordering::Relaxed)
+    let at = match width {
+        None => Runs::best(),
+        Some(w) => Runs::new(w).unwrap_or_else(|| {
+            panic!(
+                "this machine does not run {w:?} instructions (widest: {:?})",
+                Width::best()
+            )
+        }),
+    };
+    CHOSEN.set(at);
 }
 
 // Each kernel exists three times: for the baseline target and, on x86-64,
-// compiled with AVX2 and with AVX-512 enabled, chosen at run time. IEEE
-// operations give the same bits at any vector width, so the choice never
-// changes a result (tests compare every width the machine runs).
+// compiled with AVX2 and with AVX-512 enabled ([`at_widths!`]), run at the
+// width chosen for the process. IEEE operations give the same bits at any
+// vector width, so the choice never changes a result (tests compare every
+// width the machine runs).
 macro_rules! kernel {
-    ($name:ident, $avx2:ident, $avx512:ident, $tr:ident, ($($arg:ident),*)) => {
+    ($name:ident, $at:ident, $tr:ident, ($($arg:ident),*)) => {
         pub fn $name<T: $tr>(d: &mut Lanes, $($arg: &Lanes),*) {
-            #[cfg(target_arch = "x86_64")]
-            {
-                const AVX2: u8 = 1 + Width::Avx2 as u8;
-                const AVX512: u8 = 1 + Width::Avx512 as u8;
-                match active() {
-                    // SAFETY: `active` is a width `Width::best` found the
-                    // machine runs (`set_width` checks the same).
-                    AVX512 => return unsafe { $avx512::<T>(d, $($arg),*) },
-                    // SAFETY: as above.
-                    AVX2 => return unsafe { $avx2::<T>(d, $($arg),*) },
-                    _ => {}
+            $at::<T>(CHOSEN.get(), d, $($arg),*)
+        }
+
+        at_widths! {
+            #[inline(always)]
+            fn $at<T: $tr>(at: Runs, d: &mut Lanes $(, $arg: &Lanes)*) {
+                for i in 0..LANES {
+                    d[i] = T::f($($arg[i]),*);
                 }
-            }
-            for i in 0..LANES {
-                d[i] = T::f($($arg[i]),*);
-            }
-        }
-
-        #[cfg(target_arch = "x86_64")]
-        #[target_feature(enable = "avx2")]
-        unsafe fn $avx2<T: $tr>(d: &mut Lanes, $($arg: &Lanes),*) {
-            for i in 0..LANES {
-                d[i] = T::f($($arg[i]),*);
-            }
-        }
-
-        #[cfg(target_arch = "x86_64")]
-        #[target_feature(enable = "avx512f")]
-        unsafe fn $avx512<T: $tr>(d: &mut Lanes, $($arg: &Lanes),*) {
-            for i in 0..LANES {
-                d[i] = T::f($($arg[i]),*);
             }
         }
     };
 }
 
-kernel!(run1, run1_avx2, run1_avx512, Op1, (a));
-kernel!(run2, run2_avx2, run2_avx512, Op2, (a, b));
-kernel!(run3, run3_avx2, run3_avx512, Op3, (a, b, c));
-kernel!(run4, run4_avx2, run4_avx512, Op4, (a, b, c, e));
+kernel!(run1, run1_at, Op1, (a));
+kernel!(run2, run2_at, Op2, (a, b));
+kernel!(run3, run3_at, Op3, (a, b, c));
+kernel!(run4, run4_at, Op4, (a, b, c, e));
 
 /// The f16 version of a float operation: computed in f32, rounded to half.
 pub struct HalfOf<T>(PhantomData<T>);

@@ -17,7 +17,7 @@
 
 use super::brdf::CookTorrance;
 use super::{fresnel, masking, ndf};
-use crate::eval::Width;
+use crate::widths::{at_widths, Runs};
 
 /// Evaluates a model over columns: `args[k]` is the column of flattened argument `k` (as
 /// [`Model::eval`](super::Model) numbers them), `out[j]` of output `j`; every column has
@@ -37,9 +37,10 @@ pub fn names() -> impl Iterator<Item = &'static str> {
 /// Defines module `$name`: `columns`, a [`ColumnsFn`] for a model with `$arity` flattened
 /// arguments and `$outs` outputs whose value at one point is `$body` (an `[f64; $outs]`,
 /// computed from `$a: [f64; $arity]`), compiled for the baseline target and, on x86-64,
-/// with AVX2 and with AVX-512 enabled, the widest the machine has chosen at run time; and
-/// `form`, the one compiled for a [`Width`] this machine runs. IEEE operations give the same bits at any
-/// vector width, so the choice never changes a result (`tests::every_width_matches_the_registry`).
+/// with AVX2 and with AVX-512 enabled ([`at_widths!`]), run at the widest the machine has;
+/// and `at`, the same run at a given width. IEEE operations give the same bits at any
+/// vector width, so the choice never changes a result
+/// (`tests::every_width_matches_the_registry`).
 macro_rules! columns {
     ($name:ident, $arity:literal, $outs:literal, |$a:ident| $body:expr) => {
         mod $name {
@@ -98,47 +99,16 @@ macro_rules! columns {
                 }
             }
 
-            fn baseline(args: &[&[f64]], out: &mut [&mut [f64]]) {
-                run(args, out)
-            }
-
-            #[cfg(target_arch = "x86_64")]
-            #[target_feature(enable = "avx2")]
-            unsafe fn avx2(args: &[&[f64]], out: &mut [&mut [f64]]) {
-                run(args, out)
-            }
-
-            #[cfg(target_arch = "x86_64")]
-            #[target_feature(enable = "avx512f")]
-            unsafe fn avx512(args: &[&[f64]], out: &mut [&mut [f64]]) {
-                run(args, out)
-            }
-
-            /// The form compiled for `width`.
-            ///
-            /// # Panics
-            /// When this machine does not run `width` ([`Width::best`]).
-            pub(super) fn form(width: Width) -> ColumnsFn {
-                assert!(
-                    width <= Width::best(),
-                    "this machine does not run {width:?} instructions"
-                );
-                match width {
-                    Width::Baseline => baseline,
-                    // SAFETY: the machine runs AVX2, asserted above.
-                    #[cfg(target_arch = "x86_64")]
-                    Width::Avx2 => |a, o| unsafe { avx2(a, o) },
-                    // SAFETY: the machine runs AVX-512F, asserted above.
-                    #[cfg(target_arch = "x86_64")]
-                    Width::Avx512 => |a, o| unsafe { avx512(a, o) },
-                    #[cfg(not(target_arch = "x86_64"))]
-                    _ => unreachable!("only x86-64 runs wider than the baseline"),
+            at_widths! {
+                /// The form compiled for `at`.
+                pub(super) fn at(at: Runs, args: &[&[f64]], out: &mut [&mut [f64]]) {
+                    run(args, out)
                 }
             }
 
             /// The widest form this machine runs.
             pub(super) fn columns(args: &[&[f64]], out: &mut [&mut [f64]]) {
-                form(Width::best())(args, out)
+                at(Runs::best(), args, out)
             }
         }
     };
@@ -190,13 +160,17 @@ columns!(schlick_fresnel_rgb, 4, 3, |a| fresnel::schlick_rgb(
     v3(&a, 1)
 ));
 
-/// A model's column form, and its form for each [`Width`].
-type Entry = (&'static str, ColumnsFn, fn(Width) -> ColumnsFn);
+/// A model's column form, and the same run at a given width.
+type Entry = (
+    &'static str,
+    ColumnsFn,
+    fn(Runs, &[&[f64]], &mut [&mut [f64]]),
+);
 
 /// The [`Entry`] of each module defined by [`columns!`], named by it.
 macro_rules! table {
     ($($name:ident),* $(,)?) => {
-        &[$((stringify!($name), $name::columns, $name::form)),*]
+        &[$((stringify!($name), $name::columns, $name::at)),*]
     };
 }
 
@@ -256,14 +230,14 @@ mod tests {
         // Lengths below, at and across the block size, so partial blocks run too.
         let lengths = [1, BLOCK - 1, BLOCK, 3 * BLOCK + 5, 4000];
         let mut seed = 0x5eed_0017_u64;
-        for &(name, chosen, form) in TABLE {
+        for &(name, chosen, at) in TABLE {
             let model = crate::reference::find(name)
                 .unwrap_or_else(|| panic!("column form `{name}` names no registered model"));
-            let mut forms: Vec<(String, ColumnsFn)> = Width::available()
+            let mut forms: Vec<(String, Option<Runs>)> = Runs::all()
                 .into_iter()
-                .map(|w| (format!("{w:?}"), form(w)))
+                .map(|w| (format!("{:?}", w.width()), Some(w)))
                 .collect();
-            forms.push(("chosen".into(), chosen));
+            forms.push(("chosen".into(), None));
             for &n in &lengths {
                 let args: Vec<Vec<f64>> = (0..model.arity())
                     .map(|_| (0..n).map(|_| value(&mut seed)).collect())
@@ -272,7 +246,10 @@ mod tests {
                 for (width, f) in &forms {
                     let mut got: Vec<Vec<f64>> = vec![vec![0.0; n]; model.outputs];
                     let mut outs: Vec<&mut [f64]> = got.iter_mut().map(|c| &mut c[..]).collect();
-                    f(&cols, &mut outs);
+                    match f {
+                        Some(w) => at(*w, &cols, &mut outs),
+                        None => chosen(&cols, &mut outs),
+                    }
                     for i in 0..n {
                         let point: Vec<f64> = args.iter().map(|c| c[i]).collect();
                         let want = model.call(&point);

@@ -5,7 +5,7 @@
 //! [`bits_to_f64`] convert from and to f64.
 
 use super::ScalarKind;
-use crate::eval::Width;
+use crate::widths::{at_widths, Runs};
 
 /// Encode an f64 as the lane bit pattern of `kind`, rounding to nearest.
 /// Integers saturate; bool is `v != 0`.
@@ -24,7 +24,7 @@ pub fn f64_to_bits(kind: ScalarKind, v: f64) -> u32 {
 /// the widest set this machine runs).
 pub fn extend_bits(kind: ScalarKind, src: &[f64], dst: &mut Vec<u32>) {
     match kind {
-        ScalarKind::F32 => f32_bits(Width::best(), src, dst),
+        ScalarKind::F32 => f32_bits(Runs::best(), src, dst),
         _ => dst.extend(src.iter().map(|&v| f64_to_bits(kind, v))),
     }
 }
@@ -33,47 +33,25 @@ pub fn extend_bits(kind: ScalarKind, src: &[f64], dst: &mut Vec<u32>) {
 /// chosen once for the column.
 pub fn extend_f64(kind: ScalarKind, src: &[u32], dst: &mut Vec<f64>) {
     match kind {
-        ScalarKind::F32 => f32_values(Width::best(), src, dst),
+        ScalarKind::F32 => f32_values(Runs::best(), src, dst),
         _ => dst.extend(src.iter().map(|&b| bits_to_f64(kind, b))),
     }
 }
 
-/// One conversion loop compiled for the baseline target and, on x86-64,
-/// for AVX2 and AVX-512, run at `width` (which this machine must run): the
-/// same IEEE conversions at any width, so the same bits (tested).
-macro_rules! at_width {
-    ($name:ident, $src:ty, $dst:ty, |$v:ident| $conv:expr) => {
-        fn $name(width: Width, src: &[$src], dst: &mut Vec<$dst>) {
-            #[inline(always)]
-            fn run(src: &[$src], dst: &mut Vec<$dst>) {
-                dst.extend(src.iter().map(|&$v| $conv));
-            }
-            assert!(width <= Width::best(), "{width:?} is not run here");
-            #[cfg(target_arch = "x86_64")]
-            {
-                #[target_feature(enable = "avx512f")]
-                unsafe fn avx512(src: &[$src], dst: &mut Vec<$dst>) {
-                    run(src, dst)
-                }
-                #[target_feature(enable = "avx2")]
-                unsafe fn avx2(src: &[$src], dst: &mut Vec<$dst>) {
-                    run(src, dst)
-                }
-                match width {
-                    // SAFETY: the machine runs `width` (asserted above).
-                    Width::Avx512 => return unsafe { avx512(src, dst) },
-                    // SAFETY: as above.
-                    Width::Avx2 => return unsafe { avx2(src, dst) },
-                    Width::Baseline => {}
-                }
-            }
-            run(src, dst)
-        }
-    };
+at_widths! {
+    /// [`f64_to_bits`] to f32 of every value of `src`, appended to `dst`, at `at`: the
+    /// same IEEE conversion at any width, so the same bits (tested).
+    fn f32_bits(at: Runs, src: &[f64], dst: &mut Vec<u32>) {
+        dst.extend(src.iter().map(|&v| f64_to_bits(ScalarKind::F32, v)));
+    }
 }
 
-at_width!(f32_bits, f64, u32, |v| f64_to_bits(ScalarKind::F32, v));
-at_width!(f32_values, u32, f64, |b| bits_to_f64(ScalarKind::F32, b));
+at_widths! {
+    /// [`bits_to_f64`] of every f32 pattern of `src`, appended to `dst`, at `at`.
+    fn f32_values(at: Runs, src: &[u32], dst: &mut Vec<f64>) {
+        dst.extend(src.iter().map(|&b| bits_to_f64(ScalarKind::F32, b)));
+    }
+}
 
 /// Decode a lane bit pattern of `kind` as f64 (exactly).
 pub fn bits_to_f64(kind: ScalarKind, bits: u32) -> f64 {
@@ -144,7 +122,7 @@ mod tests {
             .iter()
             .map(|&b| bits_to_f64(ScalarKind::F32, b).to_bits())
             .collect();
-        for w in Width::available() {
+        for w in Runs::all() {
             let mut b = Vec::new();
             f32_bits(w, &values, &mut b);
             assert_eq!(b, bits, "{w:?}");
