@@ -97,11 +97,18 @@ impl Chosen {
     /// The width chosen: one relaxed load once chosen.
     #[inline(always)]
     pub fn get(&self) -> Runs {
-        match self.0.load(Ordering::Relaxed) {
-            1 => Runs(Width::Baseline),
-            2 => Runs(Width::Avx2),
-            3 => Runs(Width::Avx512),
-            _ => self.choose(),
+        Chosen::held(self.0.load(Ordering::Relaxed)).unwrap_or_else(|| self.choose())
+    }
+
+    /// The `Runs` whose `1 + Width as u8` is `a`; `None` for 0 (not chosen).
+    #[inline(always)]
+    fn held(a: u8) -> Option<Runs> {
+        match a {
+            0 => None,
+            1 => Some(Runs(Width::Baseline)),
+            2 => Some(Runs(Width::Avx2)),
+            3 => Some(Runs(Width::Avx512)),
+            other => unreachable!("a `Chosen` held {other}, not 1 + a width"),
         }
     }
 
@@ -114,10 +121,7 @@ impl Chosen {
             .compare_exchange(0, 1 + best.0 as u8, Ordering::Relaxed, Ordering::Relaxed)
         {
             Ok(_) => best,
-            Err(1) => Runs(Width::Baseline),
-            Err(2) => Runs(Width::Avx2),
-            Err(3) => Runs(Width::Avx512),
-            Err(other) => unreachable!("a `Chosen` held {other}, not 1 + a width"),
+            Err(a) => Chosen::held(a).expect("a width, once stored, stays"),
         }
     }
 }

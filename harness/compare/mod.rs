@@ -603,9 +603,9 @@ at_widths! {
     /// every point (branch-free, so the loop vectorises), which leaves the
     /// largest one the same.
     ///
-    /// Compiled for every width ([`Below::block_in`] inlined into each) and
-    /// run at `at`, the widest the machine runs in [`compare`]: the same IEEE
-    /// operations at any vector width, so the same bits (tested).
+    /// Compiled for every width and run at `at`, the widest the machine runs
+    /// in [`compare`]: the same IEEE operations at any vector width, so the
+    /// same bits (tested).
     #[allow(clippy::too_many_arguments)]
     fn quick_block<C: AsRef<[f64]>>(
         at: Runs,
@@ -617,7 +617,14 @@ at_widths! {
         half: bool,
         q: &mut Quick,
     ) {
-        b.block_in(got, want, start, len, half, q)
+        q.len = len;
+        // One copy per format, so neither holds the other's branch (which
+        // kept the loop from vectorising).
+        if half {
+            b.steps::<true, C>(got, want, start, q);
+        } else {
+            b.steps::<false, C>(got, want, start, q);
+        }
     }
 }
 
@@ -635,27 +642,7 @@ impl Below {
         ))
     }
 
-    #[inline(always)]
-    fn block_in<C: AsRef<[f64]>>(
-        &self,
-        got: &[C],
-        want: &[C],
-        start: usize,
-        len: usize,
-        half: bool,
-        q: &mut Quick,
-    ) {
-        q.len = len;
-        // One copy per format, so neither holds the other's branch (which
-        // kept the loop from vectorising).
-        if half {
-            self.steps::<true, C>(got, want, start, q);
-        } else {
-            self.steps::<false, C>(got, want, start, q);
-        }
-    }
-
-    /// [`Below::block_in`] in one format: eight points at a time, every
+    /// [`quick_block`] in one format: eight points at a time, every
     /// component's errors folded in registers and each result stored once,
     /// then the rest one at a time.
     #[inline(always)]
@@ -1032,8 +1019,7 @@ mod tests {
 
     #[test]
     fn the_quick_test_gives_the_same_bits_at_every_vector_width() {
-        // Every copy this machine runs against `block_in` compiled here for
-        // the baseline target.
+        // Every copy this machine runs against the baseline copy.
         let (want, got, rising, tols) = error_cases(3 * QUICK_BLOCK + 9, 23);
         for t in &tols {
             let Some(b) = Below::new(&Bounds::of(t, 3), 0.5) else {
@@ -1043,16 +1029,21 @@ mod tests {
                 for got in [&got, &rising] {
                     for start in (0..want[0].len()).step_by(QUICK_BLOCK) {
                         let len = QUICK_BLOCK.min(want[0].len() - start);
-                        let mut base = Quick::default();
-                        b.block_in(got, &want, start, len, half, &mut base);
-                        let mut each = Vec::new();
-                        for at in Runs::all() {
+                        let run = |at: Runs| {
                             let mut q = Quick::default();
                             quick_block(at, &b, got, &want, start, len, half, &mut q);
-                            each.push((format!("{:?}", at.width()), q));
-                        }
-                        for (width, q) in each {
-                            assert_eq!(q.below, base.below, "{width}");
+                            q
+                        };
+                        let (baseline, wider) = Runs::all()
+                            .split_first()
+                            .map(|(b, w)| (*b, w.to_vec()))
+                            .expect("the baseline runs");
+                        assert_eq!(baseline.width(), crate::widths::Width::Baseline);
+                        let base = run(baseline);
+                        for at in wider {
+                            let q = run(at);
+                            let width = at.width();
+                            assert_eq!(q.below, base.below, "{width:?}");
                             for (x, y) in [
                                 (q.max_abs, base.max_abs),
                                 (q.max_rel, base.max_rel),
@@ -1062,7 +1053,7 @@ mod tests {
                                 assert_eq!(
                                     x.map(f64::to_bits),
                                     y.map(f64::to_bits),
-                                    "{width} {t:?}"
+                                    "{width:?} {t:?}"
                                 );
                             }
                         }

@@ -62,47 +62,42 @@ macro_rules! columns {
                 }
             }
 
-            #[inline(always)]
-            fn run(args: &[&[f64]], out: &mut [&mut [f64]]) {
-                // Whole blocks of `BLOCK` points read the argument columns
-                // in place, as arrays of the block's length (no bounds to
-                // check), and write into a local array, which the compiler
-                // knows aliases nothing, so the loop over a block
-                // vectorises. A short last block is copied into local
-                // arrays first; the lanes past its end are computed but not
-                // written out.
-                let n = out[0].len();
-                let mut res = [[0.0f64; BLOCK]; $outs];
-                let mut start = 0;
-                while start + BLOCK <= n {
-                    let end = start + BLOCK;
-                    block(
-                        std::array::from_fn(|k| {
-                            args[k][start..end].try_into().expect("a block's length")
-                        }),
-                        &mut res,
-                    );
-                    for (o, r) in out.iter_mut().zip(&res) {
-                        o[start..end].copy_from_slice(r);
-                    }
-                    start = end;
-                }
-                if start < n {
-                    let mut ins = [[0.0f64; BLOCK]; $arity];
-                    for (x, c) in ins.iter_mut().zip(args) {
-                        x[..n - start].copy_from_slice(&c[start..n]);
-                    }
-                    block(std::array::from_fn(|k| &ins[k]), &mut res);
-                    for (o, r) in out.iter_mut().zip(&res) {
-                        o[start..n].copy_from_slice(&r[..n - start]);
-                    }
-                }
-            }
-
             at_widths! {
-                /// The form compiled for `at`.
+                /// The model over the columns, compiled for `at`.
                 pub(super) fn at(at: Runs, args: &[&[f64]], out: &mut [&mut [f64]]) {
-                    run(args, out)
+                    // Whole blocks of `BLOCK` points read the argument columns
+                    // in place, as arrays of the block's length (no bounds to
+                    // check), and write into a local array, which the compiler
+                    // knows aliases nothing, so the loop over a block
+                    // vectorises. A short last block is copied into local
+                    // arrays first; the lanes past its end are computed but not
+                    // written out.
+                    let n = out[0].len();
+                    let mut res = [[0.0f64; BLOCK]; $outs];
+                    let mut start = 0;
+                    while start + BLOCK <= n {
+                        let end = start + BLOCK;
+                        block(
+                            std::array::from_fn(|k| {
+                                args[k][start..end].try_into().expect("a block's length")
+                            }),
+                            &mut res,
+                        );
+                        for (o, r) in out.iter_mut().zip(&res) {
+                            o[start..end].copy_from_slice(r);
+                        }
+                        start = end;
+                    }
+                    if start < n {
+                        let mut ins = [[0.0f64; BLOCK]; $arity];
+                        for (x, c) in ins.iter_mut().zip(args) {
+                            x[..n - start].copy_from_slice(&c[start..n]);
+                        }
+                        block(std::array::from_fn(|k| &ins[k]), &mut res);
+                        for (o, r) in out.iter_mut().zip(&res) {
+                            o[start..n].copy_from_slice(&r[..n - start]);
+                        }
+                    }
                 }
             }
 
