@@ -236,16 +236,8 @@ pub fn points_in_grid(
 /// rounded to f32: a check's evidence when it has too many points to keep.
 pub fn points_at(check: &Check, indices: &[usize]) -> Points {
     let mut points = check.sweep.points_at(indices);
-    round_to_f32(&mut points);
+    points.round_to_f32();
     points
-}
-
-fn round_to_f32(points: &mut Points) {
-    points
-        .columns
-        .iter_mut()
-        .flatten()
-        .for_each(|c| crate::sweep::round_to_f32(c));
 }
 
 use super::args::example;

@@ -206,17 +206,24 @@ pub fn render(g: &Golden) -> String {
 /// nor `git add goldens/` picks up what a killed `record` left behind.
 pub const TMP_PREFIX: &str = ".shadegate-tmp-";
 
+/// Refuses a golden whose header could not be read back as written
+/// ([`Header::unwritable`]), naming `path`, the check and why.
+fn writable(path: &Path, g: &Golden) -> Result<(), String> {
+    match g.header.unwritable() {
+        None => Ok(()),
+        Some(why) => Err(format!(
+            "{}: cannot record check `{}`: {why}",
+            path.display(),
+            g.header.check.escape_debug()
+        )),
+    }
+}
+
 /// Write a golden dataset atomically (temporary file, then rename), in the
 /// format its extension chooses ([`Format::of`]), with no check of where
 /// `path` lies and no summary; see [`write_in`] for the one `record` uses.
 pub fn write(path: &Path, g: &Golden) -> Result<(), String> {
-    if let Some(why) = g.header.unwritable() {
-        return Err(format!(
-            "{}: cannot record check `{}`: {why}",
-            path.display(),
-            g.header.check.escape_debug()
-        ));
-    }
+    writable(path, g)?;
     if refused_in_ci() {
         return Err(format!(
             "{}: refusing to record goldens because the CI environment variable is set; record them locally and commit them",
@@ -242,13 +249,7 @@ pub fn write(path: &Path, g: &Golden) -> Result<(), String> {
 /// complete temporary file, so a failed or killed write leaves the old
 /// golden intact.
 pub fn write_in(root: &Path, rel: &Path, g: &Golden, outside: bool) -> Result<Written, String> {
-    if let Some(why) = g.header.unwritable() {
-        return Err(format!(
-            "{}: cannot record check `{}`: {why}",
-            rel.display(),
-            g.header.check.escape_debug()
-        ));
-    }
+    writable(rel, g)?;
     let compact = Format::of(rel) == Format::Compact;
     let bytes = if compact {
         compact::render(g, compact::BLOCK_POINTS)

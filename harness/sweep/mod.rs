@@ -643,6 +643,14 @@ pub fn runs(indices: &[usize]) -> impl Iterator<Item = std::ops::Range<usize>> +
 }
 
 impl Points {
+    /// Round every value of every point to the nearest f32 ([`round_to_f32`]).
+    pub fn round_to_f32(&mut self) {
+        self.columns
+            .iter_mut()
+            .flatten()
+            .for_each(|c| round_to_f32(c));
+    }
+
     /// Append `other`'s points (the same parameters) after these.
     pub fn append(&mut self, other: Points) {
         debug_assert_eq!(self.names, other.names);
@@ -885,11 +893,7 @@ mod tests {
             // Rounded to f32: the same values rounded, the grid's and the
             // random points' alike, bit for bit.
             let rounded = s.points_in_grid(&grid32, a..b);
-            alone
-                .columns
-                .iter_mut()
-                .flatten()
-                .for_each(|c| round_to_f32(c));
+            alone.round_to_f32();
             let bits = |p: &Points| -> Vec<Vec<u64>> {
                 p.columns
                     .iter()
